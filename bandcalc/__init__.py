@@ -1,0 +1,3 @@
+"""bandcalc: design comparator stages with hysteresis."""
+
+__version__ = "0.1.0"
