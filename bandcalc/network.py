@@ -1,0 +1,204 @@
+"""One general solution for every stage: the + pin as a summing node of Thevenin legs.
+
+Every resistor on the + pin is a leg to a potential: the signal (non-inverting stage), the
+output (feedback), a rail, ground or the reference.  Where the far end of a leg is itself a
+node with a resistance of its own (the output behind its pull-up or output resistance, a
+reference divider), that node is replaced by its Thevenin equivalent, so the + pin is solved
+by Millman's theorem with the current drawn by the pin:
+
+    V+ = (sum(V_k / R_k) - I_bias) / sum(1 / R_k)
+
+and the far node's own voltage follows from the leg current.  Because every node voltage is
+linear in the signal, each switching point is exact from two evaluations:
+V+ - V- = a * V_signal + b  gives  V_switch = (offset - b) / a.
+
+All parameters may be numpy arrays: they broadcast, so a million variants cost one call.
+Parameters are named by their design-file path ("resistors.feedback", "supply.positive", ...).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Mapping
+
+import numpy as np
+
+from .design import Design, DividerReference, FixedReference, OpenDrain
+
+__all__ = [
+    "Nodes",
+    "Points",
+    "node_voltages",
+    "parameters",
+    "switching_points",
+]
+
+ArrayLike = float | np.ndarray
+STATES = ("high", "low")
+
+
+def parameters(design: Design) -> dict[str, float]:
+    """The design's numeric values, flat, keyed by design-file path; the names the solver reads.
+
+    ``output.pullup_volts`` and ``output.low_volts`` appear only when set, so that by default
+    they follow their rail when ``supply.*`` is varied.
+    """
+    p: dict[str, float] = {
+        "supply.positive": design.supply.positive,
+        "supply.negative": design.supply.negative,
+        "comparator.offset": design.comparator.offset,
+        "comparator.bias_current": design.comparator.bias_current,
+        "source.resistance": design.source.resistance,
+    }
+    p.update({f"resistors.{k}": v for k, v in design.resistors.present().items()})
+    ref = design.reference
+    if isinstance(ref, FixedReference):
+        p["reference.volts"] = ref.volts
+    elif isinstance(ref, DividerReference):
+        p["reference.top"] = ref.top
+        p["reference.bottom"] = ref.bottom
+    out = design.output
+    if isinstance(out, OpenDrain):
+        p["output.pullup"] = out.pullup
+        if out.pullup_volts is not None:
+            p["output.pullup_volts"] = out.pullup_volts
+        if out.low_volts is not None:
+            p["output.low_volts"] = out.low_volts
+    else:
+        p["output.high_drop"] = out.high_drop
+        p["output.low_drop"] = out.low_drop
+        p["output.resistance"] = out.resistance
+    return p
+
+
+def _driver(design: Design, p: Mapping[str, ArrayLike], state: str) -> tuple[ArrayLike, ArrayLike]:
+    """Thevenin equivalent (volts, ohms) of the output node, without the feedback leg."""
+    if isinstance(design.output, OpenDrain):
+        if state == "high":
+            return p.get("output.pullup_volts", p["supply.positive"]), p["output.pullup"]
+        return p.get("output.low_volts", p["supply.negative"]), 0.0
+    if state == "high":
+        return p["supply.positive"] - p["output.high_drop"], p["output.resistance"]
+    return p["supply.negative"] + p["output.low_drop"], p["output.resistance"]
+
+
+def _reference(design: Design, p: Mapping[str, ArrayLike]) -> tuple[ArrayLike, ArrayLike]:
+    """Thevenin equivalent (volts, ohms) of the reference node, without the to_reference leg.
+
+    In the non-inverting stage the - pin sits on this node and draws its bias current from it.
+    """
+    if isinstance(design.reference, DividerReference):
+        top, bottom = p["reference.top"], p["reference.bottom"]
+        vp, vn = p["supply.positive"], p["supply.negative"]
+        volts = vn + (vp - vn) * bottom / (top + bottom)
+        ohms = top * bottom / (top + bottom)
+    elif isinstance(design.reference, FixedReference):
+        volts, ohms = p["reference.volts"], 0.0
+    else:
+        return 0.0, 0.0
+    if not design.inverting:
+        volts = volts - p["comparator.bias_current"] * ohms
+    return volts, ohms
+
+
+def _far_node(v_th: ArrayLike, r_th: ArrayLike, v_hub: ArrayLike, r_leg: ArrayLike) -> ArrayLike:
+    """Voltage of a Thevenin node (v_th, r_th) joined to the hub at v_hub through r_leg."""
+    return v_th + (v_hub - v_th) * r_th / (r_th + r_leg)
+
+
+@dataclass(frozen=True)
+class Nodes:
+    """Node voltages (volts) of one output state at one signal value."""
+
+    plus: ArrayLike
+    minus: ArrayLike
+    output: ArrayLike
+    reference: ArrayLike
+
+    @property
+    def difference(self) -> ArrayLike:
+        return self.plus - self.minus
+
+
+def node_voltages(design: Design, p: Mapping[str, ArrayLike], signal: ArrayLike, state: str) -> Nodes:
+    """Solve the network for one output state ("high" or "low") at a signal's open-circuit voltage."""
+    ib = p["comparator.bias_current"]
+    v_ref, r_ref = _reference(design, p)
+    v_drv, r_drv = _driver(design, p, state)
+    legs: list[tuple[ArrayLike, ArrayLike]] = [(v_drv, r_drv + p["resistors.feedback"])]
+    fixed = {"to_positive": p["supply.positive"], "to_negative": p["supply.negative"], "to_ground": 0.0}
+    for key, volts in fixed.items():
+        if f"resistors.{key}" in p:
+            legs.append((volts, p[f"resistors.{key}"]))
+    has_ref_leg = "resistors.to_reference" in p
+    if has_ref_leg:
+        legs.append((v_ref, r_ref + p["resistors.to_reference"]))
+    signal_path = p["source.resistance"] + p.get("resistors.input", 0.0)
+    if not design.inverting:
+        legs.append((signal, signal_path))
+    total_g = sum(1.0 / r for _, r in legs)
+    plus = (sum(v / r for v, r in legs) - ib) / total_g
+    output = _far_node(v_drv, r_drv, plus, p["resistors.feedback"])
+    reference = _far_node(v_ref, r_ref, plus, p["resistors.to_reference"]) if has_ref_leg else v_ref
+    if design.inverting:
+        minus = signal - ib * signal_path
+    else:
+        minus = reference
+    return Nodes(plus=plus, minus=minus, output=output, reference=reference)
+
+
+@dataclass(frozen=True)
+class Points:
+    """Switching points (volts of the signal's open-circuit voltage) and the nodes at each.
+
+    ``at_upper`` holds the node voltages just before the stage switches at the upper point
+    (rising signal), ``at_lower`` those just before it switches at the lower point.
+    """
+
+    upper: ArrayLike
+    lower: ArrayLike
+    at_upper: Nodes
+    at_lower: Nodes
+
+    @property
+    def hysteresis(self) -> ArrayLike:
+        return self.upper - self.lower
+
+    @property
+    def centre(self) -> ArrayLike:
+        return 0.5 * (self.upper + self.lower)
+
+
+def _crossing(design: Design, p: Mapping[str, ArrayLike], state: str) -> tuple[ArrayLike, Nodes]:
+    at_zero = node_voltages(design, p, 0.0, state).difference
+    slope = node_voltages(design, p, 1.0, state).difference - at_zero
+    point = (p["comparator.offset"] - at_zero) / slope
+    return point, node_voltages(design, p, point, state)
+
+
+def switching_points(design: Design, values: Mapping[str, ArrayLike] | None = None) -> Points:
+    """Both switching points of a design, with any parameters overridden by (array) values.
+
+    Parameters
+    ----------
+    design : Design
+        Gives the topology and the default value of every parameter.
+    values : mapping of parameter name to float or array, optional
+        Overrides, named as in :func:`parameters`; arrays broadcast against each other.
+
+    Returns
+    -------
+    Points
+        A non-inverting stage reaches its upper point with the output low, an inverting stage
+        with the output high.
+    """
+    p = parameters(design)
+    if values:
+        unknown = sorted(set(values) - set(p) - {"output.pullup_volts", "output.low_volts"})
+        if unknown:
+            raise KeyError(f"unknown parameter {unknown[0]!r}; this design has: {', '.join(sorted(p))}")
+        p.update({k: np.asarray(v, dtype=float) for k, v in values.items()})
+    upper_state, lower_state = ("high", "low") if design.inverting else ("low", "high")
+    upper, at_upper = _crossing(design, p, upper_state)
+    lower, at_lower = _crossing(design, p, lower_state)
+    return Points(upper=upper, lower=lower, at_upper=at_upper, at_lower=at_lower)

@@ -1,0 +1,154 @@
+"""Reading and writing quantities the way people type them.
+
+One parser serves the design file, the command line and the page: plain numbers, SI prefixes
+("4.7k", "100n", "2.2M") and, for resistances, the IEC 60062 code ("4k7", "2R2", "1M5", "R47").
+Values inside bandcalc are plain floats in SI base units; formatting happens only at the edge.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+
+__all__ = [
+    "UnitError",
+    "format_code",
+    "format_si",
+    "parse_quantity",
+    "parse_resistance",
+]
+
+# Prefixes as powers of ten, applied to the decimal text so "100n" is exactly 1e-7.
+_PREFIX = {
+    "p": -12, "n": -9, "u": -6, "µ": -6, "μ": -6, "m": -3,
+    "": 0, "k": 3, "K": 3, "M": 6, "meg": 6, "G": 9,
+}
+# IEC 60062 letter codes for resistance: the letter stands where the decimal point goes.
+_CODE_LETTER = {"R": 0, "r": 0, "K": 3, "k": 3, "M": 6, "G": 9, "T": 12}
+_OHM_UNITS = ("ohms", "ohm", "Ohms", "Ohm", "OHM", "Ω", "Ω")
+
+_NUMBER = r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?"
+_SI_RE = re.compile(rf"^\s*(?P<num>{_NUMBER})\s*(?P<prefix>meg|[pnuµμmkKMG]?)\s*(?P<unit>[A-Za-zΩΩ]*)\s*$")
+_CODE_RE = re.compile(r"^\s*(?P<int>\d*)(?P<letter>[RrKkMGT])(?P<frac>\d*)\s*(?P<unit>[A-Za-zΩΩ]*)\s*$")
+
+_RES_HINT = "write ohms as a number, with an SI prefix (4.7k, 2.2M) or in the IEC 60062 code (4k7, 2R2, 1M5)"
+
+
+class UnitError(ValueError):
+    """A typed quantity that cannot be read; the message names the field and the text."""
+
+
+def _scaled(number: str, exponent: int) -> float:
+    return float(f"{number}e{exponent}") if "e" not in number.lower() else float(number) * 10.0**exponent
+
+
+def _check_number(value: float, what: str) -> float:
+    if isinstance(value, bool):
+        raise UnitError(f"{what}: expected a number, got {value!r}")
+    value = float(value)
+    if not math.isfinite(value):
+        raise UnitError(f"{what}: must be a finite number, got {value!r}")
+    return value
+
+
+def parse_quantity(value: float | int | str, unit: str = "", what: str = "value") -> float:
+    """Read a number or an SI-prefixed string ("2.5", "50m", "100 nA", "3.3V").
+
+    Parameters
+    ----------
+    value : number or str
+    unit : str
+        The unit symbol that may follow the prefix ("V", "A", "s", "F"); empty accepts none.
+    what : str
+        The field's name, used in error messages.
+
+    Returns
+    -------
+    float, in SI base units.
+    """
+    if not isinstance(value, str):
+        try:
+            return _check_number(value, what)
+        except (TypeError, ValueError) as exc:
+            if isinstance(exc, UnitError):
+                raise
+            raise UnitError(f"{what}: expected a number, got {value!r}") from None
+    m = _SI_RE.match(value)
+    if m and (m["unit"] in ("", unit) or (unit and m["unit"].lower() == unit.lower())):
+        return _check_number(_scaled(m["num"], _PREFIX[m["prefix"]]), what)
+    if m and m["prefix"] == "" and m["unit"] and m["unit"][0] in _PREFIX and m["unit"][1:] in ("", unit):
+        return _check_number(_scaled(m["num"], _PREFIX[m["unit"][0]]), what)
+    shown = f" {unit}" if unit else ""
+    raise UnitError(f"{what}: cannot read {value!r}; write a number, optionally with an SI prefix "
+                    f"(e.g. 2.5, 50m, 100n){shown and ' and the unit' + shown}")
+
+
+def parse_resistance(value: float | int | str, what: str = "resistance") -> float:
+    """Read a resistance in ohms: a number, "4.7k", "2.2 MOhm", "470R" or the IEC 60062 "4k7".
+
+    "4k7" is always 4700 ohm, never 4 with a unit "k7".  The result may be zero or negative;
+    callers that need a positive part check that themselves.
+    """
+    if not isinstance(value, str):
+        return parse_quantity(value, "", what)
+    text = value.strip()
+    code = _CODE_RE.match(text)
+    if code and (code["int"] or code["frac"]) and _is_ohm_unit(code["unit"]):
+        if code["letter"] in "Rr" and not code["frac"] and not code["int"]:
+            raise UnitError(f"{what}: cannot read {value!r}; {_RES_HINT}")
+        digits = f"{code['int'] or '0'}.{code['frac'] or '0'}"
+        return _check_number(_scaled(digits, _CODE_LETTER[code["letter"]]), what)
+    m = _SI_RE.match(text)
+    if m and _is_ohm_unit(m["unit"]):
+        return _check_number(_scaled(m["num"], _PREFIX[m["prefix"]]), what)
+    if m and m["prefix"] == "" and m["unit"][:1] in _PREFIX and _is_ohm_unit(m["unit"][1:]):
+        return _check_number(_scaled(m["num"], _PREFIX[m["unit"][0]]), what)
+    raise UnitError(f"{what}: cannot read {value!r}; {_RES_HINT}")
+
+
+def _is_ohm_unit(unit: str) -> bool:
+    return unit in ("",) + _OHM_UNITS
+
+
+_SI_STEPS = ((12, "T"), (9, "G"), (6, "M"), (3, "k"), (0, ""), (-3, "m"), (-6, "u"),
+             (-9, "n"), (-12, "p"))
+
+
+def _round(value: float, digits: int) -> float:
+    return float(f"{value:.{digits}g}")
+
+
+def _plain(value: float, digits: int) -> str:
+    text = f"{value:.{digits}f}".rstrip("0").rstrip(".")
+    return text or "0"
+
+
+def format_si(value: float, unit: str, digits: int = 3) -> str:
+    """Format a value with an SI prefix and `digits` significant figures: "4.7 kOhm", "50 mV".
+
+    Trailing zeros are dropped; zero prints as "0 V"; NaN and infinities print as words.
+    """
+    value = float(value)
+    if math.isnan(value):
+        return f"n/a {unit}".strip()
+    if math.isinf(value):
+        return ("+" if value > 0 else "-") + f"inf {unit}".strip()
+    mag = _round(abs(value), digits)
+    if mag == 0:
+        return f"0 {unit}".strip()
+    exponent, prefix = next(((e, p) for e, p in _SI_STEPS if mag >= 10.0**e), _SI_STEPS[-1])
+    scaled = _round(mag / 10.0**exponent, digits)
+    sign = "-" if value < 0 else ""
+    return f"{sign}{_plain(scaled, digits)} {prefix}{unit}".rstrip()
+
+
+def format_code(ohms: float, digits: int = 3) -> str:
+    """Format a resistance in the IEC 60062 code: 4700 -> "4k7", 2.2 -> "2R2", 1.5e6 -> "1M5"."""
+    ohms = float(ohms)
+    if not math.isfinite(ohms) or ohms <= 0:
+        raise UnitError(f"resistance code: needs a positive finite value, got {ohms!r}")
+    mag = _round(ohms, digits)
+    exponent, letter = next(((e, p) for e, p in ((12, "T"), (9, "G"), (6, "M"), (3, "k"))
+                             if mag >= 10.0**e), (0, "R"))
+    whole, _, frac = _plain(_round(mag / 10.0**exponent, digits), digits).partition(".")
+    return f"{'' if whole == '0' and letter == 'R' else whole}{letter}{frac}"
