@@ -2,7 +2,8 @@
 
 The tables are written out as data, as the standard prints them, rather than computed:
 E3 to E24 depart from the rounded geometric series 10**(i/n) in several places (E24 at
-2.7, 3.0, 3.3, 3.6, 3.9, 4.3, 4.7 and 8.2) and E192 has 9.20 where the series gives 9.19.
+2.7, 3.0, 3.3, 3.6, 3.9, 4.3, 4.7 and 8.2) and E192 has 9.20 where the series gives
+9.19.
 
 Values are in ohms. Every standard value returned here is the float nearest to its
 decimal spelling, so ``4.7 kOhm`` compares exactly equal to ``4700.0`` and ``8.66 kOhm``
@@ -11,13 +12,24 @@ to ``8660.0``.
 
 from __future__ import annotations
 
+import math
 from collections.abc import Mapping
+from functools import cache
 from types import MappingProxyType
+
+import numpy as np
+from numpy.typing import ArrayLike, NDArray
 
 __all__ = [
     "SERIES",
     "TOLERANCE",
     "EseriesError",
+    "nearest",
+    "next_above",
+    "next_below",
+    "series_of",
+    "series_values",
+    "usual_tolerance",
 ]
 
 
@@ -105,3 +117,216 @@ TOLERANCE: Mapping[str, float] = MappingProxyType(
 _DIGITS: Mapping[str, int] = MappingProxyType(
     {name: 2 if len(mantissas) <= 24 else 3 for name, mantissas in SERIES.items()}
 )
+
+# Supported values: the span of the SI prefixes, yocto to yotta. The lookup table covers
+# one decade more on each side so that every supported value has a neighbour both ways.
+_MIN_VALUE = 1e-24
+_MAX_VALUE = 1e24
+_FIRST_DECADE = -25
+_LAST_DECADE = 24
+
+# A value within this relative distance of a standard value counts as that value, so the
+# rounding of unit arithmetic (8.2 / 1000 * 1e6 gives 8199.999999999998) does not hide
+# a standard part.
+_MATCH_RTOL = 1e-9
+
+
+def _canonical(name: str) -> str:
+    """Return the key in SERIES for `name`, ignoring case and surrounding blanks."""
+    allowed = ", ".join(SERIES)
+    if not isinstance(name, str):
+        raise EseriesError(
+            f"series name must be text such as 'E24'; got {name!r}; allowed: {allowed}"
+        )
+    key = name.strip().upper()
+    if key not in SERIES:
+        raise EseriesError(f"unknown series {name!r}; allowed: {allowed}")
+    return key
+
+
+@cache
+def _ladder(key: str) -> NDArray[np.float64]:
+    """All values of series `key` over the supported decades, ascending and read-only.
+
+    Each value is parsed from its decimal spelling (e.g. "866e1"), so it is the float
+    nearest to the printed value and compares equal to a literal such as 8660.0.
+    """
+    digits = _DIGITS[key]
+    codes = [round(m * 10 ** (digits - 1)) for m in SERIES[key]]
+    values = [
+        float(f"{code}e{decade - digits + 1}")
+        for decade in range(_FIRST_DECADE, _LAST_DECADE + 1)
+        for code in codes
+    ]
+    ladder = np.array(values, dtype=np.float64)
+    ladder.flags.writeable = False
+    return ladder
+
+
+def _checked(
+    value: ArrayLike, what: str = "value", scalar: bool = False
+) -> NDArray[np.float64]:
+    """Return `value` as a float array, or raise EseriesError naming the bad entry."""
+    try:
+        array = np.asarray(value, dtype=np.float64)
+    except (TypeError, ValueError):
+        raise EseriesError(f"{what} must be a number in ohms; got {value!r}") from None
+    if scalar and array.ndim:
+        raise EseriesError(f"{what} must be a single number; got shape {array.shape}")
+    bad = ~np.isfinite(array) | (array <= 0)
+    out = (array < _MIN_VALUE) | (array > _MAX_VALUE)
+    for mask, problem in (
+        (bad, "must be a positive, finite number of ohms"),
+        (out, f"must lie between {_MIN_VALUE:g} and {_MAX_VALUE:g} ohm"),
+    ):
+        if np.any(mask):
+            flat = int(np.flatnonzero(mask)[0])
+            index = tuple(int(i) for i in np.unravel_index(flat, array.shape))
+            where = (
+                ""
+                if not index
+                else f" (at index {index[0] if len(index) == 1 else index})"
+            )
+            raise EseriesError(
+                f"{what} {problem}; got {float(array.flat[flat])!r}{where}"
+            )
+    return array
+
+
+def _result(
+    values: NDArray[np.float64], like: NDArray[np.float64]
+) -> float | NDArray[np.float64]:
+    """A plain float for a scalar query, else an array of the query's shape."""
+    if like.ndim == 0:
+        return float(values)
+    return values.reshape(like.shape)
+
+
+def series_values(name: str, low: float, high: float) -> NDArray[np.float64]:
+    """Every standard value of a series between two bounds, across decades.
+
+    Parameters
+    ----------
+    name : str
+        Series name such as "E24" (any case).
+    low, high : float
+        Inclusive bounds, in ohms, with ``low <= high``.
+
+    Returns
+    -------
+    numpy.ndarray
+        The values in ohms, ascending; empty if none lies between the bounds.
+    """
+    ladder = _ladder(_canonical(name))
+    lo = float(_checked(low, "low", scalar=True))
+    hi = float(_checked(high, "high", scalar=True))
+    if lo > hi:
+        raise EseriesError(f"low ({lo:g} ohm) must not exceed high ({hi:g} ohm)")
+    start = np.searchsorted(ladder, lo, side="left")
+    stop = np.searchsorted(ladder, hi, side="right")
+    return ladder[start:stop].copy()
+
+
+def next_above(name: str, value: ArrayLike) -> float | NDArray[np.float64]:
+    """The smallest standard value at or above `value`.
+
+    Parameters
+    ----------
+    name : str
+        Series name such as "E12" (any case).
+    value : float or array_like
+        Target value(s) in ohms.
+
+    Returns
+    -------
+    float or numpy.ndarray
+        Standard value(s) in ohms, shaped like `value`.
+    """
+    ladder = _ladder(_canonical(name))
+    array = _checked(value)
+    return _result(ladder[np.searchsorted(ladder, array, side="left")], array)
+
+
+def next_below(name: str, value: ArrayLike) -> float | NDArray[np.float64]:
+    """The largest standard value at or below `value`.
+
+    Parameters
+    ----------
+    name : str
+        Series name such as "E12" (any case).
+    value : float or array_like
+        Target value(s) in ohms.
+
+    Returns
+    -------
+    float or numpy.ndarray
+        Standard value(s) in ohms, shaped like `value`.
+    """
+    ladder = _ladder(_canonical(name))
+    array = _checked(value)
+    return _result(ladder[np.searchsorted(ladder, array, side="right") - 1], array)
+
+
+def nearest(name: str, value: ArrayLike) -> float | NDArray[np.float64]:
+    """The standard value closest to `value`.
+
+    Closest means the smallest difference in ohms, which is also the smallest error
+    relative to the target. An exact tie goes to the lower value.
+
+    Parameters
+    ----------
+    name : str
+        Series name such as "E24" (any case).
+    value : float or array_like
+        Target value(s) in ohms.
+
+    Returns
+    -------
+    float or numpy.ndarray
+        Standard value(s) in ohms, shaped like `value`.
+    """
+    ladder = _ladder(_canonical(name))
+    array = _checked(value)
+    below = ladder[np.searchsorted(ladder, array, side="right") - 1]
+    above = ladder[np.searchsorted(ladder, array, side="left")]
+    return _result(np.where(array - below <= above - array, below, above), array)
+
+
+def series_of(value: float) -> str | None:
+    """The first series, from E3 to E192, that holds `value`.
+
+    Parameters
+    ----------
+    value : float
+        A resistance in ohms. A value within a relative 1e-9 of a standard value
+        counts as that value.
+
+    Returns
+    -------
+    str or None
+        The series name, or None if `value` is in no series.
+    """
+    target = float(_checked(value, scalar=True))
+    for key in SERIES:
+        if math.isclose(float(nearest(key, target)), target, rel_tol=_MATCH_RTOL):
+            return key
+    return None
+
+
+def usual_tolerance(value: float) -> float | None:
+    """The usual tolerance of a part of this value, from the first series holding it.
+
+    Parameters
+    ----------
+    value : float
+        A resistance in ohms.
+
+    Returns
+    -------
+    float or None
+        Tolerance as a fraction (0.05 for 5 %), or None if `value` is in no series.
+        Being the coarsest series that holds the value, this is a cautious default:
+        a 4.7 kOhm part is in E3, so it gets 40 % unless the user says otherwise.
+    """
+    key = series_of(value)
+    return None if key is None else TOLERANCE[key]
