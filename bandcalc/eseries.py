@@ -166,9 +166,15 @@ def _ladder(key: str) -> NDArray[np.float64]:
 def _checked(
     value: ArrayLike, what: str = "value", scalar: bool = False
 ) -> NDArray[np.float64]:
-    """Return `value` as a float array, or raise EseriesError naming the bad entry."""
+    """Return `value` as a float array, or raise EseriesError naming the bad entry.
+
+    Text, booleans, complex numbers and None are refused rather than coerced.
+    """
     try:
-        array = np.asarray(value, dtype=np.float64)
+        raw = np.asarray(value)
+        if value is None or raw.dtype.kind not in "iufO":
+            raise TypeError
+        array = raw.astype(np.float64)
     except (TypeError, ValueError):
         raise EseriesError(f"{what} must be a number in ohms; got {value!r}") from None
     if scalar and array.ndim:
@@ -181,15 +187,14 @@ def _checked(
     ):
         if np.any(mask):
             flat = int(np.flatnonzero(mask)[0])
-            index = tuple(int(i) for i in np.unravel_index(flat, array.shape))
-            where = (
-                ""
-                if not index
-                else f" (at index {index[0] if len(index) == 1 else index})"
-            )
-            raise EseriesError(
-                f"{what} {problem}; got {float(array.flat[flat])!r}{where}"
-            )
+            where = ""
+            if array.ndim == 1:
+                where = f" (at index {flat})"
+            elif array.ndim > 1:
+                index = tuple(int(i) for i in np.unravel_index(flat, array.shape))
+                where = f" (at index {index})"
+            got = float(array.flat[flat])
+            raise EseriesError(f"{what} {problem}; got {got!r}{where}")
     return array
 
 
