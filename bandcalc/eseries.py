@@ -99,8 +99,8 @@ SERIES: Mapping[str, tuple[float, ...]] = MappingProxyType(
 )
 
 #: Usual tolerance of parts sold in each series, as a fraction. E6 to E192 as commonly
-#: quoted with the standard. Sources differ for E3 (only "over 20 %" is agreed); we take
-#: 40 % as the ``eseries`` package 1.2.1 does (``eseries.tolerance(E3)``).
+#: quoted with the standard (common practice). Sources quote E3 differently (20 % or
+#: more); we take 40 % as the ``eseries`` package 1.2.1 does (``eseries.tolerance``).
 TOLERANCE: Mapping[str, float] = MappingProxyType(
     {
         "E3": 0.40,
