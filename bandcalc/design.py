@@ -300,7 +300,8 @@ def _reference_from(data: Any) -> FixedReference | DividerReference | None:
         return None
     data = _section(data, "reference", ("volts", "divider"))
     if len(data) != 1:
-        raise DesignError('reference: give exactly one of {"volts": V} or {"divider": {"top": R, "bottom": R}}')
+        raise DesignError('reference: give exactly one of {"volts": V} or '
+                          '{"divider": {"top": R, "bottom": R}}')
     if "volts" in data:
         return FixedReference(**_values(data, "reference"))
     div = _section(data["divider"], "reference.divider", ("top", "bottom"), ("top", "bottom"))
@@ -390,7 +391,8 @@ def design_from_json(text: str, where: str = "design") -> Design:
     try:
         data = json.loads(text)
     except json.JSONDecodeError as exc:
-        raise DesignError(f"{where}: not valid JSON (line {exc.lineno}, column {exc.colno}: {exc.msg})") from None
+        raise DesignError(f"{where}: not valid JSON (line {exc.lineno}, "
+                          f"column {exc.colno}: {exc.msg})") from None
     try:
         return design_from_dict(data)
     except DesignError as exc:

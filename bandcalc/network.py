@@ -18,8 +18,8 @@ Parameters are named by their design-file path ("resistors.feedback", "supply.po
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass
-from typing import Mapping
 
 import numpy as np
 

@@ -1,0 +1,73 @@
+"""An independent solver for tests: the stage written as a netlist and solved by lcapy.
+
+lcapy (PyPI) is a general-purpose linear circuit analysis library: netlist in, node
+voltages out (modified nodal analysis with sympy).  The netlist below is built from the
+design file's shape directly, without any of bandcalc's network code, so agreement is an
+outside check of the summing-node solution.
+"""
+
+from __future__ import annotations
+
+import sympy
+
+from bandcalc.design import Design, DividerReference, FixedReference, OpenDrain
+
+
+def netlist(design: Design, state: str) -> tuple[str, str]:
+    """SPICE-like lcapy netlist of the stage (signal = symbol ``vs``) and the - pin's node name."""
+    d, r = design, design.resistors
+    lines = [f"Vpos vp 0 {d.supply.positive!r}", f"Vneg vn 0 {d.supply.negative!r}", "Vs s 0 vs"]
+    sig = "s"
+    if d.source.resistance > 0:
+        lines.append(f"Rsrc s sx {d.source.resistance!r}")
+        sig = "sx"
+    if isinstance(d.reference, FixedReference):
+        lines.append(f"Vref ref 0 {d.reference.volts!r}")
+    elif isinstance(d.reference, DividerReference):
+        lines += [f"Rtop vp ref {d.reference.top!r}", f"Rbot ref vn {d.reference.bottom!r}"]
+    if d.inverting:
+        minus = "m"
+        if r.input is not None:
+            lines.append(f"Rin {sig} m {r.input!r}")
+        else:
+            minus = sig
+    else:
+        minus = "ref"
+        lines.append(f"Rin {sig} p {r.input!r}")
+    legs = (("to_positive", "vp"), ("to_negative", "vn"), ("to_ground", "0"), ("to_reference", "ref"))
+    for key, node in legs:
+        if getattr(r, key) is not None:
+            lines.append(f"R_{key} p {node} {getattr(r, key)!r}")
+    out = d.output
+    if isinstance(out, OpenDrain):
+        vpu = d.supply.positive if out.pullup_volts is None else out.pullup_volts
+        vlow = d.supply.negative if out.low_volts is None else out.low_volts
+        lines += [f"Vpu pu 0 {vpu!r}", f"Rpu pu o {out.pullup!r}"]
+        if state == "low":
+            lines.append(f"Vlow o 0 {vlow!r}")
+    else:
+        level = d.supply.positive - out.high_drop if state == "high" else d.supply.negative + out.low_drop
+        if out.resistance > 0:
+            lines += [f"Vdrv drv 0 {level!r}", f"Rout drv o {out.resistance!r}"]
+        else:
+            lines.append(f"Vdrv o 0 {level!r}")
+    lines.append(f"Rfb o p {r.feedback!r}")
+    ib = d.comparator.bias_current
+    if ib:
+        # lcapy's "I a b x" drives x into node a (checked: 1 mA into 1 kOhm gives +1 V), so the
+        # bias current drawn by a pin is a source from the pin's node to ground written "I 0 pin".
+        lines += [f"Ibp 0 p {ib!r}", f"Ibm 0 {minus} {ib!r}"]
+    return "\n".join(lines), minus
+
+
+def switching_point(design: Design, state: str) -> float:
+    """The signal (open-circuit volts) where V+ - V- = offset with the output in ``state``."""
+    from lcapy import Circuit
+
+    text, minus = netlist(design, state)
+    cct = Circuit(text)
+    diff = cct["p"].V.dc.sympy - cct[minus].V.dc.sympy
+    vs = sympy.Symbol("vs", real=True)
+    diff = diff.subs({s: vs for s in diff.free_symbols if s.name == "vs"})
+    (root,) = sympy.solve(sympy.Eq(diff, sympy.Rational(repr(design.comparator.offset))), vs)
+    return float(root)
