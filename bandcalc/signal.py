@@ -4,9 +4,12 @@ Rules: the stage switches to the input-high state when the input reaches the
 upper point (v >= upper) and back to the input-low state when it reaches the
 lower point (v <= lower); between them it keeps its state. It starts in the
 state its first sample implies: at or above the centre (upper + lower) / 2 it
-is input-high. With both points equal (no hysteresis) a sample at the point
-counts as high. An inverting stage drives its output low in the input-high
-state; its edges fall at the same times.
+is input-high. For a synthetic input the noise-free first sample decides when
+the first sample lies between the points, so the noisy and the noise-free
+runs start alike and differ only by what the noise does. With both points
+equal (no hysteresis) a sample at the point counts as high. An inverting
+stage drives its output low in the input-high state; its edges fall at the
+same times.
 
 Edge times are interpolated linearly between the two samples that straddle
 the switching point, then the comparator's propagation delay is added to every
@@ -63,8 +66,8 @@ def _points(upper: float, lower: float) -> tuple[float, float]:
     return upper, lower
 
 
-def switching_edges(v: np.ndarray, upper: float, lower: float) -> tuple[bool, np.ndarray,
-                                                                          np.ndarray]:
+def switching_edges(v: np.ndarray, upper: float, lower: float,
+                    start_level: float | None = None) -> tuple[bool, np.ndarray, np.ndarray]:
     """Find where the stage changes state, without a per-sample loop.
 
     Only entries into the "at or above upper" or "at or below lower" bands
@@ -77,6 +80,11 @@ def switching_edges(v: np.ndarray, upper: float, lower: float) -> tuple[bool, np
         Input samples, in V.
     upper, lower : float
         Switching points, in V, ``upper >= lower``.
+    start_level : float, optional
+        Level, in V, that decides the start state when the first sample lies
+        between the points (default: the first sample). A run of a noisy
+        input passes its noise-free first sample, so noise at t = 0 does not
+        decide the state the stage was in.
 
     Returns
     -------
@@ -93,7 +101,8 @@ def switching_edges(v: np.ndarray, upper: float, lower: float) -> tuple[bool, np
     entry = (band[1:] != band[:-1]) & (band[1:] != 0)
     index = np.flatnonzero(entry) + 1
     kind = band[index]
-    start_high = bool(high[0] or (not low[0] and v[0] >= 0.5 * (upper + lower)))
+    level = v[0] if start_level is None else start_level
+    start_high = bool(high[0] or (not low[0] and level >= 0.5 * (upper + lower)))
     previous = np.empty_like(kind)
     if kind.size:
         previous[0] = 1 if start_high else -1
@@ -186,15 +195,21 @@ class Edges:
         return self.switch_times + delay + np.where(rising, rise_time, 0.0)
 
 
-def find_edges(t: np.ndarray, v: np.ndarray, upper: float, lower: float) -> Edges:
+def find_edges(t: np.ndarray, v: np.ndarray, upper: float, lower: float,
+               start_level: float | None = None) -> Edges:
     """Edges of ``v`` sampled at ``t`` through points ``upper >= lower`` (V).
 
     Like :func:`switching_edges`, plus each switching instant interpolated
     linearly between the two samples that straddle the point.
     """
-    start_high, index, direction = switching_edges(v, upper, lower)
+    start_high, index, direction = switching_edges(v, upper, lower, start_level)
     level = np.where(direction > 0, upper, lower)
     return Edges(start_high, index, direction, _cross_times(t, v, index, level))
+
+
+def _start_level(wave: Waveform) -> float | None:
+    """Level deciding the start state: the noise-free first sample when known."""
+    return None if wave.clean is None else float(wave.clean[0])
 
 
 def _high_fraction(t: np.ndarray, start_high: bool, switch_times: np.ndarray) -> float:
@@ -324,7 +339,7 @@ def run_stage(wave: Waveform, upper: float, lower: float, *, inverting: bool = F
     delay = real("delay", delay, low=0.0, unit="s")
     rise_time = real("rise_time", rise_time, low=0.0, unit="s")
     inverting = bool(inverting)
-    noisy = find_edges(wave.t, wave.v, upper, lower)
+    noisy = find_edges(wave.t, wave.v, upper, lower, _start_level(wave))
     times = noisy.times(inverting, delay, rise_time)
     noise = noise_level(wave, noise_rms)
     findings = [hysteresis_noise_finding(upper - lower, noise)]

@@ -13,7 +13,13 @@ from dataclasses import dataclass
 import numpy as np
 
 from bandcalc._checks import real
-from bandcalc.signal import centre_crossings, edge_delays, find_edges, switching_edges
+from bandcalc.signal import (
+    _start_level,
+    centre_crossings,
+    edge_delays,
+    find_edges,
+    switching_edges,
+)
 from bandcalc.waveform import Waveform
 
 __all__ = ["MAX_WIDTHS", "Sweep", "hysteresis_sweep"]
@@ -135,9 +141,10 @@ def hysteresis_sweep(wave: Waveform, centre: float, widths: object, *,
         clean_counts = np.zeros(w.size, dtype=np.int64)
         cross_t, cross_d = centre_crossings(wave, centre)
         crossings = int(cross_t.size)
+    start_level = _start_level(wave)
     for i, width in enumerate(w):
         upper, lower = centre + 0.5 * width, centre - 0.5 * width
-        run = find_edges(wave.t, wave.v, upper, lower)
+        run = find_edges(wave.t, wave.v, upper, lower, start_level)
         counts[i] = run.index.size
         if clean_counts is None:
             continue

@@ -41,7 +41,7 @@ def _trace(name: str, values: object, n: int | None = None) -> np.ndarray:
     bad = ~np.isfinite(a)
     if bad.any():
         i = int(np.argmax(bad))
-        raise ValueError(f"{name}[{i}] is {a[i]!r}; every sample must be a finite number")
+        raise ValueError(f"{name}[{i}] is {float(a[i])!r}; every sample must be a finite number")
     view = a.view()
     view.flags.writeable = False
     return view
