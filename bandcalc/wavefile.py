@@ -6,8 +6,8 @@ line. Accepted:
 - delimiter comma, semicolon or tab (detected from the first lines);
 - decimal point, or decimal comma with a semicolon or tab delimiter
   (``0,001;1,25``);
-- header lines before the data: every leading line whose first field is not a
-  number (column names, units), up to ``MAX_HEADER_LINES``;
+- header lines before the data: every leading line that does not start with
+  a number (column names, units), up to ``MAX_HEADER_LINES``;
 - blank lines, quoted fields, one empty field after a trailing delimiter;
 - uneven sampling, as long as time increases strictly;
 - UTF-8 (with or without byte-order mark), Latin-1 or UTF-16 with byte-order
@@ -46,6 +46,7 @@ _CHUNK_BYTES = 1 << 20  # pandas reads the file in pieces; a bad piece is read l
 _DELIMITERS = {"\t": "tab", ";": "semicolon", ",": "comma"}
 _COLUMNS = ("time", "volts")
 _NUMBER = re.compile(r"[+-]?(?:\d+(?:[.,]\d*)?|[.,]\d+)(?:[eE][+-]?\d+)?")
+_STARTS_NUMERIC = re.compile(r"\s*\"?[+-]?[.,]?\d")
 _NOT_FINITE = re.compile(r"[+-]?(?:nan|inf|infinity)", re.IGNORECASE)
 
 
@@ -117,12 +118,12 @@ class _Layout:
         self.delimiter = next(
             (d for d in _DELIMITERS if sum(d in ln for ln in filled) * 2 > len(filled)),
             ",")
-        first_data = next((i for i, ln in enumerate(lines) if ln.strip()
-                           and _NUMBER.fullmatch(_fields(ln, self.delimiter)[0])), None)
+        first_data = next((i for i, ln in enumerate(lines) if _STARTS_NUMERIC.match(ln)),
+                          None)
         if first_data is None:
-            raise WaveformError(f"no data row in the first {len(filled)} non-blank "
-                                f"{_plural(len(filled), 'line')}: a data row starts with a "
-                                "number, the time in s")
+            raise WaveformError(f"no data row among the first "
+                                f"{_plural(len(filled), 'non-blank line')}: a data row starts "
+                                "with a number, the time in s")
         if sum(bool(ln.strip()) for ln in lines[:first_data]) > MAX_HEADER_LINES:
             raise WaveformError(f"line {first_data + 1}: more than {MAX_HEADER_LINES} "
                                 "header lines before the data")
@@ -169,9 +170,14 @@ def _line_by_line(chunk: bytes, first_line: int, layout: _Layout, previous: floa
             continue
         parts = _fields(line, layout.delimiter)
         if len(parts) != 2:
+            hint = ""
+            if len(parts) == 1:
+                hint = "; separate time and volts by a comma, semicolon or tab"
+            elif len(parts) == 4 and layout.delimiter == ",":
+                hint = "; numbers with a decimal comma need a semicolon or tab between columns"
             raise WaveformError(
                 f"line {lineno}: {_plural(len(parts), 'field')}, expected 2 (time in s, "
-                f"volts) in a {layout.describe()} file")
+                f"volts) in a {layout.describe()} file{hint}")
         time, volts = (_number(p, c, lineno, layout.decimal)
                        for p, c in zip(parts, _COLUMNS, strict=True))
         if time <= previous:
