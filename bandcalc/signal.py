@@ -32,6 +32,7 @@ __all__ = [
     "centre_crossings",
     "edge_delays",
     "find_edges",
+    "missed_transitions",
     "pullup_rise_time",
     "run_stage",
     "switch_states",
@@ -157,6 +158,28 @@ def centre_crossings(wave: Waveform, centre: float) -> tuple[np.ndarray, np.ndar
     return ideal.switch_times, ideal.direction
 
 
+def missed_transitions(cross_times: np.ndarray, clean_switch_times: np.ndarray) -> int:
+    """Centre crossings of the clean signal that the stage does not answer.
+
+    The noise-free run switches at most once between two centre crossings,
+    after the first; a crossing without a switch before the next one is
+    missed (a point beyond the swing). A last crossing still unanswered when
+    the record ends is not counted: the record is too short to tell.
+
+    Parameters
+    ----------
+    cross_times : numpy.ndarray
+        Centre crossings of the clean signal, s (:func:`centre_crossings`).
+    clean_switch_times : numpy.ndarray
+        Switching instants of the clean signal through the points, s.
+    """
+    n = cross_times.size
+    if n == 0:
+        return 0
+    last_answered = clean_switch_times.size > 0 and clean_switch_times[-1] >= cross_times[-1]
+    return int(n - clean_switch_times.size - (0 if last_answered else 1))
+
+
 def edge_delays(times: np.ndarray, directions: np.ndarray, cross_times: np.ndarray,
                 cross_directions: np.ndarray) -> np.ndarray:
     """Delay of each edge after the nearest clean crossing in the same direction, in s.
@@ -244,6 +267,9 @@ class SignalRun:
         Edges the noise-free signal gives through the same points.
     clean_crossing_count : int or None
         Centre crossings of the noise-free signal (transitions wanted).
+    missed_count : int or None
+        Of those, the ones the noise-free run does not answer, see
+        :func:`missed_transitions`.
     edge_delays : numpy.ndarray or None
         Per edge, s after the nearest clean centre crossing in its direction.
     input_high_fraction : float
@@ -265,6 +291,7 @@ class SignalRun:
     edge_directions: np.ndarray
     clean_edge_count: int | None
     clean_crossing_count: int | None
+    missed_count: int | None
     edge_delays: np.ndarray | None
     input_high_fraction: float
     noise: NoiseLevel
@@ -343,27 +370,28 @@ def run_stage(wave: Waveform, upper: float, lower: float, *, inverting: bool = F
     times = noisy.times(inverting, delay, rise_time)
     noise = noise_level(wave, noise_rms)
     findings = [hysteresis_noise_finding(upper - lower, noise)]
-    clean_edges = clean_crossings = delays = None
+    clean_edges = clean_crossings = missed = delays = None
     if wave.clean is not None:
-        clean_edges = switching_edges(wave.clean, upper, lower)[1].size
+        clean_switch = find_edges(wave.t, wave.clean, upper, lower).switch_times
+        clean_edges = clean_switch.size
         cross_t, cross_d = centre_crossings(wave, 0.5 * (upper + lower))
         clean_crossings = cross_t.size
+        missed = missed_transitions(cross_t, clean_switch)
         delays = edge_delays(times, noisy.direction, cross_t, cross_d)
         extra = times.size - clean_edges
         if extra > 0:
             findings.append(f"Noise adds {extra} edge(s) to the {clean_edges} the "
                             "noise-free signal gives (chatter).")
-        if clean_edges < clean_crossings:
+        if missed > 0:
             findings.append(
-                f"The noise-free signal crosses the centre {clean_crossings} time(s) but "
-                f"switches the stage only {clean_edges} time(s): a switching point lies "
-                "beyond the signal's swing, so the stage misses transitions.")
+                f"The stage misses {missed} of the {clean_crossings} centre crossing(s) of "
+                "the noise-free signal: a switching point lies beyond the signal's swing.")
     return SignalRun(
         wave=wave, upper=upper, lower=lower, inverting=inverting, delay=delay,
         rise_time=rise_time, state=_trace(wave.v.size, noisy.start_high, noisy.index),
         edge_times=times, edge_directions=noisy.direction,
         clean_edge_count=clean_edges, clean_crossing_count=clean_crossings,
-        edge_delays=delays,
+        missed_count=missed, edge_delays=delays,
         input_high_fraction=_high_fraction(wave.t, noisy.start_high, noisy.switch_times),
         noise=noise, findings=tuple(findings),
     )

@@ -18,7 +18,7 @@ from bandcalc.signal import (
     centre_crossings,
     edge_delays,
     find_edges,
-    switching_edges,
+    missed_transitions,
 )
 from bandcalc.waveform import Waveform
 
@@ -42,6 +42,9 @@ class Sweep:
         Output edges of the input for each width.
     clean_edge_counts : numpy.ndarray of int or None
         Edges of the noise-free signal for each width.
+    missed_counts : numpy.ndarray of int or None
+        Centre crossings of the noise-free signal it does not answer (points
+        beyond the swing), see :func:`bandcalc.signal.missed_transitions`.
     clean_crossing_count : int or None
         Centre crossings of the noise-free signal: the transitions wanted.
     mean_delays, max_delays : numpy.ndarray
@@ -53,6 +56,7 @@ class Sweep:
     widths: np.ndarray
     edge_counts: np.ndarray
     clean_edge_counts: np.ndarray | None
+    missed_counts: np.ndarray | None
     clean_crossing_count: int | None
     mean_delays: np.ndarray
     max_delays: np.ndarray
@@ -61,12 +65,13 @@ class Sweep:
     def clean_switching(self) -> np.ndarray:
         """Per width, True where it gives one edge per wanted transition, no more.
 
-        All False without a noise-free signal, where this cannot be judged.
+        That is: as many edges as the noise-free signal gives (no chatter) and
+        no missed transition. All False without a noise-free signal, where
+        this cannot be judged.
         """
         if self.clean_edge_counts is None:
             return np.zeros(self.widths.size, dtype=bool)
-        wanted = self.clean_crossing_count
-        return (self.edge_counts == wanted) & (self.clean_edge_counts == wanted)
+        return (self.edge_counts == self.clean_edge_counts) & (self.missed_counts == 0)
 
     @property
     def best_index(self) -> int | None:
@@ -135,10 +140,10 @@ def hysteresis_sweep(wave: Waveform, centre: float, widths: object, *,
     counts = np.zeros(w.size, dtype=np.int64)
     mean_delays = np.full(w.size, np.nan)
     max_delays = np.full(w.size, np.nan)
-    clean_counts = None
-    crossings = None
+    clean_counts = missed = crossings = None
     if wave.clean is not None:
         clean_counts = np.zeros(w.size, dtype=np.int64)
+        missed = np.zeros(w.size, dtype=np.int64)
         cross_t, cross_d = centre_crossings(wave, centre)
         crossings = int(cross_t.size)
     start_level = _start_level(wave)
@@ -148,7 +153,9 @@ def hysteresis_sweep(wave: Waveform, centre: float, widths: object, *,
         counts[i] = run.index.size
         if clean_counts is None:
             continue
-        clean_counts[i] = switching_edges(wave.clean, upper, lower)[1].size
+        clean_switch = find_edges(wave.t, wave.clean, upper, lower).switch_times
+        clean_counts[i] = clean_switch.size
+        missed[i] = missed_transitions(cross_t, clean_switch)
         if run.index.size:
             d = edge_delays(run.times(bool(inverting), delay, rise_time), run.direction,
                             cross_t, cross_d)
@@ -156,5 +163,5 @@ def hysteresis_sweep(wave: Waveform, centre: float, widths: object, *,
                 mean_delays[i] = np.nanmean(d)
                 max_delays[i] = np.nanmax(d)
     return Sweep(centre=centre, widths=w, edge_counts=counts, clean_edge_counts=clean_counts,
-                 clean_crossing_count=crossings, mean_delays=mean_delays,
+                 missed_counts=missed, clean_crossing_count=crossings, mean_delays=mean_delays,
                  max_delays=max_delays)

@@ -19,6 +19,7 @@ from bandcalc.noise import (
 )
 from bandcalc.signal import (
     find_edges,
+    missed_transitions,
     pullup_rise_time,
     run_stage,
     switch_states,
@@ -181,7 +182,7 @@ def test_one_edge_per_crossing_when_hysteresis_exceeds_noise(case):
     wave = synthesize("sine", 1.0, 0.5, 50, 0.2, 2e5, noise_rms=rms, seed=case)
     run = run_stage(wave, 1.0 + width / 2, 1.0 - width / 2)
     assert run.edge_count == run.clean_crossing_count == run.clean_edge_count == 19
-    assert run.extra_edges == 0
+    assert run.extra_edges == 0 and run.missed_count == 0
     np.testing.assert_array_equal(run.edge_directions[:2], [-1, 1])
     assert "wider than the noise" in run.findings[0]
     assert len(run.findings) == 1
@@ -200,7 +201,21 @@ def test_points_beyond_the_swing_are_reported():
     wave = synthesize("sine", 0.0, 1.0, 50, 0.1, 1e4)
     run = run_stage(wave, 1.5, -0.2)
     assert run.edge_count == 0
-    assert "misses transitions" in run.findings[-1]
+    # 10 crossings of the centre 0.65 V; the last one, at the end of the record, cannot
+    # be judged, so 9 count as missed.
+    assert (run.clean_crossing_count, run.missed_count) == (10, 9)
+    assert run.findings[-1] == ("The stage misses 9 of the 10 centre crossing(s) of the "
+                                "noise-free signal: a switching point lies beyond the "
+                                "signal's swing.")
+
+
+@pytest.mark.parametrize(
+    ("switches", "missed"),
+    [([1.1, 2.1, 3.1, 4.1], 0), ([1.1, 2.1, 3.1], 0), ([1.1, 2.1], 1), ([], 3), ([4.0], 3)],
+)
+def test_missed_transitions_spares_the_last_open_crossing(switches, missed):
+    crossings = np.array([1.0, 2.0, 3.0, 4.0])
+    assert missed_transitions(crossings, np.array(switches)) == missed
 
 
 def test_recorded_signal_has_no_delays_and_an_estimated_noise():
