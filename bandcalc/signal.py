@@ -32,6 +32,7 @@ __all__ = [
     "centre_crossings",
     "edge_delays",
     "find_edges",
+    "input_edges",
     "missed_transitions",
     "pullup_rise_time",
     "run_stage",
@@ -80,7 +81,7 @@ def switching_edges(v: np.ndarray, upper: float, lower: float,
     v : numpy.ndarray
         Input samples, in V.
     upper, lower : float
-        Switching points, in V, ``upper >= lower``.
+        Switching points, in V, ``upper >= lower`` (not checked here).
     start_level : float, optional
         Level, in V, that decides the start state when the first sample lies
         between the points (default: the first sample). A run of a noisy
@@ -125,12 +126,7 @@ def _trace(n: int, start_high: bool, index: np.ndarray) -> np.ndarray:
 def switch_states(v: np.ndarray, upper: float, lower: float) -> np.ndarray:
     """State per sample, True = input-high (the vectorized switching core).
 
-    Parameters
-    ----------
-    v : numpy.ndarray
-        Input samples, in V.
-    upper, lower : float
-        Switching points, in V, ``upper >= lower``.
+    Arguments as for :func:`switching_edges`; the points are checked here.
     """
     v = np.asarray(v, dtype=np.float64)
     upper, lower = _points(upper, lower)
@@ -230,14 +226,19 @@ def find_edges(t: np.ndarray, v: np.ndarray, upper: float, lower: float,
     return Edges(start_high, index, direction, _cross_times(t, v, index, level))
 
 
-def _start_level(wave: Waveform) -> float | None:
-    """Level deciding the start state: the noise-free first sample when known."""
-    return None if wave.clean is None else float(wave.clean[0])
+def input_edges(wave: Waveform, upper: float, lower: float) -> Edges:
+    """Edges of ``wave.v`` through ``upper >= lower`` (V), points not checked.
+
+    The start state follows the noise-free first sample when ``wave.clean``
+    is known (see :func:`switching_edges`), else the first sample.
+    """
+    start_level = None if wave.clean is None else float(wave.clean[0])
+    return find_edges(wave.t, wave.v, upper, lower, start_level)
 
 
 def _high_fraction(t: np.ndarray, start_high: bool, switch_times: np.ndarray) -> float:
     """Fraction of [t0, t_end] spent input-high, from the switching instants."""
-    bounds = np.concatenate(([t[0]], np.clip(switch_times, t[0], t[-1]), [t[-1]]))
+    bounds = np.concatenate(([t[0]], switch_times, [t[-1]]))
     spans = np.diff(bounds)
     high = spans[0::2].sum() if start_high else spans[1::2].sum()
     return float(high / (t[-1] - t[0]))
@@ -366,7 +367,7 @@ def run_stage(wave: Waveform, upper: float, lower: float, *, inverting: bool = F
     delay = real("delay", delay, low=0.0, unit="s")
     rise_time = real("rise_time", rise_time, low=0.0, unit="s")
     inverting = bool(inverting)
-    noisy = find_edges(wave.t, wave.v, upper, lower, _start_level(wave))
+    noisy = input_edges(wave, upper, lower)
     times = noisy.times(inverting, delay, rise_time)
     noise = noise_level(wave, noise_rms)
     findings = [hysteresis_noise_finding(upper - lower, noise)]

@@ -14,10 +14,10 @@ import numpy as np
 
 from bandcalc._checks import real
 from bandcalc.signal import (
-    _start_level,
     centre_crossings,
     edge_delays,
     find_edges,
+    input_edges,
     missed_transitions,
 )
 from bandcalc.waveform import Waveform
@@ -146,10 +146,9 @@ def hysteresis_sweep(wave: Waveform, centre: float, widths: object, *,
         missed = np.zeros(w.size, dtype=np.int64)
         cross_t, cross_d = centre_crossings(wave, centre)
         crossings = int(cross_t.size)
-    start_level = _start_level(wave)
     for i, width in enumerate(w):
         upper, lower = centre + 0.5 * width, centre - 0.5 * width
-        run = find_edges(wave.t, wave.v, upper, lower, start_level)
+        run = input_edges(wave, upper, lower)
         counts[i] = run.index.size
         if clean_counts is None:
             continue

@@ -18,6 +18,7 @@ from bandcalc.noise import (
     noise_level,
 )
 from bandcalc.signal import (
+    edge_delays,
     find_edges,
     missed_transitions,
     pullup_rise_time,
@@ -207,6 +208,17 @@ def test_points_beyond_the_swing_are_reported():
     assert run.findings[-1] == ("The stage misses 9 of the 10 centre crossing(s) of the "
                                 "noise-free signal: a switching point lies beyond the "
                                 "signal's swing.")
+
+
+def test_edge_delay_is_from_the_nearest_crossing_in_the_same_direction():
+    cross_t = np.array([1.0, 2.0, 3.0, 4.0])
+    cross_d = np.array([1, -1, 1, -1])
+    times = np.array([1.1, 1.95, 3.2, 5.0, 0.5])
+    directions = np.array([1, -1, 1, 1, -1])
+    # 1.95 falls before the downward crossing at 2 (noise switched early): negative.
+    np.testing.assert_allclose(edge_delays(times, directions, cross_t, cross_d),
+                               [0.1, -0.05, 0.2, 2.0, -1.5])
+    assert np.isnan(edge_delays(times, directions, cross_t[:1], cross_d[:1])[1])
 
 
 @pytest.mark.parametrize(
