@@ -43,7 +43,8 @@ def real(name: str, value: object, *, low: float | None = None, high: float | No
     """
     allowed = _describe(low, high, low_open, high_open, unit)
     if isinstance(value, bool) or not isinstance(value, Real):
-        raise ValueError(f"{name} must be a number {allowed}, got {value!r}")
+        # ValueError, not TypeError: every bad input of bandcalc is a ValueError.
+        raise ValueError(f"{name} must be a number {allowed}, got {value!r}")  # noqa: TRY004
     x = float(value)
     if not math.isfinite(x):
         raise ValueError(f"{name} must be a finite number {allowed}, got {x!r}")

@@ -102,7 +102,7 @@ class Sweep:
 
 def _widths(widths: object) -> np.ndarray:
     try:
-        w = np.asarray(widths, dtype=np.float64)
+        w = np.array(widths, dtype=np.float64)  # a copy: the result must not change later
     except (TypeError, ValueError) as exc:
         raise ValueError(f"widths must be numbers in V: {exc}") from None
     if w.ndim != 1 or not 1 <= w.size <= MAX_WIDTHS:

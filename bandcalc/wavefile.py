@@ -198,7 +198,7 @@ def _fast(chunk: bytes, layout: _Layout, previous: float,
         frame = pd.read_csv(
             io.BytesIO(chunk), sep=layout.delimiter, decimal=layout.decimal, header=None,
             dtype=np.float64, engine="c", encoding="latin-1", skip_blank_lines=True)
-    except Exception:  # pandas' own errors never surface; the line pass explains instead
+    except Exception:  # noqa: BLE001 - no pandas error surfaces; the line pass explains
         return None
     values = frame.to_numpy()
     if values.ndim != 2:

@@ -44,8 +44,8 @@ BAD = [
     ("t,v\n0,1\n1,2\n2,3\n3,4\n4,5\n5,abc\n",
      "line 7: 'abc' in the volts column is not a number"),
     ("0,1\nx1,2\n", "line 2: 'x1' in the time column is not a number"),
-    ("t,v\n0.001,1\n0.002,1\n0.004,1\n0.005,1\n0.006,1\n0.007,1\n0.008,1\n0.009,1\n"
-     "0.0095,1\n0.004,1\n0.003,1\n",
+    (("t,v\n0.001,1\n0.002,1\n0.004,1\n0.005,1\n0.006,1\n0.007,1\n0.008,1\n0.009,1\n"
+      "0.0095,1\n0.004,1\n0.003,1\n"),
      "line 11: time 0.004 s is not after the previous 0.0095 s"),
     ("0,1\n1,2\n1,3\n", "line 3: time 1 s is not after the previous 1 s"),
     ("0,1\n1,nan\n", "line 2: 'nan' in the volts column is not a finite number"),
@@ -54,12 +54,13 @@ BAD = [
     ("0,1\n1,\n", "line 2: the volts column is empty"),
     ("0,1\n1,2,3\n", "line 2: 3 fields, expected 2 (time in s, volts) in a comma-separated"),
     ("0,1\n\n2\n", "line 3: 1 field, expected 2"),
-    ("0;1;2;3\n1;2;3;4\n", "line 1: 4 fields, expected 2 (time in s, volts) in a "
-     "semicolon-separated, decimal point file"),
-    ("0 1\n1 2\n", "line 1: 1 field, expected 2 (time in s, volts) in a comma-separated, "
-     "decimal point file; separate time and volts by a comma, semicolon or tab"),
-    ("0,001,1,25\n0,002,1,5\n", "line 1: 4 fields, expected 2 (time in s, volts) in a "
-     "comma-separated, decimal point file; numbers with a decimal comma need a semicolon"),
+    ("0;1;2;3\n1;2;3;4\n", ("line 1: 4 fields, expected 2 (time in s, volts) in a "
+                            "semicolon-separated, decimal point file")),
+    ("0 1\n1 2\n", ("line 1: 1 field, expected 2 (time in s, volts) in a comma-separated, "
+                    "decimal point file; separate time and volts by a comma, semicolon or tab")),
+    ("0,001,1,25\n0,002,1,5\n", ("line 1: 4 fields, expected 2 (time in s, volts) in a "
+                                 "comma-separated, decimal point file; numbers with a "
+                                 "decimal comma need a semicolon")),
     ("0;1,234.5\n1;2\n", "line 1: '1,234.5' in the volts column is not a number"),
     ("0,1\n1,0x10\n", "line 2: '0x10' in the volts column is not a number"),
     ("0,1\n1,1_0\n", "line 2: '1_0' in the volts column is not a number"),
@@ -132,7 +133,7 @@ def large_file(rows: int) -> tuple[bytes, np.ndarray]:
 
 def test_many_pieces_read_like_numpy_loadtxt():
     # numpy.loadtxt is the independent reader for the same numbers (decimal point).
-    raw, data = large_file(200_000)
+    raw, _ = large_file(200_000)
     assert len(raw) > 3 * wavefile._CHUNK_BYTES
     w = read_waveform_csv(raw)
     ref = np.loadtxt(io.BytesIO(raw.replace(b",", b".")), delimiter=";", skiprows=1)

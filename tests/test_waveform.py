@@ -104,8 +104,8 @@ def test_hum_is_a_mains_sine_outside_the_clean_signal(mains):
                                atol=1e-12)
 
 
-GOOD = dict(shape="sine", offset=0.0, amplitude=1.0, frequency=10.0, duration=1.0,
-            sample_rate=1000.0)
+GOOD = {"shape": "sine", "offset": 0.0, "amplitude": 1.0, "frequency": 10.0,
+        "duration": 1.0, "sample_rate": 1000.0}
 
 
 @pytest.mark.parametrize(
