@@ -12,10 +12,15 @@ import json
 import sys
 from collections.abc import Callable, Sequence
 
+import numpy as np
+
 from . import __version__
 from .analysis import Analysis, analysis_to_dict, analyze
 from .design import Design, load_design
+from .signal import run_design
+from .sweep import sweep_design
 from .units import format_si
+from .waveform import synthesize
 
 __all__ = ["main"]
 
@@ -79,6 +84,75 @@ def _cmd_analyze(args: argparse.Namespace) -> int:
     return status
 
 
+def _synthetic(args: argparse.Namespace, design: Design):
+    """The synthetic signal of the options; offset and amplitude default to the design's band."""
+    a = analyze(design)
+    offset = a.centre if args.offset is None else args.offset
+    amplitude = a.hysteresis if args.amplitude is None else args.amplitude
+    return synthesize(args.shape, offset, amplitude, args.frequency, args.duration, args.rate,
+                      noise_rms=args.noise, hum_amplitude=args.hum, hum_frequency=args.hum_frequency,
+                      seed=args.seed)
+
+
+def _signal_dict(run, sweep) -> dict:
+    delays = run.edge_delays
+    finite = delays[np.isfinite(delays)] if delays is not None else np.array([])
+    out = {
+        "upper": run.upper, "lower": run.lower, "edges": run.edge_count,
+        "edge_times": run.edge_times.tolist(), "edge_directions": run.edge_directions.tolist(),
+        "clean_edges": run.clean_edge_count, "extra_edges": run.extra_edges, "missed": run.missed_count,
+        "delay_mean": float(finite.mean()) if finite.size else None,
+        "delay_max": float(finite.max()) if finite.size else None,
+        "output_high_fraction": run.output_high_fraction,
+        "noise_rms": run.noise.rms, "noise_peak_to_peak": run.noise.peak_to_peak,
+        "findings": list(run.findings),
+    }
+    if sweep is not None:
+        out["sweep"] = {"centre": sweep.centre, "widths": sweep.widths.tolist(),
+                        "edge_counts": sweep.edge_counts.tolist(), "best_width": sweep.best_width,
+                        "best_mean_delay": sweep.best_mean_delay, "best_max_delay": sweep.best_max_delay}
+    return out
+
+
+def _signal_table(path: str, d: dict) -> str:
+    v = lambda x: format_si(x, "V", 4)  # noqa: E731
+    s = lambda x: "n/a" if x is None else format_si(x, "s")  # noqa: E731
+    rows = [("points", f"{v(d['upper'])} / {v(d['lower'])}"),
+            ("edges", f"{d['edges']} (noise-free signal: {d['clean_edges']})"),
+            ("delay mean / max", f"{s(d['delay_mean'])} / {s(d['delay_max'])}"),
+            ("output high", f"{100 * d['output_high_fraction']:.1f} % of the time"),
+            ("noise", f"{v(d['noise_rms'])} RMS, about {v(d['noise_peak_to_peak'])} peak-to-peak")]
+    if "sweep" in d:
+        best = d["sweep"]["best_width"]
+        rows.append(("narrowest clean width", "none in the sweep" if best is None else
+                     f"{v(best)} (mean delay {s(d['sweep']['best_mean_delay'])})"))
+    lines = [f"signal check  [{path}]"] + [f"  {k:<22} {val}" for k, val in rows]
+    lines += ["  findings:"] + [f"    - {f}" for f in d["findings"]]
+    return "\n".join(lines)
+
+
+def _cmd_signal(args: argparse.Namespace) -> int:
+    from .wavefile import read_waveform_csv  # pandas: imported only when a command needs it
+
+    recorded = None
+    if args.csv:
+        try:
+            recorded = read_waveform_csv(args.csv)
+        except ValueError as exc:
+            print(f"bandcalc: {args.csv}: {exc}", file=sys.stderr)
+            return EXIT_BAD_INPUT
+
+    def work(path: str, design: Design) -> object:
+        wave = recorded if recorded is not None else _synthetic(args, design)
+        d = _signal_dict(run_design(design, wave), sweep_design(design, wave) if args.sweep else None)
+        return {"file": path, **d} if args.json else _signal_table(path, d)
+
+    results, status = _for_each_file([args.file], work)
+    if results:
+        _emit_json(results) if args.json else print(results[0])
+    return status
+
+
 def _parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(prog="python -m bandcalc",
                                      description="Design comparator stages with hysteresis.")
@@ -88,6 +162,23 @@ def _parser() -> argparse.ArgumentParser:
     p.add_argument("files", nargs="+", metavar="FILE", help="design file(s) (JSON)")
     p.add_argument("--json", action="store_true", help="print JSON instead of a table")
     p.set_defaults(run=_cmd_analyze)
+
+    p = sub.add_parser("signal", help="run a recorded or synthetic signal through a design")
+    p.add_argument("file", metavar="FILE", help="design file (JSON)")
+    p.add_argument("--csv", metavar="WAVE.csv", help="recorded signal: time (s) and volts columns")
+    p.add_argument("--shape", default="sine", choices=["sine", "triangle", "ramp", "steps"])
+    p.add_argument("--offset", type=float, default=None, help="V (default: the design's centre)")
+    p.add_argument("--amplitude", type=float, default=None, help="V (default: the design's hysteresis)")
+    p.add_argument("--frequency", type=float, default=50.0, help="Hz")
+    p.add_argument("--duration", type=float, default=0.1, help="s")
+    p.add_argument("--rate", type=float, default=100e3, help="samples per second")
+    p.add_argument("--noise", type=float, default=0.0, help="Gaussian noise, V RMS")
+    p.add_argument("--hum", type=float, default=0.0, help="mains hum amplitude, V")
+    p.add_argument("--hum-frequency", type=float, default=50.0, choices=[50.0, 60.0])
+    p.add_argument("--seed", type=int, default=1, help="noise generator seed (runs repeat)")
+    p.add_argument("--sweep", action="store_true", help="also sweep the hysteresis width")
+    p.add_argument("--json", action="store_true", help="print JSON instead of a table")
+    p.set_defaults(run=_cmd_signal)
     return parser
 
 

@@ -13,13 +13,13 @@ from dataclasses import dataclass
 import numpy as np
 
 from bandcalc._checks import real
+from bandcalc.units import format_si
 from bandcalc.waveform import Waveform
 
 __all__ = [
     "PEAK_TO_PEAK_PER_RMS",
     "NoiseLevel",
     "estimate_noise_rms",
-    "format_volts",
     "hysteresis_noise_finding",
     "noise_level",
 ]
@@ -99,28 +99,21 @@ def noise_level(wave: Waveform, rms: float | None = None) -> NoiseLevel:
                       "estimated from sample-to-sample differences")
 
 
-_PREFIXES = ((1.0, ""), (1e-3, "m"), (1e-6, "\u00b5"), (1e-9, "n"))
-
-
-def format_volts(x: float) -> str:
-    """Format a voltage for a sentence, e.g. ``0.066 -> "66 mV"``."""
-    if x == 0.0:
-        return "0 V"
-    scale, prefix = next((p for p in _PREFIXES if abs(x) >= p[0]), _PREFIXES[-1])
-    return f"{x / scale:.3g} {prefix}V"
+def _v(x: float) -> str:
+    return format_si(x, "V")
 
 
 def hysteresis_noise_finding(width: float, noise: NoiseLevel) -> str:
     """One sentence comparing the hysteresis ``width`` (V) with the noise."""
     if noise.rms == 0.0:
         return (f"No noise found on the input ({noise.source}); a hysteresis of "
-                f"{format_volts(width)} gives one edge per crossing.")
+                f"{_v(width)} gives one edge per crossing.")
     pp = noise.peak_to_peak
-    about = (f"about {format_volts(pp)} peak-to-peak ({PEAK_TO_PEAK_PER_RMS:g} x "
-             f"{format_volts(noise.rms)} RMS, {noise.source})")
+    about = (f"about {_v(pp)} peak-to-peak ({PEAK_TO_PEAK_PER_RMS:g} x "
+             f"{_v(noise.rms)} RMS, {noise.source})")
     if width > pp:
-        return (f"The hysteresis of {format_volts(width)} is wider than the noise, "
+        return (f"The hysteresis of {_v(width)} is wider than the noise, "
                 f"{about}: noise should add no edges.")
-    return (f"The hysteresis of {format_volts(width)} is narrower than the noise, "
+    return (f"The hysteresis of {_v(width)} is narrower than the noise, "
             f"{about}: expect extra edges near each crossing; widen it to more "
-            f"than {format_volts(pp)}.")
+            f"than {_v(pp)}.")

@@ -23,6 +23,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from bandcalc._checks import real
+from bandcalc.analysis import analyze
+from bandcalc.design import Design, OpenDrain
 from bandcalc.noise import NoiseLevel, hysteresis_noise_finding, noise_level
 from bandcalc.waveform import Waveform
 
@@ -34,7 +36,9 @@ __all__ = [
     "find_edges",
     "input_edges",
     "missed_transitions",
+    "output_rise_time",
     "pullup_rise_time",
+    "run_design",
     "run_stage",
     "switch_states",
     "switching_edges",
@@ -396,3 +400,25 @@ def run_stage(wave: Waveform, upper: float, lower: float, *, inverting: bool = F
         input_high_fraction=_high_fraction(wave.t, noisy.start_high, noisy.switch_times),
         noise=noise, findings=tuple(findings),
     )
+
+
+def output_rise_time(design: Design) -> float:
+    """10-90 % rise time (s) the design's output adds to rising edges: 2.2 R C for open-drain."""
+    out = design.output
+    if isinstance(out, OpenDrain) and out.load_capacitance > 0:
+        return pullup_rise_time(out.pullup, out.load_capacitance)
+    return 0.0
+
+
+def run_design(design: Design, wave: Waveform, *, noise_rms: float | None = None) -> SignalRun:
+    """Run ``wave`` (volts at the stage's signal source) through a design's switching points.
+
+    The points come from the full stage model; the comparator's propagation delay and, for an
+    open-drain output, the pull-up rise time into the output's load capacitance are added.
+    """
+    a = analyze(design)
+    if not a.hysteresis > 0:
+        raise ValueError("signal: the design has no hysteresis (upper point not above lower); "
+                         "fix the stage first")
+    return run_stage(wave, a.upper, a.lower, inverting=design.inverting, delay=design.comparator.delay,
+                     rise_time=output_rise_time(design), noise_rms=noise_rms)

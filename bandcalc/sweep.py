@@ -13,16 +13,20 @@ from dataclasses import dataclass
 import numpy as np
 
 from bandcalc._checks import real
+from bandcalc.analysis import analyze
+from bandcalc.design import Design
+from bandcalc.noise import noise_level
 from bandcalc.signal import (
     centre_crossings,
     edge_delays,
     find_edges,
     input_edges,
     missed_transitions,
+    output_rise_time,
 )
 from bandcalc.waveform import Waveform
 
-__all__ = ["MAX_WIDTHS", "Sweep", "hysteresis_sweep"]
+__all__ = ["MAX_WIDTHS", "Sweep", "hysteresis_sweep", "sweep_design"]
 
 MAX_WIDTHS = 1000
 """Most widths one sweep may try (each costs a run over the whole waveform)."""
@@ -164,3 +168,17 @@ def hysteresis_sweep(wave: Waveform, centre: float, widths: object, *,
     return Sweep(centre=centre, widths=w, edge_counts=counts, clean_edge_counts=clean_counts,
                  missed_counts=missed, clean_crossing_count=crossings, mean_delays=mean_delays,
                  max_delays=max_delays)
+
+
+def sweep_design(design: Design, wave: Waveform, widths: object | None = None) -> Sweep:
+    """Sweep the hysteresis width about the design's own centre.
+
+    Default widths: 81 steps from 0 to twice the larger of the design's hysteresis and the
+    noise's peak-to-peak (6.6 x RMS, see :mod:`bandcalc.noise`).
+    """
+    a = analyze(design)
+    if widths is None:
+        top = 2.0 * max(a.hysteresis, noise_level(wave).peak_to_peak, 1e-6)
+        widths = np.linspace(0.0, top, 81)
+    return hysteresis_sweep(wave, a.centre, widths, inverting=design.inverting,
+                            delay=design.comparator.delay, rise_time=output_rise_time(design))

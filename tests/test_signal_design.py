@@ -1,0 +1,72 @@
+"""Signal runs from a design: its points, its delay and its output rise time; the command."""
+
+import json
+import math
+from pathlib import Path
+
+import pytest
+
+from bandcalc.analysis import analyze
+from bandcalc.cli import main
+from bandcalc.design import load_design
+from bandcalc.signal import output_rise_time, run_design
+from bandcalc.sweep import sweep_design
+from bandcalc.waveform import synthesize
+
+DEMO = Path(__file__).parent.parent / "demo_data"
+
+
+def test_open_drain_design_adds_2_2_rc_and_its_delay():
+    # 10-90 % rise of an RC charge is RC ln 9 = 2.197 RC, commonly rounded to 2.2 RC (DOMAIN.md).
+    d = load_design(DEMO / "solar_battery_disconnect.json")
+    assert output_rise_time(d) == pytest.approx(2.2 * 10e3 * 1e-10)
+    a = analyze(d)
+    f, amp = 5.0, 1.0
+    wave = synthesize("sine", a.centre, amp, f, 0.4, 200e3)
+    run = run_design(d, wave)
+    # Clean sine about the centre: the upper point is crossed asin((V - c)/A)/(2 pi f) after
+    # the centre crossing (DOMAIN.md), then the comparator delay and, rising, the rise time.
+    lag = math.asin((a.upper - a.centre) / amp) / (2 * math.pi * f)
+    rising = run.edge_delays[run.edge_directions > 0]
+    # The non-inverting stage's output rises as the input goes high.
+    expected = lag + d.comparator.delay + output_rise_time(d)
+    assert rising == pytest.approx(expected, abs=2e-6)
+
+
+def test_push_pull_design_has_no_rise_time():
+    assert output_rise_time(load_design(DEMO / "sump_level_switch.json")) == 0.0
+
+
+def test_sweep_about_the_design_centre_finds_a_clean_width():
+    d = load_design(DEMO / "sump_level_switch.json")
+    a = analyze(d)
+    wave = synthesize("sine", a.centre, 1.5, 20.0, 0.25, 50e3, noise_rms=0.02, seed=4)
+    sweep = sweep_design(d, wave)
+    assert sweep.centre == pytest.approx(a.centre)
+    # 6.6 x 20 mV = 132 mV peak-to-peak (common practice): a wider band is clean.
+    assert sweep.best_width is not None and sweep.best_width <= 6.6 * 0.02 + sweep.widths[1]
+
+
+def test_signal_command_json(capsys):
+    path = str(DEMO / "magnetic_speed_pickup.json")
+    assert main(["signal", path, "--noise", "0.01", "--sweep", "--json", "--seed", "3"]) == 0
+    out = json.loads(capsys.readouterr().out)
+    assert out["edges"] == len(out["edge_times"]) and out["edges"] > 0
+    assert out["edge_times"] == sorted(out["edge_times"])
+    assert "best_width" in out["sweep"]
+
+
+def test_signal_command_bad_csv_names_file_and_line(tmp_path, capsys):
+    bad = tmp_path / "wave.csv"
+    bad.write_text("t,v\n0,1\n0.1,abc\n")
+    assert main(["signal", str(DEMO / "sump_level_switch.json"), "--csv", str(bad)]) == 2
+    err = capsys.readouterr().err
+    assert "wave.csv" in err and "line 3" in err
+
+
+def test_signal_command_reads_a_recorded_csv(tmp_path, capsys):
+    wave = tmp_path / "w.csv"
+    rows = [f"{i * 1e-3};{'4,5' if (i // 100) % 2 else '0,5'}" for i in range(1000)]
+    wave.write_text("time;volts\n" + "\n".join(rows) + "\n")
+    assert main(["signal", str(DEMO / "sump_level_switch.json"), "--csv", str(wave), "--json"]) == 0
+    assert json.loads(capsys.readouterr().out)["edges"] == 9
