@@ -11,6 +11,7 @@ import argparse
 import json
 import sys
 from collections.abc import Callable, Sequence
+from pathlib import Path
 
 import numpy as np
 
@@ -153,6 +154,26 @@ def _cmd_signal(args: argparse.Namespace) -> int:
     return status
 
 
+def _cmd_report(args: argparse.Namespace) -> int:
+    from .report import design_summary
+
+    def work(path: str, design: Design) -> object:
+        return design_summary(design)
+
+    results, status = _for_each_file([args.file], work)
+    if not results:
+        return status
+    if args.output:
+        try:
+            Path(args.output).write_text(results[0], encoding="utf-8")
+        except OSError as exc:
+            print(f"bandcalc: {args.output}: cannot write the summary ({exc.strerror})", file=sys.stderr)
+            return EXIT_BAD_INPUT
+    else:
+        print(results[0], end="")
+    return status
+
+
 def _parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(prog="python -m bandcalc",
                                      description="Design comparator stages with hysteresis.")
@@ -179,6 +200,11 @@ def _parser() -> argparse.ArgumentParser:
     p.add_argument("--sweep", action="store_true", help="also sweep the hysteresis width")
     p.add_argument("--json", action="store_true", help="print JSON instead of a table")
     p.set_defaults(run=_cmd_signal)
+
+    p = sub.add_parser("report", help="write the design summary (Markdown)")
+    p.add_argument("file", metavar="FILE", help="design file (JSON)")
+    p.add_argument("-o", "--output", metavar="OUT.md", help="write to this file instead of printing")
+    p.set_defaults(run=_cmd_report)
     return parser
 
 

@@ -177,6 +177,26 @@ def _table(header: list[str], rows: list[list[str]]) -> list[str]:
     return lines
 
 
+def _signal_section(run) -> list[str]:
+    """Table and findings of a signal run (bandcalc.signal.SignalRun)."""
+    import numpy as np
+
+    delays = run.edge_delays
+    finite = delays[np.isfinite(delays)] if delays is not None else np.array([])
+    t = lambda x: format_si(x, "s")  # noqa: E731
+    clean = "not known (recorded signal)" if run.clean_edge_count is None else str(run.clean_edge_count)
+    rows = [
+        ["Signal", f"{len(run.wave)} samples over {t(run.wave.duration)}"],
+        ["Output edges", str(run.edge_count)],
+        ["Edges of the noise-free signal", clean],
+        ["Edge delay after the centre crossing, mean / max",
+         f"{t(finite.mean())} / {t(finite.max())}" if finite.size else "not known"],
+        ["Time the output is high", f"{100 * run.output_high_fraction:.1f} %"],
+        ["Noise", f"{_v(run.noise.rms)} RMS, about {_v(run.noise.peak_to_peak)} peak-to-peak"],
+    ]
+    return _table(["Quantity", "Value"], rows) + [""] + [f"- {f}" for f in run.findings]
+
+
 def _fence(text: str) -> str:
     longest = max((len(m) for m in re.findall(r"`+", text)), default=0)
     return "`" * max(3, longest + 1)
@@ -208,7 +228,8 @@ def design_summary(design: Design, inputs: SummaryInputs | None = None, *,
     inputs = inputs or SummaryInputs()
     a = analyze(design)
     d = design
-    md: list[str] = [f"# {escape_text(d.name or 'Unnamed design')}", ""]
+    title = " ".join(d.name.split()) or "Unnamed design"  # a heading is one line
+    md: list[str] = [f"# {escape_text(title)}", ""]
     md += ["## Purpose and notes", "", escape_text(d.notes) if d.notes.strip() else "_No notes given._", ""]
     md += ["## The stage", "", stage_in_words(d), ""]
     md += ["## Components", ""]
@@ -225,6 +246,8 @@ def design_summary(design: Design, inputs: SummaryInputs | None = None, *,
         ["Output level reached, low", _v(a.output_low)],
         ["Largest current from the positive rail", format_si(a.network_current, "A")],
     ])
+    if inputs.signal is not None:
+        md += ["", "## Noise and delay", ""] + _signal_section(inputs.signal)
     md += ["", "## Findings", ""]
     md += [f"- {f}" for f in a.findings] or ["No findings: the checks found nothing to report."]
     md += ["", "## Assumptions", ""] + [f"- {x}" for x in ASSUMPTIONS]

@@ -1,0 +1,127 @@
+"""The design summary: content, valid CommonMark, escaping and the embedded design."""
+
+import datetime as dt
+from pathlib import Path
+
+import pytest
+from markdown_it import MarkdownIt
+
+from bandcalc.analysis import analyze
+from bandcalc.cli import main
+from bandcalc.design import Design, FixedReference, Resistors, Source, Supply, load_design
+from bandcalc.network import switching_points
+from bandcalc.report import design_from_summary, design_summary, escape_text
+from bandcalc.signal import run_design
+from bandcalc.units import format_si
+from bandcalc.waveform import synthesize
+
+DEMOS = sorted((Path(__file__).parent.parent / "demo_data").glob("*.json"))
+# markdown-it-py (PyPI) in its "commonmark" preset is a CommonMark-conformant parser; the
+# summary also uses GitHub-style tables, so GFM enables that one extension on top.
+COMMONMARK = MarkdownIt("commonmark")
+GFM = MarkdownIt("commonmark").enable("table")
+
+
+def _tokens(text):
+    return GFM.parse(text)
+
+
+def _headings(tokens):
+    return [tokens[i + 1].content for i, t in enumerate(tokens) if t.type == "heading_open"]
+
+
+@pytest.mark.parametrize("path", DEMOS, ids=lambda p: p.stem)
+def test_summary_content_for_each_demo(path):
+    d = load_design(path)
+    a = analyze(d)
+    text = design_summary(d, today=dt.date(2026, 12, 1))
+    headings = _headings(_tokens(text))
+    assert headings[0] == d.name
+    for section in ("Purpose and notes", "The stage", "Components", "Switching points", "Findings",
+                    "Assumptions", "Design file"):
+        assert section in headings
+    assert f"| Upper switching point (rising signal) | {format_si(a.upper, 'V', 4)} |" in text
+    assert "Made with bandcalc" in text and "2026-12-01" in text
+    # One component row per resistor, each with a designator R1, R2, ...
+    rows = [t for t in _tokens(text) if t.type == "tr_open"]
+    n_parts = len(d.resistors.present()) + (2 if d.reference.__class__.__name__ == "DividerReference"
+                                            else 0) + (1 if d.output.kind == "open-drain" else 0)
+    assert sum(1 for line in text.splitlines() if line.startswith("| R")) == n_parts
+    assert len(rows) >= n_parts + 1
+
+
+@pytest.mark.parametrize("path", DEMOS, ids=lambda p: p.stem)
+def test_embedded_design_rebuilds_the_same_switching_points(path):
+    d = load_design(path)
+    again = design_from_summary(design_summary(d))
+    assert again == d
+    p, q = switching_points(d), switching_points(again)
+    assert (float(p.upper), float(p.lower)) == (float(q.upper), float(q.lower))
+
+
+HOSTILE = [
+    "<script>alert('x')</script>",
+    "<img src=x onerror=alert(1)>",
+    "a | b | c",
+    "# not a heading",
+    "```\nbreak the fence\n```",
+    "[link](javascript:alert(1))",
+    "**bold** and _under_",
+    "- not a list\n1. not a list\n> not a quote\n---",
+]
+
+
+@pytest.mark.parametrize("hostile", HOSTILE)
+def test_user_text_is_escaped(hostile):
+    d = Design(stage="non-inverting", supply=Supply(5.0), reference=FixedReference(2.5),
+               resistors=Resistors(input=1e3, feedback=2e3), name=hostile, notes=hostile)
+    text = design_summary(d)
+    tokens = _tokens(text)
+    # The name is the h1's plain text and the notes one plain paragraph: no HTML, link, image,
+    # emphasis, list, quote, rule, code or extra heading can come out of what the user typed.
+    name_inline = tokens[1]
+    notes = tokens[tokens.index(next(t for t in tokens if t.content == "Purpose and notes")) + 2:]
+    notes = notes[:next(i for i, t in enumerate(notes) if t.type == "heading_open")]
+    assert [t.type for t in notes] == ["paragraph_open", "inline", "paragraph_close"]
+    for inline in (name_inline, notes[1]):
+        assert {c.type for c in inline.children} <= {"text", "softbreak", "hardbreak"}
+    # What the reader sees is exactly what the user typed.
+    assert "".join(c.content for c in name_inline.children) == " ".join(hostile.split())
+    html = GFM.render(text)
+    assert "<script" not in html and "<img" not in html and "<a " not in html
+    # Exactly one top heading: the user's name cannot open another block.
+    assert sum(1 for t in tokens if t.type == "heading_open" and t.tag == "h1") == 1
+    # Whatever the user typed, the design block still rebuilds the design.
+    assert design_from_summary(text) == d
+
+
+def test_escape_text_keeps_plain_words():
+    assert escape_text("Sump level switch, 5 V") == "Sump level switch, 5 V"
+    assert escape_text("<b>") == "&lt;b&gt;"
+
+
+def test_summary_is_commonmark_without_extensions():
+    # Also parses under the strict CommonMark preset (tables then read as paragraphs).
+    text = design_summary(load_design(DEMOS[0]))
+    assert any(t.type == "fence" and t.info == "json" for t in COMMONMARK.parse(text))
+
+
+def test_caution_section_for_hazardous_voltage():
+    d = Design(stage="non-inverting", supply=Supply(5.0), reference=FixedReference(2.5),
+               resistors=Resistors(input=1e6, to_ground=10e3, feedback=1e6), source=Source(high=400.0))
+    text = design_summary(d)
+    assert "## Cautions" in text and "local codes and licensed practice" in text
+
+
+def test_signal_section():
+    d = load_design(DEMOS[0])
+    a = analyze(d)
+    run = run_design(d, synthesize("sine", a.centre, a.hysteresis, 50, 0.1, 50e3, noise_rms=0.01, seed=1))
+    text = design_summary(d, type("Inputs", (), {"signal": run, "spread": None, "fit": None})())
+    assert "## Noise and delay" in text and f"| Output edges | {run.edge_count} |" in text
+
+
+def test_report_command_writes_file(tmp_path):
+    out = tmp_path / "summary.md"
+    assert main(["report", str(DEMOS[0]), "-o", str(out)]) == 0
+    assert design_from_summary(out.read_text()) == load_design(DEMOS[0])
