@@ -16,6 +16,7 @@ from . import __version__
 from .analysis import Analysis, analysis_to_dict, analyze
 from .design import Design, load_design
 from .units import format_si
+from .watched import format_watched
 
 __all__ = ["main"]
 
@@ -39,6 +40,8 @@ def _analysis_table(path: str, a: Analysis) -> str:
         ("output high / low", f"{v(a.output_high)} / {v(a.output_low)}"),
         ("network current", format_si(a.network_current, "A")),
     ]
+    if a.watched is not None:
+        rows[1:1] = _watched_rows(a)
     lines = [f"{a.design.name or '(unnamed design)'}  [{path}]"]
     lines += [f"  {k:<18} {val}" for k, val in rows]
     for title, items in (("findings", a.findings), ("cautions", a.cautions)):
@@ -46,6 +49,22 @@ def _analysis_table(path: str, a: Analysis) -> str:
             lines.append(f"  {title}:")
             lines += [f"    - {item}" for item in items]
     return "\n".join(lines)
+
+
+def _watched_rows(a: Analysis) -> list[tuple[str, str]]:
+    """The points in the watched quantity, each with the volts point it comes from."""
+    w, unit = a.watched, a.watched_unit or ""
+    assert w is not None
+    stage_up, stage_low = ("upper", "lower") if w.rises else ("lower", "upper")
+    rising = a.watched_rising_output
+    falling = "low" if rising == "high" else "high"
+    return [
+        ("watched upper", f"{format_watched(w.upper, unit)}  (the stage's {stage_up} point; "
+                          f"rising through it sets the output {rising})"),
+        ("watched lower", f"{format_watched(w.lower, unit)}  (the stage's {stage_low} point; "
+                          f"falling through it sets the output {falling})"),
+        ("watched hysteresis", format_watched(w.hysteresis, unit)),
+    ]
 
 
 def _for_each_file(paths: Sequence[str], work: Callable[[str, Design], object]) -> tuple[list, int]:
