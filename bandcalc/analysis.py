@@ -1,12 +1,27 @@
-"""Analysis of one design: switching points, levels, currents, power and plain-sentence findings."""
+"""Analysis of one design: switching points, levels, currents, power and plain-sentence findings.
+
+With a front end (a divider or sensor ahead of the stage, :mod:`bandcalc.frontend`) the stage is
+analysed as it sees the front end at each switching point (:func:`bandcalc.watched.stage_design`)
+and both points are reported in the watched quantity as well as in volts.
+"""
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, replace
 
 from .design import Design, DividerReference, OpenDrain
+from .frontend import SELF_HEATING_LIMIT, ThermistorFrontEnd
 from .network import Nodes, node_voltages, parameters, switching_points
-from .units import format_si
+from .units import format_si, format_value
+from .watched import (
+    WatchedPoints,
+    front_end_power,
+    stage_design,
+    volts_for,
+    watched_points,
+    watched_range,
+)
 
 __all__ = [
     "HAZARD_VOLTS",
@@ -48,7 +63,7 @@ def branch_currents(design: Design, nodes: Nodes, signal: float, state: str) -> 
     cur: dict[str, float] = {}
     if r.input is not None:
         cur["input"] = ((signal - plus) / (r.input + design.source.resistance) if not design.inverting
-                        else -design.comparator.bias_current)
+                        else design.comparator.bias_current)
     cur["feedback"] = (float(nodes.output) - plus) / r.feedback
     far = {"to_positive": vp, "to_negative": vn, "to_ground": 0.0, "to_reference": float(nodes.reference)}
     for key, volts in far.items():
@@ -112,10 +127,42 @@ class Analysis:
     power: dict[str, float]
     findings: tuple[str, ...]
     cautions: tuple[str, ...]
+    watched: WatchedPoints | None = None  # with a front end: the points in the watched quantity
 
     @property
     def hysteresis(self) -> float:
         return self.upper - self.lower
+
+    @property
+    def upper_watched(self) -> float | None:
+        """The higher watched switching point (front end's unit); None without a front end.
+
+        It is the stage's upper point in volts where the source voltage rises with the watched
+        quantity (``watched_direction == "rises"``), its lower point where it falls.
+        """
+        return None if self.watched is None else float(self.watched.upper)
+
+    @property
+    def lower_watched(self) -> float | None:
+        """The lower watched switching point; None without a front end."""
+        return None if self.watched is None else float(self.watched.lower)
+
+    @property
+    def watched_unit(self) -> str | None:
+        return None if self.watched is None else self.watched.unit
+
+    @property
+    def watched_direction(self) -> str | None:
+        """"rises" or "falls": how the source voltage moves as the watched quantity rises."""
+        return None if self.watched is None else ("rises" if self.watched.rises else "falls")
+
+    @property
+    def watched_rising_output(self) -> str | None:
+        """Output state once the watched quantity has risen through ``upper_watched``."""
+        if self.watched is None:
+            return None
+        crossed = self.at_upper if self.watched.rises else self.at_lower
+        return "low" if crossed.state == "high" else "high"
 
     @property
     def centre(self) -> float:
@@ -157,11 +204,12 @@ def _findings(design: Design, a: Analysis) -> list[str]:
         out.append(f"No hysteresis: the upper point ({_v(a.upper)}) is not above the lower point "
                    f"({_v(a.lower)}); the output levels must differ and the feedback must reach the + pin.")
     up_state, low_state = a.at_upper.state, a.at_lower.state
-    if a.upper > high:
+    in_volts = a.watched is None  # with a front end, latching is judged in the watched quantity
+    if in_volts and a.upper > high:
         out.append(f"Latches: the upper switching point {_v(a.upper)} is above the highest signal the "
                    f"stage can see ({_v(high)}); a rising signal never switches it, so the output stays "
                    f"{up_state}.")
-    if a.lower < low:
+    if in_volts and a.lower < low:
         out.append(f"Latches: the lower switching point {_v(a.lower)} is below the lowest signal the "
                    f"stage can see ({_v(low)}); once switched, a falling signal never switches it back, "
                    f"so the output stays {low_state}.")
@@ -187,7 +235,8 @@ def _findings(design: Design, a: Analysis) -> list[str]:
                        f"resistor ({format_si(design.resistors.feedback, 'Ohm')}); the output only reaches "
                        f"{_v(a.output_high)} of the {_v(pu_volts)} pull-up supply when high, and that level "
                        f"moves with the feedback load.")
-    for key, ohms in _ohms(design).items():
+    front_end_ohms = {} if a.design.front_end is None else a.design.front_end.resistors()
+    for key, ohms in {**_ohms(design), **front_end_ohms}.items():
         if ohms > LEAKAGE_OHMS:
             out.append(f"High value: {key} is {format_si(ohms, 'Ohm')}, above 1 MOhm; board leakage and "
                        f"bias current start to move the switching points (clean, coated boards help).")
@@ -198,11 +247,45 @@ def _findings(design: Design, a: Analysis) -> list[str]:
     return out
 
 
-def _cautions(design: Design) -> list[str]:
+def _watched_findings(design: Design, a: Analysis) -> list[str]:
+    """Latching in the watched quantity, and the thermistor's self-heating at each point."""
+    w, fe = a.watched, design.front_end
+    assert w is not None and fe is not None
+    low, high = watched_range(design)
+    fmt = lambda x: format_value(x, w.unit)  # noqa: E731
+    out: list[str] = []
+    for name, x, op in (("upper", w.at_stage_upper, a.at_upper), ("lower", w.at_stage_lower, a.at_lower)):
+        x = float(x)
+        where = None
+        if math.isnan(x):
+            where = "at no value of the watched quantity"
+        elif not low <= x <= high:
+            where = f"only at {fmt(x)}, outside the watched range ({fmt(low)} to {fmt(high)})"
+        if where:
+            out.append(f"Latches: the stage reaches its {name} switching point ({_v(op.signal)}) {where}; "
+                       f"once the output is {op.state} it stays {op.state}.")
+    if isinstance(fe, ThermistorFrontEnd):
+        heat = [(front_end_power(design, float(x), op.state)["front_end.thermistor"], float(x))
+                for x, op in ((w.at_stage_upper, a.at_upper), (w.at_stage_lower, a.at_lower))
+                if not math.isnan(float(x))]
+        watts, x = max(heat, default=(0.0, math.nan))
+        rise = watts / fe.dissipation_constant
+        if rise > SELF_HEATING_LIMIT:
+            out.append(f"Self-heating: at its switching points the thermistor dissipates up to "
+                       f"{format_si(watts, 'W')} (at {fmt(x)}); with a dissipation constant of "
+                       f"{format_si(fe.dissipation_constant, 'W/K')} that warms it about {rise:.2g} K above "
+                       f"its surroundings (more than {SELF_HEATING_LIMIT} K), so the points are reached "
+                       f"about that much cooler. A larger fixed resistor or a lower excitation reduces it.")
+    return out
+
+
+def _cautions(design: Design, watched: WatchedPoints | None = None) -> list[str]:
     levels = [design.supply.positive, design.supply.negative, *design.signal_range()]
+    if watched is not None and watched.unit == "V":  # a front end watching a voltage
+        levels += [*watched_range(design), float(watched.upper), float(watched.lower)]
     if isinstance(design.output, OpenDrain) and design.output.pullup_volts is not None:
         levels.append(design.output.pullup_volts)
-    top = max(abs(v) for v in levels)
+    top = max(abs(v) for v in levels if not math.isnan(v))
     if top <= HAZARD_VOLTS:
         return []
     return [f"Hazardous voltage: this design works with up to {_v(top)}. bandcalc is a design aid, not "
@@ -210,17 +293,55 @@ def _cautions(design: Design) -> list[str]:
             f"protective parts where a standard requires them."]
 
 
+def _stage_at(design: Design, x: float, which: str) -> Design:
+    """The stage as it sees the front end at watched value x; where no watched value switches
+    it (x is NaN), at the end of the watched range that comes closest."""
+    if not math.isnan(x):
+        return stage_design(design, x)
+
+    def miss(end: float) -> float:
+        pts = switching_points(stage_design(design, end))
+        return abs(float(getattr(pts, which)) - float(volts_for(design, end)[0]))
+
+    return stage_design(design, min(watched_range(design), key=miss))
+
+
+def _power_with_front_end(design: Design, w: WatchedPoints) -> dict[str, float]:
+    """Worst power in each part, the front end's own included, over the watched range and at
+    both points (the front end's resistance, and so the stage's, may move with the watched value)."""
+    worst: dict[str, float] = {}
+    xs = [*watched_range(design), *(float(x) for x in (w.at_stage_upper, w.at_stage_lower))]
+    for x in (x for x in xs if not math.isnan(x)):
+        parts = [_worst_power(stage_design(design, x))]
+        parts += [front_end_power(design, x, state) for state in ("high", "low")]
+        for part in parts:
+            for key, watts in part.items():
+                worst[key] = max(worst.get(key, 0.0), watts)
+    worst.pop("front_end.thermistor", None)  # its heating is judged at the points (findings)
+    return worst
+
+
 def analyze(design: Design) -> Analysis:
-    """Analyse one design at its nominal values."""
-    pts = switching_points(design)
-    upper, lower = float(pts.upper), float(pts.lower)
-    at_upper = _operating_point(design, upper, "high" if design.inverting else "low", pts.at_upper)
-    at_lower = _operating_point(design, lower, "low" if design.inverting else "high", pts.at_lower)
+    """Analyse one design at its nominal values (with a front end, also in the watched quantity)."""
+    watched = None if design.front_end is None else watched_points(design)
+    if watched is None:
+        stage_up = stage_low = design
+    else:
+        stage_up = _stage_at(design, float(watched.at_stage_upper), "upper")
+        stage_low = _stage_at(design, float(watched.at_stage_lower), "lower")
+    pts_up, pts_low = switching_points(stage_up), switching_points(stage_low)
+    upper, lower = float(pts_up.upper), float(pts_low.lower)
+    at_upper = _operating_point(stage_up, upper, "high" if design.inverting else "low", pts_up.at_upper)
+    at_lower = _operating_point(stage_low, lower, "low" if design.inverting else "high", pts_low.at_lower)
     by_state = {at_upper.state: at_upper.output, at_lower.state: at_lower.output}
+    power = _worst_power(design) if watched is None else _power_with_front_end(design, watched)
     partial = Analysis(design=design, upper=upper, lower=lower, output_high=by_state["high"],
                        output_low=by_state["low"], at_upper=at_upper, at_lower=at_lower,
-                       power=_worst_power(design), findings=(), cautions=())
-    return replace(partial, findings=tuple(_findings(design, partial)), cautions=tuple(_cautions(design)))
+                       power=power, findings=(), cautions=(), watched=watched)
+    findings = _findings(stage_up, partial)
+    if watched is not None:
+        findings += _watched_findings(design, partial)
+    return replace(partial, findings=tuple(findings), cautions=tuple(_cautions(design, watched)))
 
 
 def analysis_to_dict(a: Analysis) -> dict:
@@ -230,7 +351,13 @@ def analysis_to_dict(a: Analysis) -> dict:
         return {"signal": op.signal, "output_state": op.state, "plus_pin": op.plus, "minus_pin": op.minus,
                 "output": op.output, "currents": op.currents, "rail_currents": op.rails}
 
-    return {"name": a.design.name, "stage": a.design.stage, "upper": a.upper, "lower": a.lower,
-            "hysteresis": a.hysteresis, "centre": a.centre, "output_high": a.output_high,
-            "output_low": a.output_low, "at_upper": point(a.at_upper), "at_lower": point(a.at_lower),
-            "power": a.power, "warnings": list(a.findings), "cautions": list(a.cautions)}
+    out = {"name": a.design.name, "stage": a.design.stage, "upper": a.upper, "lower": a.lower,
+           "hysteresis": a.hysteresis, "centre": a.centre, "output_high": a.output_high,
+           "output_low": a.output_low, "at_upper": point(a.at_upper), "at_lower": point(a.at_lower),
+           "power": a.power, "warnings": list(a.findings), "cautions": list(a.cautions)}
+    if a.watched is not None:
+        finite = lambda x: x if x is not None and math.isfinite(x) else None  # noqa: E731
+        out |= {"upper_watched": finite(a.upper_watched), "lower_watched": finite(a.lower_watched),
+                "watched_unit": a.watched_unit, "watched_direction": a.watched_direction,
+                "watched_rising_output": a.watched_rising_output}
+    return out

@@ -18,9 +18,9 @@ import numpy as np
 from . import __version__
 from .analysis import Analysis, analysis_to_dict, analyze
 from .design import Design, load_design
-from .signal import run_design
+from .signal import design_points, run_design
 from .sweep import sweep_design
-from .units import format_si
+from .units import format_si, format_value
 from .waveform import synthesize
 
 __all__ = ["main"]
@@ -45,6 +45,8 @@ def _analysis_table(path: str, a: Analysis) -> str:
         ("output high / low", f"{v(a.output_high)} / {v(a.output_low)}"),
         ("network current", format_si(a.network_current, "A")),
     ]
+    if a.watched is not None:
+        rows[1:1] = _watched_rows(a)
     lines = [f"{a.design.name or '(unnamed design)'}  [{path}]"]
     lines += [f"  {k:<18} {val}" for k, val in rows]
     for title, items in (("findings", a.findings), ("cautions", a.cautions)):
@@ -52,6 +54,22 @@ def _analysis_table(path: str, a: Analysis) -> str:
             lines.append(f"  {title}:")
             lines += [f"    - {item}" for item in items]
     return "\n".join(lines)
+
+
+def _watched_rows(a: Analysis) -> list[tuple[str, str]]:
+    """The points in the watched quantity, each with the volts point it comes from."""
+    w, unit = a.watched, a.watched_unit or ""
+    assert w is not None
+    stage_up, stage_low = ("upper", "lower") if w.rises else ("lower", "upper")
+    rising = a.watched_rising_output
+    falling = "low" if rising == "high" else "high"
+    return [
+        ("watched upper", f"{format_value(w.upper, unit)}  (the stage's {stage_up} point; "
+                          f"rising through it sets the output {rising})"),
+        ("watched lower", f"{format_value(w.lower, unit)}  (the stage's {stage_low} point; "
+                          f"falling through it sets the output {falling})"),
+        ("watched hysteresis", format_value(w.hysteresis, unit)),
+    ]
 
 
 def _for_each_file(paths: Sequence[str], work: Callable[[str, Design], object]) -> tuple[list, int]:
@@ -87,19 +105,19 @@ def _cmd_analyze(args: argparse.Namespace) -> int:
 
 def _synthetic(args: argparse.Namespace, design: Design):
     """The synthetic signal of the options; offset and amplitude default to the design's band."""
-    a = analyze(design)
-    offset = a.centre if args.offset is None else args.offset
-    amplitude = a.hysteresis if args.amplitude is None else args.amplitude
+    upper, lower, _ = design_points(design)
+    offset = 0.5 * (upper + lower) if args.offset is None else args.offset
+    amplitude = upper - lower if args.amplitude is None else args.amplitude
     return synthesize(args.shape, offset, amplitude, args.frequency, args.duration, args.rate,
                       noise_rms=args.noise, hum_amplitude=args.hum, hum_frequency=args.hum_frequency,
                       seed=args.seed)
 
 
-def _signal_dict(run, sweep) -> dict:
+def _signal_dict(run, sweep, unit: str) -> dict:
     delays = run.edge_delays
     finite = delays[np.isfinite(delays)] if delays is not None else np.array([])
     out = {
-        "upper": run.upper, "lower": run.lower, "edges": run.edge_count,
+        "unit": unit, "upper": run.upper, "lower": run.lower, "edges": run.edge_count,
         "edge_times": run.edge_times.tolist(), "edge_directions": run.edge_directions.tolist(),
         "clean_edges": run.clean_edge_count, "extra_edges": run.extra_edges, "missed": run.missed_count,
         "delay_mean": float(finite.mean()) if finite.size else None,
@@ -116,13 +134,15 @@ def _signal_dict(run, sweep) -> dict:
 
 
 def _signal_table(path: str, d: dict) -> str:
-    v = lambda x: format_si(x, "V", 4)  # noqa: E731
+    v = lambda x: format_value(x, d["unit"])  # noqa: E731
     s = lambda x: "n/a" if x is None else format_si(x, "s")  # noqa: E731
     rows = [("points", f"{v(d['upper'])} / {v(d['lower'])}"),
             ("edges", f"{d['edges']} (noise-free signal: {d['clean_edges']})"),
             ("delay mean / max", f"{s(d['delay_mean'])} / {s(d['delay_max'])}"),
             ("output high", f"{100 * d['output_high_fraction']:.1f} % of the time"),
             ("noise", f"{v(d['noise_rms'])} RMS, about {v(d['noise_peak_to_peak'])} peak-to-peak")]
+    if d["unit"] != "V":
+        rows.insert(0, ("signal", f"the watched quantity, in {d['unit']}"))
     if "sweep" in d:
         best = d["sweep"]["best_width"]
         rows.append(("narrowest clean width", "none in the sweep" if best is None else
@@ -145,7 +165,8 @@ def _cmd_signal(args: argparse.Namespace) -> int:
 
     def work(path: str, design: Design) -> object:
         wave = recorded if recorded is not None else _synthetic(args, design)
-        d = _signal_dict(run_design(design, wave), sweep_design(design, wave) if args.sweep else None)
+        unit = design.front_end.unit if design.front_end is not None else "V"
+        d = _signal_dict(run_design(design, wave), sweep_design(design, wave) if args.sweep else None, unit)
         return {"file": path, **d} if args.json else _signal_table(path, d)
 
     results, status = _for_each_file([args.file], work)
@@ -211,4 +232,8 @@ def _parser() -> argparse.ArgumentParser:
 def main(argv: Sequence[str] | None = None) -> int:
     """Entry point; returns the exit status."""
     args = _parser().parse_args(argv)
-    return args.run(args)
+    try:
+        return args.run(args)
+    except BrokenPipeError:  # output piped into a reader that stopped early (| head)
+        sys.stderr.close()
+        return 0

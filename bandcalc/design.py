@@ -11,9 +11,12 @@ import json
 import math
 from dataclasses import dataclass, field, fields
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from .units import UnitError, parse_quantity, parse_resistance
+
+if TYPE_CHECKING:
+    from .frontend import FrontEnd
 
 __all__ = [
     "FORMAT",
@@ -222,6 +225,7 @@ class Design:
     reference: FixedReference | DividerReference | None = None
     comparator: Comparator = field(default_factory=Comparator)
     source: Source = field(default_factory=Source)
+    front_end: FrontEnd | None = None  # bandcalc.frontend: divider or sensor ahead of the signal
     name: str = ""
     notes: str = ""
 
@@ -242,6 +246,8 @@ class Design:
                 and self.output.low_volts is not None
                 and self.output.pullup_volts <= self.output.low_volts):
             raise DesignError("output: pullup_volts must be above low_volts")
+        if self.front_end is not None:
+            self.front_end.check_stage(self)
 
     @property
     def inverting(self) -> bool:
@@ -258,6 +264,7 @@ class Design:
 
 _TOP_KEYS = ("format", "name", "notes", "stage", "supply", "reference", "resistors", "output",
              "comparator", "source")
+_TOP_KEYS += ("front_end",)  # the section lives in bandcalc.frontend
 _UNITS = {"volts": "V", "offset": "V", "bias_current": "A", "delay": "s", "load_capacitance": "F",
           "high_drop": "V", "low_drop": "V", "pullup_volts": "V", "low_volts": "V",
           "positive": "V", "negative": "V", "common_mode_low": "V", "common_mode_high": "V",
@@ -332,6 +339,12 @@ def _plain_section(cls: type, data: Any, key: str, required: tuple[str, ...] = (
     return cls(**_values(_section(data, key, allowed, required), key))
 
 
+def _front_end_from(data: Any) -> FrontEnd | None:
+    from .frontend import front_end_from_dict  # here: bandcalc.frontend builds on this module
+
+    return front_end_from_dict(data)
+
+
 def design_from_dict(data: Any) -> Design:
     """Build a validated Design from the JSON shape; raise DesignError naming the key at fault."""
     data = _section(data, "design", _TOP_KEYS, ("format", "stage", "supply", "resistors"))
@@ -350,6 +363,7 @@ def design_from_dict(data: Any) -> Design:
         reference=_reference_from(data.get("reference")),
         comparator=_plain_section(Comparator, data.get("comparator"), "comparator"),
         source=_plain_section(Source, data.get("source"), "source"),
+        front_end=_front_end_from(data.get("front_end")),
         name=data.get("name", ""),
         notes=data.get("notes", ""),
     )
@@ -371,6 +385,8 @@ def design_to_dict(design: Design) -> dict:
     out["output"] = {"kind": design.output.kind, **_dropping_none(design.output)}
     out["comparator"] = _dropping_none(design.comparator)
     out["source"] = _dropping_none(design.source)
+    if design.front_end is not None:
+        out["front_end"] = design.front_end.to_dict()
     return out
 
 

@@ -13,7 +13,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from bandcalc._checks import real
-from bandcalc.units import format_si
+from bandcalc.units import format_value
 from bandcalc.waveform import Waveform
 
 __all__ = [
@@ -99,12 +99,12 @@ def noise_level(wave: Waveform, rms: float | None = None) -> NoiseLevel:
                       "estimated from sample-to-sample differences")
 
 
-def _v(x: float) -> str:
-    return format_si(x, "V")
+def hysteresis_noise_finding(width: float, noise: NoiseLevel, unit: str = "V") -> str:
+    """One sentence comparing the hysteresis ``width`` with the noise, both in ``unit``."""
 
+    def _v(x: float) -> str:
+        return format_value(x, unit, 3)
 
-def hysteresis_noise_finding(width: float, noise: NoiseLevel) -> str:
-    """One sentence comparing the hysteresis ``width`` (V) with the noise."""
     if noise.rms == 0.0:
         return (f"No noise found on the input ({noise.source}); a hysteresis of "
                 f"{_v(width)} gives one edge per crossing.")

@@ -36,6 +36,7 @@ __all__ = [
     "find_edges",
     "input_edges",
     "missed_transitions",
+    "design_points",
     "output_rise_time",
     "pullup_rise_time",
     "run_design",
@@ -343,7 +344,7 @@ class SignalRun:
 
 def run_stage(wave: Waveform, upper: float, lower: float, *, inverting: bool = False,
               delay: float = 0.0, rise_time: float = 0.0,
-              noise_rms: float | None = None) -> SignalRun:
+              noise_rms: float | None = None, unit: str = "V") -> SignalRun:
     """Run ``wave`` through a stage switching at ``upper`` and ``lower``.
 
     Parameters
@@ -362,6 +363,8 @@ def run_stage(wave: Waveform, upper: float, lower: float, *, inverting: bool = F
     noise_rms : float, optional
         Known input noise RMS, in V; else measured or estimated, see
         :func:`bandcalc.noise.noise_level`.
+    unit : str
+        Unit of the input and the points ("V", or a front end's watched unit such as "C").
 
     Returns
     -------
@@ -374,7 +377,7 @@ def run_stage(wave: Waveform, upper: float, lower: float, *, inverting: bool = F
     noisy = input_edges(wave, upper, lower)
     times = noisy.times(inverting, delay, rise_time)
     noise = noise_level(wave, noise_rms)
-    findings = [hysteresis_noise_finding(upper - lower, noise)]
+    findings = [hysteresis_noise_finding(upper - lower, noise, unit)]
     clean_edges = clean_crossings = missed = delays = None
     if wave.clean is not None:
         clean_switch = find_edges(wave.t, wave.clean, upper, lower).switch_times
@@ -410,15 +413,31 @@ def output_rise_time(design: Design) -> float:
     return 0.0
 
 
+def design_points(design: Design) -> tuple[float, float, bool]:
+    """Upper and lower points and the inverting flag for a signal run of a design.
+
+    Without a front end the signal is the stage's source voltage (volts).  With one, the signal
+    is the watched quantity itself (battery volts, degrees C, kPa): the points are the watched
+    points, and where the source voltage falls as the watched quantity rises (a thermistor on
+    the bottom of its divider) the output sense flips.
+    """
+    a = analyze(design)
+    if a.watched is None:
+        return a.upper, a.lower, design.inverting
+    flips = not a.watched.rises
+    return float(a.upper_watched), float(a.lower_watched), design.inverting != flips
+
+
 def run_design(design: Design, wave: Waveform, *, noise_rms: float | None = None) -> SignalRun:
-    """Run ``wave`` (volts at the stage's signal source) through a design's switching points.
+    """Run ``wave`` through a design's switching points (see :func:`design_points`).
 
     The points come from the full stage model; the comparator's propagation delay and, for an
     open-drain output, the pull-up rise time into the output's load capacitance are added.
     """
-    a = analyze(design)
-    if not a.hysteresis > 0:
-        raise ValueError("signal: the design has no hysteresis (upper point not above lower); "
-                         "fix the stage first")
-    return run_stage(wave, a.upper, a.lower, inverting=design.inverting, delay=design.comparator.delay,
-                     rise_time=output_rise_time(design), noise_rms=noise_rms)
+    upper, lower, inverting = design_points(design)
+    if not upper > lower:
+        raise ValueError("signal: the design has no hysteresis (upper point not above lower, or a "
+                         "point the watched quantity cannot reach); fix the stage first")
+    return run_stage(wave, upper, lower, inverting=inverting, delay=design.comparator.delay,
+                     rise_time=output_rise_time(design), noise_rms=noise_rms,
+                     unit=design.front_end.unit if design.front_end is not None else "V")

@@ -13,11 +13,11 @@ from dataclasses import dataclass
 import numpy as np
 
 from bandcalc._checks import real
-from bandcalc.analysis import analyze
 from bandcalc.design import Design
 from bandcalc.noise import noise_level
 from bandcalc.signal import (
     centre_crossings,
+    design_points,
     edge_delays,
     find_edges,
     input_edges,
@@ -171,14 +171,14 @@ def hysteresis_sweep(wave: Waveform, centre: float, widths: object, *,
 
 
 def sweep_design(design: Design, wave: Waveform, widths: object | None = None) -> Sweep:
-    """Sweep the hysteresis width about the design's own centre.
+    """Sweep the hysteresis width about the design's own centre (see ``signal.design_points``).
 
     Default widths: 81 steps from 0 to twice the larger of the design's hysteresis and the
     noise's peak-to-peak (6.6 x RMS, see :mod:`bandcalc.noise`).
     """
-    a = analyze(design)
+    upper, lower, inverting = design_points(design)
     if widths is None:
-        top = 2.0 * max(a.hysteresis, noise_level(wave).peak_to_peak, 1e-6)
+        top = 2.0 * max(upper - lower, noise_level(wave).peak_to_peak, 1e-6)
         widths = np.linspace(0.0, top, 81)
-    return hysteresis_sweep(wave, a.centre, widths, inverting=design.inverting,
+    return hysteresis_sweep(wave, 0.5 * (upper + lower), widths, inverting=inverting,
                             delay=design.comparator.delay, rise_time=output_rise_time(design))

@@ -14,6 +14,7 @@ __all__ = [
     "UnitError",
     "format_code",
     "format_si",
+    "format_value",
     "parse_quantity",
     "parse_resistance",
 ]
@@ -140,6 +141,20 @@ def format_si(value: float, unit: str, digits: int = 3) -> str:
     scaled = _round(mag / 10.0**exponent, digits)
     sign = "-" if value < 0 else ""
     return f"{sign}{_plain(scaled, digits)} {prefix}{unit}".rstrip()
+
+
+# Units that take SI prefixes; any other unit (C, kPa, %) prints as a plain figure.
+SI_UNITS = ("V", "A", "Ohm", "s", "F", "W", "Hz")
+
+
+def format_value(value: float, unit: str, digits: int = 4) -> str:
+    """A value for people: SI prefixes for SI units ("2.95 V"), plain figures otherwise ("32.01 C")."""
+    value = float(value)
+    if unit in SI_UNITS:
+        return format_si(value, unit, digits)
+    if not math.isfinite(value):
+        return "n/a" if math.isnan(value) else f"{'+' if value > 0 else '-'}inf {unit}"
+    return f"{_plain(_round(value, digits), max(digits, 12))} {unit}".strip()
 
 
 def format_code(ohms: float, digits: int = 3) -> str:

@@ -70,3 +70,18 @@ def test_signal_command_reads_a_recorded_csv(tmp_path, capsys):
     wave.write_text("time;volts\n" + "\n".join(rows) + "\n")
     assert main(["signal", str(DEMO / "sump_level_switch.json"), "--csv", str(wave), "--json"]) == 0
     assert json.loads(capsys.readouterr().out)["edges"] == 9
+
+
+def test_front_end_design_runs_in_the_watched_quantity(capsys):
+    # A thermistor on the bottom of its divider: the source voltage falls as temperature rises,
+    # so the inverting stage reads as non-inverting in degrees C (warmer -> output high).
+    d = load_design(DEMO / "greenhouse_fan_thermostat.json")
+    a = analyze(d)
+    wave = synthesize("sine", a.watched.centre, 6.0, 0.01, 200.0, 50.0)
+    run = run_design(d, wave)
+    assert (run.upper, run.lower) == pytest.approx((a.upper_watched, a.lower_watched))
+    assert not run.inverting
+    assert " C " in run.findings[0] and " V " not in run.findings[0]
+    assert main(["signal", str(DEMO / "greenhouse_fan_thermostat.json"), "--json", "--frequency", "0.01",
+                 "--duration", "200", "--rate", "50"]) == 0
+    assert json.loads(capsys.readouterr().out)["unit"] == "C"

@@ -1,0 +1,440 @@
+"""Front ends: the divider or sensor ahead of the stage, so switching points read in the watched quantity.
+
+A designer states "disconnect below 11.6 V of battery" or "fan on at 32 C", not comparator-pin
+volts.  A front end maps the watched quantity x (in its own unit: V, C, kPa, ...) to the source
+the stage sees: an open-circuit voltage behind a resistance (its Thevenin equivalent).  That
+resistance is in series with ``source.resistance`` (whatever lies between the front end and the
+stage: a protection or filter resistor), so the stage's signal leg is
+``source.resistance + R_th(x)``.
+
+``DividerFrontEnd``     measured voltage -> ``top`` -> node -> ``bottom`` -> ground (0 V).
+``ThermistorFrontEnd``  an NTC thermistor and a ``fixed`` resistor in a divider between an
+                        excitation (the positive rail, the fixed reference, or a voltage) and
+                        ground; Beta model or Steinhart-Hart coefficients.
+``LinearFrontEnd``      a sensor with a linear output, ``offset + volts_per_unit * x`` behind
+                        ``resistance`` (e.g. a pressure sensor on a fixed supply).
+
+Watched values are in the front end's ``unit``; temperatures in degrees Celsius, as the trade
+states them and as the design file stores them; the thermistor models themselves take kelvin.
+Each front end describes itself to the solver (:mod:`bandcalc.watched`) by a coordinate t in
+which its Thevenin voltage and resistance are both affine: ``ends(p)`` gives (V, R) at t = 0
+and t = 1, ``coordinate`` maps x to t and ``watched`` maps t back.  This module holds the
+parts, their models and their design-file section; :mod:`bandcalc.watched` solves the stage.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from dataclasses import MISSING, dataclass, fields
+from typing import Any, ClassVar
+
+import numpy as np
+
+from .design import Design, DesignError, FixedReference, _finite, _positive, _section
+from .units import UnitError, parse_quantity, parse_resistance
+
+__all__ = [
+    "DISSIPATION_CONSTANT",
+    "EXCITATIONS",
+    "KELVIN_AT_0C",
+    "KELVIN_AT_25C",
+    "POSITIONS",
+    "SELF_HEATING_LIMIT",
+    "THERMISTOR_RANGE",
+    "DividerFrontEnd",
+    "FrontEnd",
+    "LinearFrontEnd",
+    "ThermistorFrontEnd",
+    "beta_resistance",
+    "beta_temperature",
+    "front_end_from_dict",
+    "front_end_tolerances",
+    "steinhart_hart_resistance",
+    "steinhart_hart_temperature",
+]
+
+ArrayLike = float | np.ndarray
+
+KELVIN_AT_0C = 273.15
+KELVIN_AT_25C = 298.15
+# Dissipation constant of a small epoxy-bead NTC probe in still air: data sheets commonly list
+# about 1 to 2 mW/K (typical data-sheet value, from memory); give the part's own figure.
+DISSIPATION_CONSTANT = 1.5e-3
+# Our choice: flag self-heating above a tenth of a kelvin, well inside the +/-0.2 K to +/-1 K
+# interchangeability that NTC probes are commonly sold with (common practice).
+SELF_HEATING_LIMIT = 0.1
+# Default watched range of a thermistor, C: the -55 to +150 C that NTC parts are commonly
+# rated over (common practice); give front_end.low / high for the application's own range.
+THERMISTOR_RANGE = (-55.0, 150.0)
+
+
+# --- thermistor models (kelvin and ohms) ------------------------------------------------------
+
+def beta_resistance(r25: ArrayLike, beta: ArrayLike, kelvin: ArrayLike) -> ArrayLike:
+    """Beta model: R(T) = R25 exp(B (1/T - 1/298.15 K)), ohms."""
+    return r25 * np.exp(beta * (1.0 / np.asarray(kelvin, dtype=float) - 1.0 / KELVIN_AT_25C))
+
+
+def beta_temperature(r25: ArrayLike, beta: ArrayLike, ohms: ArrayLike) -> ArrayLike:
+    """Inverse of :func:`beta_resistance`: temperature in kelvin (NaN where there is none)."""
+    with np.errstate(divide="ignore", invalid="ignore"):
+        inverse = 1.0 / KELVIN_AT_25C + np.log(np.asarray(ohms, dtype=float) / r25) / beta
+        return np.where(inverse > 0, 1.0 / inverse, np.nan)
+
+
+def steinhart_hart_temperature(coefficients: tuple[float, float, float], ohms: ArrayLike) -> ArrayLike:
+    """Steinhart-Hart: 1/T = A + B ln R + C (ln R)^3; temperature in kelvin."""
+    a, b, c = coefficients
+    with np.errstate(divide="ignore", invalid="ignore"):
+        y = np.log(np.asarray(ohms, dtype=float))
+        inverse = a + b * y + c * y**3
+        return np.where(inverse > 0, 1.0 / inverse, np.nan)
+
+
+def steinhart_hart_resistance(coefficients: tuple[float, float, float], kelvin: ArrayLike) -> ArrayLike:
+    """Inverse of :func:`steinhart_hart_temperature`: resistance in ohms at ``kelvin``.
+
+    Solves C y^3 + B y + (A - 1/T) = 0 for y = ln R by Cardano's formula (one real root for
+    B > 0, C >= 0), then one Newton step to recover the digits the formula loses.
+    """
+    a, b, c = coefficients
+    g = a - 1.0 / np.asarray(kelvin, dtype=float)
+    if c == 0:
+        return np.exp(-g / b)
+    p, q = b / c, g / c
+    root = np.sqrt(0.25 * q * q + p**3 / 27.0)
+    y = np.cbrt(-0.5 * q + root) + np.cbrt(-0.5 * q - root)
+    y = y - (c * y**3 + b * y + g) / (3.0 * c * y * y + b)
+    return np.exp(y)
+
+
+# --- the front ends -----------------------------------------------------------------------------
+
+def _range_checked(low: float | None, high: float | None) -> None:
+    for key, value in (("low", low), ("high", high)):
+        if value is not None:
+            _finite(value, f"front_end.{key}")
+    if low is not None and high is not None and low >= high:
+        raise DesignError(f"front_end: low ({low}) must be below high ({high})")
+
+
+class _Base:
+    """What every front end shares: its file shape and the checks against the stage."""
+
+    kind: ClassVar[str]
+    affine: ClassVar[bool]
+    low: float | None
+    high: float | None
+
+    def to_dict(self) -> dict:
+        """The design-file shape of the front end (None fields left out)."""
+        out: dict[str, Any] = {"kind": self.kind}
+        for f in fields(self):  # type: ignore[arg-type]
+            value = getattr(self, f.name)
+            if value is not None:
+                out[f.name] = list(value) if isinstance(value, tuple) else value
+        return out
+
+    def resistors(self) -> dict[str, float]:
+        """The front end's fixed resistors (ohms), keyed by parameter name."""
+        return {}
+
+    def check_stage(self, design: Design) -> None:
+        """Refuse a stage that does not fit this front end; called when the Design is built."""
+        for key in ("low", "high"):
+            if getattr(design.source, key) is not None:
+                raise DesignError(f"source.{key}: with a front end, give the range of the watched "
+                                  f"quantity as front_end.low / front_end.high instead")
+
+
+@dataclass(frozen=True)
+class DividerFrontEnd(_Base):
+    """A measured voltage through ``top`` (ohms) to the stage, ``bottom`` (ohms) to ground.
+
+    ``low`` / ``high``: the range the measured voltage reaches (V; default: what maps to the rails).
+    """
+
+    top: float
+    bottom: float
+    low: float | None = None
+    high: float | None = None
+
+    kind: ClassVar[str] = "divider"
+    unit: ClassVar[str] = "V"
+    rises: ClassVar[bool] = True
+    affine: ClassVar[bool] = True  # fixed resistance: the switching condition is affine in x
+
+    def __post_init__(self) -> None:
+        _positive(self.top, "front_end.top")
+        _positive(self.bottom, "front_end.bottom")
+        _range_checked(self.low, self.high)
+
+    def parameters(self) -> dict[str, float]:
+        return {"front_end.top": self.top, "front_end.bottom": self.bottom}
+
+    def resistors(self) -> dict[str, float]:
+        return self.parameters()
+
+    def ends(self, p: Mapping[str, ArrayLike]) -> tuple[ArrayLike, ...]:
+        """(V0, V1, R0, R1): the Thevenin equivalent at coordinate 0 and 1 (here, volts watched)."""
+        top, bottom = p["front_end.top"], p["front_end.bottom"]
+        return 0.0, bottom / (top + bottom), top * bottom / (top + bottom), top * bottom / (top + bottom)
+
+    def coordinate(self, p: Mapping[str, ArrayLike], x: ArrayLike) -> ArrayLike:
+        return np.asarray(x, dtype=float)
+
+    def watched(self, p: Mapping[str, ArrayLike], t: ArrayLike) -> ArrayLike:
+        return np.asarray(t, dtype=float)
+
+
+@dataclass(frozen=True)
+class LinearFrontEnd(_Base):
+    """A sensor whose output is ``offset + volts_per_unit * x`` volts behind ``resistance`` ohms."""
+
+    volts_per_unit: float
+    unit: str
+    offset: float = 0.0
+    resistance: float = 0.0
+    low: float | None = None
+    high: float | None = None
+
+    kind: ClassVar[str] = "linear"
+    affine: ClassVar[bool] = True
+
+    def __post_init__(self) -> None:
+        _finite(self.volts_per_unit, "front_end.volts_per_unit")
+        if self.volts_per_unit == 0:
+            raise DesignError("front_end.volts_per_unit: must not be zero")
+        _finite(self.offset, "front_end.offset")
+        _finite(self.resistance, "front_end.resistance")
+        if self.resistance < 0:
+            raise DesignError(f"front_end.resistance: must be zero or more, got {self.resistance!r}")
+        if not isinstance(self.unit, str) or not self.unit.strip():
+            raise DesignError("front_end.unit: give the watched quantity's unit as text, e.g. \"kPa\"")
+        _range_checked(self.low, self.high)
+
+    @property
+    def rises(self) -> bool:
+        return self.volts_per_unit > 0
+
+    def parameters(self) -> dict[str, float]:
+        return {"front_end.volts_per_unit": self.volts_per_unit, "front_end.offset": self.offset,
+                "front_end.resistance": self.resistance}
+
+    def ends(self, p: Mapping[str, ArrayLike]) -> tuple[ArrayLike, ...]:
+        off, r = p["front_end.offset"], p["front_end.resistance"]
+        return off, off + p["front_end.volts_per_unit"], r, r
+
+    def coordinate(self, p: Mapping[str, ArrayLike], x: ArrayLike) -> ArrayLike:
+        return np.asarray(x, dtype=float)
+
+    def watched(self, p: Mapping[str, ArrayLike], t: ArrayLike) -> ArrayLike:
+        return np.asarray(t, dtype=float)
+
+
+POSITIONS = ("bottom", "top")
+EXCITATIONS = ("positive", "reference")
+
+
+@dataclass(frozen=True)
+class ThermistorFrontEnd(_Base):
+    """An NTC thermistor and a ``fixed`` resistor (ohms) in a divider from an excitation to ground.
+
+    Give ``r25`` (ohms) and ``beta`` (K), or ``steinhart_hart`` (A, B, C with R in ohms, T in
+    kelvin).  ``position``: where the thermistor sits ("bottom": node to ground, so the voltage
+    falls as the temperature rises; "top": excitation to node).  ``excitation``: "positive" (the
+    positive rail), "reference" (``reference.volts``) or a voltage.  ``dissipation_constant``
+    (W/K) sizes the self-heating; ``r25_tolerance`` and ``beta_tolerance`` are percent; ``low``
+    and ``high`` the temperature range watched, C.
+    """
+
+    fixed: float
+    r25: float | None = None
+    beta: float | None = None
+    steinhart_hart: tuple[float, float, float] | None = None
+    position: str = "bottom"
+    excitation: str | float = "positive"
+    dissipation_constant: float = DISSIPATION_CONSTANT
+    r25_tolerance: float | None = None
+    beta_tolerance: float | None = None
+    low: float | None = None
+    high: float | None = None
+
+    kind: ClassVar[str] = "thermistor"
+    unit: ClassVar[str] = "C"
+    affine: ClassVar[bool] = False  # its resistance moves with temperature
+
+    def __post_init__(self) -> None:
+        _positive(self.fixed, "front_end.fixed")
+        if self.steinhart_hart is None:
+            if self.r25 is None or self.beta is None:
+                raise DesignError("front_end: give the thermistor as r25 and beta, "
+                                  "or as steinhart_hart [A, B, C]")
+            _positive(self.r25, "front_end.r25")
+            _positive(self.beta, "front_end.beta")
+        else:
+            if self.r25 is not None or self.beta is not None or self.beta_tolerance is not None:
+                raise DesignError("front_end.steinhart_hart: give either steinhart_hart or r25 and beta "
+                                  "(with beta_tolerance), not both")
+            sh = self.steinhart_hart
+            if not isinstance(sh, (tuple, list)) or len(sh) != 3:
+                raise DesignError("front_end.steinhart_hart: give three coefficients [A, B, C]")
+            for name, value in zip("ABC", sh, strict=True):
+                _finite(value, f"front_end.steinhart_hart {name}")
+            if not (sh[1] > 0 and sh[2] >= 0):
+                raise DesignError("front_end.steinhart_hart: an NTC thermistor needs B > 0 and C >= 0")
+            object.__setattr__(self, "steinhart_hart", tuple(float(v) for v in sh))
+        if self.position not in POSITIONS:
+            raise DesignError(f"front_end.position: {self.position!r} is not a position; "
+                              f"allowed: {', '.join(POSITIONS)}")
+        if isinstance(self.excitation, str):
+            if self.excitation not in EXCITATIONS:
+                raise DesignError(f"front_end.excitation: {self.excitation!r} is not allowed; give "
+                                  f"\"positive\", \"reference\" or a voltage")
+        else:
+            _positive(self.excitation, "front_end.excitation")
+        _positive(self.dissipation_constant, "front_end.dissipation_constant")
+        for key in ("r25_tolerance", "beta_tolerance"):
+            value = getattr(self, key)
+            if value is not None:
+                _finite(value, f"front_end.{key}")
+                if not 0 <= value < 100:
+                    raise DesignError(f"front_end.{key}: a percentage from 0 to below 100, got {value!r}")
+        _range_checked(self.low, self.high)
+        low, high = self.temperatures()
+        if low <= -KELVIN_AT_0C:
+            raise DesignError(f"front_end.low: {low} C is not above absolute zero")
+        if low >= high:
+            raise DesignError(f"front_end: low ({low} C) must be below high ({high} C)")
+
+    def temperatures(self) -> tuple[float, float]:
+        """The watched range, C (defaults: :data:`THERMISTOR_RANGE`)."""
+        return (THERMISTOR_RANGE[0] if self.low is None else self.low,
+                THERMISTOR_RANGE[1] if self.high is None else self.high)
+
+    def check_stage(self, design: Design) -> None:
+        super().check_stage(design)
+        if self.excitation == "reference" and not isinstance(design.reference, FixedReference):
+            raise DesignError('front_end.excitation: "reference" needs a fixed reference (reference.volts); '
+                              "a divider reference would be loaded by the thermistor divider")
+
+    @property
+    def rises(self) -> bool:
+        return self.position == "top"
+
+    def resistors(self) -> dict[str, float]:
+        return {"front_end.fixed": self.fixed}
+
+    @property
+    def nominal_r25(self) -> float:
+        """Resistance at 25 C, ohms (from the coefficients for Steinhart-Hart)."""
+        if self.steinhart_hart is None:
+            return float(self.r25)  # type: ignore[arg-type]
+        return float(steinhart_hart_resistance(self.steinhart_hart, KELVIN_AT_25C))
+
+    def parameters(self) -> dict[str, float]:
+        p = {"front_end.r25": self.nominal_r25, "front_end.fixed": self.fixed}
+        if self.beta is not None:
+            p["front_end.beta"] = self.beta
+        if not isinstance(self.excitation, str):
+            p["front_end.excitation"] = self.excitation
+        return p
+
+    def resistance(self, p: Mapping[str, ArrayLike], celsius: ArrayLike) -> ArrayLike:
+        """Thermistor resistance, ohms; a Steinhart-Hart curve is scaled by front_end.r25 / nominal."""
+        kelvin = np.asarray(celsius, dtype=float) + KELVIN_AT_0C
+        if self.steinhart_hart is None:
+            return beta_resistance(p["front_end.r25"], p["front_end.beta"], kelvin)
+        scale = p["front_end.r25"] / self.nominal_r25
+        return steinhart_hart_resistance(self.steinhart_hart, kelvin) * scale
+
+    def temperature(self, p: Mapping[str, ArrayLike], ohms: ArrayLike) -> ArrayLike:
+        """Inverse of :meth:`resistance`: C (NaN where no temperature gives ``ohms``)."""
+        if self.steinhart_hart is None:
+            kelvin = beta_temperature(p["front_end.r25"], p["front_end.beta"], ohms)
+        else:
+            scale = p["front_end.r25"] / self.nominal_r25
+            kelvin = steinhart_hart_temperature(self.steinhart_hart, ohms / scale)
+        return kelvin - KELVIN_AT_0C
+
+    def excitation_volts(self, p: Mapping[str, ArrayLike]) -> ArrayLike:
+        if self.excitation == "positive":
+            return p["supply.positive"]
+        if self.excitation == "reference":
+            return p["reference.volts"]
+        return p["front_end.excitation"]
+
+    def ends(self, p: Mapping[str, ArrayLike]) -> tuple[ArrayLike, ...]:
+        """(V0, V1, R0, R1) over u = R_t / (R_t + R_fixed): u = 0 is a shorted, u = 1 an open thermistor."""
+        volts = self.excitation_volts(p)
+        v0, v1 = (0.0, volts) if self.position == "bottom" else (volts, 0.0)
+        return v0, v1, 0.0, p["front_end.fixed"]
+
+    def coordinate(self, p: Mapping[str, ArrayLike], x: ArrayLike) -> ArrayLike:
+        r = self.resistance(p, x)
+        return r / (r + p["front_end.fixed"])
+
+    def watched(self, p: Mapping[str, ArrayLike], t: ArrayLike) -> ArrayLike:
+        t = np.asarray(t, dtype=float)
+        inside = (t > 0) & (t < 1)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            ohms = np.where(inside, p["front_end.fixed"] * t / (1.0 - t), 1.0)
+            return np.where(inside, self.temperature(p, ohms), np.nan)
+
+
+FrontEnd = DividerFrontEnd | ThermistorFrontEnd | LinearFrontEnd
+_CLASSES: dict[str, type] = {c.kind: c for c in (DividerFrontEnd, ThermistorFrontEnd, LinearFrontEnd)}
+_OHMS = ("top", "bottom", "fixed", "r25", "resistance")
+_READ_UNITS = {"beta": "K", "offset": "V", "excitation": "V", "dissipation_constant": ""}
+
+
+def _read(key: str, raw: Any, unit: str) -> Any:
+    where = f"front_end.{key}"
+    if key in ("position", "unit") or (key == "excitation" and raw in EXCITATIONS):
+        if not isinstance(raw, str):
+            raise DesignError(f"{where}: must be text")
+        return raw
+    if key == "steinhart_hart":
+        if not isinstance(raw, list) or len(raw) != 3:
+            raise DesignError(f"{where}: give three coefficients [A, B, C]")
+        return tuple(_read(f"steinhart_hart[{i}]", v, "") for i, v in enumerate(raw))
+    try:
+        if key in _OHMS:
+            return parse_resistance(raw, where)
+        if key in ("low", "high"):
+            return parse_quantity(raw, unit, where)
+        return parse_quantity(raw, _READ_UNITS.get(key, ""), where)
+    except UnitError as exc:
+        if key == "excitation":
+            raise DesignError(f'{where}: {raw!r} is not allowed; give "positive", "reference" or a voltage') \
+                from None
+        raise DesignError(str(exc)) from None
+
+
+def front_end_from_dict(data: Any) -> FrontEnd | None:
+    """Build a front end from its design-file section; DesignError names the key at fault."""
+    if data is None:
+        return None
+    if not isinstance(data, dict):
+        raise DesignError('front_end: must be an object such as {"kind": "divider", "top": R, "bottom": R}; '
+                          f"kinds: {', '.join(_CLASSES)}")
+    kind = data.get("kind")
+    if kind not in _CLASSES:
+        raise DesignError(f"front_end.kind: {kind!r} is not a front-end kind; allowed: {', '.join(_CLASSES)}")
+    cls = _CLASSES[kind]
+    allowed = ("kind",) + tuple(f.name for f in fields(cls))
+    required = ("kind",) + tuple(f.name for f in fields(cls) if f.default is MISSING)
+    _section(data, "front_end", allowed, required)
+    unit = cls.unit if isinstance(getattr(cls, "unit", None), str) else ""
+    return cls(**{k: _read(k, v, unit) for k, v in data.items() if k != "kind"})
+
+
+def front_end_tolerances(front_end: FrontEnd) -> dict[str, float]:
+    """The front end's own tolerances as fractions, keyed by parameter name (thermistor R25, Beta)."""
+    out: dict[str, float] = {}
+    if isinstance(front_end, ThermistorFrontEnd):
+        if front_end.r25_tolerance is not None:
+            out["front_end.r25"] = front_end.r25_tolerance / 100.0
+        if front_end.beta_tolerance is not None:
+            out["front_end.beta"] = front_end.beta_tolerance / 100.0
+    return out

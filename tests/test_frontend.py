@@ -1,0 +1,440 @@
+"""Front ends: thermistor models against published data, the divider against an independent solver,
+watched switching points round-tripping through the stage model, the design-file section and the CLI."""
+
+import copy
+import json
+import math
+from pathlib import Path
+
+import numpy as np
+import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
+from test_network import designs  # the stage strategy: every stage, supply, reference and output
+
+from bandcalc.analysis import analysis_to_dict, analyze
+from bandcalc.cli import main
+from bandcalc.design import (
+    Design,
+    DesignError,
+    FixedReference,
+    OpenDrain,
+    PushPull,
+    Resistors,
+    Source,
+    Supply,
+    design_from_dict,
+    design_to_dict,
+    load_design,
+)
+from bandcalc.frontend import (
+    DividerFrontEnd,
+    LinearFrontEnd,
+    ThermistorFrontEnd,
+    beta_resistance,
+    beta_temperature,
+    front_end_tolerances,
+    steinhart_hart_resistance,
+    steinhart_hart_temperature,
+)
+from bandcalc.network import switching_points
+from bandcalc.watched import (
+    front_end_power,
+    stage_design,
+    stage_targets,
+    volts_for,
+    watched_at,
+    watched_points,
+)
+
+ROOT = Path(__file__).parent.parent
+GREENHOUSE = ROOT / "demo_data" / "greenhouse_fan_thermostat.json"
+SOLAR = ROOT / "demo_data" / "solar_battery_disconnect.json"
+SUMP = ROOT / "demo_data" / "sump_level_switch.json"
+
+# A published 10 kOhm thermistor probe manual's Steinhart-Hart table; values as cited in our issue.
+PROBE = (1.129241e-3, 2.341077e-4, 8.775468e-8)
+PROBE_TABLE = [(0.0, 32650.9), (-10.0, 55303.9)]
+
+
+# --- thermistor models against outside references ---------------------------------------------
+
+@pytest.mark.parametrize(("celsius", "ohms"), PROBE_TABLE)
+def test_steinhart_hart_against_published_probe_table(celsius, ohms):
+    # The table lists measured resistances and the coefficients are fitted to them, so the two
+    # agree to within the fit: a few parts in 1e5, about a millikelvin.
+    assert steinhart_hart_resistance(PROBE, celsius + 273.15) == pytest.approx(ohms, rel=1e-4)
+    assert steinhart_hart_temperature(PROBE, ohms) - 273.15 == pytest.approx(celsius, abs=2e-3)
+
+
+def test_steinhart_hart_probe_is_10k_at_25c_and_inverse_is_exact():
+    # Same source: a "10 kOhm probe" is 10 kOhm at 25 C.
+    assert steinhart_hart_resistance(PROBE, 298.15) == pytest.approx(10e3, rel=1e-4)
+    kelvin = np.linspace(200.0, 450.0, 51)
+    back = steinhart_hart_temperature(PROBE, steinhart_hart_resistance(PROBE, kelvin))
+    assert np.allclose(back, kelvin, rtol=0, atol=1e-9)
+
+
+def test_beta_equation_defining_relation():
+    # The Beta model's definition (DOMAIN.md): R(T) = R25 exp(B (1/T - 1/298.15 K)), so
+    # R(T1)/R(T2) = exp(B (1/T1 - 1/T2)) for any pair, and R(25 C) = R25.
+    r25, beta = 10e3, 3950.0
+    t1, t2 = np.array([250.0, 280.0, 310.0, 360.0]), np.array([300.0, 330.0, 270.0, 240.0])
+    ratio = beta_resistance(r25, beta, t1) / beta_resistance(r25, beta, t2)
+    assert np.allclose(ratio, np.exp(beta * (1 / t1 - 1 / t2)), rtol=1e-13)
+    assert beta_resistance(r25, beta, 298.15) == pytest.approx(r25, rel=1e-15)
+    assert np.allclose(beta_temperature(r25, beta, beta_resistance(r25, beta, t1)), t1, rtol=1e-13)
+
+
+def test_thermistor_resistance_takes_celsius_and_scales_steinhart_hart_by_r25():
+    sh = ThermistorFrontEnd(fixed=10e3, steinhart_hart=PROBE)
+    p = {"front_end.r25": sh.nominal_r25 * 1.02}
+    assert sh.resistance(p, 0.0) == pytest.approx(32650.9 * 1.02, rel=1e-4)
+    assert sh.temperature(p, 32650.9 * 1.02) == pytest.approx(0.0, abs=2e-3)
+
+
+# --- the divider's Thevenin equivalent against an independent solver ---------------------------
+
+def _stage(**changes):
+    base = dict(stage="non-inverting", supply=Supply(5.0), reference=FixedReference(2.495),
+                resistors=Resistors(input=1e3, feedback=1e6), output=OpenDrain(pullup=10e3))
+    return Design(**{**base, **changes})
+
+
+@pytest.mark.parametrize(("top", "bottom", "x"),
+                         [(240e3, 62e3, 16.0), (1e6, 10e3, 325.0), (4.7e3, 4.7e3, 3.3)])
+def test_divider_thevenin_against_lcapy(top, bottom, x):
+    lcapy = pytest.importorskip("lcapy")
+    # lcapy (PyPI), a general linear-circuit solver: open-circuit voltage and impedance at the node.
+    cct = lcapy.Circuit(f"Vx w 0 {x!r}\nRtop w s {top!r}\nRbot s 0 {bottom!r}")
+    thevenin = cct.thevenin("s", 0)
+    design = _stage(front_end=DividerFrontEnd(top, bottom), source=Source(resistance=100.0))
+    volts, ohms = volts_for(design, x)
+    assert volts == pytest.approx(float(thevenin.Voc.dc.sympy), rel=1e-12)
+    assert ohms - 100.0 == pytest.approx(float(thevenin.Z.sympy), rel=1e-12)
+
+
+def _full_circuit(design, state, front_lines):
+    """The whole stage with its front end as one lcapy netlist (from tests/circuit_reference.py)."""
+    from circuit_reference import netlist
+
+    text, minus = netlist(design, state)
+    lines = [line for line in text.splitlines() if not line.startswith("Vs ")] + front_lines
+    return "\n".join(lines), minus
+
+
+@pytest.mark.parametrize("stage", ["non-inverting", "inverting"])
+def test_watched_divider_points_against_lcapy_whole_circuit(stage):
+    pytest.importorskip("lcapy")
+    import sympy
+    from lcapy import Circuit
+
+    resistors = (Resistors(input=1e3, feedback=1e6) if stage == "non-inverting"
+                 else Resistors(input=10e3, to_reference=100e3, feedback=1e6))
+    design = _stage(stage=stage, resistors=resistors, front_end=DividerFrontEnd(240e3, 62e3),
+                    source=Source(resistance=470.0))
+    w = watched_points(design)
+    states = ("high", "low") if design.inverting else ("low", "high")
+    for state, x in zip(states, (w.at_stage_upper, w.at_stage_lower), strict=True):
+        text, minus = _full_circuit(design, state, ["Vs w 0 vs", "Rtop w s 240000.0", "Rbot s 0 62000.0"])
+        cct = Circuit(text)
+        diff = cct["p"].V.dc.sympy - cct[minus].V.dc.sympy
+        vs = sympy.Symbol("vs", real=True)
+        diff = diff.subs({s: vs for s in diff.free_symbols if s.name == "vs"})
+        (root,) = sympy.solve(sympy.Eq(diff, 0), vs)
+        assert float(x) == pytest.approx(float(root), abs=1e-9)
+
+
+@pytest.mark.parametrize(("position", "stage"), [("bottom", "inverting"), ("top", "non-inverting"),
+                                                 ("bottom", "non-inverting")])
+def test_watched_thermistor_points_satisfy_the_whole_circuit_in_lcapy(position, stage):
+    # At the solved temperature, the whole circuit with the thermistor's resistance there must sit
+    # exactly at the switching condition V+ - V- = offset (lcapy, independent nodal analysis).
+    pytest.importorskip("lcapy")
+    from lcapy import Circuit
+
+    fe = ThermistorFrontEnd(fixed=10e3, r25=10e3, beta=3950.0, position=position)
+    resistors = (Resistors(input=4.7e3, feedback=470e3) if stage == "non-inverting"
+                 else Resistors(to_positive=150e3, to_ground=120e3, feedback=1.5e6))
+    design = _stage(stage=stage, resistors=resistors, reference=FixedReference(2.5), front_end=fe,
+                    output=PushPull(0.02, 0.02, 60.0), source=Source(resistance=220.0))
+    w = watched_points(design)
+    states = ("high", "low") if design.inverting else ("low", "high")
+    for state, x in zip(states, (w.at_stage_upper, w.at_stage_lower), strict=True):
+        r_t = float(fe.resistance({"front_end.r25": 10e3, "front_end.beta": 3950.0}, x))
+        parts = ["Vexc e 0 5.0"] + (["Rfix e s 10000.0", f"Rth s 0 {r_t!r}"] if position == "bottom"
+                                    else [f"Rth e s {r_t!r}", "Rfix s 0 10000.0"])
+        text, minus = _full_circuit(design, state, parts)
+        cct = Circuit(text)
+        assert float(cct["p"].V.dc.sympy - cct[minus].V.dc.sympy) == pytest.approx(0.0, abs=1e-9)
+
+
+# --- round trips through the stage model --------------------------------------------------------
+
+def test_thermistor_points_against_a_bracketed_root_solve():
+    # An independent root finder (scipy's brentq) on the switching condition in temperature,
+    # with the stage re-evaluated at each trial's Thevenin resistance.
+    from scipy.optimize import brentq
+
+    design = load_design(GREENHOUSE)
+    w = watched_points(design)
+
+    def gap(celsius, which):
+        volts, ohms = volts_for(design, celsius)
+        return float(volts) - float(getattr(switching_points(design, {"source.resistance": ohms}), which))
+
+    for which, x in (("upper", w.at_stage_upper), ("lower", w.at_stage_lower)):
+        assert float(x) == pytest.approx(brentq(gap, -55, 150, args=(which,), xtol=1e-12), abs=1e-8)
+
+
+ohms = st.floats(1e3, 1e6).map(lambda x: float(f"{x:.4g}"))
+
+
+@st.composite
+def front_ends(draw, design):
+    kind = draw(st.sampled_from(["divider", "thermistor", "linear"]))
+    if kind == "divider":
+        return DividerFrontEnd(draw(ohms), draw(ohms))
+    if kind == "linear":
+        sign = draw(st.sampled_from([1.0, -1.0]))
+        return LinearFrontEnd(volts_per_unit=sign * draw(st.floats(1e-3, 1.0)), unit="kPa",
+                              offset=draw(st.floats(-1.0, 1.0)), resistance=draw(st.floats(0.0, 1e4)))
+    excitations = ["positive", draw(st.floats(1.0, 10.0))]
+    if isinstance(design.reference, FixedReference) and design.reference.volts > 0:
+        excitations.append("reference")
+    return ThermistorFrontEnd(fixed=draw(ohms), r25=draw(ohms), beta=draw(st.floats(2500.0, 5000.0)),
+                              position=draw(st.sampled_from(["top", "bottom"])),
+                              excitation=draw(st.sampled_from(excitations)))
+
+
+@st.composite
+def designs_with_front_ends(draw):
+    design = draw(designs())
+    return Design(**{**design.__dict__, "front_end": draw(front_ends(design))})
+
+
+@settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(designs_with_front_ends())
+def test_watched_points_round_trip_through_the_stage_model(design):
+    # At the watched point, the stage evaluated with the front end's source there switches
+    # exactly at the front end's open-circuit voltage there.
+    # Tolerance: both sides extrapolate from samples at 0 and 1 (V or the divider fraction), so
+    # the random designs' far-out points (kilovolts) carry rounding of up to about 1e-10.
+    w = watched_points(design)
+    close = {"abs": 1e-9 * max(1.0, design.supply.span), "rel": 1e-9}
+    points = (("upper", w.at_stage_upper, w.stage_upper), ("lower", w.at_stage_lower, w.stage_lower))
+    for which, x, volts in points:
+        if not np.isfinite(x):
+            continue
+        v, r = volts_for(design, x)
+        assert float(v) == pytest.approx(float(volts), **close)
+        point = getattr(switching_points(design, {"source.resistance": r}), which)
+        assert float(point) == pytest.approx(float(v), **close)
+        assert float(watched_at(design, v)) == pytest.approx(float(x), rel=1e-9, abs=1e-9)
+
+
+def test_watched_points_broadcast_like_the_stage_model():
+    design = load_design(GREENHOUSE)
+    r25 = 10e3 * np.array([0.99, 1.0, 1.01])[:, None]
+    beta = 3950.0 * np.array([0.99, 1.0, 1.01])[None, :]
+    vec = watched_points(design, {"front_end.r25": r25, "front_end.beta": beta})
+    assert vec.upper.shape == (3, 3)
+    for i in range(3):
+        for j in range(3):
+            one = watched_points(design, {"front_end.r25": r25[i, 0], "front_end.beta": beta[0, j]})
+            assert float(one.upper) == pytest.approx(vec.upper[i, j], rel=1e-14)
+    # A higher R25 reads colder, so the fan switches at a higher temperature (first principles).
+    assert vec.upper[2, 1] > vec.upper[1, 1] > vec.upper[0, 1]
+    with pytest.raises(KeyError, match="front_end.top"):
+        watched_points(design, {"front_end.top": 1e3})
+
+
+def test_stage_targets_for_the_fit_are_exact():
+    design = load_design(GREENHOUSE)
+    w = watched_points(design)
+    t = stage_targets(design, w.upper, w.lower)
+    assert float(switching_points(design, {"source.resistance": t.upper_resistance}).upper) == pytest.approx(
+        float(t.upper), abs=1e-12)
+    assert float(switching_points(design, {"source.resistance": t.lower_resistance}).lower) == pytest.approx(
+        float(t.lower), abs=1e-12)
+    # A thermistor on the bottom: the hotter watched point is the stage's lower volts point.
+    assert float(t.upper) == pytest.approx(float(w.stage_upper)) and float(t.upper) > float(t.lower)
+
+
+def test_divider_stage_design_is_the_stage_with_the_thevenin_resistance():
+    design = load_design(SOLAR)
+    stage = stage_design(design)
+    assert stage.front_end is None
+    assert stage.source.resistance == pytest.approx(240e3 * 62e3 / 302e3)
+    # Hand check: the watched points are the stage's volts points over the divider ratio.
+    pts, w = switching_points(stage), watched_points(design)
+    assert float(w.upper) == pytest.approx(float(pts.upper) * 302 / 62, rel=1e-12)
+    assert float(w.lower) == pytest.approx(float(pts.lower) * 302 / 62, rel=1e-12)
+
+
+def test_linear_sensor_by_hand():
+    # A ratiometric-style pressure sensor on a fixed 5 V: 0.5 V + 40 mV/kPa; watched = (V - 0.5)/0.04.
+    design = Design(**{**load_design(SUMP).__dict__,
+                       "front_end": LinearFrontEnd(volts_per_unit=0.04, offset=0.5, unit="kPa",
+                                                   resistance=1e3),
+                       "source": Source(resistance=100.0)})
+    pts = switching_points(design, {"source.resistance": 1100.0})
+    a = analyze(design)
+    assert a.upper_watched == pytest.approx((float(pts.upper) - 0.5) / 0.04, rel=1e-12)
+    assert a.lower_watched == pytest.approx((float(pts.lower) - 0.5) / 0.04, rel=1e-12)
+    assert (a.watched_unit, a.watched_direction, a.watched_rising_output) == ("kPa", "rises", "high")
+
+
+# --- analysis -------------------------------------------------------------------------------------
+
+def test_greenhouse_reads_in_celsius_with_the_direction_turned():
+    a = analyze(load_design(GREENHOUSE))
+    assert a.watched_unit == "C" and a.watched_direction == "falls"
+    assert a.upper_watched == pytest.approx(31.91, abs=0.01)
+    assert a.lower_watched == pytest.approx(27.94, abs=0.01)
+    # By hand (Beta model): the 10k/NTC divider's voltage at the hotter point is the stage's lower point.
+    r = 10e3 * math.exp(3950 * (1 / (a.upper_watched + 273.15) - 1 / 298.15))
+    assert a.lower == pytest.approx(5 * r / (r + 10e3), abs=1e-9)
+    # The fan (output high) comes on as the temperature rises through the upper watched point.
+    assert a.watched_rising_output == "high"
+    heating = "Self-heating: at its switching points the thermistor dissipates up to 622 uW (at 27.94 C)"
+    assert any(f.startswith(heating) for f in a.findings)
+
+
+def test_thermistor_dissipation_by_hand():
+    design = load_design(GREENHOUSE)
+    # Inverting stage: the pin draws only its bias current, so the bead carries V^2/R (first principles).
+    r = 10e3 * math.exp(3950 * (1 / (303.15) - 1 / 298.15))
+    v = 5 * r / (r + 10e3) - 1e-9 * (r * 10e3 / (r + 10e3))
+    power = front_end_power(design, 30.0, "high")
+    assert power["front_end.thermistor"] == pytest.approx(v * v / r, rel=1e-12)
+    assert power["front_end.fixed"] == pytest.approx((5 - v) ** 2 / 10e3, rel=1e-12)
+
+
+def test_no_self_heating_finding_for_a_high_value_divider():
+    design = load_design(GREENHOUSE)
+    cool = Design(**{**design.__dict__, "front_end": ThermistorFrontEnd(fixed=100e3, r25=100e3, beta=4250.0)})
+    assert not any(f.startswith("Self-heating") for f in analyze(cool).findings)
+
+
+def test_latch_is_judged_in_the_watched_quantity():
+    design = load_design(SOLAR)
+    short = Design(**{**design.__dict__, "front_end": DividerFrontEnd(240e3, 62e3, low=0.0, high=12.0)})
+    (latch,) = [f for f in analyze(short).findings if f.startswith("Latches")]
+    assert "upper switching point" in latch
+    assert "only at 12.78 V, outside the watched range (0 V to 12 V)" in latch
+    assert not any(f.startswith("Latches") for f in analyze(design).findings)
+
+
+def test_caution_when_the_front_end_watches_a_hazardous_voltage():
+    # A rectified 230 V mains bus (325 V peak) watched through a 1 MOhm / 10 kOhm divider.
+    design = _stage(front_end=DividerFrontEnd(1e6, 10e3, low=0.0, high=400.0),
+                    resistors=Resistors(input=10e3, feedback=1e6))
+    (caution,) = analyze(design).cautions
+    assert "400 V" in caution and "not a safety-rated protection" in caution and "local codes" in caution
+    assert analyze(load_design(SOLAR)).cautions == ()
+
+
+def test_json_of_analyze_gains_watched_keys_only_with_a_front_end(capsys):
+    assert main(["analyze", str(GREENHOUSE), str(SUMP), "--json"]) == 0
+    green, sump = json.loads(capsys.readouterr().out)
+    assert green["watched_unit"] == "C"
+    assert green["upper_watched"] > green["lower_watched"]
+    assert green["watched_direction"] == "falls" and green["watched_rising_output"] == "high"
+    assert not {"upper_watched", "lower_watched", "watched_unit"} & set(sump)
+
+
+def test_table_shows_both_quantities(capsys):
+    assert main(["analyze", str(SOLAR)]) == 0
+    out = capsys.readouterr().out
+    assert ("watched upper      12.78 V  (the stage's upper point; rising through it sets the output "
+            "high)") in out
+    assert "watched lower      11.56 V" in out and "upper point        2.623 V" in out
+
+
+def test_unreached_point_is_null_in_json():
+    # Excited from 1 V, the divider never reaches a 2.5 V reference: no temperature switches it.
+    design = _stage(front_end=ThermistorFrontEnd(fixed=10e3, r25=10e3, beta=3950.0, excitation=1.0),
+                    reference=FixedReference(2.5), resistors=Resistors(input=10e3, feedback=1e6))
+    data = analysis_to_dict(analyze(design))
+    assert data["upper_watched"] is None and data["lower_watched"] is None
+    assert any("at no value of the watched quantity" in f for f in data["warnings"])
+
+
+# --- the design-file section -----------------------------------------------------------------------
+
+BASE = json.loads(GREENHOUSE.read_text())
+
+
+def _with_front_end(front_end, **top):
+    data = copy.deepcopy(BASE)
+    data["front_end"] = front_end
+    data.update(top)
+    return data
+
+
+@pytest.mark.parametrize("front_end", [
+    {"kind": "divider", "top": "100k", "bottom": "22k", "low": 0, "high": "16"},
+    {"kind": "thermistor", "steinhart_hart": list(PROBE), "fixed": "4k7", "position": "top",
+     "excitation": 3.3, "dissipation_constant": "2m", "r25_tolerance": 0.5},
+    {"kind": "linear", "volts_per_unit": "40m", "offset": 0.5, "unit": "kPa", "resistance": "1k"},
+])
+def test_section_reads_and_round_trips(front_end):
+    d = design_from_dict(_with_front_end(front_end))
+    assert design_from_dict(design_to_dict(d)) == d
+    assert design_to_dict(d)["front_end"]["kind"] == front_end["kind"]
+
+
+def test_front_end_tolerances_are_fractions_keyed_like_the_parameters():
+    fe = load_design(GREENHOUSE).front_end
+    assert front_end_tolerances(fe) == {"front_end.r25": 0.01, "front_end.beta": 0.01}
+    assert front_end_tolerances(DividerFrontEnd(1e3, 1e3)) == {}
+
+
+THERM = {"kind": "thermistor", "r25": "10k", "beta": 3950, "fixed": "10k"}
+BAD = [
+    ({"kind": "resistive"},
+     "front_end.kind: 'resistive' is not a front-end kind; allowed: divider, thermistor, linear"),
+    ({**THERM, "colour": 1}, "front_end.colour: unknown key; allowed: kind, fixed, r25, beta"),
+    ({"kind": "divider", "top": "100k"}, "front_end.bottom: missing"),
+    ({"kind": "divider", "top": "100k", "bottom": "-1"}, "front_end.bottom: must be greater than zero"),
+    ({"kind": "divider", "top": "4k7x", "bottom": "1k"}, "front_end.top: cannot read '4k7x'"),
+    ({"kind": "divider", "top": "1k", "bottom": "1k", "low": 5, "high": 2},
+     "front_end: low (5.0) must be below high"),
+    ({"kind": "thermistor", "r25": "10k", "fixed": "10k"},
+     "give the thermistor as r25 and beta, or as steinhart_hart"),
+    ({**THERM, "steinhart_hart": list(PROBE)}, "front_end.steinhart_hart: give either steinhart_hart or r25"),
+    ({"kind": "thermistor", "steinhart_hart": [1e-3, 2e-4], "fixed": "10k"},
+     "front_end.steinhart_hart: give three coefficients"),
+    ({"kind": "thermistor", "steinhart_hart": [1e-3, -2e-4, 1e-7], "fixed": "10k"}, "needs B > 0 and C >= 0"),
+    ({**THERM, "position": "middle"}, "front_end.position: 'middle' is not a position; allowed: bottom, top"),
+    ({**THERM, "excitation": "rail"}, "front_end.excitation: 'rail' is not allowed; give \"positive\""),
+    ({**THERM, "excitation": "reference"}, 'front_end.excitation: "reference" needs a fixed reference'),
+    ({**THERM, "beta_tolerance": 120}, "front_end.beta_tolerance: a percentage from 0 to below 100"),
+    ({**THERM, "low": -300}, "front_end.low: -300.0 C is not above absolute zero"),
+    ({**THERM, "high": -60}, "front_end: low (-55.0 C) must be below high (-60.0 C)"),
+    ({**THERM, "dissipation_constant": 0}, "front_end.dissipation_constant: must be greater than zero"),
+    ({"kind": "linear", "volts_per_unit": 0, "unit": "kPa"}, "front_end.volts_per_unit: must not be zero"),
+    ({"kind": "linear", "volts_per_unit": 0.1}, "front_end.unit: missing"),
+    ({"kind": "linear", "volts_per_unit": 0.1, "unit": " "},
+     "front_end.unit: give the watched quantity's unit"),
+    ("divider", "front_end: must be an object such as"),
+]
+
+
+@pytest.mark.parametrize(("front_end", "message"), BAD, ids=[b[1][:40] for b in BAD])
+def test_bad_front_end_is_named(front_end, message):
+    with pytest.raises(DesignError) as err:
+        design_from_dict(_with_front_end(front_end))
+    assert message in str(err.value)
+
+
+def test_source_range_is_refused_beside_a_front_end():
+    with pytest.raises(DesignError, match="source.high: with a front end, give the range of the watched"):
+        design_from_dict(_with_front_end(THERM, source={"resistance": 0, "high": 5}))
+
+
+def test_files_without_a_front_end_still_read_and_write_without_one():
+    d = load_design(SUMP)
+    assert d.front_end is None and "front_end" not in design_to_dict(d)
+    assert analyze(d).upper_watched is None and analyze(d).watched_unit is None
