@@ -13,6 +13,7 @@ from dataclasses import dataclass, field, fields
 from pathlib import Path
 from typing import Any
 
+from .tolerances import ToleranceError, Tolerances, tolerances_from_dict, tolerances_to_dict
 from .units import UnitError, parse_quantity, parse_resistance
 
 __all__ = [
@@ -224,6 +225,7 @@ class Design:
     source: Source = field(default_factory=Source)
     name: str = ""
     notes: str = ""
+    tolerances: Tolerances | None = None  # spread of the parts; None: see bandcalc.spread
 
     def __post_init__(self) -> None:
         if self.stage not in STAGES:
@@ -257,7 +259,7 @@ class Design:
 # --- JSON ------------------------------------------------------------------------------------
 
 _TOP_KEYS = ("format", "name", "notes", "stage", "supply", "reference", "resistors", "output",
-             "comparator", "source")
+             "comparator", "source", "tolerances")
 _UNITS = {"volts": "V", "offset": "V", "bias_current": "A", "delay": "s", "load_capacitance": "F",
           "high_drop": "V", "low_drop": "V", "pullup_volts": "V", "low_volts": "V",
           "positive": "V", "negative": "V", "common_mode_low": "V", "common_mode_high": "V",
@@ -352,7 +354,15 @@ def design_from_dict(data: Any) -> Design:
         source=_plain_section(Source, data.get("source"), "source"),
         name=data.get("name", ""),
         notes=data.get("notes", ""),
+        tolerances=_tolerances_from(data.get("tolerances")),
     )
+
+
+def _tolerances_from(data: Any) -> Tolerances | None:
+    try:
+        return None if data is None else tolerances_from_dict(data, RESISTOR_KEYS)
+    except ToleranceError as exc:
+        raise DesignError(str(exc)) from None
 
 
 def _dropping_none(obj: Any) -> dict:
@@ -371,6 +381,8 @@ def design_to_dict(design: Design) -> dict:
     out["output"] = {"kind": design.output.kind, **_dropping_none(design.output)}
     out["comparator"] = _dropping_none(design.comparator)
     out["source"] = _dropping_none(design.source)
+    if design.tolerances is not None:
+        out["tolerances"] = tolerances_to_dict(design.tolerances)
     return out
 
 
