@@ -137,7 +137,7 @@ class Limits:
             if None not in window and window[0] >= window[1]:
                 raise ToleranceError(f"{where}: the lowest value ({window[0]:g} V) must be below the "
                                      f"highest ({window[1]:g} V)")
-            object.__setattr__(self, key, tuple(window))
+            object.__setattr__(self, key, tuple(None if v is None else float(v) for v in window))
 
     def windows(self) -> dict[str, tuple[float, float]]:
         """The given windows with open sides as -inf / +inf."""
@@ -214,7 +214,7 @@ class Tolerances:
                 _check(v, where, _ABSOLUTE_ZERO_CELSIUS)
             if self.temperature[0] >= self.temperature[1]:
                 raise ToleranceError(f"{where}: the lowest temperature must be below the highest")
-            object.__setattr__(self, "temperature", tuple(self.temperature))
+            object.__setattr__(self, "temperature", tuple(float(v) for v in self.temperature))
 
 
 # --- JSON ------------------------------------------------------------------------------------
