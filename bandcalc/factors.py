@@ -62,6 +62,18 @@ class Factor:
         """The factor's value for unit variable ``z`` (-1: low, 0: centre, +1: high)."""
         return self.centre + 0.5 * (self.high - self.low) * z
 
+    def draw(self, rng: np.random.Generator, n: int) -> np.ndarray:
+        """``n`` random values: normal with the bounds at +/-3 sigma, or uniform between the bounds."""
+        if self.distribution == "normal":
+            x = rng.standard_normal(n)
+            x *= (self.high - self.low) / 6.0  # half the range is 3 sigma
+            x += self.centre
+        else:
+            x = rng.random(n)
+            x *= self.high - self.low
+            x += self.low
+        return x
+
 
 def _resistor_factors(design: Design, tol: Tolerances, nominal: dict[str, float], dist: str,
                       notes: list[str]) -> tuple[list[Factor], dict[str, float]]:
@@ -162,8 +174,11 @@ class VariedModel:
         if "temperature" not in x:
             return out
         d_t = x["temperature"] - NOMINAL_CELSIUS
+        scale: dict[float, np.ndarray] = {}
         for key, alpha in self.tempco.items():
-            out[key] = out.get(key, self.nominal[key]) * (1.0 + alpha * d_t)
+            if alpha not in scale:
+                scale[alpha] = 1.0 + alpha * d_t
+            out[key] = out.get(key, self.nominal[key]) * scale[alpha]
         if "reference.drift" in x:
             v = out.get("reference.volts", self.nominal["reference.volts"])
             out["reference.volts"] = v * (1.0 + 1e-6 * x["reference.drift"] * d_t)
