@@ -389,3 +389,16 @@ def test_cli_bad_samples_and_bad_file(tmp_path, capsys):
     captured = capsys.readouterr()
     assert f"{bad}: tolerances.supply: must be from 0 to 50 percent" in captured.err
     assert json.loads(captured.out)["name"] == "Sump level switch"
+
+
+def test_a_design_with_nothing_varied_gives_its_nominal_points_everywhere():
+    design = demo(SUMP, Tolerances(resistors=PerResistor(0.0)))
+    s = spread(design, samples=1_000)
+    assert s.factors == ()
+    for q in QUANTITIES:
+        nominal = s.worst_case.nominal[q]
+        assert getattr(s.worst_case, q).min == getattr(s.worst_case, q).max == pytest.approx(nominal)
+        assert getattr(s.monte_carlo, q).mean == pytest.approx(nominal)
+        assert getattr(s.monte_carlo, q).std == pytest.approx(0.0, abs=1e-12)
+        assert getattr(s.monte_carlo, q).counts.sum() == 1_000
+        assert s.sensitivity.std[q] == 0 and getattr(s.sensitivity, q) == ()
