@@ -69,18 +69,22 @@ def _emit_json(objects: list) -> None:
     print(json.dumps(objects[0] if len(objects) == 1 else objects, indent=2))
 
 
-def _cmd_analyze(args: argparse.Namespace) -> int:
-    def work(path: str, design: Design) -> object:
-        a = analyze(design)
-        return {"file": path, **analysis_to_dict(a)} if args.json else _analysis_table(path, a)
-
-    results, status = _for_each_file(args.files, work)
-    if args.json:
+def _print_results(results: list, status: int, as_json: bool) -> int:
+    """Print JSON (one object, or a list for several files) or the tables; return the status."""
+    if as_json:
         if results:
             _emit_json(results)
     else:
         print("\n\n".join(results))
     return status
+
+
+def _cmd_analyze(args: argparse.Namespace) -> int:
+    def work(path: str, design: Design) -> object:
+        a = analyze(design)
+        return {"file": path, **analysis_to_dict(a)} if args.json else _analysis_table(path, a)
+
+    return _print_results(*_for_each_file(args.files, work), as_json=args.json)
 
 
 def _factor_value(f: Factor, value: float) -> str:
@@ -176,13 +180,7 @@ def _cmd_spread(args: argparse.Namespace) -> int:
         s = spread(design, samples=args.samples, seed=args.seed, progress=_progress)
         return {"file": path, **spread_to_dict(s)} if args.json else _spread_table(path, s)
 
-    results, status = _for_each_file(args.files, work)
-    if args.json:
-        if results:
-            _emit_json(results)
-    else:
-        print("\n\n".join(results))
-    return status
+    return _print_results(*_for_each_file(args.files, work), as_json=args.json)
 
 
 def _parser() -> argparse.ArgumentParser:

@@ -11,25 +11,16 @@ the ratio of the two, measured side by side in one run.  Targets: 100,000 sample
 from __future__ import annotations
 
 import os
-import time
 from pathlib import Path
 
 import numpy as np
+from bench_model import best_of  # the benchmarks' shared timer (this script's own folder)
 
 from bandcalc.design import load_design
 from bandcalc.factors import VariedModel
 from bandcalc.spread import monte_carlo, worst_case
 
 DEMO = Path(__file__).parent.parent / "demo_data" / "solar_battery_disconnect.json"
-
-
-def best_of(fn, repeats: int) -> float:
-    best = float("inf")
-    for _ in range(repeats):
-        t0 = time.perf_counter()
-        fn()
-        best = min(best, time.perf_counter() - t0)
-    return best
 
 
 def scalar_loop_time(model: VariedModel, loop_n: int) -> float:
