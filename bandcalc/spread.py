@@ -118,8 +118,8 @@ def _exhaustive(model: VariedModel) -> tuple[dict[str, tuple[np.ndarray, np.ndar
 def _searched(model: VariedModel, quantity: str, sign: float, slope: np.ndarray) -> tuple[np.ndarray, int]:
     """The corner picked by the signs of the partial derivatives, refined by single flips.
 
-    Each point is monotonic in each part alone (DOMAIN.md), so the signs at the centre give
-    the extreme corner; a flip of one factor at a time is then tried until none improves,
+    Each point is monotonic in each part value alone, so the signs at the centre give the
+    extreme corner; a flip of one factor at a time is then tried until none improves,
     which catches a partial derivative whose sign differs between the centre and the corner.
     """
     k = len(model.factors)
@@ -173,6 +173,13 @@ def worst_case(design: Design, tolerances: Tolerances | None = None, *,
     exhaustive_limit : int
         With at most this many factors, all 2**k corners are evaluated (in vectorized
         blocks); with more, each extreme's corner is found from the partial derivatives.
+
+    Notes
+    -----
+    Each point is monotonic in each part value alone, so the extremes sit at corners.  The
+    temperature moves several parts at once; the points' curvature in it is of second order in
+    tempco x (T - 25 C), so the ends of the range give the extremes to that order (the tests
+    compare the corners with a fine temperature grid).
     """
     return _worst_case(VariedModel(design, tolerances), exhaustive_limit)
 
