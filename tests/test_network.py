@@ -155,28 +155,37 @@ def test_agrees_with_lcapy_nodal_analysis(design):
 
 # --- Invariants --------------------------------------------------------------------------------
 
-@settings(max_examples=200, deadline=None)
+@settings(deadline=None)
 @given(designs())
 def test_positive_feedback_gives_upper_above_lower(design):
+    # Positive feedback opens a band whenever the output levels reached differ; a pull-up so
+    # weak that the feedback drags the "high" level down to the low level leaves none.
     p = switching_points(design)
-    assert float(p.hysteresis) > 0
+    upper_state, lower_state = ("high", "low") if design.inverting else ("low", "high")
+    reached = {upper_state: float(p.at_upper.output), lower_state: float(p.at_lower.output)}
+    if reached["high"] - reached["low"] > 1e-6:
+        assert float(p.hysteresis) > 0
     assert float(p.centre) == pytest.approx((float(p.upper) + float(p.lower)) / 2)
 
 
-@settings(max_examples=100, deadline=None)
+@settings(deadline=None)
 @given(designs())
 def test_hysteresis_falls_to_zero_as_feedback_grows(design):
     # Needs a second leg on the + pin: with the feedback alone, V+ simply follows the output.
     r = design.resistors
     assume(not design.inverting or any(getattr(r, k) for k in ("to_positive", "to_negative",
                                                                  "to_ground", "to_reference")))
-    feedback = np.array([1e6, 1e8, 1e10, 1e12]) * design.resistors.feedback / 1e6
+    # A weak pull-up lets the feedback drag the high level, which then rises with the feedback:
+    # hold to the common-practice pull-up under a tenth of the feedback.
+    assume(not isinstance(design.output, OpenDrain) or 10 * design.output.pullup <= r.feedback)
+    # Other legs are at most 100x the feedback here, so x1e9 leaves under 1e-7 of the band.
+    feedback = np.array([1.0, 1e3, 1e6, 1e9]) * design.resistors.feedback
     h = switching_points(design, {"resistors.feedback": feedback}).hysteresis
     assert np.all(np.diff(h) < 0)
-    assert h[-1] < 1e-4 * h[0]
+    assert h[-1] < 1e-5 * h[0]
 
 
-@settings(max_examples=50, deadline=None)
+@settings(deadline=None)
 @given(designs(), st.integers(0, 2**32 - 1))
 def test_array_inputs_equal_looping_the_scalar_call(design, seed):
     rng = np.random.default_rng(seed)
