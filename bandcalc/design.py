@@ -13,6 +13,7 @@ from dataclasses import dataclass, field, fields
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
+from .tolerances import ToleranceError, Tolerances, tolerances_from_dict, tolerances_to_dict
 from .units import UnitError, parse_quantity, parse_resistance
 
 if TYPE_CHECKING:
@@ -228,6 +229,7 @@ class Design:
     front_end: FrontEnd | None = None  # bandcalc.frontend: divider or sensor ahead of the signal
     name: str = ""
     notes: str = ""
+    tolerances: Tolerances | None = None  # spread of the parts; None: see bandcalc.spread
 
     def __post_init__(self) -> None:
         if self.stage not in STAGES:
@@ -263,8 +265,7 @@ class Design:
 # --- JSON ------------------------------------------------------------------------------------
 
 _TOP_KEYS = ("format", "name", "notes", "stage", "supply", "reference", "resistors", "output",
-             "comparator", "source")
-_TOP_KEYS += ("front_end",)  # the section lives in bandcalc.frontend
+             "comparator", "source", "tolerances", "front_end")
 _UNITS = {"volts": "V", "offset": "V", "bias_current": "A", "delay": "s", "load_capacitance": "F",
           "high_drop": "V", "low_drop": "V", "pullup_volts": "V", "low_volts": "V",
           "positive": "V", "negative": "V", "common_mode_low": "V", "common_mode_high": "V",
@@ -366,7 +367,15 @@ def design_from_dict(data: Any) -> Design:
         front_end=_front_end_from(data.get("front_end")),
         name=data.get("name", ""),
         notes=data.get("notes", ""),
+        tolerances=_tolerances_from(data.get("tolerances")),
     )
+
+
+def _tolerances_from(data: Any) -> Tolerances | None:
+    try:
+        return None if data is None else tolerances_from_dict(data, RESISTOR_KEYS)
+    except ToleranceError as exc:
+        raise DesignError(str(exc)) from None
 
 
 def _dropping_none(obj: Any) -> dict:
@@ -385,6 +394,8 @@ def design_to_dict(design: Design) -> dict:
     out["output"] = {"kind": design.output.kind, **_dropping_none(design.output)}
     out["comparator"] = _dropping_none(design.comparator)
     out["source"] = _dropping_none(design.source)
+    if design.tolerances is not None:
+        out["tolerances"] = tolerances_to_dict(design.tolerances)
     if design.front_end is not None:
         out["front_end"] = design.front_end.to_dict()
     return out

@@ -71,8 +71,9 @@ def _front_end(design: Design) -> FrontEnd:
 
 
 def all_parameters(design: Design) -> dict[str, float]:
-    """:func:`bandcalc.network.parameters` plus the front end's own (``front_end.*``)."""
-    return {**parameters(design), **_front_end(design).parameters()}
+    """:func:`bandcalc.network.parameters` plus the front end's own (``front_end.*``), if any."""
+    extra = design.front_end.parameters() if design.front_end is not None else {}
+    return {**parameters(design), **extra}
 
 
 def _merged(design: Design, values: Mapping[str, ArrayLike] | None) -> dict[str, ArrayLike]:

@@ -1,0 +1,301 @@
+"""Tolerances: how far each part of a design may stray, over temperature, and the windows a build must meet.
+
+The ``"tolerances"`` section of a design file, validated when built.  Units are those of the
+file: percent for resistors, a fixed reference and the supply rails; volts for the comparator's
+offset; amperes for its bias current; degrees Celsius for the temperature range; ppm/K for
+resistor temperature coefficients and reference drift; volts per kelvin for offset drift.
+
+This module reads and writes the section only; :mod:`bandcalc.spread` turns it into varied
+parameters of the stage model.  It imports nothing from the design module, so that the design
+module can import it.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+from dataclasses import dataclass, field
+from typing import Any
+
+from .eseries import TOLERANCE, EseriesError, nearest
+from .units import UnitError, parse_quantity
+
+__all__ = [
+    "DISTRIBUTIONS",
+    "MAX_PERCENT",
+    "NOMINAL_CELSIUS",
+    "OTHER_RESISTORS",
+    "Limits",
+    "PerResistor",
+    "ToleranceError",
+    "Tolerances",
+    "series_tolerance",
+    "tolerances_from_dict",
+    "tolerances_to_dict",
+]
+
+DISTRIBUTIONS = ("normal", "uniform")
+#: Resistors outside the ``resistors`` section, named by their parameter path.
+OTHER_RESISTORS = ("reference.top", "reference.bottom", "output.pullup",
+                   "front_end.top", "front_end.bottom", "front_end.fixed")
+#: Part values are given at 25 degrees Celsius (the datasheet convention, common practice).
+NOMINAL_CELSIUS = 25.0
+#: Largest percent tolerance taken; beyond it a normal draw at 3 sigma could make a part negative.
+MAX_PERCENT = 50.0
+_ABSOLUTE_ZERO_CELSIUS = -273.15
+#: A part value that is in no series from E24 up is taken as a precision part (common practice).
+_PRECISION_PERCENT = 1.0
+_PRECISION_SERIES = ("E24", "E48", "E96", "E192")
+_MATCH_RTOL = 1e-9
+
+
+class ToleranceError(ValueError):
+    """A tolerances section that cannot be used; the message names the key and what is allowed."""
+
+
+def series_tolerance(ohms: float) -> tuple[float, str | None]:
+    """Default tolerance (percent) of a resistor, from the series its value belongs to.
+
+    The coarsest series from E24 upward that holds the value gives the tolerance: E24 5 %,
+    E48 2 %, E96 1 %, E192 0.5 % (IEC 60063 usual tolerances, common practice).  E3 to E12 are
+    skipped: their values are all in E24, and parts are rarely bought at 10 % or worse today.
+    A value in none of these series implies a precision part: 1 % (common practice).
+
+    Returns
+    -------
+    (percent, series name or None)
+    """
+    for key in _PRECISION_SERIES:
+        try:
+            hit = math.isclose(float(nearest(key, ohms)), ohms, rel_tol=_MATCH_RTOL)
+        except EseriesError:
+            return _PRECISION_PERCENT, None
+        if hit:
+            return 100.0 * TOLERANCE[key], key
+    return _PRECISION_PERCENT, None
+
+
+def _number(value: Any, where: str, unit: str = "") -> float:
+    try:
+        return parse_quantity(value, unit, where)
+    except UnitError as exc:
+        raise ToleranceError(str(exc)) from None
+
+
+def _check(value: float, where: str, low: float | None = None, high: float | None = None,
+           unit: str = "") -> None:
+    if not isinstance(value, (int, float)) or isinstance(value, bool) or not math.isfinite(value):
+        raise ToleranceError(f"{where}: must be a finite number, got {value!r}")
+    if (low is not None and value < low) or (high is not None and value > high):
+        span = (f"from {low:g} to {high:g}" if high is not None else f"{low:g} or more")
+        raise ToleranceError(f"{where}: must be {span}{unit and ' ' + unit}, got {value!r}")
+
+
+@dataclass(frozen=True)
+class PerResistor:
+    """One value for every resistor (``default``) with exceptions for some (``parts``).
+
+    ``default`` None means "not given": resistors then take the default of the quantity
+    (their series' tolerance, or a zero temperature coefficient).
+    """
+
+    default: float | None = None
+    parts: tuple[tuple[str, float], ...] = ()
+
+    def __post_init__(self) -> None:
+        object.__setattr__(self, "parts", tuple(sorted((str(k), v) for k, v in self.parts)))
+
+    def get(self, name: str) -> float | None:
+        """The value for resistor ``name`` (e.g. "feedback", "reference.top"), else the default."""
+        return dict(self.parts).get(name, self.default)
+
+    def check(self, where: str, low: float | None, high: float | None, unit: str) -> None:
+        if self.default is not None:
+            _check(self.default, f"{where}.default" if self.parts else where, low, high, unit)
+        for name, value in self.parts:
+            _check(value, f"{where}.{name}", low, high, unit)
+
+
+@dataclass(frozen=True)
+class Limits:
+    """Windows (volts) a build must meet; ``None`` for an open side or an unchecked quantity."""
+
+    upper: tuple[float | None, float | None] | None = None
+    lower: tuple[float | None, float | None] | None = None
+    hysteresis: tuple[float | None, float | None] | None = None
+
+    def __post_init__(self) -> None:
+        for key in ("upper", "lower", "hysteresis"):
+            window = getattr(self, key)
+            if window is None:
+                continue
+            where = f"tolerances.limits.{key}"
+            if len(window) != 2 or all(v is None for v in window):
+                raise ToleranceError(f"{where}: give [lowest, highest] in volts; one side may be null")
+            for v in window:
+                if v is not None:
+                    _check(v, where)
+            if None not in window and window[0] >= window[1]:
+                raise ToleranceError(f"{where}: the lowest value ({window[0]:g} V) must be below the "
+                                     f"highest ({window[1]:g} V)")
+            object.__setattr__(self, key, tuple(None if v is None else float(v) for v in window))
+
+    def windows(self) -> dict[str, tuple[float, float]]:
+        """The given windows with open sides as -inf / +inf."""
+        out = {}
+        for key in ("upper", "lower", "hysteresis"):
+            window = getattr(self, key)
+            if window is not None:
+                lo, hi = window
+                out[key] = (-math.inf if lo is None else lo, math.inf if hi is None else hi)
+        return out
+
+
+@dataclass(frozen=True)
+class Tolerances:
+    """How far the parts may stray, as in the design file (percent, volts, amperes, Celsius, ppm/K).
+
+    Parameters
+    ----------
+    resistors : PerResistor
+        Percent, +/-; a resistor with none given takes :func:`series_tolerance` of its value.
+    reference : float
+        Percent, +/-, of a fixed-volts reference (a divider reference follows its rail).
+    supply : float
+        Percent, +/-, of each non-zero rail on its own, and of a pull-up voltage or output low
+        level given apart from the rails.
+    offset : float
+        Volts, +/-, about the comparator's nominal offset.
+    bias_current : float
+        Amperes, +/-, about the comparator's nominal bias current.
+    temperature : (low, high) or None
+        Operating range in degrees Celsius; part values are at 25 C.
+    resistor_tempco : PerResistor
+        ppm/K, signed: resistors of one kind drift together, so this is the coefficient they
+        share (give a resistor of another kind its own value).  Default 0.
+    reference_drift : float
+        ppm/K, +/-, of a fixed reference: a bound, the sign is unknown.
+    offset_drift : float
+        Volts per kelvin, +/-, of the comparator's offset: a bound.
+    distribution : "normal" or "uniform"
+        How Monte Carlo reads a tolerance: 3 sigma of a normal distribution, or the bounds of a
+        uniform one.  The temperature is always drawn uniform over its range.
+    limits : Limits
+        Windows for the yield.
+    """
+
+    resistors: PerResistor = field(default_factory=PerResistor)
+    reference: float = 0.0
+    supply: float = 0.0
+    offset: float = 0.0
+    bias_current: float = 0.0
+    temperature: tuple[float, float] | None = None
+    resistor_tempco: PerResistor = field(default_factory=PerResistor)
+    reference_drift: float = 0.0
+    offset_drift: float = 0.0
+    distribution: str = "normal"
+    limits: Limits = field(default_factory=Limits)
+
+    def __post_init__(self) -> None:
+        self.resistors.check("tolerances.resistors", 0.0, MAX_PERCENT, "percent")
+        self.resistor_tempco.check("tolerances.resistor_tempco", None, None, "ppm/K")
+        for key in ("reference", "supply"):
+            _check(getattr(self, key), f"tolerances.{key}", 0.0, MAX_PERCENT, "percent")
+        for key, unit in (("offset", "V"), ("bias_current", "A"), ("reference_drift", "ppm/K"),
+                          ("offset_drift", "V/K")):
+            _check(getattr(self, key), f"tolerances.{key}", 0.0, None, unit)
+        if self.distribution not in DISTRIBUTIONS:
+            raise ToleranceError(f"tolerances.distribution: {self.distribution!r} is not a distribution; "
+                                 f"allowed: {', '.join(DISTRIBUTIONS)}")
+        if self.temperature is not None:
+            where = "tolerances.temperature"
+            if len(self.temperature) != 2:
+                raise ToleranceError(f"{where}: give [lowest, highest] in degrees Celsius")
+            for v in self.temperature:
+                _check(v, where, _ABSOLUTE_ZERO_CELSIUS)
+            if self.temperature[0] >= self.temperature[1]:
+                raise ToleranceError(f"{where}: the lowest temperature must be below the highest")
+            object.__setattr__(self, "temperature", tuple(float(v) for v in self.temperature))
+
+
+# --- JSON ------------------------------------------------------------------------------------
+
+_KEYS = ("distribution", "resistors", "reference", "supply", "offset", "bias_current", "temperature",
+         "resistor_tempco", "reference_drift", "offset_drift", "limits")
+_UNITS = {"offset": "V", "bias_current": "A"}
+
+
+def _object(data: Any, where: str, allowed: Sequence[str]) -> dict:
+    if not isinstance(data, dict):
+        raise ToleranceError(f"{where}: must be an object with keys {', '.join(allowed)}")
+    unknown = [k for k in data if k not in allowed]
+    if unknown:
+        raise ToleranceError(f"{where}.{unknown[0]}: unknown key; allowed: {', '.join(allowed)}")
+    return data
+
+
+def _per_resistor(data: Any, where: str, names: Sequence[str]) -> PerResistor:
+    if not isinstance(data, dict):
+        return PerResistor(default=_number(data, where))
+    data = _object(data, where, ("default", *names))
+    parts = tuple((k, _number(v, f"{where}.{k}")) for k, v in data.items() if k != "default")
+    default = _number(data["default"], f"{where}.default") if "default" in data else None
+    return PerResistor(default=default, parts=parts)
+
+
+def _pair(data: Any, where: str, unit: str, open_ends: bool) -> tuple:
+    if not isinstance(data, (list, tuple)) or len(data) != 2:
+        raise ToleranceError(f"{where}: give [lowest, highest] in {unit}"
+                             + ("; one side may be null" if open_ends else ""))
+    if not open_ends and None in data:
+        raise ToleranceError(f"{where}: give both ends in {unit}")
+    return tuple(None if v is None else _number(v, where) for v in data)
+
+
+def tolerances_from_dict(data: Any, resistor_keys: Sequence[str]) -> Tolerances:
+    """Build Tolerances from the JSON shape; ``resistor_keys`` are the resistors section's keys.
+
+    Raises ToleranceError naming the key at fault and what is allowed.
+    """
+    data = _object(data, "tolerances", _KEYS)
+    names = (*resistor_keys, *OTHER_RESISTORS)
+    kwargs: dict[str, Any] = {}
+    for key, raw in data.items():
+        where = f"tolerances.{key}"
+        if key in ("resistors", "resistor_tempco"):
+            kwargs[key] = _per_resistor(raw, where, names)
+        elif key == "temperature":
+            kwargs[key] = _pair(raw, where, "degrees Celsius", open_ends=False)
+        elif key == "limits":
+            windows = _object(raw, where, ("upper", "lower", "hysteresis"))
+            kwargs[key] = Limits(**{k: _pair(v, f"{where}.{k}", "volts", open_ends=True)
+                                    for k, v in windows.items()})
+        elif key == "distribution":
+            kwargs[key] = raw
+        else:
+            kwargs[key] = _number(raw, where, _UNITS.get(key, ""))
+    return Tolerances(**kwargs)
+
+
+def _per_resistor_dict(per: PerResistor) -> float | dict:
+    if not per.parts and per.default is not None:
+        return per.default
+    return {**({"default": per.default} if per.default is not None else {}), **dict(per.parts)}
+
+
+def tolerances_to_dict(tol: Tolerances) -> dict:
+    """The JSON shape; ``tolerances_from_dict(tolerances_to_dict(t), keys) == t``."""
+    out: dict[str, Any] = {"distribution": tol.distribution}
+    for key in ("resistors", "resistor_tempco"):
+        per = getattr(tol, key)
+        if per.default is not None or per.parts:
+            out[key] = _per_resistor_dict(per)
+    for key in ("reference", "supply", "offset", "bias_current", "reference_drift", "offset_drift"):
+        out[key] = getattr(tol, key)
+    if tol.temperature is not None:
+        out["temperature"] = list(tol.temperature)
+    windows = {k: list(getattr(tol.limits, k)) for k in ("upper", "lower", "hysteresis")
+               if getattr(tol.limits, k) is not None}
+    if windows:
+        out["limits"] = windows
+    return out

@@ -1,0 +1,120 @@
+"""The tolerances section of a design file: shape, defaults, round trips and clear messages."""
+
+import copy
+
+import eseries
+import pytest
+
+from bandcalc.design import DesignError, design_from_dict, design_to_dict
+from bandcalc.tolerances import Limits, PerResistor, ToleranceError, Tolerances, series_tolerance
+
+BASE = {
+    "format": 1,
+    "stage": "non-inverting",
+    "supply": {"positive": 5.0},
+    "reference": {"volts": 2.5},
+    "resistors": {"input": "10k", "feedback": "39k"},
+}
+
+FULL = {
+    "distribution": "uniform",
+    "resistors": {"default": 1.0, "feedback": 0.1},
+    "reference": 0.5,
+    "supply": 5.0,
+    "offset": "4m",
+    "bias_current": "100n",
+    "temperature": [-20, 70],
+    "resistor_tempco": {"default": 100, "feedback": 25},
+    "reference_drift": 50,
+    "offset_drift": 5e-6,
+    "limits": {"upper": [3.0, 3.3], "lower": [None, 2.0], "hysteresis": [1.0, None]},
+}
+
+
+def with_tolerances(section):
+    data = copy.deepcopy(BASE)
+    data["tolerances"] = section
+    return data
+
+
+def test_full_section_reads_in_file_units():
+    tol = design_from_dict(with_tolerances(FULL)).tolerances
+    assert tol.resistors == PerResistor(1.0, (("feedback", 0.1),))
+    assert tol.resistors.get("feedback") == 0.1 and tol.resistors.get("input") == 1.0
+    assert tol.offset == pytest.approx(0.004) and tol.bias_current == pytest.approx(1e-7)
+    assert tol.temperature == (-20.0, 70.0)
+    assert tol.limits.windows()["lower"] == (float("-inf"), 2.0)
+    assert tol.distribution == "uniform"
+
+
+@pytest.mark.parametrize("section", [FULL, {}, {"resistors": 1.0}, {"resistors": {"feedback": 0.1}},
+                                     {"limits": {"hysteresis": [0.5, None]}}])
+def test_round_trip(section):
+    d = design_from_dict(with_tolerances(section))
+    assert design_from_dict(design_to_dict(d)) == d
+
+
+def test_files_without_the_section_still_load_and_round_trip():
+    d = design_from_dict(BASE)
+    assert d.tolerances is None
+    assert "tolerances" not in design_to_dict(d)
+    assert design_from_dict(design_to_dict(d)) == d
+
+
+@pytest.mark.parametrize("section, message", [
+    ({"resistor": 1.0}, "tolerances.resistor: unknown key; allowed: distribution, resistors"),
+    ({"resistors": {"feedbak": 1.0}}, "tolerances.resistors.feedbak: unknown key; allowed: default, input"),
+    ({"resistors": 60}, "tolerances.resistors: must be from 0 to 50 percent, got 60.0"),
+    ({"resistors": {"default": 1, "input": -1}}, "tolerances.resistors.input: must be from 0 to 50 percent"),
+    ({"supply": "5%"}, "tolerances.supply: cannot read '5%'"),
+    ({"offset": -0.001}, "tolerances.offset: must be 0 or more V, got -0.001"),
+    ({"bias_current": "10nV"}, "tolerances.bias_current: cannot read '10nV'"),
+    ({"distribution": "triangular"}, "tolerances.distribution: 'triangular' is not a distribution; "
+                                     "allowed: normal, uniform"),
+    ({"temperature": [70, -20]}, "tolerances.temperature: the lowest temperature must be below the highest"),
+    ({"temperature": 25}, "tolerances.temperature: give [lowest, highest] in degrees Celsius"),
+    ({"temperature": [-300, 25]}, "tolerances.temperature: must be -273.15 or more"),
+    ({"limits": {"upper": [3.3, 3.0]}}, "tolerances.limits.upper: the lowest value (3.3 V) must be below"),
+    ({"limits": {"width": [1, 2]}}, "tolerances.limits.width: unknown key; allowed: upper, lower"),
+    ({"limits": {"upper": [None, None]}}, "tolerances.limits.upper: give [lowest, highest] in volts"),
+    ({"resistor_tempco": True}, "tolerances.resistor_tempco: expected a number, got True"),
+    ([1, 2], "tolerances: must be an object with keys distribution"),
+])
+def test_bad_input_names_the_key(section, message):
+    with pytest.raises(DesignError) as err:
+        design_from_dict(with_tolerances(section))
+    assert message in str(err.value)
+
+
+def test_errors_are_value_errors_when_built_in_code():
+    with pytest.raises(ToleranceError, match="tolerances.reference: must be from 0 to 50 percent"):
+        Tolerances(reference=80.0)
+    with pytest.raises(ValueError, match="tolerances.limits.hysteresis"):
+        Limits(hysteresis=(2.0, 1.0))
+
+
+# Usual tolerances per series (DOMAIN.md, common practice): E24 5 %, E48 2 %, E96 1 %, E192 0.5 %.
+@pytest.mark.parametrize("ohms, percent, series", [
+    (4700.0, 5.0, "E24"),      # also in E3; we start at E24 on purpose
+    (10e3, 5.0, "E24"),
+    (1.1e3, 5.0, "E24"),       # in E24 and in E48 (1.10): the coarser wins
+    (1.05e3, 2.0, "E48"),
+    (4.99e3, 1.0, "E96"),
+    (1.01e3, 0.5, "E192"),
+    (1234.0, 1.0, None),       # in no series: a precision part (common practice)
+])
+def test_series_tolerance(ohms, percent, series):
+    assert series_tolerance(ohms) == (percent, series)
+
+
+@pytest.mark.parametrize("ohms", [4700.0, 1050.0, 4990.0, 1010.0, 8660.0, 9200.0])
+def test_series_tolerance_agrees_with_the_eseries_package(ohms):
+    # Reference library: eseries 1.2.1 (PyPI); membership from find_nearest, tolerance from
+    # eseries.tolerance, taking the coarsest series from E24 up.
+    for name in ("E24", "E48", "E96", "E192"):
+        key = eseries.ESeries[name]
+        if eseries.find_nearest(key, ohms) == pytest.approx(ohms, rel=1e-9):
+            assert series_tolerance(ohms) == (100 * eseries.tolerance(key), name)
+            break
+    else:
+        pytest.fail(f"{ohms} ohm is in no series from E24 up")
