@@ -36,3 +36,23 @@ def test_push_pull_has_no_pullup_and_inverting_no_reference():
     found = texts(stage_svg(load_design(DEMO_DIR / "greenhouse_fan_thermostat.json")))
     assert not any(t.startswith("Rpu") for t in found)
     assert "REF" not in found
+
+
+def test_a_reference_leg_in_a_non_inverting_stage_names_the_shared_reference():
+    from bandcalc.page.edit import with_legs
+
+    d = with_legs(load_design(DEMO_DIR / "sump_level_switch.json"), {"to_reference"})
+    found = texts(stage_svg(d))
+    assert "Rref 100k" in found and found.count("REF") == 2  # the reference and the leg's far end
+
+
+def test_values_change_the_labels_only():
+    from bandcalc.page.edit import with_value
+    from bandcalc.schematic import stage_labels
+
+    d = load_design(DEMO_DIR / "sump_level_switch.json")
+    moved = with_value(d, "resistors.feedback", 47e3)
+    a, b = stage_svg(d), stage_svg(moved)
+    assert "Rfb 47k" in texts(b) and "Rfb 39k" not in texts(b)
+    assert a.replace("Rfb 39k", "Rfb 47k") == b
+    assert stage_labels(moved)["resistors.feedback"] == "Rfb 47k"
