@@ -267,3 +267,34 @@ def test_an_unexpected_error_is_explained_without_a_traceback():
     at = AppTest.from_function(script).run()
     assert not at.exception
     assert at.error[0].value.startswith("Sum: could not be worked out for this design")
+
+
+def test_a_panel_plugs_in_and_can_apply_a_design(monkeypatch):
+    # The contract later panels follow (DEVELOPERS.md, "Adding a panel"): a module with TITLE and
+    # render(sheet), listed in PANELS; apply_design() after a button press changes the design.
+    import types
+
+    import streamlit as st
+
+    from bandcalc.page import panels, state
+
+    trial = types.ModuleType("trial")
+    trial.TITLE = "Trial"
+
+    def render(sheet):
+        st.write(f"Panel sees feedback {sheet.design.resistors.feedback:g}")
+        if st.button("Use 47k"):
+            state.apply_design(with_value(sheet.design, "resistors.feedback", 47e3), "Applied 47k.")
+
+    trial.render = render
+    monkeypatch.setattr(panels, "PANELS", (*panels.PANELS, trial))
+    at = page()
+    assert [t.label for t in at.tabs] == ["Currents and power", "Trial"]
+    assert not any("Panel sees" in m.value for m in at.markdown)  # a closed tab does not run
+    at.session_state["page.panel"] = "Trial"
+    at.run()
+    assert any(m.value == "Panel sees feedback 39000" for m in at.markdown)
+    next(b for b in at.button if b.label == "Use 47k").click().run()
+    assert figures(at) == expected(with_value(SUMP, "resistors.feedback", 47e3))
+    assert at.select_slider(key=f"{FEEDBACK}.slider").value == 47e3
+    assert [s.value for s in at.success] == ["Applied 47k."]
