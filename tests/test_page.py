@@ -298,3 +298,16 @@ def test_a_panel_plugs_in_and_can_apply_a_design(monkeypatch):
     assert figures(at) == expected(with_value(SUMP, "resistors.feedback", 47e3))
     assert at.select_slider(key=f"{FEEDBACK}.slider").value == 47e3
     assert [s.value for s in at.success] == ["Applied 47k."]
+
+
+def test_an_internal_error_in_the_page_is_explained(monkeypatch):
+    from bandcalc.page import sheet
+
+    def broken(design):
+        raise RuntimeError("boom")
+
+    monkeypatch.setattr(sheet, "render_results", broken)
+    at = page()
+    assert not at.exception
+    assert any(e.value.startswith("The page ran into an internal error") for e in at.error)
+    assert not any("boom" in e.value for e in at.error)

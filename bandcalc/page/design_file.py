@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import logging
 import re
 
 import streamlit as st
@@ -13,6 +14,7 @@ from .edit import with_value
 
 __all__ = ["MAX_UPLOAD_MB", "file_name", "render_design_file"]
 
+log = logging.getLogger("bandcalc.page")
 # A design file is well under a kilobyte; 1 MB is plenty (server.maxUploadSize caps all uploads).
 MAX_UPLOAD_MB = 1
 _DEMO_KEY = "page.demo"
@@ -30,6 +32,7 @@ def _demo_chosen() -> None:
     if stem is not None:
         design = demo_designs()[stem]
         state.replace_design(design, f"Opened the demo design “{design.name}”.")
+        st.session_state[_DEMO_KEY] = None  # so the same demo can be chosen again to start over
 
 
 def _opened() -> None:
@@ -43,6 +46,9 @@ def _opened() -> None:
         state.say("error", f"{upload.name}: not a UTF-8 text file. The current design is kept.")
     except ValueError as exc:
         state.say("error", f"{exc}. The current design is kept.")
+    except Exception:  # the page never shows a traceback
+        log.exception("opening %s failed", upload.name)
+        state.say("error", f"{upload.name}: could not be opened. The current design is kept.")
     else:
         state.replace_design(design, f"Opened {upload.name}.")
 

@@ -89,5 +89,6 @@ def quantity_field(label: str, path: str, design: Design, unit: str, *, optional
     what a blank means)."""
     key = f"{state.INPUT_PREFIX}{path}"
     st.session_state.setdefault(key, shown(value_at(design, path), unit))
-    st.text_input(f"{label} ({unit})", key=key, placeholder=blank or None, help=help,
+    symbol = "Ω" if unit == "Ohm" else unit
+    st.text_input(f"{label} ({symbol})", key=key, placeholder=blank or None, help=help,
                   on_change=_entered, args=(path, label, unit, key, optional))

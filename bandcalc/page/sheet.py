@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import logging
+
 import streamlit as st
 
 from .. import __version__
@@ -13,18 +15,26 @@ from .results import render_results
 
 __all__ = ["main"]
 
+log = logging.getLogger("bandcalc.page")
 _SHOW = {"error": st.error, "warning": st.warning, "info": st.info, "success": st.success}
 
 
 def main() -> None:
-    """Draw the whole page for the current design."""
+    """Draw the whole page for the current design; no error reaches the browser as a traceback."""
     st.set_page_config(page_title="bandcalc · comparator stage with hysteresis", layout="wide",
                        initial_sidebar_state="expanded")
     try:
-        design = state.current_design()
+        _sheet()
     except ValueError as exc:
         st.error(str(exc))
-        st.stop()
+    except Exception:  # Streamlit's own stop/rerun signals are BaseExceptions and pass through
+        log.exception("the page failed")
+        st.error("The page ran into an internal error (logged on the server). Your design is kept in "
+                 "the page address; reload the page, or open a demo design.")
+
+
+def _sheet() -> None:
+    design = state.current_design()
     with st.sidebar:
         st.header("Design")
         render_design_file(design)
