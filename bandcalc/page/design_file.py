@@ -1,0 +1,75 @@
+"""The design as a whole: its name and notes, a demo to start from, opening and saving the file."""
+
+from __future__ import annotations
+
+import logging
+import re
+
+import streamlit as st
+
+from ..design import Design, design_from_json, design_to_json
+from . import state
+from .demos import demo_designs
+from .edit import with_value
+
+__all__ = ["MAX_UPLOAD_MB", "file_name", "render_design_file"]
+
+log = logging.getLogger("bandcalc.page")
+# A design file is well under a kilobyte; 1 MB is plenty (server.maxUploadSize caps all uploads).
+MAX_UPLOAD_MB = 1
+_DEMO_KEY = "page.demo"
+_UPLOAD_KEY = "page.upload"
+
+
+def file_name(design: Design) -> str:
+    """A file name from the design's name: "Sump level switch" -> "sump-level-switch.json"."""
+    slug = re.sub(r"[^a-z0-9]+", "-", design.name.lower()).strip("-")
+    return f"{slug or 'design'}.json"
+
+
+def _demo_chosen() -> None:
+    stem = st.session_state[_DEMO_KEY]
+    if stem is not None:
+        design = demo_designs()[stem]
+        state.replace_design(design, f"Opened the demo design “{design.name}”.")
+        st.session_state[_DEMO_KEY] = None  # so the same demo can be chosen again to start over
+
+
+def _opened() -> None:
+    upload = st.session_state[_UPLOAD_KEY]
+    if upload is None:
+        return
+    try:
+        text = upload.getvalue().decode("utf-8")
+        design = design_from_json(text, upload.name)
+    except UnicodeDecodeError:
+        state.say("error", f"{upload.name}: not a UTF-8 text file. The current design is kept.")
+    except ValueError as exc:
+        state.say("error", f"{exc}. The current design is kept.")
+    except Exception:  # the page never shows a traceback
+        log.exception("opening %s failed", upload.name)
+        state.say("error", f"{upload.name}: could not be opened. The current design is kept.")
+    else:
+        state.replace_design(design, f"Opened {upload.name}.")
+
+
+def _named(key: str, path: str, label: str) -> None:
+    state.edit(lambda d: with_value(d, path, st.session_state[key]), label)
+
+
+def render_design_file(design: Design) -> None:
+    """Name and notes, demo chooser, open and save; draw inside the sidebar."""
+    demos = demo_designs()
+    st.selectbox("Start from a demo design", tuple(demos), index=None, key=_DEMO_KEY,
+                 format_func=lambda stem: demos[stem].name or stem, on_change=_demo_chosen,
+                 placeholder="Choose a demo…")
+    name_key, notes_key = state.INPUT_PREFIX + "name", state.INPUT_PREFIX + "notes"
+    st.session_state.setdefault(name_key, design.name)
+    st.session_state.setdefault(notes_key, design.notes)
+    st.text_input("Design name", key=name_key, on_change=_named, args=(name_key, "name", "Design name"))
+    st.text_area("Notes", key=notes_key, height=90, on_change=_named, args=(notes_key, "notes", "Notes"))
+    st.download_button("Save the design file", data=design_to_json(design), file_name=file_name(design),
+                       mime="application/json", on_click="ignore", icon=":material/download:",
+                       width="stretch")
+    st.file_uploader("Open a design file", type=["json"], key=_UPLOAD_KEY, on_change=_opened,
+                     max_upload_size=MAX_UPLOAD_MB, help="A design file saved from this page (JSON)")

@@ -1,0 +1,94 @@
+"""The two kinds of value control on the page.
+
+- :func:`resistor_control`: a slider over standard values of the chosen series, across the
+  decades around the part's value, and a box to type an exact value in either notation
+  ("4k7" or "4.7k").  A typed value that is not in the series is kept exactly and shown.
+- :func:`quantity_field`: a box for a voltage, current, time, capacitance or resistance that is
+  not a standard part, read with SI prefixes ("2 mV", "100n", "-12").
+
+Each control is keyed by its design-file path (``in.<path>.slider``, ``in.<path>.text``,
+``in.<path>``) and edits the design through :func:`bandcalc.page.state.edit`.
+"""
+
+from __future__ import annotations
+
+import streamlit as st
+
+from ..design import Design
+from ..eseries import series_values
+from ..units import format_code, format_si, parse_quantity, parse_resistance
+from . import state
+from .edit import slider_options, value_at, with_value
+
+__all__ = ["quantity_field", "resistor_control", "shown"]
+
+
+def shown(value: float | None, unit: str) -> str:
+    """A value as the page writes it in a box: ohms in the IEC 60062 code, others with SI prefixes."""
+    if value is None:
+        return ""
+    if unit == "Ohm":
+        return format_code(value, 4) if value > 0 else "0"
+    return format_si(value, unit, 6)
+
+
+def _slid(path: str, label: str, key: str) -> None:
+    state.edit(lambda d: with_value(d, path, float(st.session_state[key])), label, path)
+
+
+def _typed(path: str, label: str, key: str) -> None:
+    old = value_at(state.current_design(), path)
+    try:
+        ohms = parse_resistance(st.session_state[key], f"{label} ({path})")
+    except ValueError as exc:
+        state.say("error", f"{exc}. The design keeps {shown(old, 'Ohm')}.")
+        st.session_state[key] = shown(old, "Ohm")
+        return
+    if not state.edit(lambda d: with_value(d, path, ohms), label, path, kept=shown(old, "Ohm")):
+        st.session_state[key] = shown(old, "Ohm")
+
+
+def resistor_control(label: str, path: str, design: Design, series: str, help: str | None = None) -> None:
+    """Slider over standard values plus a typed exact value, for the resistor at ``path``."""
+    ohms = float(value_at(design, path))
+    slider_key, text_key = f"{state.INPUT_PREFIX}{path}.slider", f"{state.INPUT_PREFIX}{path}.text"
+    st.session_state.setdefault(slider_key, ohms)
+    st.session_state.setdefault(text_key, shown(ohms, "Ohm"))
+    st.select_slider(label, options=slider_options(series, ohms), key=slider_key, help=help,
+                     format_func=lambda v: format_code(v, 4), on_change=_slid, args=(path, label, slider_key))
+    st.text_input(f"{label}, exact value", key=text_key, label_visibility="collapsed",
+                  placeholder="type a value: 4k7 or 4.7k", on_change=_typed, args=(path, label, text_key))
+    if series_values(series, ohms, ohms).size == 0:
+        st.caption(f"{format_code(ohms, 4)} is not an {series} value; it is kept exactly as typed.")
+
+
+def _entered(path: str, label: str, unit: str, key: str, optional: bool) -> None:
+    old = value_at(state.current_design(), path)
+    text = str(st.session_state[key]).strip()
+    what = f"{label} ({path})"
+    try:
+        if not text:
+            if not optional:
+                raise ValueError(f"{what}: needs a value")
+            value = None
+        elif unit == "Ohm":
+            value = parse_resistance(text, what)
+        else:
+            value = parse_quantity(text, unit, what)
+    except ValueError as exc:
+        state.say("error", f"{exc}. The design keeps {shown(old, unit) or 'no value'}.")
+        st.session_state[key] = shown(old, unit)
+        return
+    if not state.edit(lambda d: with_value(d, path, value), label, path, kept=shown(old, unit) or "no value"):
+        st.session_state[key] = shown(old, unit)
+
+
+def quantity_field(label: str, path: str, design: Design, unit: str, *, optional: bool = False,
+                   blank: str = "", help: str | None = None) -> None:
+    """A typed value with SI prefixes for ``path``; ``optional`` fields may be left blank (``blank`` says
+    what a blank means)."""
+    key = f"{state.INPUT_PREFIX}{path}"
+    st.session_state.setdefault(key, shown(value_at(design, path), unit))
+    symbol = "Ω" if unit == "Ohm" else unit
+    st.text_input(f"{label} ({symbol})", key=key, placeholder=blank or None, help=help,
+                  on_change=_entered, args=(path, label, unit, key, optional))

@@ -1,0 +1,55 @@
+"""Panels below the live view, one module each, shown as tabs.
+
+A panel is a module with
+
+    TITLE = "Name on its tab"
+    def render(sheet: Sheet) -> None: ...
+
+listed in :data:`PANELS`.  Only the open tab's panel runs, inside its own ``st.fragment``: a
+widget inside a panel reruns just that panel, and a slider move in the sidebar does not run the
+closed panels at all.  Wrap expensive package calls in ``st.cache_data`` (keyed by the design and
+the panel's own settings) and guard them with :func:`bandcalc.page.compute.guarded`.  To change
+the design from a panel (say, apply a candidate), call
+:func:`bandcalc.page.state.apply_design` after a button press.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from types import ModuleType
+
+import streamlit as st
+
+from ...analysis import Analysis
+from ...design import Design
+from ..compute import guarded
+from . import currents
+
+__all__ = ["PANELS", "Sheet", "render_panels"]
+
+PANELS: tuple[ModuleType, ...] = (currents,)
+_TAB_KEY = "page.panel"
+
+
+@dataclass(frozen=True)
+class Sheet:
+    """What a panel gets: the current design and its analysis."""
+
+    design: Design
+    analysis: Analysis
+
+
+@st.fragment
+def _panel(panel: ModuleType, sheet: Sheet) -> None:
+    guarded(panel.TITLE, panel.render, sheet)
+
+
+def render_panels(sheet: Sheet) -> None:
+    """One tab per panel; only the open one runs."""
+    if not PANELS:
+        return
+    tabs = st.tabs([panel.TITLE for panel in PANELS], key=_TAB_KEY, on_change="rerun")
+    for tab, panel in zip(tabs, PANELS, strict=True):
+        if tab.open:
+            with tab:
+                _panel(panel, sheet)

@@ -1,0 +1,59 @@
+"""Panel: pin voltages, resistor currents and power at both switching points."""
+
+from __future__ import annotations
+
+import streamlit as st
+
+from ...analysis import OperatingPoint
+from ...units import format_si
+
+TITLE = "Currents and power"
+
+__all__ = ["TITLE", "render"]
+
+_PARTS = {
+    "input": "Input resistor",
+    "feedback": "Feedback resistor",
+    "to_positive": "Resistor to the positive rail",
+    "to_negative": "Resistor to the negative rail",
+    "to_ground": "Resistor to ground",
+    "to_reference": "Resistor to the reference",
+    "reference.top": "Divider, upper resistor",
+    "reference.bottom": "Divider, lower resistor",
+    "output.pullup": "Pull-up resistor",
+}
+_RAILS = {"positive": "From the positive rail", "negative": "From the negative rail",
+          "pullup_supply": "From the pull-up supply"}
+
+
+def _at(op: OperatingPoint) -> str:
+    return f"{format_si(op.signal, 'V', 4)} in, output {op.state} before switching"
+
+
+def render(sheet) -> None:
+    """Tables of the network just before each switch, and the worst power in each resistor."""
+    a = sheet.analysis
+    up, low = a.at_upper, a.at_lower
+    st.caption(f"At the upper point: {_at(up)}. At the lower point: {_at(low)}.")
+    pins = {
+        "Node": ["Plus pin (+)", "Minus pin (−)", "Output"],
+        "At the upper point": [format_si(v, "V", 4) for v in (up.plus, up.minus, up.output)],
+        "At the lower point": [format_si(v, "V", 4) for v in (low.plus, low.minus, low.output)],
+    }
+    st.table(pins, hide_index=True)
+    parts = list(a.power)
+    st.table({
+        "Part": [_PARTS.get(k, k) for k in parts],
+        "Current at the upper point": [format_si(up.currents.get(k, 0.0), "A") for k in parts],
+        "Current at the lower point": [format_si(low.currents.get(k, 0.0), "A") for k in parts],
+        "Largest power over the signal range": [format_si(a.power[k], "W") for k in parts],
+    }, hide_index=True)
+    rails = [k for k in _RAILS if k in up.rails or k in low.rails]
+    st.table({
+        "Supply": [_RAILS[k] for k in rails],
+        "At the upper point": [format_si(up.rails.get(k, 0.0), "A") for k in rails],
+        "At the lower point": [format_si(low.rails.get(k, 0.0), "A") for k in rails],
+    }, hide_index=True)
+    st.caption("Currents flow from the signal, the output or the rail towards the + pin; a negative "
+               "current flows the other way. Power is the largest over the signal's range in either "
+               "output state.")

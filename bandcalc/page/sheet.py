@@ -1,0 +1,50 @@
+"""The design sheet put together: sidebar controls, the live view, the panels, the address."""
+
+from __future__ import annotations
+
+import logging
+
+import streamlit as st
+
+from .. import __version__
+from . import state
+from .controls import render_controls
+from .design_file import render_design_file
+from .panels import Sheet, render_panels
+from .results import render_results
+
+__all__ = ["main"]
+
+log = logging.getLogger("bandcalc.page")
+_SHOW = {"error": st.error, "warning": st.warning, "info": st.info, "success": st.success}
+
+
+def main() -> None:
+    """Draw the whole page for the current design; no error reaches the browser as a traceback."""
+    st.set_page_config(page_title="bandcalc · comparator stage with hysteresis", layout="wide",
+                       initial_sidebar_state="expanded")
+    try:
+        _sheet()
+    except ValueError as exc:
+        st.error(str(exc))
+    except Exception:  # Streamlit's own stop/rerun signals are BaseExceptions and pass through
+        log.exception("the page failed")
+        st.error("The page ran into an internal error (logged on the server). Your design is kept in "
+                 "the page address; reload the page, or open a demo design.")
+
+
+def _sheet() -> None:
+    design = state.current_design()
+    with st.sidebar:
+        st.header("Design")
+        render_design_file(design)
+        st.header("Stage")
+        render_controls(design)
+        st.caption(f"bandcalc {__version__}")
+    st.title(design.name or "Comparator stage with hysteresis")
+    for kind, text in state.take_messages():
+        _SHOW[kind](text)
+    analysis = render_results(design)
+    if analysis is not None:
+        render_panels(Sheet(design=design, analysis=analysis))
+    state.write_address(design)

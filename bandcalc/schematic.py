@@ -1,0 +1,189 @@
+"""A schematic of the current stage as SVG text, drawn with schemdraw's SVG canvas.
+
+The comparator sits in the middle with its - input above the + input.  The - input's wiring
+runs to the left above the comparator (the reference in a non-inverting stage, the signal in
+an inverting one); the + pin's summing node runs to the left below it, with each leg hanging
+down from it, and the feedback resistor runs underneath from the output back to the + pin.
+Rails are open terminals marked with their voltage; a reference that two places use is drawn
+once and named "REF" where it is reached again.  Values are written in the IEC 60062 code
+("4k7", "1M5") and volts with SI prefixes.
+
+The drawing depends only on which parts are fitted, so it is made once per topology with a
+placeholder in every value label (:func:`_template`, cached) and the values are written in
+afterwards: a slider move costs a text substitution, not a new drawing.
+"""
+
+from __future__ import annotations
+
+from functools import lru_cache
+from html import escape
+
+import schemdraw
+import schemdraw.elements as elm
+from schemdraw.util import Point
+
+from .design import Design, DividerReference, FixedReference, OpenDrain
+from .units import format_code, format_si
+
+__all__ = ["DESIGNATORS", "stage_labels", "stage_svg"]
+
+# Short names printed beside each part, keyed by design-file path.
+DESIGNATORS = {
+    "source.resistance": "Rsrc",
+    "resistors.input": "Rin",
+    "resistors.feedback": "Rfb",
+    "resistors.to_positive": "Rup",
+    "resistors.to_negative": "Rdn",
+    "resistors.to_ground": "Rgnd",
+    "resistors.to_reference": "Rref",
+    "reference.top": "Rtop",
+    "reference.bottom": "Rbot",
+    "output.pullup": "Rpu",
+}
+# Every value label the drawing can hold, in a fixed order (a placeholder's number is its index).
+_SLOTS = (*DESIGNATORS, "supply.positive", "supply.negative", "reference.volts", "output.pullup_volts")
+_INK = "#1d2433"
+_VALUE = "#2f6f4e"
+_MINUS_Y = 2.2   # height of the - input's wiring above the comparator's axis
+_PLUS_Y = -2.6   # height of the + pin's summing node and of the feedback path
+_LEG_STEP = 3.0  # horizontal spacing of the legs on the + node
+
+
+def _v(volts: float) -> str:
+    return format_si(volts, "V", 4)
+
+
+def stage_labels(design: Design) -> dict[str, str]:
+    """The value label of every part and rail the schematic shows, keyed by design-file path."""
+    vp, vn = design.supply.positive, design.supply.negative
+    ohms = {f"resistors.{k}": v for k, v in design.resistors.present().items()}
+    if design.source.resistance > 0:
+        ohms["source.resistance"] = design.source.resistance
+    labels = {"supply.positive": _v(vp), "supply.negative": _v(vn)}
+    if isinstance(design.reference, FixedReference):
+        labels["reference.volts"] = _v(design.reference.volts)
+    elif isinstance(design.reference, DividerReference):
+        ohms["reference.top"], ohms["reference.bottom"] = design.reference.top, design.reference.bottom
+    if isinstance(design.output, OpenDrain):
+        ohms["output.pullup"] = design.output.pullup
+        labels["output.pullup_volts"] = _v(vp if design.output.pullup_volts is None
+                                           else design.output.pullup_volts)
+    labels.update({path: f"{DESIGNATORS[path]} {format_code(value)}" for path, value in ohms.items()})
+    return labels
+
+
+def _slot(path: str) -> str:
+    """The placeholder drawn where ``path``'s label goes: about as wide as a real label."""
+    return f"#{_SLOTS.index(path):02d}_____"
+
+
+def _value(element: elm.Element, path: str, loc: str | None = None) -> elm.Element:
+    return element.label(_slot(path), loc=loc, color=_VALUE)
+
+
+def _rail(d: schemdraw.Drawing, at: Point, path: str, loc: str = "left") -> None:
+    d.add(_value(elm.Dot(open=True).at(at), path, loc))
+
+
+def _reference(d: schemdraw.Drawing, slots: frozenset[str], at: Point, down_room: float) -> None:
+    """The reference node at ``at`` (its wire arrives from the right), drawn to the left/down."""
+    d.add(elm.Dot().at(at).label("REF", loc="top", color=_INK))
+    if "reference.volts" in slots:
+        src = d.add(_value(elm.SourceV().at(at).down().length(min(2.0, down_room)).reverse(),
+                           "reference.volts", "top"))
+        d.add(elm.Ground().at(src.end))
+    elif "reference.top" in slots:
+        top = d.add(_value(elm.Resistor().at(at).left(), "reference.top"))
+        _rail(d, top.end, "supply.positive")
+        bottom = d.add(_value(elm.Resistor().at(at).down().length(min(3.0, down_room)),
+                              "reference.bottom", "top"))
+        _rail(d, bottom.end, "supply.negative", loc="bottom")
+
+
+def _signal(d: schemdraw.Drawing, slots: frozenset[str], start: Point) -> None:
+    """From ``start`` leftwards: the input resistor, the source resistance, the input terminal."""
+    here = start
+    for path in ("resistors.input", "source.resistance"):
+        if path in slots:
+            here = d.add(_value(elm.Resistor().at(here).left(), path)).end
+    d.add(elm.Dot(open=True).at(here).label("IN", loc="left", color=_INK))
+
+
+def _legs(d: schemdraw.Drawing, stage: str, slots: frozenset[str], node: Point) -> Point:
+    """Legs hanging from the + node, leftwards from ``node``; returns the node's left end."""
+    x = node.x
+    ends = (("to_positive", "supply.positive"), ("to_negative", "supply.negative"), ("to_ground", None),
+            ("to_reference", "REF"))
+    for key, far in ends:
+        if f"resistors.{key}" not in slots:
+            continue
+        x -= _LEG_STEP
+        d.add(elm.Line().at((x + _LEG_STEP, node.y)).to((x, node.y)))
+        d.add(elm.Dot().at((x, node.y)))
+        leg = d.add(_value(elm.Resistor().at((x, node.y)).down(), f"resistors.{key}", "bottom"))
+        if far is None:
+            d.add(elm.Ground().at(leg.end))
+        elif far == "REF" and stage == "inverting":
+            _reference(d, slots, leg.end, down_room=2.0)
+        elif far == "REF":
+            d.add(elm.Dot(open=True).at(leg.end).label("REF", loc="bottom", color=_INK))
+        else:
+            _rail(d, leg.end, far, loc="bottom")
+    return Point((x, node.y))
+
+
+@lru_cache(maxsize=64)
+def _template(stage: str, slots: frozenset[str]) -> str:
+    """The SVG of one topology with a placeholder in each value label."""
+    d = schemdraw.Drawing(canvas="svg", show=False)
+    d.config(fontsize=12, color=_INK, lw=1.6)
+    op = d.add(elm.Opamp(leads=True))
+    # Comparator supply pins.
+    d.add(elm.Line().at(op.vd).up().length(0.6))
+    d.add(_value(elm.Dot(open=True), "supply.positive", "right"))
+    d.add(elm.Line().at(op.vs).down().length(0.6))
+    d.add(_value(elm.Dot(open=True), "supply.negative", "right"))
+    # Output node, output terminal and (open drain) the pull-up.
+    out_node = d.add(elm.Line().at(op.out).right().length(1.0)).end
+    d.add(elm.Dot().at(out_node))
+    d.add(elm.Line().at(out_node).right().length(1.0))
+    d.add(elm.Dot(open=True).label("OUT", loc="right", color=_INK))
+    if "output.pullup" in slots:
+        pullup = d.add(_value(elm.Resistor().at(out_node).up(), "output.pullup", "bottom"))
+        _rail(d, pullup.end, "output.pullup_volts", loc="right")
+    # - input wiring, above.
+    d.add(elm.Line().at(op.in1).left().length(0.8))
+    minus = d.add(elm.Line().up().toy(_MINUS_Y)).end
+    # + input wiring and the feedback path, below.
+    d.add(elm.Line().at(op.in2).left().length(0.8))
+    plus = d.add(elm.Line().down().toy(_PLUS_Y)).end
+    d.add(elm.Dot().at(plus))
+    d.add(elm.Line().at(out_node).down().toy(_PLUS_Y))
+    d.add(_value(elm.Resistor().endpoints((out_node.x, _PLUS_Y), plus), "resistors.feedback", "bottom"))
+    left_of_legs = _legs(d, stage, slots, plus)
+    if stage == "inverting":
+        _signal(d, slots, minus)
+    else:
+        wire = d.add(elm.Line().at(minus).left().length(2.5)).end
+        _reference(d, slots, wire, down_room=_MINUS_Y - _PLUS_Y - 1.6)
+        _signal(d, slots, left_of_legs)
+    return d.get_imagedata("svg").decode("utf-8")
+
+
+def stage_svg(design: Design) -> str:
+    """SVG text of the design's stage, every part labelled with its value.
+
+    Parameters
+    ----------
+    design : Design
+
+    Returns
+    -------
+    str
+        A complete ``<svg>`` document (text drawn as SVG text, so values are searchable).
+    """
+    labels = stage_labels(design)
+    svg = _template(design.stage, frozenset(labels))
+    for path, text in labels.items():
+        svg = svg.replace(_slot(path), escape(text))
+    return svg

@@ -1,0 +1,146 @@
+"""The page in a real browser: Playwright for Python driving Debian's Chromium.
+
+Starts ``streamlit run app.py`` on a free port on 127.0.0.1, then loads the page, moves a
+resistor slider with the keyboard, checks that the switching-point figures and the chart
+change, saves the design file, and reloads to find the same design in the address.  Skipped,
+with the reason, where /usr/bin/chromium or Playwright is absent; browsers are never
+downloaded.
+"""
+
+from __future__ import annotations
+
+import json
+import os
+import socket
+import subprocess
+import sys
+import time
+import urllib.request
+from pathlib import Path
+from urllib.parse import parse_qs, urlsplit
+
+import pytest
+
+from bandcalc.analysis import analyze
+from bandcalc.design import design_from_json, load_design
+from bandcalc.page.address import PARAM, address_to_design
+from bandcalc.page.edit import with_value
+from bandcalc.units import format_si
+
+pytestmark = pytest.mark.browser
+
+ROOT = Path(__file__).parent.parent
+CHROMIUM = Path("/usr/bin/chromium")
+FLAGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
+         "--disable-background-networking", "--disable-component-update", "--disable-sync"]
+SUMP = load_design(ROOT / "demo_data" / "sump_level_switch.json")
+
+if not CHROMIUM.exists():
+    pytest.skip("browser tests need Debian's chromium at /usr/bin/chromium (apt-get install chromium)",
+                allow_module_level=True)
+sync_api = pytest.importorskip("playwright.sync_api",
+                               reason="browser tests need Playwright for Python (pip install playwright)")
+
+
+def free_port() -> int:
+    with socket.socket() as s:
+        s.bind(("127.0.0.1", 0))
+        return s.getsockname()[1]
+
+
+@pytest.fixture(scope="module")
+def server():
+    port = free_port()
+    env = {**os.environ, "PYTHONPATH": str(ROOT)}
+    proc = subprocess.Popen(
+        [sys.executable, "-m", "streamlit", "run", "app.py", "--server.port", str(port),
+         "--server.headless", "true", "--server.address", "127.0.0.1"],
+        cwd=ROOT, env=env, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    url = f"http://127.0.0.1:{port}/"
+    try:
+        deadline = time.monotonic() + 60
+        while True:
+            try:
+                with urllib.request.urlopen(url + "_stcore/health", timeout=2) as reply:
+                    if reply.status == 200:
+                        break
+            except OSError:
+                pass
+            if proc.poll() is not None or time.monotonic() > deadline:
+                pytest.fail(f"streamlit did not start on {url} (exit code {proc.poll()})")
+            time.sleep(0.3)
+        yield url
+    finally:
+        proc.terminate()
+        try:
+            proc.wait(timeout=15)
+        except subprocess.TimeoutExpired:
+            proc.kill()
+            proc.wait()
+
+
+@pytest.fixture(scope="module")
+def browser():
+    with sync_api.sync_playwright() as p:
+        chromium = p.chromium.launch(executable_path=str(CHROMIUM), args=FLAGS)
+        yield chromium
+        chromium.close()
+
+
+def metrics(page) -> list[str]:
+    return page.locator("[data-testid='stMetricValue']").all_inner_texts()
+
+
+def chart_labels(page) -> list[str]:
+    return page.locator(".js-plotly-plot").first.evaluate(
+        "el => Array.from(el.querySelectorAll('text')).map(t => t.textContent)")
+
+
+def feedback_in_address(url: str) -> float | None:
+    values = parse_qs(urlsplit(url).query).get(PARAM)
+    return address_to_design(values[0]).resistors.feedback if values else None
+
+
+def wait_for(condition, what: str, timeout: float = 20.0) -> None:
+    deadline = time.monotonic() + timeout
+    while not condition():
+        if time.monotonic() > deadline:
+            pytest.fail(f"timed out waiting for {what}")
+        time.sleep(0.2)
+
+
+def test_slider_by_keyboard_save_and_reload(server, browser, tmp_path):
+    page = browser.new_page(viewport={"width": 1500, "height": 1000})
+    page.goto(server)
+    page.wait_for_selector("[data-testid='stMetricValue']", timeout=60_000)
+    before = analyze(SUMP)
+    upper = format_si(before.upper, "V", 4)
+    wait_for(lambda: metrics(page)[:2] == [upper, format_si(before.lower, "V", 4)], "the demo's figures")
+    wait_for(lambda: f"Upper {upper}" in chart_labels(page), "the chart's point labels")
+
+    # Keyboard: focus the feedback resistor's slider and step one E24 value up (39k -> 43k).
+    slider = page.get_by_role("slider", name="Feedback resistor")
+    assert slider.get_attribute("aria-valuetext") == "39k"
+    slider.focus()
+    page.keyboard.press("ArrowRight")
+    after = analyze(with_value(SUMP, "resistors.feedback", 43e3))
+    moved = [format_si(after.upper, "V", 4), format_si(after.lower, "V", 4)]
+    wait_for(lambda: metrics(page)[:2] == moved, "the figures to follow the slider")
+    wait_for(lambda: f"Upper {moved[0]}" in chart_labels(page), "the chart to follow the slider")
+    assert f"Upper {upper}" not in chart_labels(page)
+    wait_for(lambda: feedback_in_address(page.url) == 43e3, "the new design in the address")
+
+    # Save the design file and read it back.
+    with page.expect_download() as download:
+        page.get_by_role("button", name="Save the design file").click()
+    saved = tmp_path / "saved.json"
+    download.value.save_as(saved)
+    assert design_from_json(saved.read_text()).resistors.feedback == 43e3
+    assert json.loads(saved.read_text())["name"] == "Sump level switch"
+
+    # Reload: the address brings back the same design.
+    page.reload()
+    page.wait_for_selector("[data-testid='stMetricValue']", timeout=60_000)
+    wait_for(lambda: metrics(page)[:2] == moved, "the same figures after a reload")
+    assert page.get_by_role("slider", name="Feedback resistor").get_attribute("aria-valuetext") == "43k"
+    page.close()

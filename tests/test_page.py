@@ -1,0 +1,313 @@
+"""The page, driven headless with Streamlit's AppTest: figures, chart data, controls, messages.
+
+Expected numbers come from the package itself (``analyze``), which its own tests check against
+published examples and lcapy; here the question is whether the page shows them faithfully.
+"""
+
+import base64
+import json
+from pathlib import Path
+
+import numpy as np
+import pytest
+from streamlit.testing.v1 import AppTest
+
+from bandcalc.analysis import analyze
+from bandcalc.design import design_to_json, load_design
+from bandcalc.page.address import PARAM, address_to_design, design_to_address
+from bandcalc.page.edit import with_value
+from bandcalc.page.results import FIGURES
+from bandcalc.units import format_si
+
+ROOT = Path(__file__).parent.parent
+APP = str(ROOT / "app.py")
+SUMP = load_design(ROOT / "demo_data" / "sump_level_switch.json")
+FEEDBACK = "in.resistors.feedback"
+INPUT = "in.resistors.input"
+
+
+def page(query: dict | None = None) -> AppTest:
+    at = AppTest.from_file(APP, default_timeout=60)
+    at.query_params.update(query or {})
+    return at.run()
+
+
+def figures(at: AppTest) -> dict[str, str]:
+    return {m.label: m.value for m in at.metric}
+
+
+def expected(design) -> dict[str, str]:
+    a = analyze(design)
+    return {label: format_si(getattr(a, attr), "V", 4) for label, attr, _ in FIGURES}
+
+
+def chart(at: AppTest) -> dict:
+    (element,) = at.get("plotly_chart")
+    return json.loads(element.proto.spec)
+
+
+def numbers(array) -> np.ndarray:
+    """A Plotly JSON array: a plain list, or typed binary data ({"dtype", "bdata"})."""
+    if isinstance(array, dict):
+        return np.frombuffer(base64.b64decode(array["bdata"]), dtype=array["dtype"])
+    return np.asarray(array, dtype=float)
+
+
+def design_on(at: AppTest):
+    return address_to_design(at.query_params[PARAM])
+
+
+def errors(at: AppTest) -> list[str]:
+    return [e.value for e in at.error]
+
+
+def test_default_page_shows_the_sump_demo():
+    at = page()
+    assert not at.exception and not errors(at)
+    assert figures(at) == expected(SUMP)
+    assert figures(at)["Upper switching point"] == "3.136 V"  # analyze() of demo_data/sump_level_switch.json
+    assert at.title[0].value == "Sump level switch"
+    assert design_on(at) == SUMP
+
+
+def test_chart_holds_both_branches_points_and_band():
+    at = page()
+    spec = chart(at)
+    a = analyze(SUMP)
+    rising, falling, points = spec["data"]
+    assert (rising["name"], falling["name"]) == ("Rising input", "Falling input")
+    assert points["x"] == pytest.approx([a.upper, a.lower])
+    assert points["text"] == [f"Upper {format_si(a.upper, 'V', 4)}", f"Lower {format_si(a.lower, 'V', 4)}"]
+    band = spec["layout"]["shapes"][0]
+    assert (band["x0"], band["x1"]) == pytest.approx((a.lower, a.upper))
+    # The branches run between the output levels reached (loaded output, see transfer.py).
+    assert min(numbers(rising["y"])) == pytest.approx(min(numbers(falling["y"])))
+    assert np.isclose(numbers(rising["y"]), a.output_low, rtol=0, atol=1e-12).any()
+    assert np.isclose(numbers(falling["y"]), a.output_high, rtol=0, atol=1e-12).any()
+
+
+def test_schematic_shows_the_values():
+    at = page()
+    url = at.image[0].proto.imgs[0].url
+    assert url.startswith("data:image/svg+xml;base64,")
+    svg = base64.b64decode(url.split(",", 1)[1]).decode()
+    assert "Rfb 39k" in svg and "Rin 10k" in svg and "2.5 V" in svg
+
+
+def test_moving_a_resistor_slider_changes_figures_and_chart():
+    at = page()
+    before = chart(at)["data"][2]["x"]
+    at.select_slider(key=f"{FEEDBACK}.slider").set_value(47e3).run()
+    moved = with_value(SUMP, "resistors.feedback", 47e3)
+    assert not at.exception and not errors(at)
+    assert figures(at) == expected(moved)
+    assert figures(at) != expected(SUMP)
+    a = analyze(moved)
+    after = chart(at)["data"][2]["x"]
+    assert after == pytest.approx([a.upper, a.lower]) and after != pytest.approx(before)
+    assert at.text_input(key=f"{FEEDBACK}.text").value == "47k"  # the typed box follows the slider
+    assert design_on(at).resistors.feedback == 47e3
+
+
+def test_typing_the_iec_code_sets_the_exact_value():
+    at = page()
+    at.text_input(key=f"{INPUT}.text").input("4k7").run()
+    assert not errors(at)
+    assert at.select_slider(key=f"{INPUT}.slider").value == 4700.0
+    assert figures(at) == expected(with_value(SUMP, "resistors.input", 4700.0))
+    at.text_input(key=f"{INPUT}.text").input("4.7k").run()  # the SI notation reads the same
+    assert design_on(at).resistors.input == 4700.0
+
+
+def test_a_typed_value_outside_the_series_is_kept_exactly():
+    at = page()
+    at.text_input(key=f"{INPUT}.text").input("4k75").run()
+    assert at.select_slider(key=f"{INPUT}.slider").value == 4750.0
+    assert design_on(at).resistors.input == 4750.0
+    assert any("4k75 is not an E24 value" in c.value for c in at.caption)
+
+
+def test_bad_typed_value_names_the_field_and_keeps_the_old_value():
+    at = page()
+    at.text_input(key=f"{INPUT}.text").input("4k7x").run()
+    assert not at.exception
+    (message,) = errors(at)
+    assert "Input resistor" in message and "'4k7x'" in message and "keeps 10k" in message
+    assert figures(at) == expected(SUMP)
+    assert at.text_input(key=f"{INPUT}.text").value == "10k"
+    assert design_on(at) == SUMP
+
+
+def test_a_value_the_design_refuses_is_explained():
+    at = page()
+    at.text_input(key="in.supply.negative").input("6").run()  # above the 5 V positive rail
+    (message,) = errors(at)
+    assert message.startswith("Negative rail (supply.negative)") and "positive rail" in message
+    assert figures(at) == expected(SUMP)
+
+
+def test_the_address_carries_the_design_across_a_reload():
+    at = page()
+    at.select_slider(key=f"{FEEDBACK}.slider").set_value(68e3).run()
+    address = at.query_params[PARAM]
+    again = page({PARAM: address})  # a new session, as after a reload or from a shared link
+    assert figures(again) == figures(at)
+    assert design_on(again).resistors.feedback == 68e3
+    assert again.select_slider(key=f"{FEEDBACK}.slider").value == 68e3
+
+
+def test_a_garbled_address_gives_a_message_and_the_demo():
+    at = page({PARAM: design_to_address(SUMP)[:-20] + "%%%"})
+    assert not at.exception
+    (message,) = errors(at)
+    assert "page address (design=...)" in message and "demo design is shown instead" in message
+    assert figures(at) == expected(SUMP)
+
+
+def test_a_bad_design_file_keeps_the_current_design():
+    at = page()
+    at.file_uploader[0].set_value(("broken.json", b'{"format": 1, "stage": ', "application/json")).run()
+    assert not at.exception
+    (message,) = errors(at)
+    assert message.startswith("broken.json: not valid JSON") and "current design is kept" in message
+    assert figures(at) == expected(SUMP)
+    wrong = b'{"format": 1, "stage": "sideways", "supply": {"positive": 5}, "resistors": {"feedback": 1e3}}'
+    at.file_uploader[0].set_value(("wrong.json", wrong, "application/json")).run()
+    assert "stage: 'sideways' is not a stage kind" in errors(at)[0]
+
+
+def test_a_good_design_file_replaces_the_design():
+    other = load_design(ROOT / "demo_data" / "rain_tank_overflow.json")
+    at = page()
+    at.file_uploader[0].set_value(("tank.json", design_to_json(other).encode(), "application/json")).run()
+    assert not errors(at)
+    assert figures(at) == expected(other)
+    assert at.title[0].value == other.name
+    assert at.select_slider(key=f"{FEEDBACK}.slider").value == other.resistors.feedback
+
+
+def test_save_offers_the_design_file():
+    at = page()
+    (button,) = at.get("download_button")
+    assert button.proto.label == "Save the design file"
+
+
+def test_demo_chooser_opens_a_demo():
+    at = page()
+    at.selectbox(key="page.demo").set_value("magnetic_speed_pickup").run()
+    pickup = load_design(ROOT / "demo_data" / "magnetic_speed_pickup.json")
+    assert figures(at) == expected(pickup)
+    assert design_on(at) == pickup
+
+
+def test_stage_output_and_section_controls():
+    at = page()
+    for name in ("output", "comparator", "source"):
+        at.session_state[f"page.section.{name}"] = True
+    at.run()
+    at.radio(key="in.output.kind").set_value("open-drain").run()
+    assert design_on(at).output.kind == "open-drain"
+    assert at.select_slider(key="in.output.pullup.slider").value == 1800.0
+    at.text_input(key="in.comparator.offset").input("-3 mV").run()
+    assert design_on(at).comparator.offset == -0.003
+    at.text_input(key="in.source.high").input("").run()  # blank: the positive rail
+    assert design_on(at).source.high is None
+    at.text_input(key="in.comparator.delay").input("fast").run()
+    assert "Propagation delay (comparator.delay): cannot read 'fast'" in errors(at)[0]
+    at.radio(key="in.stage").set_value("inverting").run()
+    assert design_on(at).stage == "inverting"
+    assert not at.exception
+
+
+def test_legs_and_reference_controls():
+    at = page()
+    at.multiselect(key="in.resistors.legs").set_value(["to_ground"]).run()
+    assert design_on(at).resistors.to_ground == 100e3
+    at.select_slider(key="in.resistors.to_ground.slider").set_value(22e3).run()
+    assert figures(at) == expected(design_on(at))
+    at.radio(key="in.reference.kind").set_value("divider").run()
+    assert design_on(at).reference.top == 10e3
+    at.select_slider(key="in.reference.top.slider").set_value(12e3).run()
+    assert design_on(at).reference.top == 12e3
+    assert not at.exception and not errors(at)
+
+
+def test_series_choice_changes_the_slider_steps():
+    at = page()
+    assert len(at.select_slider(key=f"{FEEDBACK}.slider").options) == 3 * 24
+    at.selectbox(key="page.series").set_value("E96").run()
+    assert len(at.select_slider(key=f"{FEEDBACK}.slider").options) == 3 * 96 + 1  # 39k is not in E96
+
+
+@pytest.mark.parametrize("stem", ["sump_level_switch", "strain_overload_alarm"])
+def test_findings_and_cautions_are_shown(stem):
+    design = load_design(ROOT / "demo_data" / f"{stem}.json")
+    hazardous = with_value(design, "source.high", 60.0)  # a watched voltage above 50 V
+    at = page({PARAM: design_to_address(hazardous)})
+    assert any(e.value.startswith("Hazardous voltage") for e in at.error)
+    assert figures(at) == expected(hazardous)
+
+
+def test_panel_tables_show_currents():
+    at = page()
+    tables = at.table
+    assert len(tables) == 3
+    a = analyze(SUMP)
+    pins = tables[0].value
+    assert list(pins["At the upper point"]) == [format_si(v, "V", 4) for v in
+                                                (a.at_upper.plus, a.at_upper.minus, a.at_upper.output)]
+
+
+def test_an_unexpected_error_is_explained_without_a_traceback():
+    def script():
+        from bandcalc.page.compute import guarded
+
+        guarded("Sum", lambda: 1 / 0)
+
+    at = AppTest.from_function(script).run()
+    assert not at.exception
+    assert at.error[0].value.startswith("Sum: could not be worked out for this design")
+
+
+def test_a_panel_plugs_in_and_can_apply_a_design(monkeypatch):
+    # The contract later panels follow (DEVELOPERS.md, "Adding a panel"): a module with TITLE and
+    # render(sheet), listed in PANELS; apply_design() after a button press changes the design.
+    import types
+
+    import streamlit as st
+
+    from bandcalc.page import panels, state
+
+    trial = types.ModuleType("trial")
+    trial.TITLE = "Trial"
+
+    def render(sheet):
+        st.write(f"Panel sees feedback {sheet.design.resistors.feedback:g}")
+        if st.button("Use 47k"):
+            state.apply_design(with_value(sheet.design, "resistors.feedback", 47e3), "Applied 47k.")
+
+    trial.render = render
+    monkeypatch.setattr(panels, "PANELS", (*panels.PANELS, trial))
+    at = page()
+    assert [t.label for t in at.tabs] == ["Currents and power", "Trial"]
+    assert not any("Panel sees" in m.value for m in at.markdown)  # a closed tab does not run
+    at.session_state["page.panel"] = "Trial"
+    at.run()
+    assert any(m.value == "Panel sees feedback 39000" for m in at.markdown)
+    next(b for b in at.button if b.label == "Use 47k").click().run()
+    assert figures(at) == expected(with_value(SUMP, "resistors.feedback", 47e3))
+    assert at.select_slider(key=f"{FEEDBACK}.slider").value == 47e3
+    assert [s.value for s in at.success] == ["Applied 47k."]
+
+
+def test_an_internal_error_in_the_page_is_explained(monkeypatch):
+    from bandcalc.page import sheet
+
+    def broken(design):
+        raise RuntimeError("boom")
+
+    monkeypatch.setattr(sheet, "render_results", broken)
+    at = page()
+    assert not at.exception
+    assert any(e.value.startswith("The page ran into an internal error") for e in at.error)
+    assert not any("boom" in e.value for e in at.error)
