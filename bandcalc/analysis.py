@@ -31,6 +31,7 @@ __all__ = [
     "analysis_to_dict",
     "analyze",
     "branch_currents",
+    "is_protective",
 ]
 
 # Above about 1 Mohm, board leakage and bias current start to matter (common practice).
@@ -286,11 +287,31 @@ def _cautions(design: Design, watched: WatchedPoints | None = None) -> list[str]
     if isinstance(design.output, OpenDrain) and design.output.pullup_volts is not None:
         levels.append(design.output.pullup_volts)
     top = max(abs(v) for v in levels if not math.isnan(v))
-    if top <= HAZARD_VOLTS:
-        return []
-    return [f"Hazardous voltage: this design works with up to {_v(top)}. bandcalc is a design aid, not "
-            f"a safety-rated protection; follow local codes and licensed practice, and use certified "
-            f"protective parts where a standard requires them."]
+    out = []
+    if top > HAZARD_VOLTS:
+        out.append(f"Hazardous voltage: this design works with up to {_v(top)}. {_DEFER}")
+    if is_protective(design):
+        out.append("Protective function: this stage guards people or property (a disconnect, cut-off or "
+                   f"alarm). {_DEFER} Test the finished circuit at its limits before relying on it.")
+    return out
+
+
+_DEFER = ("bandcalc is a design aid, not a safety-rated protection; follow local codes and licensed "
+          "practice, and use certified protective parts where a standard requires them.")
+# Words that mark a stage guarding people or property when the design does not say (DOMAIN.md:
+# battery protection, heater cut-off); matching errs on the side of showing the caution.
+PROTECTIVE_WORDS = ("protect", "disconnect", "cut-off", "cutoff", "cut off", "overvoltage",
+                    "over-voltage", "undervoltage", "under-voltage", "overtemperature",
+                    "over-temperature", "overcurrent", "over-current", "overload", "heater", "battery",
+                    "charger", "mains", "safety", "alarm", "trip")
+
+
+def is_protective(design: Design) -> bool:
+    """Whether the stage guards people or property: the design's ``protective`` flag, else its words."""
+    if design.protective is not None:
+        return design.protective
+    text = f"{design.name} {design.notes}".lower()
+    return any(word in text for word in PROTECTIVE_WORDS)
 
 
 def _stage_at(design: Design, x: float, which: str) -> Design:

@@ -230,6 +230,7 @@ class Design:
     name: str = ""
     notes: str = ""
     tolerances: Tolerances | None = None  # spread of the parts; None: see bandcalc.spread
+    protective: bool | None = None  # guards people or property; None: judged from name and notes
 
     def __post_init__(self) -> None:
         if self.stage not in STAGES:
@@ -265,7 +266,7 @@ class Design:
 # --- JSON ------------------------------------------------------------------------------------
 
 _TOP_KEYS = ("format", "name", "notes", "stage", "supply", "reference", "resistors", "output",
-             "comparator", "source", "tolerances", "front_end")
+             "comparator", "source", "tolerances", "front_end", "protective")
 _UNITS = {"volts": "V", "offset": "V", "bias_current": "A", "delay": "s", "load_capacitance": "F",
           "high_drop": "V", "low_drop": "V", "pullup_volts": "V", "low_volts": "V",
           "positive": "V", "negative": "V", "common_mode_low": "V", "common_mode_high": "V",
@@ -355,6 +356,8 @@ def design_from_dict(data: Any) -> Design:
     for key in ("name", "notes"):
         if not isinstance(data.get(key, ""), str):
             raise DesignError(f"{key}: must be text")
+    if data.get("protective") not in (None, True, False):
+        raise DesignError("protective: must be true or false (or left out)")
     resistors = _section(data["resistors"], "resistors", RESISTOR_KEYS, ("feedback",))
     return Design(
         stage=data["stage"],
@@ -367,6 +370,7 @@ def design_from_dict(data: Any) -> Design:
         front_end=_front_end_from(data.get("front_end")),
         name=data.get("name", ""),
         notes=data.get("notes", ""),
+        protective=data.get("protective"),
         tolerances=_tolerances_from(data.get("tolerances")),
     )
 
@@ -384,8 +388,10 @@ def _dropping_none(obj: Any) -> dict:
 
 def design_to_dict(design: Design) -> dict:
     """The JSON shape of a design; ``design_from_dict(design_to_dict(d)) == d``."""
-    out: dict[str, Any] = {"format": FORMAT, "name": design.name, "notes": design.notes,
-                           "stage": design.stage, "supply": _dropping_none(design.supply)}
+    out: dict[str, Any] = {"format": FORMAT, "name": design.name, "notes": design.notes}
+    if design.protective is not None:
+        out["protective"] = design.protective
+    out.update({"stage": design.stage, "supply": _dropping_none(design.supply)})
     if isinstance(design.reference, FixedReference):
         out["reference"] = {"volts": design.reference.volts}
     elif isinstance(design.reference, DividerReference):

@@ -16,7 +16,9 @@ from dataclasses import dataclass
 from . import __version__
 from .analysis import Analysis, analyze
 from .design import Design, DividerReference, FixedReference, OpenDrain, design_to_dict
-from .units import format_code, format_si
+from .frontend import DividerFrontEnd, LinearFrontEnd, ThermistorFrontEnd
+from .tolerances import series_tolerance
+from .units import format_code, format_si, format_value
 
 __all__ = [
     "SummaryInputs",
@@ -43,6 +45,9 @@ _POSITION = {
     "reference.top": "reference divider, positive rail side",
     "reference.bottom": "reference divider, negative rail side",
     "output.pullup": "output pull-up",
+    "front_end.top": "sense divider, from the measured voltage",
+    "front_end.bottom": "sense divider, to ground",
+    "front_end.fixed": "thermistor divider, fixed resistor",
 }
 
 # Characters that can open markup anywhere in a line (GFM tables and strikethrough included);
@@ -84,15 +89,6 @@ class SummaryInputs:
     signal: object | None = None
 
 
-def _series_of(ohms: float) -> str:
-    from .eseries import SERIES
-
-    for name in ("E24", "E48", "E96", "E192"):
-        if any(abs(ohms - m * 10.0**e) <= 1e-9 * ohms for m in SERIES[name] for e in range(-1, 10)):
-            return name
-    return "none"
-
-
 def _rating(watts: float) -> str:
     need = watts * DERATING
     for watts_rated, label in POWER_RATINGS:
@@ -101,36 +97,57 @@ def _rating(watts: float) -> str:
     return "above 2 W: use a power resistor"
 
 
-def component_rows(a: Analysis) -> list[dict[str, str]]:
-    """One row per resistor: designator, position, value, series, tolerance, power."""
-    d = a.design
+def _resistor_values(d: Design) -> dict[str, float]:
+    """Every resistor of the design in ohms, keyed by its parameter name (without "resistors.")."""
     values = dict(d.resistors.present())
     if isinstance(d.reference, DividerReference):
         values["reference.top"], values["reference.bottom"] = d.reference.top, d.reference.bottom
     if isinstance(d.output, OpenDrain):
         values["output.pullup"] = d.output.pullup
-    tolerances = _tolerances(d)
+    if d.front_end is not None:
+        values.update(d.front_end.resistors())
+    return values
+
+
+def _tolerance_text(d: Design, key: str, ohms: float) -> tuple[str, str]:
+    """(series, tolerance) of a resistor: the design's tolerances section, else its series' usual one."""
+    percent, series = series_tolerance(ohms)
+    given = d.tolerances.resistors.get(key) if d.tolerances is not None else None
+    if given is not None:
+        return series or "none", f"{given:g} %"
+    return series or "none", f"{percent:g} % (usual for {series})" if series else f"{percent:g} % (assumed)"
+
+
+def component_rows(a: Analysis) -> list[dict[str, str]]:
+    """One row per part: designator, position, value, series, tolerance, power."""
+    d = a.design
     rows = []
-    for i, (key, ohms) in enumerate(values.items(), start=1):
-        series = _series_of(ohms)
+    for i, (key, ohms) in enumerate(_resistor_values(d).items(), start=1):
+        series, tolerance = _tolerance_text(d, key, ohms)
+        watts = a.power.get(key, 0.0)
         rows.append({
             "designator": f"R{i}",
             "position": _POSITION[key].format(pin="-" if d.inverting else "+"),
             "key": key,
             "value": _ohm(ohms),
             "series": series,
-            "tolerance": tolerances.get(key, "not given"),
-            "power": f"{format_si(a.power.get(key, 0.0), 'W')} (rate {_rating(a.power.get(key, 0.0))})",
+            "tolerance": tolerance,
+            "power": f"{format_si(watts, 'W')} (rate {_rating(watts)})",
+        })
+    fe = d.front_end
+    if isinstance(fe, ThermistorFrontEnd):
+        model = (f"Beta {fe.beta:g} K" if fe.beta is not None else
+                 "Steinhart-Hart " + ", ".join(f"{c:.6g}" for c in fe.steinhart_hart))
+        tol = [f"R25 {fe.r25_tolerance:g} %" if fe.r25_tolerance is not None else "",
+               f"Beta {fe.beta_tolerance:g} %" if fe.beta_tolerance is not None else ""]
+        rows.append({
+            "designator": "TH1", "position": f"NTC thermistor, {fe.position} of its divider",
+            "key": "front_end.thermistor", "value": f"{format_si(fe.nominal_r25, 'Ohm')} at 25 C, {model}",
+            "series": "n/a", "tolerance": ", ".join(t for t in tol if t) or "not given",
+            "power": "see the self-heating finding" if any("Self-heating" in f for f in a.findings)
+            else "negligible self-heating",
         })
     return rows
-
-
-def _tolerances(d: Design) -> dict[str, str]:
-    """Tolerance text per resistor key, from the design's tolerances when it has them."""
-    tol = getattr(d, "tolerances", None)
-    if tol is None or not hasattr(tol, "resistor_percent"):
-        return {}
-    return {key: f"{tol.resistor_percent(key, ohms):g} %" for key, ohms in d.resistors.present().items()}
 
 
 def stage_in_words(d: Design) -> str:
@@ -159,16 +176,87 @@ def stage_in_words(d: Design) -> str:
     if isinstance(out, OpenDrain):
         pu = "the positive rail" if out.pullup_volts is None else _v(out.pullup_volts)
         low = "the negative rail" if out.low_volts is None else _v(out.low_volts)
-        parts.append(f"Open-drain output, pulled up by {_ohm(out.pullup)} to {pu}; low level {low}.")
+        parts.append(f"Open-drain output, pulled up by {_ohm(out.pullup)} to {pu}; low level at {low}.")
     else:
         parts.append(f"Push-pull output, {_v(out.high_drop)} below the positive rail when high, "
                      f"{_v(out.low_drop)} above the negative rail when low, "
                      f"{format_si(out.resistance, 'Ohm')} output resistance.")
+    parts += _front_end_words(d)
     c = d.comparator
     parts.append(f"Comparator: offset {_v(c.offset)}, bias current {format_si(c.bias_current, 'A')} "
                  f"into each pin, propagation delay {format_si(c.delay, 's')}; "
                  f"source resistance {format_si(d.source.resistance, 'Ohm')}.")
     return " ".join(parts)
+
+
+def _front_end_words(d: Design) -> list[str]:
+    fe = d.front_end
+    if isinstance(fe, DividerFrontEnd):
+        return [f"Ahead of the stage, a sense divider of {_ohm(fe.top)} over {_ohm(fe.bottom)} brings "
+                f"the measured voltage down; the stage sees its Thevenin equivalent."]
+    if isinstance(fe, ThermistorFrontEnd):
+        exc = {"positive": "the positive rail", "reference": "the reference"}.get(fe.excitation) \
+            if isinstance(fe.excitation, str) else _v(fe.excitation)
+        return [f"Ahead of the stage, an NTC thermistor sits at the {fe.position} of a divider with "
+                f"{_ohm(fe.fixed)}, fed from {exc}; the stage sees the divider's Thevenin equivalent."]
+    if isinstance(fe, LinearFrontEnd):
+        return [f"Ahead of the stage, a linear sensor gives {_v(fe.offset)} + "
+                f"{_v(fe.volts_per_unit)} per {fe.unit} behind {format_si(fe.resistance, 'Ohm')}."]
+    return []
+
+
+def _points_rows(a: Analysis, spread) -> tuple[list[str], list[list[str]]]:
+    """The switching-points table: nominal, and the spread's worst case and 99.73 % range if run."""
+    unit = a.watched_unit or "V"
+    q = lambda x: format_value(x, unit, 4)  # noqa: E731
+    header = ["Quantity", "Nominal"]
+    if spread is not None:
+        header += ["Worst case, least", "Worst case, greatest", "0.135 % of builds", "99.865 % of builds"]
+
+    def row(label: str, key: str, nominal: float) -> list[str]:
+        out = [label, q(nominal)]
+        if spread is not None:
+            wc, mc = getattr(spread.worst_case, key), getattr(spread.monte_carlo, key)
+            out += [q(wc.min), q(wc.max), q(mc.percentiles[0.135]), q(mc.percentiles[99.865])]
+        return out
+
+    blank = [""] * (len(header) - 2)
+    if a.watched is None:
+        rows = [row("Upper switching point (rising signal)", "upper", a.upper),
+                row("Lower switching point (falling signal)", "lower", a.lower),
+                row("Hysteresis", "hysteresis", a.hysteresis),
+                ["Centre", _v(a.centre), *blank]]
+    else:
+        rows = [row("Upper switching point of the watched quantity", "upper", a.upper_watched),
+                row("Lower switching point of the watched quantity", "lower", a.lower_watched),
+                row("Hysteresis in the watched quantity", "hysteresis", a.upper_watched - a.lower_watched),
+                ["Stage upper / lower point (volts at the stage's source)",
+                 f"{_v(a.upper)} / {_v(a.lower)}", *blank]]
+    rows += [["Output level reached, high", _v(a.output_high), *blank],
+             ["Output level reached, low", _v(a.output_low), *blank],
+             ["Largest current from the positive rail", format_si(a.network_current, "A"), *blank]]
+    return header, rows
+
+
+def _spread_section(spread) -> list[str]:
+    """How the spread was run, the yield and the parts that matter most (bandcalc.spread.Spread)."""
+    mc, se = spread.monte_carlo, spread.sensitivity
+    kind = ("normal, a tolerance taken as 3 sigma" if spread.tolerances.distribution == "normal"
+            else "uniform within each tolerance")
+    lines = [f"Worst case over {spread.worst_case.method} ({spread.worst_case.evaluated:,} evaluations); "
+             f"Monte Carlo over {mc.samples:,} builds, {kind}, seed {mc.seed}.", ""]
+    varied = ", ".join(f"{f.name} ({f.origin})" for f in spread.factors) or "nothing: every part exact"
+    lines += [f"Varied: {varied}.", ""]
+    y = mc.build_yield
+    if y is not None:
+        lines += [f"Yield against the limits: {100 * y.fraction:.3f} % of builds "
+                  f"(95 % interval {100 * y.low:.3f} % to {100 * y.high:.3f} %).", ""]
+    rows = []
+    for name in ("upper", "lower", "hysteresis"):
+        top = [f"{sh.factor} {100 * sh.share:.0f} %" for sh in getattr(se, name)[:3] if sh.share >= 0.005]
+        rows.append([name, ", ".join(top) or "none"])
+    lines += _table(["Quantity", "Largest shares of its spread (first order)"], rows)
+    return lines
 
 
 def _table(header: list[str], rows: list[list[str]]) -> list[str]:
@@ -207,7 +295,8 @@ ASSUMPTIONS = (
     "infinite gain, no input current other than the bias current, no internal hysteresis.",
     "Each output state is a Thevenin source: push-pull level behind its output resistance, or the "
     "pull-up for an open-drain output high and an ideal sink at the low level.",
-    "Switching points are in volts of the signal source's open-circuit voltage.",
+    "Switching points are in volts of the signal source's open-circuit voltage, or in the watched "
+    "quantity where a front end is given (the stage then sees the front end's Thevenin equivalent).",
     "Resistor power is the largest over the signal's range in either output state (conservative); "
     "ratings are chosen at twice that (common practice).",
 )
@@ -237,19 +326,19 @@ def design_summary(design: Design, inputs: SummaryInputs | None = None, *,
                   [[r["designator"], r["position"], r["value"], r["series"], r["tolerance"], r["power"]]
                   for r in component_rows(a)])
     md += ["", "## Switching points", ""]
-    md += _table(["Quantity", "Nominal"], [
-        ["Upper switching point (rising signal)", _v(a.upper)],
-        ["Lower switching point (falling signal)", _v(a.lower)],
-        ["Hysteresis", _v(a.hysteresis)],
-        ["Centre", _v(a.centre)],
-        ["Output level reached, high", _v(a.output_high)],
-        ["Output level reached, low", _v(a.output_low)],
-        ["Largest current from the positive rail", format_si(a.network_current, "A")],
-    ])
+    md += _table(*_points_rows(a, inputs.spread))
+    if inputs.spread is not None:
+        md += ["", "## Spread over tolerances and temperature", ""] + _spread_section(inputs.spread)
     if inputs.signal is not None:
         md += ["", "## Noise and delay", ""] + _signal_section(inputs.signal)
+    if inputs.spread is not None:
+        notes = [n for n in inputs.spread.notes]
+        findings_extra = notes
+    else:
+        findings_extra = []
     md += ["", "## Findings", ""]
-    md += [f"- {f}" for f in a.findings] or ["No findings: the checks found nothing to report."]
+    md += [f"- {f}" for f in (*a.findings, *findings_extra)] or [
+        "No findings: the checks found nothing to report."]
     md += ["", "## Assumptions", ""] + [f"- {x}" for x in ASSUMPTIONS]
     if a.cautions:
         md += ["", "## Cautions", ""] + [f"> **Caution.** {c}" for c in a.cautions]

@@ -110,3 +110,18 @@ def test_caution_on_hazardous_voltage():
     (caution,) = analyze(d).cautions
     assert "not a safety-rated protection" in caution and "local codes" in caution
     assert analyze(TEXTBOOK).cautions == ()
+
+
+def test_protective_caution_from_the_flag_or_the_words():
+    # DOMAIN.md: a stage guarding people or property (battery protection, heater cut-off) gets
+    # the usual caution. An explicit flag wins; without it, protection words in the name or notes
+    # bring the caution (erring on the side of showing it).
+    words = Design(stage="inverting", supply=Supply(5.0), resistors=Resistors(to_ground=1e4, feedback=1e5),
+                   name="Heater cut-off")
+    cautions = analyze(words).cautions
+    assert any(c.startswith("Protective function") and "licensed practice" in c for c in cautions)
+    quiet = Design(**{**words.__dict__, "protective": False})
+    assert analyze(quiet).cautions == ()
+    flagged = Design(**{**TEXTBOOK.__dict__, "protective": True})
+    assert any(c.startswith("Protective function") for c in analyze(flagged).cautions)
+    assert analyze(TEXTBOOK).cautions == ()

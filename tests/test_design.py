@@ -135,3 +135,11 @@ def test_saved_file_is_the_documented_shape(tmp_path):
     assert data["resistors"] == {"input": 10000.0, "feedback": 220000.0}
     assert data["output"]["kind"] == "push-pull"
     assert data["reference"] == {"volts": 2.5}
+
+
+def test_protective_flag_round_trips_and_is_checked():
+    d = design_from_dict({**EXAMPLE, "protective": True})
+    assert d.protective is True
+    assert design_from_dict(design_to_dict(d)) == d
+    with pytest.raises(DesignError, match="protective: must be true or false"):
+        design_from_dict({**EXAMPLE, "protective": "yes"})

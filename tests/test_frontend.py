@@ -332,7 +332,7 @@ def test_caution_when_the_front_end_watches_a_hazardous_voltage():
                     resistors=Resistors(input=10e3, feedback=1e6))
     (caution,) = analyze(design).cautions
     assert "400 V" in caution and "not a safety-rated protection" in caution and "local codes" in caution
-    assert analyze(load_design(SOLAR)).cautions == ()
+    assert not any(c.startswith("Hazardous") for c in analyze(load_design(SOLAR)).cautions)
 
 
 def test_json_of_analyze_gains_watched_keys_only_with_a_front_end(capsys):

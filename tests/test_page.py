@@ -177,9 +177,9 @@ def test_a_bad_design_file_keeps_the_current_design():
 
 
 def test_a_good_design_file_replaces_the_design():
-    other = load_design(ROOT / "demo_data" / "rain_tank_overflow.json")
+    other = load_design(ROOT / "demo_data" / "magnetic_speed_pickup.json")
     at = page()
-    at.file_uploader[0].set_value(("tank.json", design_to_json(other).encode(), "application/json")).run()
+    at.file_uploader[0].set_value(("pickup.json", design_to_json(other).encode(), "application/json")).run()
     assert not errors(at)
     assert figures(at) == expected(other)
     assert at.title[0].value == other.name

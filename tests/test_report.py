@@ -12,7 +12,7 @@ from bandcalc.design import Design, FixedReference, Resistors, Source, Supply, l
 from bandcalc.network import switching_points
 from bandcalc.report import design_from_summary, design_summary, escape_text
 from bandcalc.signal import run_design
-from bandcalc.units import format_si
+from bandcalc.units import format_si, format_value
 from bandcalc.waveform import synthesize
 
 DEMOS = sorted((Path(__file__).parent.parent / "demo_data").glob("*.json"))
@@ -40,14 +40,21 @@ def test_summary_content_for_each_demo(path):
     for section in ("Purpose and notes", "The stage", "Components", "Switching points", "Findings",
                     "Assumptions", "Design file"):
         assert section in headings
-    assert f"| Upper switching point (rising signal) | {format_si(a.upper, 'V', 4)} |" in text
+    if a.watched is None:
+        assert f"| Upper switching point (rising signal) | {format_si(a.upper, 'V', 4)} |" in text
+    else:
+        shown = format_value(a.upper_watched, a.watched_unit, 4)
+        assert f"| Upper switching point of the watched quantity | {shown} |" in text
     assert "Made with bandcalc" in text and "2026-12-01" in text
     # One component row per resistor, each with a designator R1, R2, ...
     rows = [t for t in _tokens(text) if t.type == "tr_open"]
     n_parts = len(d.resistors.present()) + (2 if d.reference.__class__.__name__ == "DividerReference"
                                             else 0) + (1 if d.output.kind == "open-drain" else 0)
+    n_parts += len(d.front_end.resistors()) if d.front_end is not None else 0
     assert sum(1 for line in text.splitlines() if line.startswith("| R")) == n_parts
     assert len(rows) >= n_parts + 1
+    if d.front_end is not None and d.front_end.kind == "thermistor":
+        assert "| TH1 | NTC thermistor, bottom of its divider |" in text
 
 
 @pytest.mark.parametrize("path", DEMOS, ids=lambda p: p.stem)
@@ -125,3 +132,16 @@ def test_report_command_writes_file(tmp_path):
     out = tmp_path / "summary.md"
     assert main(["report", str(DEMOS[0]), "-o", str(out)]) == 0
     assert design_from_summary(out.read_text()) == load_design(DEMOS[0])
+
+
+def test_spread_section_and_columns():
+    from bandcalc.spread import spread
+
+    d = load_design(DEMOS[0].parent / "sump_level_switch.json")
+    s = spread(d, samples=5_000)
+    text = design_summary(d, type("Inputs", (), {"spread": s, "signal": None, "fit": None})())
+    assert "## Spread over tolerances and temperature" in text
+    lo, hi = format_si(s.worst_case.upper.min, "V", 4), format_si(s.worst_case.upper.max, "V", 4)
+    nominal = format_si(analyze(d).upper, "V", 4)
+    assert f"| Upper switching point (rising signal) | {nominal} | {lo} | {hi} |" in text
+    assert "Yield against the limits" in text
