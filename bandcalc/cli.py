@@ -173,10 +173,11 @@ def _cmd_signal(args: argparse.Namespace) -> int:
 
 
 def _cmd_report(args: argparse.Namespace) -> int:
-    from .report import design_summary
+    from .report import SummaryInputs, design_summary
 
     def work(path: str, design: Design) -> object:
-        return design_summary(design)
+        run = spread(design, samples=args.samples, seed=args.seed) if args.spread else None
+        return design_summary(design, SummaryInputs(spread=run))
 
     results, status = _for_each_file([args.file], work)
     if not results:
@@ -320,6 +321,10 @@ def _parser() -> argparse.ArgumentParser:
     p = sub.add_parser("report", help="write the design summary (Markdown)")
     p.add_argument("file", metavar="FILE", help="design file (JSON)")
     p.add_argument("-o", "--output", metavar="OUT.md", help="write to this file instead of printing")
+    p.add_argument("--spread", action="store_true", help="include the spread over tolerances")
+    p.add_argument("--samples", type=_samples, default=DEFAULT_SAMPLES, metavar="N",
+                   help=f"Monte Carlo builds with --spread (default {DEFAULT_SAMPLES:,})")
+    p.add_argument("--seed", type=_seed, default=DEFAULT_SEED, metavar="S", help="random seed for --spread")
     p.set_defaults(run=_cmd_report)
 
     p = sub.add_parser("spread", help="worst case, Monte Carlo yield and sensitivity of the switching points")

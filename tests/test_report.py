@@ -145,3 +145,8 @@ def test_spread_section_and_columns():
     nominal = format_si(analyze(d).upper, "V", 4)
     assert f"| Upper switching point (rising signal) | {nominal} | {lo} | {hi} |" in text
     assert "Yield against the limits" in text
+
+
+def test_report_command_with_spread(capsys):
+    assert main(["report", str(DEMOS[0]), "--spread", "--samples", "2000"]) == 0
+    assert "## Spread over tolerances and temperature" in capsys.readouterr().out
