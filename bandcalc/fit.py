@@ -384,6 +384,22 @@ def _candidate(design: Design, params: list[str], row: np.ndarray, targets: tupl
                      worst_error=max(abs(eu), abs(el)), network_current=float(cur), design=d)
 
 
+def _leg_options(design: Design, params: list[str], targets: tuple[float, float],
+                 bounds: tuple[float, float]) -> list[tuple[str, Design, list[str], np.ndarray]]:
+    """Legs whose addition places both points exactly in range, most robust first.
+
+    Each entry: the leg, the design with it, the parameters to fit, and an exact solution.
+    """
+    options = []
+    for leg in _addable(design):
+        trial = _with(design, {f"resistors.{leg}": math.sqrt(bounds[0] * bounds[1])})
+        trial_params = [*params, f"resistors.{leg}"]
+        found = _exact(trial, trial_params, targets, bounds, _starts(trial, trial_params, bounds))
+        if found is not None:
+            options.append((_offset_gain(trial, trial_params, found), leg, trial, trial_params, found))
+    return [option[1:] for option in sorted(options, key=lambda o: o[0])]
+
+
 def _offset_gain(design: Design, params: list[str], values: np.ndarray) -> float:
     """How far the points move per volt of comparator offset at these values (from the model).
 
@@ -449,21 +465,19 @@ def fit(design: Design, upper: float, lower: float, *, series: str = "E24", min_
     added = None
     if solution is None:
         why = _why_not(base, params, targets, bounds)
-        options = []
-        for leg in _addable(base) if add_leg else []:
-            trial = _with(base, {f"resistors.{leg}": math.sqrt(min_ohms * max_ohms)})
-            trial_params = [*params, f"resistors.{leg}"]
-            found = _exact(trial, trial_params, targets, bounds, _starts(trial, trial_params, bounds))
-            if found is not None:
-                options.append((_offset_gain(trial, trial_params, found), leg, trial, trial_params, found))
-        if options:
-            _, added, base, params, solution = min(options, key=lambda o: o[0])
+        options = _leg_options(base, params, targets, bounds)
+        if options and add_leg:
+            added, base, params, solution = options[0]
             notes.append(f"The stage as drawn cannot place both points. {' '.join(why)} The fit adds a "
                          f"resistor from the + pin to {_LEG_WORDS[added]} (resistors.{added})"
                          + (", of the legs that work the one least sensitive to the comparator's offset."
                             if len(options) > 1 else "."))
         else:
-            problems = [*why, "The candidates are the closest the stage comes."]
+            problems = why
+            if options:
+                problems.append(f"A resistor from the + pin to {_LEG_WORDS[options[0][0]]} would make it "
+                                "possible; the fit adds one unless told not to.")
+            problems.append("The candidates are the closest the stage comes.")
     found = search(_evaluator(base, params), grid, len(params), *targets, count)
     candidates = tuple(_candidate(base, params, found.values[i], targets,
                                   (found.upper[i], found.lower[i], found.current[i]))
