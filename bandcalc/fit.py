@@ -183,9 +183,12 @@ def _solve(evaluate: Evaluate, params: list[str], targets: tuple[float, float], 
     f = residual(z)
     damping = np.full(m, 1e-3)
     h = np.where(log, 1e-6, 1e-6 * np.maximum(1.0, np.abs(z)))
-    tol = _EXACT * max(1.0, *map(abs, targets))
+    scale = max(1.0, *map(abs, targets))
+    better = np.ones(m, dtype=bool)
     for _ in range(100):
-        if np.any(np.max(np.abs(f), axis=1) <= tol):
+        worst = np.max(np.abs(f), axis=1)
+        # Polish well below the acceptance level, while steps still help.
+        if np.any(worst <= 1e-3 * _EXACT * scale) or (np.any(worst <= _EXACT * scale) and not better.any()):
             break
         shifted = residual(z[:, None, :] + np.eye(k)[None] * h[:, None, :])  # (m, k, 2)
         jac = np.swapaxes((shifted - f[:, None, :]) / h[:, :, None], 1, 2)  # (m, 2, k)
@@ -193,9 +196,9 @@ def _solve(evaluate: Evaluate, params: list[str], targets: tuple[float, float], 
         stuck = ((z <= z_lo) & (grad > 0)) | ((z >= z_hi) & (grad < 0))
         jac = np.where(stuck[:, None, :], 0.0, jac)
         jjt = jac @ np.swapaxes(jac, 1, 2)
-        scale = np.trace(jjt, axis1=1, axis2=2) / 2 + 1e-300
+        size = np.trace(jjt, axis1=1, axis2=2) / 2 + 1e-300
         step = -np.einsum("mik,mi->mk", jac, np.linalg.solve(
-            jjt + (damping * scale)[:, None, None] * np.eye(2), f[..., None])[..., 0])
+            jjt + (damping * size)[:, None, None] * np.eye(2), f[..., None])[..., 0])
         z_new = np.clip(z + step, z_lo, z_hi)
         f_new = residual(z_new)
         better = np.linalg.norm(f_new, axis=1) < np.linalg.norm(f, axis=1)
@@ -328,6 +331,8 @@ def _reference_needed(design: Design, params: list[str], targets: tuple[float, f
         remedy = "use the inverting stage or a higher rail" if need > vp else "use a lower negative rail"
         return (f"with {names} it needs a reference of {_volts(need)}, {side} the {_volts(rail)} rail: "
                 f"{remedy}")
+    if abs(need - volts) < 1e-4 * max(1.0, abs(volts)):
+        return None  # the reference is not what stands in the way
     what = "the divider gives" if isinstance(ref, DividerReference) else "it has"
     return f"with {names} it needs a reference of {_volts(need)}, where {what} {_volts(volts)}"
 
@@ -388,16 +393,22 @@ def _leg_options(design: Design, params: list[str], targets: tuple[float, float]
                  bounds: tuple[float, float]) -> list[tuple[str, Design, list[str], np.ndarray]]:
     """Legs whose addition places both points exactly in range, most robust first.
 
-    Each entry: the leg, the design with it, the parameters to fit, and an exact solution.
+    Each entry: the leg, the design with it, the parameters to fit, and an exact solution.  A
+    reference divider is first kept as drawn (the leg takes over its job, and five free values
+    would make the search slow); only if no leg works that way is it fitted as well.
     """
-    options = []
-    for leg in _addable(design):
-        trial = _with(design, {f"resistors.{leg}": math.sqrt(bounds[0] * bounds[1])})
-        trial_params = [*params, f"resistors.{leg}"]
-        found = _exact(trial, trial_params, targets, bounds, _starts(trial, trial_params, bounds))
-        if found is not None:
-            options.append((_offset_gain(trial, trial_params, found), leg, trial, trial_params, found))
-    return [option[1:] for option in sorted(options, key=lambda o: o[0])]
+    divider = [p for p in params if p.startswith("reference.")]
+    for free in ([p for p in params if p not in divider], params) if divider else (params,):
+        options = []
+        for leg in _addable(design):
+            trial = _with(design, {f"resistors.{leg}": math.sqrt(bounds[0] * bounds[1])})
+            trial_params = [*free, f"resistors.{leg}"]
+            found = _exact(trial, trial_params, targets, bounds, _starts(trial, trial_params, bounds))
+            if found is not None:
+                options.append((_offset_gain(trial, trial_params, found), leg, trial, trial_params, found))
+        if options:
+            return [option[1:] for option in sorted(options, key=lambda o: o[0])]
+    return []
 
 
 def _offset_gain(design: Design, params: list[str], values: np.ndarray) -> float:
@@ -467,11 +478,13 @@ def fit(design: Design, upper: float, lower: float, *, series: str = "E24", min_
         why = _why_not(base, params, targets, bounds)
         options = _leg_options(base, params, targets, bounds)
         if options and add_leg:
+            kept = "reference.top" in params and "reference.top" not in options[0][2]
             added, base, params, solution = options[0]
             notes.append(f"The stage as drawn cannot place both points. {' '.join(why)} The fit adds a "
                          f"resistor from the + pin to {_LEG_WORDS[added]} (resistors.{added})"
                          + (", of the legs that work the one least sensitive to the comparator's offset."
-                            if len(options) > 1 else "."))
+                            if len(options) > 1 else ".")
+                         + (" The reference divider is kept as drawn." if kept else ""))
         else:
             problems = why
             if options:

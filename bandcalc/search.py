@@ -48,7 +48,9 @@ ERROR_STEP = 1e-10
 _MARGIN = 1e-7
 # Up to this many combinations the model simply evaluates them all.
 _DIRECT_LIMIT = 4096
-# Model evaluations per call, and interpolated combinations per block.
+# Up to this many combinations of the resistors before the last two, each is a starting box.
+_OUTER_LIMIT = 1024
+# Model evaluations per call of the full enumeration.
 _CHUNK = 1 << 18
 
 Evaluate = Callable[[np.ndarray], tuple[np.ndarray, np.ndarray, np.ndarray]]
@@ -201,17 +203,6 @@ class _Curve:
 
 # --- The search ----------------------------------------------------------------------------------
 
-def _sample(evaluate: Evaluate, grid: np.ndarray, outer: np.ndarray,
-            nodes: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Model values at each outer combination x 3 samples of the last two resistors: (B, 3, 3)."""
-    b = len(outer)
-    mid, last = np.meshgrid(grid[nodes], grid[nodes], indexing="ij")
-    pts = np.concatenate([np.repeat(outer, 9, axis=0),
-                          np.tile(np.stack([mid.ravel(), last.ravel()], axis=1), (b, 1))], axis=1)
-    u, l, _ = evaluate(pts)  # noqa: E741
-    return u.reshape(b, 3, 3), l.reshape(b, 3, 3)
-
-
 def _gaps(curve: _Curve, grid: np.ndarray, low: float, high: float) -> tuple[np.ndarray, np.ndarray]:
     """The index set where ``low <= value <= high`` as ``i <= p or i >= q``, for a one-sided bound.
 
@@ -225,33 +216,57 @@ def _gaps(curve: _Curve, grid: np.ndarray, low: float, high: float) -> tuple[np.
     return np.where(prefix, last, -1), np.where(prefix | empty, n, first)
 
 
-class _Bisection:
-    """Branch and bound over the middle resistor's index range, one range per outer combination.
+class _Branching:
+    """Branch and bound over boxes of grid indices of all resistors but the last.
 
-    For a range [a, b] of the middle resistor, each switching point lies between its values
-    at a and at b for every value of the last resistor (monotonic in the middle one).  A range
-    whose two ends leave no last value with both errors within the bound cannot hold a
-    combination that ranks, and is dropped; the others are halved until single values remain.
+    Within a box each switching point lies, for every value of the last resistor, between its
+    values at the box's corners (it is monotonic in each resistor).  A box whose corners leave
+    no last value with both errors within the bound holds no combination that ranks and is
+    dropped; the others are halved until single combinations remain, whose runs of last values
+    within the bound are then evaluated with the model.
+
+    The points along the last resistor at a corner come from a 3 x 3 sample of the model over
+    the last two resistors, taken once per combination of the others (kept in a cache), and
+    interpolated along the middle resistor.
     """
 
-    def __init__(self, grid: np.ndarray, samples: tuple[np.ndarray, np.ndarray],
-                 targets: tuple[float, float]) -> None:
-        self.grid, self.targets = grid, targets
-        xs = grid[np.array([0, len(grid) // 2, len(grid) - 1])]
-        # Curves along the middle resistor, one per outer combination and sample of the last.
-        self.mid = [_Curve.through(xs, np.moveaxis(s, 1, 2)) for s in samples]
-        self.xs = xs
+    def __init__(self, evaluate: Evaluate, grid: np.ndarray, k: int, pool: _Pool) -> None:
+        self.evaluate, self.grid, self.k, self.pool = evaluate, grid, k, pool
+        n = len(grid)
+        self.xs = grid[np.array([0, n // 2, n - 1])]
+        self.keys = np.empty(0, dtype=np.int64)
+        self.samples = np.empty((0, 2, 3, 3))  # per outer combination: (u, l) x mid sample x last sample
 
-    def last_curves(self, outer: np.ndarray, mid: np.ndarray) -> tuple[_Curve, _Curve]:
-        """Curves of both points along the last resistor at the given (outer, middle index) pairs."""
-        x = self.grid[mid][:, None]
-        return tuple(_Curve.through(self.xs, c.take(outer).at(x)) for c in self.mid)
+    def _samples(self, outer: np.ndarray) -> np.ndarray:
+        """(m, 2, 3, 3) model samples for outer index rows (m, k - 2), evaluating only new ones."""
+        n, width = len(self.grid), self.k - 2
+        keys = np.ravel_multi_index(tuple(outer.T), (n,) * width) if width else np.zeros(len(outer), np.int64)
+        new = np.setdiff1d(keys, self.keys)
+        if len(new):
+            rows = np.stack(np.unravel_index(new, (n,) * width), axis=1) if width else np.empty((1, 0), int)
+            mid, last = np.meshgrid(self.xs, self.xs, indexing="ij")
+            tail = np.tile(np.stack([mid.ravel(), last.ravel()], axis=1), (len(new), 1))
+            pts = np.concatenate([np.repeat(self.grid[rows], 9, axis=0), tail], axis=1)
+            u, l, _ = self.evaluate(pts)  # noqa: E741
+            self.pool.evaluations += len(pts)
+            keys_all = np.concatenate([self.keys, new])
+            order = np.argsort(keys_all)
+            sampled = np.stack([u.reshape(-1, 3, 3), l.reshape(-1, 3, 3)], axis=1)
+            self.keys, self.samples = keys_all[order], np.concatenate([self.samples, sampled])[order]
+        return self.samples[np.searchsorted(self.keys, keys)]
+
+    def curves(self, index: np.ndarray) -> tuple[_Curve, _Curve]:
+        """Curves of both points along the last resistor at combinations ``index`` (m, k - 1)."""
+        sampled = self._samples(index[:, :-1])
+        x = self.grid[index[:, -1]][:, None]
+        return tuple(_Curve.through(self.xs, _Curve.through(self.xs, np.swapaxes(sampled[:, i], 1, 2)).at(x))
+                     for i in (0, 1))
 
     def alive(self, ends: list[tuple[_Curve, _Curve]], bound: float) -> np.ndarray:
-        """Whether some last value may bring both points within ``bound`` for the ranges' ends."""
+        """Whether some last value may bring both points within ``bound``, given the boxes' corners."""
         n = len(self.grid)
         gaps = []
-        for which, target in enumerate(self.targets):
+        for which, target in enumerate(self.pool.targets):
             for low, high in ((-np.inf, target + bound), (target - bound, np.inf)):
                 ps, qs = zip(*(_gaps(end[which], self.grid, low, high) for end in ends), strict=True)
                 gaps.append((np.maximum.reduce(ps), np.minimum.reduce(qs)))
@@ -263,20 +278,63 @@ class _Bisection:
             ok |= inside
         return ok
 
-    def runs(self, curves: tuple[_Curve, _Curve], bound: float) -> tuple[np.ndarray, np.ndarray]:
-        """For single combinations: the first and last index of the last resistor within bound."""
-        (cu, cl), (up, lo) = curves, self.targets
-        fu, lu = cu.band(self.grid, up - bound, up + bound)
-        fl, ll = cl.band(self.grid, lo - bound, lo + bound)
-        return np.maximum(fu, fl), np.minimum(lu, ll)
+    def run(self, lo: np.ndarray, hi: np.ndarray, margin: float) -> bool:
+        """Search the boxes [lo, hi] (index rows); False if a prediction missed the model."""
+        grid, pool = self.grid, self.pool
+        up, down = pool.targets
+        while len(lo):
+            at_lo = self.curves(lo)
+            # Tighten the bound first: evaluate the most promising predicted combinations.
+            first, _ = at_lo[0].band(grid, up, up)
+            j = np.clip(first, 0, len(grid) - 1)
+            guess = np.maximum(np.abs(at_lo[0].at(grid[j]) - up), np.abs(at_lo[1].at(grid[j]) - down))
+            best = np.argsort(guess)[: pool.count]
+            u, l = pool.offer(np.column_stack([grid[lo[best]], grid[j[best]]]), self.evaluate)  # noqa: E741
+            if not np.max(np.abs(np.maximum(np.abs(u - up), np.abs(l - down)) - guess[best])) <= margin / 4:
+                return False
+            bound = pool.bound() + margin
+            single = np.all(lo == hi, axis=1)
+            if single.any():
+                curves = tuple(c.take(single) for c in at_lo)
+                if not self._runs(lo[single], curves, bound, margin):
+                    return False
+            lo, hi = lo[~single], hi[~single]
+            if not len(lo):
+                break
+            wide = np.flatnonzero(np.any(lo != hi, axis=0))
+            ends = [tuple(c.take(~single) for c in at_lo)]
+            for bits in range(1, 2 ** len(wide)):
+                corner = lo.copy()
+                for b, dim in enumerate(wide):
+                    if bits >> b & 1:
+                        corner[:, dim] = hi[:, dim]
+                ends.append(self.curves(corner))
+            keep = self.alive(ends, bound)
+            lo, hi = lo[keep], hi[keep]
+            # Halve each box along its widest range.
+            dim = np.argmax(hi - lo, axis=1)
+            rows = np.arange(len(lo))
+            cut = (lo[rows, dim] + hi[rows, dim]) // 2
+            lo2, hi1 = lo.copy(), hi.copy()
+            hi1[rows, dim], lo2[rows, dim] = cut, cut + 1
+            lo, hi = np.concatenate([lo, lo2]), np.concatenate([hi1, hi])
+        return True
 
-    def hint(self, curves: tuple[_Curve, _Curve]) -> tuple[np.ndarray, np.ndarray]:
-        """A good last index for each combination (next to where the upper point is hit), predicted worst."""
-        (cu, cl), (up, lo) = curves, self.targets
-        first, _ = cu.band(self.grid, up, up)
-        j = np.clip(first, 0, len(self.grid) - 1)
+    def _runs(self, index: np.ndarray, curves: tuple[_Curve, _Curve], bound: float, margin: float) -> bool:
+        """Evaluate each combination's run of last values within bound; False if a prediction missed."""
+        (cu, cl), (up, down) = curves, self.pool.targets
+        fu, lu = cu.band(self.grid, up - bound, up + bound)
+        fl, ll = cl.band(self.grid, down - bound, down + bound)
+        first, last = np.maximum(fu, fl), np.minimum(lu, ll)
+        runs = np.maximum(last - first + 1, 0)
+        if not runs.any():
+            return True
+        row = np.repeat(np.arange(len(runs)), runs)
+        j = first[row] + np.arange(len(row)) - np.repeat(np.cumsum(runs) - runs, runs)
         x = self.grid[j]
-        return j, np.maximum(np.abs(cu.at(x) - up), np.abs(cl.at(x) - lo))
+        u, l = self.pool.offer(np.column_stack([self.grid[index[row]], x]), self.evaluate)  # noqa: E741
+        miss = max(np.max(np.abs(u - cu.take(row).at(x))), np.max(np.abs(l - cl.take(row).at(x))))
+        return bool(miss <= margin / 4)
 
 
 def search(evaluate: Evaluate, grid: np.ndarray, k: int, upper: float, lower: float,
@@ -299,56 +357,17 @@ def search(evaluate: Evaluate, grid: np.ndarray, k: int, upper: float, lower: fl
     n = len(grid)
     if k < 2 or n < 3 or n**k <= _DIRECT_LIMIT:
         return exhaustive(evaluate, grid, k, upper, lower, count)
-    nodes = np.array([0, n // 2, n - 1])
-    margin = _MARGIN * max(1.0, abs(upper), abs(lower)) + ERROR_STEP
     pool = _Pool(grid, k, upper, lower, count)
-    n_outer = n ** (k - 2)
-    for start in range(0, n_outer, _CHUNK // 9):
-        outer = _combinations(grid, k - 2, start, min(n_outer, start + _CHUNK // 9))
-        samples = _sample(evaluate, grid, outer, nodes)
-        pool.evaluations += 9 * len(outer)
-        if not _bisect(_Bisection(grid, samples, (upper, lower)), outer, pool, evaluate, margin):
-            return exhaustive(evaluate, grid, k, upper, lower, count)
+    margin = _MARGIN * max(1.0, abs(upper), abs(lower)) + ERROR_STEP
+    # Few enough outer combinations: start from each of them (sampling them all at once is
+    # cheaper than bisecting them); otherwise from one box over everything.
+    if n ** (k - 2) <= _OUTER_LIMIT:
+        outer = np.stack(np.unravel_index(np.arange(n ** (k - 2)), (n,) * (k - 2)), axis=1) \
+            if k > 2 else np.empty((1, 0), dtype=np.intp)
+        lo = np.column_stack([outer, np.zeros(len(outer), dtype=np.intp)])
+        hi = np.column_stack([outer, np.full(len(outer), n - 1)])
+    else:
+        lo, hi = np.zeros((1, k - 1), dtype=np.intp), np.full((1, k - 1), n - 1)
+    if not _Branching(evaluate, grid, k, pool).run(lo.astype(np.intp), hi.astype(np.intp), margin):
+        return exhaustive(evaluate, grid, k, upper, lower, count)
     return pool.found()
-
-
-def _bisect(b: _Bisection, outer: np.ndarray, pool: _Pool, evaluate: Evaluate, margin: float) -> bool:
-    """Run the branch and bound for one block of outer combinations; False if a prediction failed."""
-    grid, n = b.grid, len(b.grid)
-    o = np.arange(len(outer))
-    lo, hi = np.zeros(len(o), dtype=np.intp), np.full(len(o), n - 1, dtype=np.intp)
-    while len(o):
-        at_lo = b.last_curves(o, lo)
-        # Tighten the bound first: evaluate the most promising predicted combinations.
-        j, guess = b.hint(at_lo)
-        best = np.argsort(guess)[: pool.count]
-        pool.offer(np.column_stack([outer[o[best]], grid[lo[best]], grid[j[best]]]), evaluate)
-        bound = pool.bound() + margin
-        single = lo == hi
-        if single.any():
-            s = np.flatnonzero(single)
-            curves = tuple(c.take(s) for c in at_lo)
-            first, last = b.runs(curves, bound)
-            if not _evaluate_runs(outer[o[s]], grid[lo[s]], first, last, curves, pool, evaluate, margin):
-                return False
-        wide = ~single
-        ranges = np.flatnonzero(wide)
-        keep = b.alive([tuple(c.take(ranges) for c in at_lo), b.last_curves(o[wide], hi[wide])], bound)
-        o, lo, hi = o[wide][keep], lo[wide][keep], hi[wide][keep]
-        mid = (lo + hi) // 2
-        o, lo, hi = np.concatenate([o, o]), np.concatenate([lo, mid + 1]), np.concatenate([mid, hi])
-    return True
-
-
-def _evaluate_runs(heads: np.ndarray, mids: np.ndarray, first: np.ndarray, last: np.ndarray,
-                   curves: tuple[_Curve, _Curve], pool: _Pool, evaluate: Evaluate, margin: float) -> bool:
-    """Evaluate each combination's run of last values with the model; False if a prediction missed."""
-    runs = np.maximum(last - first + 1, 0)
-    if not runs.any():
-        return True
-    row = np.repeat(np.arange(len(runs)), runs)
-    j = first[row] + np.arange(len(row)) - np.repeat(np.cumsum(runs) - runs, runs)
-    x = pool.grid[j]
-    u, l = pool.offer(np.column_stack([heads[row], mids[row], x]), evaluate)  # noqa: E741
-    miss = max(np.max(np.abs(u - curves[0].take(row).at(x))), np.max(np.abs(l - curves[1].take(row).at(x))))
-    return bool(miss <= margin / 4)
