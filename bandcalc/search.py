@@ -160,8 +160,9 @@ class _Curve:
         # A monotonic curve passes strictly between its end samples; keep rounding from
         # putting the middle sample outside them (which would put a pole inside the range).
         ratio = np.clip(np.where(flat, 0.5, (y[..., 1] - y0) / d2), 1e-12, 1 - 1e-12)
+        y1, y2 = y[..., 1], y[..., 2]
         return cls(*(float(v) for v in xs), y0, ratio * d2, d2, flat,
-                   y.min(axis=-1) - floor, y.max(axis=-1) + floor)
+                   np.minimum(np.minimum(y0, y1), y2) - floor, np.maximum(np.maximum(y0, y1), y2) + floor)
 
     def take(self, rows: np.ndarray) -> _Curve:
         """The curves of the given rows."""
@@ -183,38 +184,40 @@ class _Curve:
         d1, d2, md1 = self.d1, self.d2, self._m * self.d1
         return (w * (d1 - d2) * self.x2 - md1 * self.x0 * (w - d2)) / (w * (d1 - d2) - md1 * (w - d2))
 
-    def band(self, grid: np.ndarray, low: float | np.ndarray,
-             high: float | np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-        """First and last grid index where low <= value <= high (first > last when there is none)."""
+    def side(self, grid: np.ndarray, theta: float, below: bool) -> tuple[np.ndarray, np.ndarray]:
+        """The grid indices where value <= theta (``below``) or >= theta, as ``i <= p or i >= q``.
+
+        The curve is monotonic, so the set is a prefix of the grid, written (p, n), or a suffix,
+        written (-1, q); everything is (n - 1, n) and nothing (-1, n).
+        """
         n = len(grid)
         rising = self.d2 > 0
-        # Measure from y0 in the direction the curve moves, so that both cases read as rising.
-        lo_w = np.where(rising, low - self.y0, self.y0 - high)
-        hi_w = np.where(rising, high - self.y0, self.y0 - low)
-        span, sign = np.abs(self.d2), np.where(rising, 1.0, -1.0)
-        x_lo = self._x_of(np.clip(lo_w, 0, span) * sign)
-        x_hi = self._x_of(np.clip(hi_w, 0, span) * sign)
-        first = np.where(lo_w <= 0, 0, np.where(lo_w > span, n, np.searchsorted(grid, x_lo, "left")))
-        last = np.where(hi_w < 0, -1,
-                        np.where(hi_w >= span, n - 1, np.searchsorted(grid, x_hi, "right") - 1))
-        inside = (self.low <= high) & (self.high >= low)
-        return np.where(self.flat, np.where(inside, 0, n), first), np.where(self.flat, n - 1, last)
+        # How far along its own direction the curve must move from y0 to reach theta.
+        w = np.where(rising, theta - self.y0, self.y0 - theta)
+        span = np.abs(self.d2)
+        x = self._x_of(np.clip(w, 0, span) * np.where(rising, 1.0, -1.0))
+        left = np.searchsorted(grid, x, "left")
+        right = left + (grid[np.minimum(left, n - 1)] == x)
+        prefix = rising == below
+        last = np.where(w < 0, -1, np.where(w >= span, n - 1, right - 1))
+        first = np.where(w <= 0, 0, np.where(w > span, n, left))
+        reached = (self.low <= theta) if below else (self.high >= theta)
+        p = np.where(self.flat, np.where(reached, n - 1, -1), np.where(prefix, last, -1))
+        q = np.where(self.flat | prefix, n, first)
+        return p, q
+
+    def band(self, grid: np.ndarray, low: float, high: float) -> tuple[np.ndarray, np.ndarray]:
+        """First and last grid index where low <= value <= high (first > last when there is none)."""
+        n = len(grid)
+        firsts, lasts = [], []
+        for theta, below in ((low, False), (high, True)):
+            p, q = self.side(grid, theta, below)
+            firsts.append(np.where(q == n, 0, q))
+            lasts.append(np.where(q == n, p, n - 1))
+        return np.maximum(*firsts), np.minimum(*lasts)
 
 
 # --- The search ----------------------------------------------------------------------------------
-
-def _gaps(curve: _Curve, grid: np.ndarray, low: float, high: float) -> tuple[np.ndarray, np.ndarray]:
-    """The index set where ``low <= value <= high`` as ``i <= p or i >= q``, for a one-sided bound.
-
-    With one of the bounds infinite the set is a prefix or a suffix of the grid (the curve is
-    monotonic); a prefix is written (p, n) and a suffix (-1, q).
-    """
-    n = len(grid)
-    first, last = curve.band(grid, low, high)
-    empty = first > last
-    prefix = (first == 0) & ~empty
-    return np.where(prefix, last, -1), np.where(prefix | empty, n, first)
-
 
 class _Branching:
     """Branch and bound over boxes of grid indices of all resistors but the last.
@@ -235,10 +238,15 @@ class _Branching:
         n = len(grid)
         self.xs = grid[np.array([0, n // 2, n - 1])]
         self.keys = np.empty(0, dtype=np.int64)
-        self.samples = np.empty((0, 2, 3, 3))  # per outer combination: (u, l) x mid sample x last sample
+        self.samples = np.empty((0, 2, 3, 3))  # per outer combination: (u, l) x last sample x mid sample
+        self.along_mid = self._along_mid()
 
-    def _samples(self, outer: np.ndarray) -> np.ndarray:
-        """(m, 2, 3, 3) model samples for outer index rows (m, k - 2), evaluating only new ones."""
+    def _along_mid(self) -> tuple[_Curve, _Curve]:
+        """Curves of both points along the middle resistor, per sampled outer combination and last sample."""
+        return tuple(_Curve.through(self.xs, self.samples[:, i]) for i in (0, 1))
+
+    def _rows(self, outer: np.ndarray) -> np.ndarray:
+        """Cache rows for outer index rows (m, k - 2), sampling the model for new ones."""
         n, width = len(self.grid), self.k - 2
         keys = np.ravel_multi_index(tuple(outer.T), (n,) * width) if width else np.zeros(len(outer), np.int64)
         new = np.setdiff1d(keys, self.keys)
@@ -251,24 +259,24 @@ class _Branching:
             self.pool.evaluations += len(pts)
             keys_all = np.concatenate([self.keys, new])
             order = np.argsort(keys_all)
-            sampled = np.stack([u.reshape(-1, 3, 3), l.reshape(-1, 3, 3)], axis=1)
+            sampled = np.swapaxes(np.stack([u.reshape(-1, 3, 3), l.reshape(-1, 3, 3)], axis=1), 2, 3)
             self.keys, self.samples = keys_all[order], np.concatenate([self.samples, sampled])[order]
-        return self.samples[np.searchsorted(self.keys, keys)]
+            self.along_mid = self._along_mid()
+        return np.searchsorted(self.keys, keys)
 
     def curves(self, index: np.ndarray) -> tuple[_Curve, _Curve]:
         """Curves of both points along the last resistor at combinations ``index`` (m, k - 1)."""
-        sampled = self._samples(index[:, :-1])
+        rows = self._rows(index[:, :-1])
         x = self.grid[index[:, -1]][:, None]
-        return tuple(_Curve.through(self.xs, _Curve.through(self.xs, np.swapaxes(sampled[:, i], 1, 2)).at(x))
-                     for i in (0, 1))
+        return tuple(_Curve.through(self.xs, c.take(rows).at(x)) for c in self.along_mid)
 
     def alive(self, ends: list[tuple[_Curve, _Curve]], bound: float) -> np.ndarray:
         """Whether some last value may bring both points within ``bound``, given the boxes' corners."""
         n = len(self.grid)
         gaps = []
         for which, target in enumerate(self.pool.targets):
-            for low, high in ((-np.inf, target + bound), (target - bound, np.inf)):
-                ps, qs = zip(*(_gaps(end[which], self.grid, low, high) for end in ends), strict=True)
+            for theta, below in ((target + bound, True), (target - bound, False)):
+                ps, qs = zip(*(end[which].side(self.grid, theta, below) for end in ends), strict=True)
                 gaps.append((np.maximum.reduce(ps), np.minimum.reduce(qs)))
         ok = np.zeros(len(gaps[0][0]), dtype=bool)
         for start in [np.zeros_like(gaps[0][1])] + [q for _, q in gaps]:
@@ -285,9 +293,12 @@ class _Branching:
         while len(lo):
             at_lo = self.curves(lo)
             # Tighten the bound first: evaluate the most promising predicted combinations.
-            first, _ = at_lo[0].band(grid, up, up)
-            j = np.clip(first, 0, len(grid) - 1)
-            guess = np.maximum(np.abs(at_lo[0].at(grid[j]) - up), np.abs(at_lo[1].at(grid[j]) - down))
+            # The last value where the upper point passes its target, and the one before.
+            j = np.minimum(at_lo[0].side(grid, up, below=False)[1], at_lo[0].side(grid, up, below=True)[1])
+            guess = np.full(len(j), np.inf)
+            for jj in (np.clip(j - 1, 0, len(grid) - 1), np.clip(j, 0, len(grid) - 1)):
+                w = np.maximum(np.abs(at_lo[0].at(grid[jj]) - up), np.abs(at_lo[1].at(grid[jj]) - down))
+                j, guess = np.where(w < guess, jj, j), np.minimum(w, guess)
             best = np.argsort(guess)[: pool.count]
             u, l = pool.offer(np.column_stack([grid[lo[best]], grid[j[best]]]), self.evaluate)  # noqa: E741
             if not np.max(np.abs(np.maximum(np.abs(u - up), np.abs(l - down)) - guess[best])) <= margin / 4:
