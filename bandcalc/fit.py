@@ -411,6 +411,14 @@ def _leg_options(design: Design, params: list[str], targets: tuple[float, float]
     return []
 
 
+def _search_order(design: Design, params: list[str], values: np.ndarray) -> np.ndarray:
+    """Positions by falling sensitivity of the points (per relative change) at the given values."""
+    step = np.exp(np.eye(len(params)) * 1e-3)
+    u, l, _ = _evaluator(design, params)(np.vstack([values, values * step]))  # noqa: E741
+    gain = np.maximum(np.abs(u[1:] - u[0]), np.abs(l[1:] - l[0]))
+    return np.argsort(-gain, kind="stable")
+
+
 def _offset_gain(design: Design, params: list[str], values: np.ndarray) -> float:
     """How far the points move per volt of comparator offset at these values (from the model).
 
@@ -491,7 +499,12 @@ def fit(design: Design, upper: float, lower: float, *, series: str = "E24", min_
                 problems.append(f"A resistor from the + pin to {_LEG_WORDS[options[0][0]]} would make it "
                                 "possible; the fit adds one unless told not to.")
             problems.append("The candidates are the closest the stage comes.")
-    found = search(_evaluator(base, params), grid, len(params), *targets, count)
+    # Search with the resistors the points are most sensitive to outermost (much faster; the
+    # answer does not depend on the order), and report in the design's own order.
+    near = solution if solution is not None else _starts(base, params, bounds)[0]
+    order = _search_order(base, params, near)
+    found = search(_evaluator(base, [params[i] for i in order]), grid, len(params), *targets, count)
+    found = replace(found, values=found.values[:, np.argsort(order)])
     candidates = tuple(_candidate(base, params, found.values[i], targets,
                                   (found.upper[i], found.lower[i], found.current[i]))
                        for i in range(len(found.values)))

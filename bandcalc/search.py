@@ -370,15 +370,15 @@ def search(evaluate: Evaluate, grid: np.ndarray, k: int, upper: float, lower: fl
         return exhaustive(evaluate, grid, k, upper, lower, count)
     pool = _Pool(grid, k, upper, lower, count)
     margin = _MARGIN * max(1.0, abs(upper), abs(lower)) + ERROR_STEP
-    # Few enough outer combinations: start from each of them (sampling them all at once is
-    # cheaper than bisecting them); otherwise from one box over everything.
-    if n ** (k - 2) <= _OUTER_LIMIT:
-        outer = np.stack(np.unravel_index(np.arange(n ** (k - 2)), (n,) * (k - 2)), axis=1) \
-            if k > 2 else np.empty((1, 0), dtype=np.intp)
-        lo = np.column_stack([outer, np.zeros(len(outer), dtype=np.intp)])
-        hi = np.column_stack([outer, np.full(len(outer), n - 1)])
-    else:
-        lo, hi = np.zeros((1, k - 1), dtype=np.intp), np.full((1, k - 1), n - 1)
+    # Start from every combination of as many leading resistors as stay few (sampling them all at
+    # once is cheaper than bisecting them, and leaves fewer corners per box); bisect the rest.
+    lead = 0
+    while lead < k - 2 and n ** (lead + 1) <= _OUTER_LIMIT:
+        lead += 1
+    starts = np.stack(np.unravel_index(np.arange(n**lead), (n,) * lead), axis=1) if lead else \
+        np.empty((1, 0), dtype=np.intp)
+    lo = np.column_stack([starts, np.zeros((len(starts), k - 1 - lead), dtype=np.intp)])
+    hi = np.column_stack([starts, np.full((len(starts), k - 1 - lead), n - 1)])
     if not _Branching(evaluate, grid, k, pool).run(lo.astype(np.intp), hi.astype(np.intp), margin):
         return exhaustive(evaluate, grid, k, upper, lower, count)
     return pool.found()
