@@ -22,6 +22,7 @@ from .design import RESISTOR_KEYS, Design, DividerReference, FixedReference, Res
 from .eseries import EseriesError, series_values
 from .network import Points, parameters, switching_points
 from .search import Evaluate, search
+from .solver import solve
 from .units import UnitError, format_si, parse_resistance
 
 __all__ = [
@@ -160,61 +161,16 @@ def _evaluator(design: Design, params: list[str]) -> Evaluate:
 
 # --- The continuous solution -------------------------------------------------------------------
 
-def _solve(evaluate: Evaluate, params: list[str], targets: tuple[float, float], starts: np.ndarray,
-           low: np.ndarray, high: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Values placing both points, from each start (rows), within [low, high] per parameter.
-
-    Damped Gauss-Newton with the minimum-norm step (Levenberg-Marquardt), in log ohms for
-    resistors and volts for a reference; the Jacobian by differences of the model.  With more
-    free values than two it converges to a nearby member of the family of solutions.
-    Returns the values reached and the larger error of each.
-    """
-    log = np.array([not p.endswith(".volts") for p in params])
-    to_z = lambda v: np.where(log, np.log(np.where(log, v, 1.0)), v)  # noqa: E731
-    to_v = lambda z: np.where(log, np.exp(z), z)  # noqa: E731
-    z_lo, z_hi = to_z(low), to_z(high)
-    m, k = starts.shape
-
-    def residual(z: np.ndarray) -> np.ndarray:
-        u, l, _ = evaluate(to_v(z).reshape(-1, k))  # noqa: E741
-        return np.stack([u - targets[0], l - targets[1]], axis=-1).reshape(*z.shape[:-1], 2)
-
-    z = np.clip(to_z(starts), z_lo, z_hi)
-    f = residual(z)
-    damping = np.full(m, 1e-3)
-    h = np.where(log, 1e-6, 1e-6 * np.maximum(1.0, np.abs(z)))
-    scale = max(1.0, *map(abs, targets))
-    better = np.ones(m, dtype=bool)
-    for _ in range(100):
-        worst = np.max(np.abs(f), axis=1)
-        # Polish well below the acceptance level, while steps still help.
-        if np.any(worst <= 1e-3 * _EXACT * scale) or (np.any(worst <= _EXACT * scale) and not better.any()):
-            break
-        shifted = residual(z[:, None, :] + np.eye(k)[None] * h[:, None, :])  # (m, k, 2)
-        jac = np.swapaxes((shifted - f[:, None, :]) / h[:, :, None], 1, 2)  # (m, 2, k)
-        grad = np.einsum("mik,mi->mk", jac, f)
-        stuck = ((z <= z_lo) & (grad > 0)) | ((z >= z_hi) & (grad < 0))
-        jac = np.where(stuck[:, None, :], 0.0, jac)
-        jjt = jac @ np.swapaxes(jac, 1, 2)
-        size = np.trace(jjt, axis1=1, axis2=2) / 2 + 1e-300
-        step = -np.einsum("mik,mi->mk", jac, np.linalg.solve(
-            jjt + (damping * size)[:, None, None] * np.eye(2), f[..., None])[..., 0])
-        z_new = np.clip(z + step, z_lo, z_hi)
-        f_new = residual(z_new)
-        better = np.linalg.norm(f_new, axis=1) < np.linalg.norm(f, axis=1)
-        z, f = np.where(better[:, None], z_new, z), np.where(better[:, None], f_new, f)
-        damping = np.clip(np.where(better, damping / 4, damping * 8), 1e-12, 1e12)
-    return to_v(z), np.max(np.abs(f), axis=1)
-
-
 def _exact(design: Design, params: list[str], targets: tuple[float, float], bounds: tuple[float, float],
            starts: np.ndarray) -> np.ndarray | None:
     """The first start's solution that places both points exactly within bounds, or None."""
     k = len(params)
     low = np.array([bounds[0] if not p.endswith(".volts") else -1e6 for p in params])
     high = np.array([bounds[1] if not p.endswith(".volts") else 1e6 for p in params])
-    values, worst = _solve(_evaluator(design, params), params, targets, starts.reshape(-1, k), low, high)
-    ok = worst <= _EXACT * max(1.0, *map(abs, targets))
+    tol = _EXACT * max(1.0, *map(abs, targets))
+    log = np.array([not p.endswith(".volts") for p in params])
+    values, worst = solve(_evaluator(design, params), log, targets, starts.reshape(-1, k), low, high, tol)
+    ok = worst <= tol
     return values[np.argmax(ok)] if ok.any() else None
 
 

@@ -26,6 +26,7 @@ from bandcalc.design import (
 from bandcalc.eseries import series_values
 from bandcalc.fit import FitError, apply_candidate, fit, fit_to_dict
 from bandcalc.network import switching_points
+from bandcalc.solver import solve
 
 ROOT = Path(__file__).parent.parent
 DEMO = ROOT / "demo_data"
@@ -169,6 +170,14 @@ def test_divider_and_added_leg_equal_exhaustive_search():
     assert [c.worst_error for c in r.candidates] == sorted(worst)[:3]
 
 
+def evaluator(design, keys):
+    """The model's points for rows of values of ``keys``; any current that scales as 1/R breaks ties."""
+    def evaluate(values):
+        pts = switching_points(design, {k: values[:, j] for j, k in enumerate(keys)})
+        return pts.upper, pts.lower, np.sum(1 / values, axis=1)
+    return evaluate
+
+
 def designs():
     """Three-resistor stages of every kind, with offset, bias and source resistance."""
     output = st.one_of(st.builds(PushPull, st.floats(0, 1.5), st.floats(0, 1.5), st.floats(0, 100)),
@@ -194,11 +203,7 @@ def test_search_equals_enumerating_every_combination(design, centre, width, coun
     # ties (by current) included.
     keys = ["resistors.to_positive" if design.inverting else "resistors.input", "resistors.to_ground",
             "resistors.feedback"]
-
-    def evaluate(values):
-        pts = switching_points(design, {k: values[:, j] for j, k in enumerate(keys)})
-        return pts.upper, pts.lower, np.sum(1 / values, axis=1)
-
+    evaluate = evaluator(design, keys)
     grid = series_values("E6", 1e3, 10e6)
     upper, lower = centre + width / 2, centre - width / 2
     found = search.search(evaluate, grid, 3, upper, lower, count)
@@ -222,17 +227,25 @@ def test_a_point_is_moebius_in_one_resistance(design, key, a, b, c):
 
 def test_a_missed_prediction_falls_back_to_the_full_enumeration(monkeypatch):
     design, upper, lower = STAGES["inverting dual supply, push-pull"]
-    keys = ["resistors.to_ground", "resistors.to_positive", "resistors.feedback"]
-
-    def evaluate(values):
-        pts = switching_points(design, {k: values[:, j] for j, k in enumerate(keys)})
-        return pts.upper, pts.lower, np.sum(1 / values, axis=1)
-
+    evaluate = evaluator(design, ["resistors.to_ground", "resistors.to_positive", "resistors.feedback"])
     grid = series_values("E6", 1e3, 10e6)
     monkeypatch.setattr(search._Curve, "at", lambda self, x: self.y0 + 0.0 * x)  # a wrong prediction
     found = search.search(evaluate, grid, 3, upper, lower, 3)
     assert found.evaluations == len(grid) ** 3
     assert np.array_equal(found.values, search.exhaustive(evaluate, grid, 3, upper, lower, 3).values)
+
+
+def test_solver_finds_the_textbook_ratio_from_any_start():
+    # Common practice (textbook-style case, as in test_network): 5 V rail-to-rail output, 2.5 V
+    # reference; 3.75 V and 1.25 V need a feedback resistor twice the input resistor, at any scale.
+    d = Design(stage="non-inverting", supply=Supply(5.0), reference=FixedReference(2.5),
+               resistors=Resistors(input=1e3, feedback=1e3))
+    evaluate = evaluator(d, ["resistors.input", "resistors.feedback"])
+    for start in ([1e3, 1e3], [5e4, 1e6], [2e6, 3e3]):
+        values, worst = solve(evaluate, np.array([True, True]), (3.75, 1.25), np.array([start]),
+                              np.full(2, 1e2), np.full(2, 1e8), 1e-9)
+        assert worst[0] <= 1e-9
+        assert values[0, 1] / values[0, 0] == pytest.approx(2.0, rel=1e-9)
 
 
 # --- Added legs -------------------------------------------------------------------------------------
