@@ -18,7 +18,7 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from .design import RESISTOR_KEYS, Design, DividerReference, FixedReference, Resistors
+from .design import RESISTOR_KEYS, Design, DividerReference, FixedReference, OpenDrain, Resistors
 from .eseries import EseriesError, series_values
 from .network import Points, parameters, switching_points
 from .search import Evaluate, search
@@ -325,7 +325,7 @@ def _standing_notes(design: Design, held: Mapping[str, float]) -> list[str]:
     if design.inverting and design.resistors.input is not None and "resistors.input" not in held:
         notes.append(f"The input resistor ({_ohms(design.resistors.input)}) carries only the - pin's bias "
                      "current in the inverting stage; it is kept, and its drop is included.")
-    if hasattr(design.output, "pullup"):
+    if isinstance(design.output, OpenDrain):
         notes.append(f"The pull-up ({_ohms(design.output.pullup)}) is an output-stage choice and is kept; "
                      "its loading of the output is included in every point.")
     return notes
@@ -457,8 +457,8 @@ def fit(design: Design, upper: float, lower: float, *, series: str = "E24", min_
             problems.append("The candidates are the closest the stage comes.")
     # Search with the resistors the points are most sensitive to outermost (much faster; the
     # answer does not depend on the order), and report in the design's own order.
-    near = solution if solution is not None else _starts(base, params, bounds)[0]
-    order = _search_order(base, params, near)
+    start = solution if solution is not None else _starts(base, params, bounds)[0]
+    order = _search_order(base, params, start)
     found = search(_evaluator(base, [params[i] for i in order]), grid, len(params), *targets, count)
     found = replace(found, values=found.values[:, np.argsort(order)])
     candidates = tuple(_candidate(base, params, found.values[i], targets,
@@ -466,8 +466,8 @@ def fit(design: Design, upper: float, lower: float, *, series: str = "E24", min_
                        for i in range(len(found.values)))
     exact = None
     if solution is not None:
-        near = _exact(base, params, targets, bounds, found.values[:1])
-        exact = _candidate(base, params, solution if near is None else near, targets)
+        nearest = _exact(base, params, targets, bounds, found.values[:1])
+        exact = _candidate(base, params, solution if nearest is None else nearest, targets)
         if len(params) > 2:
             notes.append(f"With {len(params)} free values the exact solutions form a family; the one shown "
                          "is the nearest to the best candidate.")
