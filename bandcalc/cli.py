@@ -21,10 +21,11 @@ from . import __version__
 from .analysis import Analysis, analysis_to_dict, analyze
 from .design import Design, load_design
 from .factors import QUANTITIES, Factor
+from .fit import Candidate, FitResult, fit, fit_to_dict
 from .signal import design_points, run_design
 from .spread import DEFAULT_SAMPLES, DEFAULT_SEED, MAX_SAMPLES, MIN_SAMPLES, Spread, spread, spread_to_dict
 from .sweep import sweep_design
-from .units import format_si, format_value
+from .units import format_ohms, format_si, format_value, parse_quantity, parse_resistance
 from .waveform import synthesize
 
 __all__ = ["main"]
@@ -291,6 +292,67 @@ def _cmd_spread(args: argparse.Namespace) -> int:
     return _print_results(*_for_each_file(args.files, work), as_json=args.json)
 
 
+def _fit_table(path: str, r: FitResult, code: bool) -> str:
+    unit = r.design.front_end.unit if r.design.front_end is not None else "V"
+    v = lambda x: format_value(x, unit, 4)  # noqa: E731
+    ohms = lambda x: format_ohms(x, code)  # noqa: E731
+
+    def value(c: Candidate, position: str) -> float:
+        return getattr(c.reference, position.split(".")[1]) if "." in position else c.resistors[position]
+
+    head = ["#", *r.fitted, "upper", "lower", "worst error", "current"]
+    rows = [[str(i), *(ohms(value(c, p)) for p in r.fitted), v(c.upper), v(c.lower),
+             format_value(c.worst_error, unit, 3), format_si(c.network_current, "A")]
+            for i, c in enumerate(r.candidates, 1)]
+    widths = [max(len(row[j]) for row in [head, *rows]) for j in range(len(head))]
+    lines = [f"{r.design.name or '(unnamed design)'}  [{path}]",
+             f"  targets   upper {v(r.upper)}, lower {v(r.lower)}",
+             f"  fitting   {', '.join(r.fitted)} from {r.series}, {format_ohms(r.min_ohms, code)} to "
+             f"{format_ohms(r.max_ohms, code)}"]
+    for title, items in (("cannot meet the targets exactly", r.problems), ("notes", r.notes)):
+        if items:
+            lines.append(f"  {title}:")
+            lines += [f"    - {item}" for item in items]
+    lines += ["  " + "  ".join(cell.ljust(w) for cell, w in zip(row, widths, strict=True)).rstrip()
+              for row in [head, *rows]]
+    if r.exact is not None:
+        exact = ", ".join(f"{p} {format_ohms(value(r.exact, p), code, 4)}" for p in r.fitted)
+        lines.append(f"  exact     {exact}")
+    return "\n".join(lines)
+
+
+def _cmd_fit(args: argparse.Namespace) -> int:
+    try:
+        low_ohms = parse_resistance(args.min_ohms, "--min-ohms")
+        high_ohms = parse_resistance(args.max_ohms, "--max-ohms")
+        fixed = {}
+        for item in args.hold:
+            key, sep, text = item.partition("=")
+            if not sep:
+                raise ValueError(f"--hold: write KEY=R, e.g. feedback=1M2; got {item!r}")
+            fixed[key.strip()] = parse_resistance(text, f"--hold {key.strip()}")
+    except ValueError as exc:
+        print(f"bandcalc: {exc}", file=sys.stderr)
+        return EXIT_BAD_INPUT
+
+    def work(path: str, design: Design) -> FitResult:
+        unit = design.front_end.unit if design.front_end is not None else "V"  # "3.1V", "32C" read too
+        upper = parse_quantity(args.upper, unit, "--upper")
+        lower = parse_quantity(args.lower, unit, "--lower")
+        return fit(design, upper, lower, series=args.series, min_ohms=low_ohms, max_ohms=high_ohms,
+                   count=args.count, fixed=fixed, add_leg=not args.no_extra_leg)
+
+    results, status = _for_each_file([args.file], work)
+    if not results:
+        return status
+    result = results[0]
+    if args.json:
+        _emit_json([{"file": args.file, **fit_to_dict(result)}])
+    else:
+        print(_fit_table(args.file, result, args.code))
+    return EXIT_BAD_INPUT if result.problems else 0
+
+
 def _parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(prog="python -m bandcalc",
                                      description="Design comparator stages with hysteresis.")
@@ -300,6 +362,24 @@ def _parser() -> argparse.ArgumentParser:
     p.add_argument("files", nargs="+", metavar="FILE", help="design file(s) (JSON)")
     p.add_argument("--json", action="store_true", help="print JSON instead of a table")
     p.set_defaults(run=_cmd_analyze)
+
+    p = sub.add_parser("fit", help="standard resistor values that place the switching points you want")
+    p.add_argument("file", metavar="FILE",
+                   help="design file (JSON); its resistor values are only a starting point")
+    p.add_argument("--upper", required=True, metavar="X",
+                   help="wanted upper switching point: volts, or the watched quantity with a front end")
+    p.add_argument("--lower", required=True, metavar="X", help="wanted lower switching point (as --upper)")
+    p.add_argument("--series", default="E24", help="IEC 60063 series, E3 to E192 (default E24)")
+    p.add_argument("--min-ohms", default="1k", metavar="R", help="smallest value allowed (default 1k)")
+    p.add_argument("--max-ohms", default="10M", metavar="R", help="largest value allowed (default 10M)")
+    p.add_argument("--count", type=int, default=5, metavar="N", help="candidates to list (default 5)")
+    p.add_argument("--hold", action="append", default=[], metavar="KEY=R",
+                   help="hold a resistor at a value, e.g. feedback=1M2 (repeat for more)")
+    p.add_argument("--no-extra-leg", action="store_true",
+                   help="never add a leg to the + pin, even where the stage needs one")
+    p.add_argument("--code", action="store_true", help="print resistances in the IEC 60062 code (4k7)")
+    p.add_argument("--json", action="store_true", help="print JSON instead of a table")
+    p.set_defaults(run=_cmd_fit)
 
     p = sub.add_parser("signal", help="run a recorded or synthetic signal through a design")
     p.add_argument("file", metavar="FILE", help="design file (JSON)")

@@ -13,6 +13,7 @@ import re
 __all__ = [
     "UnitError",
     "format_code",
+    "format_ohms",
     "format_si",
     "format_value",
     "parse_quantity",
@@ -167,3 +168,8 @@ def format_code(ohms: float, digits: int = 3) -> str:
                              if mag >= 10.0**e), (0, "R"))
     whole, _, frac = _plain(_round(mag / 10.0**exponent, digits), digits).partition(".")
     return f"{'' if whole == '0' and letter == 'R' else whole}{letter}{frac}"
+
+
+def format_ohms(ohms: float, code: bool = False, digits: int = 3) -> str:
+    """A resistance the trade's way: "4.7 kOhm", or with ``code`` the IEC 60062 code "4k7"."""
+    return format_code(ohms, digits) if code else format_si(ohms, "Ohm", digits)

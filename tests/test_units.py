@@ -2,7 +2,7 @@
 
 import pytest
 
-from bandcalc.units import UnitError, format_code, format_si, parse_quantity, parse_resistance
+from bandcalc.units import UnitError, format_code, format_ohms, format_si, parse_quantity, parse_resistance
 
 
 @pytest.mark.parametrize(("text", "ohms"), [
@@ -59,3 +59,13 @@ def test_format_si(value, unit, text):
 def test_format_code_round_trips(ohms, code):
     assert format_code(ohms) == code
     assert parse_resistance(code) == ohms
+
+
+@pytest.mark.parametrize(("ohms", "si", "code"), [
+    # The trade's two ways of writing a part value (IEC 60062 code: letter at the decimal point).
+    (4700, "4.7 kOhm", "4k7"), (2.2e6, "2.2 MOhm", "2M2"), (8660, "8.66 kOhm", "8k66"),
+    (470, "470 Ohm", "470R"),
+])
+def test_format_ohms_either_way(ohms, si, code):
+    assert format_ohms(ohms) == si
+    assert format_ohms(ohms, code=True) == code

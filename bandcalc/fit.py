@@ -1,0 +1,561 @@
+"""Fit standard resistor values to the switching points the designer wants.
+
+Give a design (its stage, supply, reference, output and comparator; its resistor values are
+only a starting point), the upper and lower switching points wanted, a series and a range of
+values.  The fit chooses which resistors are free, adds a + pin leg where the stage as drawn
+cannot place both points, finds the exact continuous solution, and lists the best standard
+values, ranked by the larger of the two errors (ties: lower network current).
+
+Every number reported comes from the general model (:func:`bandcalc.network.switching_points`),
+so open-drain loading, offset, bias current and source resistance are always included.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping
+from dataclasses import dataclass, replace
+
+import numpy as np
+
+from .design import RESISTOR_KEYS, Design, DividerReference, FixedReference, OpenDrain, Resistors
+from .eseries import EseriesError, series_values
+from .network import Points, parameters, switching_points
+from .search import Evaluate, search
+from .solver import solve
+from .units import UnitError, format_si, format_value, parse_resistance
+from .watched import stage_design, stage_targets, watched_points
+
+__all__ = [
+    "Candidate",
+    "FitError",
+    "FitResult",
+    "apply_candidate",
+    "candidate_to_dict",
+    "fit",
+    "fit_to_dict",
+]
+
+# Both points within this many volts (relative to the larger target, at least 1 V) count as exact.
+_EXACT = 1e-9
+_WIDE = (1e-3, 1e15)  # ohms: the bounds of "any value at all" when explaining a failure
+_LEG_WORDS = {"to_ground": "ground", "to_positive": "the positive rail",
+              "to_negative": "the negative rail", "to_reference": "the reference"}
+
+
+class FitError(ValueError):
+    """Targets or settings the fit cannot work with; the message says why and what would help."""
+
+
+@dataclass(frozen=True)
+class Candidate:
+    """One set of resistor values and the switching points the model gives for it.
+
+    ``resistors`` holds the whole resistors section of the resulting design (design-file keys,
+    ohms); ``reference`` the fitted divider, where the fit chose it.  Errors are actual minus
+    target, volts; ``network_current`` in amperes (see :func:`fit`).
+    """
+
+    resistors: dict[str, float]
+    reference: DividerReference | None
+    upper: float
+    lower: float
+    error_upper: float
+    error_lower: float
+    worst_error: float
+    network_current: float
+    design: Design
+
+
+@dataclass(frozen=True)
+class FitResult:
+    """Candidates best first, the exact continuous solution, and what the fit did and why."""
+
+    design: Design  # the design as fitted: held values applied, any added leg in place
+    upper: float
+    lower: float
+    series: str
+    min_ohms: float
+    max_ohms: float
+    fitted: tuple[str, ...]  # positions fitted: resistor keys, "reference.top", "reference.bottom"
+    candidates: tuple[Candidate, ...]
+    exact: Candidate | None
+    added_leg: str | None
+    notes: tuple[str, ...]
+    problems: tuple[str, ...]  # why the targets cannot be met exactly, and what would help
+
+
+def _ohms(value: float, digits: int = 3) -> str:
+    return format_si(value, "Ohm", digits)
+
+
+def _volts(value: float) -> str:
+    return format_si(value, "V", 4)
+
+
+# --- Positions and the model -----------------------------------------------------------------
+
+def _param(position: str) -> str:
+    return position if position.startswith("reference.") else f"resistors.{position}"
+
+
+def _position(param: str) -> str:
+    return param.removeprefix("resistors.")
+
+
+def _positions(design: Design) -> list[str]:
+    """The positions the fit may move: the resistors present and a reference divider.
+
+    The inverting stage's input resistor carries only bias current (it protects the pin);
+    the output pull-up is an output-stage choice.  Neither is fitted.
+    """
+    out = [k for k in RESISTOR_KEYS if getattr(design.resistors, k) is not None]
+    if design.inverting and "input" in out:
+        out.remove("input")
+    if isinstance(design.reference, DividerReference):
+        out += ["reference.top", "reference.bottom"]
+    return out
+
+
+def _with(design: Design, values: Mapping[str, float]) -> Design:
+    """A copy of the design with parameters (design-file paths as in network.parameters) set."""
+    res = {k: getattr(design.resistors, k) for k in RESISTOR_KEYS}
+    ref = design.reference
+    for key, value in values.items():
+        section, name = key.split(".")
+        if section == "resistors":
+            res[name] = float(value)
+        elif name == "volts":
+            ref = FixedReference(float(value))
+        else:
+            ref = replace(ref, **{name: float(value)})
+    return replace(design, resistors=Resistors(**res), reference=ref)
+
+
+def _network_current(design: Design, p: Mapping, pts: Points) -> np.ndarray:
+    """Current the network draws, amperes: the larger, over both points, of the total flowing
+    into the + pin from its legs, plus the current down a reference divider."""
+    totals = []
+    for signal, nodes in ((pts.upper, pts.at_upper), (pts.lower, pts.at_lower)):
+        far = {"feedback": nodes.output, "to_positive": p["supply.positive"],
+               "to_negative": p["supply.negative"], "to_ground": 0.0, "to_reference": nodes.reference}
+        legs = [(v, p[f"resistors.{k}"]) for k, v in far.items() if f"resistors.{k}" in p]
+        if not design.inverting:
+            legs.append((signal, p["source.resistance"] + p["resistors.input"]))
+        total = sum(np.maximum(v - nodes.plus, 0.0) / r for v, r in legs)
+        if "reference.top" in p:
+            total = total + (p["supply.positive"] - nodes.reference) / p["reference.top"]
+        totals.append(total)
+    return np.maximum(*totals)
+
+
+def _evaluator(design: Design, params: list[str]) -> Evaluate:
+    base = parameters(design)
+
+    def evaluate(values: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        cols = {k: values[:, j] for j, k in enumerate(params)}
+        pts = switching_points(design, cols)
+        return pts.upper, pts.lower, _network_current(design, {**base, **cols}, pts)
+
+    return evaluate
+
+
+# --- The continuous solution -------------------------------------------------------------------
+
+def _exact(design: Design, params: list[str], targets: tuple[float, float], bounds: tuple[float, float],
+           starts: np.ndarray) -> np.ndarray | None:
+    """The first start's solution that places both points exactly within bounds, or None."""
+    k = len(params)
+    low = np.array([bounds[0] if not p.endswith(".volts") else -1e6 for p in params])
+    high = np.array([bounds[1] if not p.endswith(".volts") else 1e6 for p in params])
+    tol = _EXACT * max(1.0, *map(abs, targets))
+    log = np.array([not p.endswith(".volts") for p in params])
+    values, worst = solve(_evaluator(design, params), log, targets, starts.reshape(-1, k), low, high, tol)
+    ok = worst <= tol
+    return values[np.argmax(ok)] if ok.any() else None
+
+
+def _starts(design: Design, params: list[str], bounds: tuple[float, float], extra: int = 14) -> np.ndarray:
+    """The design's own values, the middle of the range and a fixed spread of others."""
+    p = parameters(design)
+    own = np.array([p[k] for k in params])
+    log_lo, log_hi = math.log(bounds[0]), math.log(bounds[1])
+    middle = np.full(len(params), math.exp((log_lo + log_hi) / 2))
+    spread = np.exp(np.random.default_rng(0).uniform(log_lo, log_hi, (extra, len(params))))
+    rows = np.vstack([own, middle, spread])
+    volts = np.array([k.endswith(".volts") for k in params])
+    return np.where(volts, own, rows)
+
+
+# --- Checks and explanations -------------------------------------------------------------------
+
+def _is_number(value: object) -> bool:
+    return isinstance(value, (int, float)) and not isinstance(value, bool) and math.isfinite(value)
+
+
+def _grid(series: str, min_ohms: float, max_ohms: float) -> np.ndarray:
+    for key, value in (("min_ohms", min_ohms), ("max_ohms", max_ohms)):
+        if not _is_number(value) or value <= 0:
+            raise FitError(f"{key}: must be a positive number of ohms, got {value!r}")
+    if min_ohms >= max_ohms:
+        raise FitError(f"min_ohms ({_ohms(min_ohms)}) must be below max_ohms ({_ohms(max_ohms)})")
+    try:
+        grid = series_values(series, min_ohms, max_ohms)
+    except EseriesError as exc:
+        raise FitError(f"series: {exc}") from None
+    if not len(grid):
+        raise FitError(f"series: no {series} value lies between {_ohms(min_ohms)} and {_ohms(max_ohms)}")
+    return grid
+
+
+def _output_levels(design: Design) -> tuple[float, float]:
+    """High and low output level with no feedback load, volts (from the model)."""
+    pts = switching_points(design, {"resistors.feedback": 1e18})
+    at_high, at_low = (pts.at_upper, pts.at_lower) if design.inverting else (pts.at_lower, pts.at_upper)
+    return float(at_high.output), float(at_low.output)
+
+
+def _check_targets(design: Design, upper: float, lower: float) -> None:
+    for key, value in (("upper", upper), ("lower", lower)):
+        if not _is_number(value):
+            raise FitError(f"{key}: must be a number of volts, got {value!r}")
+    if upper <= lower:
+        raise FitError(f"the upper point ({_volts(upper)}) must be above the lower point ({_volts(lower)}): "
+                       "a rising signal switches the stage at the upper point, a falling one at the lower")
+    low, high = design.signal_range()
+    if upper > high:
+        raise FitError(f"the upper point {_volts(upper)} is above the highest signal the stage can see "
+                       f"({_volts(high)}); a rising signal would never reach it (set source.high if the "
+                       "signal goes higher)")
+    if lower < low:
+        raise FitError(f"the lower point {_volts(lower)} is below the lowest signal the stage can see "
+                       f"({_volts(low)}); a falling signal would never reach it (set source.low if the "
+                       "signal goes lower)")
+    if design.inverting:
+        out_high, out_low = _output_levels(design)
+        if upper - lower >= out_high - out_low:
+            raise FitError(f"a hysteresis of {_volts(upper - lower)} is wider than the output swing allows: "
+                           f"the inverting stage feeds only part of the output's swing ({_volts(out_low)} to "
+                           f"{_volts(out_high)}) back to the + pin. Use the non-inverting stage, or a wider "
+                           "output swing (higher rails or pull-up supply)")
+
+
+def _held(design: Design, fixed: Mapping[str, float | str]) -> dict[str, float]:
+    """Held values by parameter name; keys may be positions ("feedback") or paths ("resistors.feedback")."""
+    allowed = _positions(design) + (["input"] if design.inverting and design.resistors.input else [])
+    out = {}
+    for key, value in fixed.items():
+        position = str(key).removeprefix("resistors.")
+        if position not in allowed:
+            raise FitError(f"fixed.{key}: not a resistor of this design; allowed: {', '.join(allowed)}")
+        try:
+            ohms = parse_resistance(value, f"fixed.{key}")
+        except UnitError as exc:
+            raise FitError(str(exc)) from None
+        if ohms <= 0:
+            raise FitError(f"fixed.{key}: must be greater than zero, got {value!r}")
+        out[_param(position)] = ohms
+    return out
+
+
+def _addable(design: Design) -> list[str]:
+    """Legs the fit may add to the + pin, in the order it tries them."""
+    legs = ["to_ground", "to_positive"]
+    if design.supply.negative != 0:
+        legs.append("to_negative")
+    if design.inverting and design.reference is not None:
+        legs.append("to_reference")
+    return [leg for leg in legs if getattr(design.resistors, leg) is None]
+
+
+def _reference_needed(design: Design, params: list[str], targets: tuple[float, float],
+                      bounds: tuple[float, float]) -> str | None:
+    """A sentence on the reference that would place both points with these resistors, if any."""
+    if design.reference is None or not any(p.startswith("resistors.") for p in params):
+        return None
+    ref = design.reference
+    volts = ref.volts if isinstance(ref, FixedReference) else float(
+        design.supply.negative + design.supply.span * ref.bottom / (ref.top + ref.bottom))
+    trial = replace(design, reference=FixedReference(volts))
+    trial_params = [p for p in params if p.startswith("resistors.")] + ["reference.volts"]
+    found = _exact(trial, trial_params, targets, bounds, _starts(trial, trial_params, bounds))
+    if found is None:
+        return None
+    need, names = float(found[-1]), _names(trial_params[:-1])
+    vp, vn = design.supply.positive, design.supply.negative
+    if need > vp or need < vn:
+        side, rail = ("above", vp) if need > vp else ("below", vn)
+        remedy = "use the inverting stage or a higher rail" if need > vp else "use a lower negative rail"
+        return (f"with {names} it needs a reference of {_volts(need)}, {side} the {_volts(rail)} rail: "
+                f"{remedy}")
+    if abs(need - volts) < 1e-4 * max(1.0, abs(volts)):
+        return None  # the reference is not what stands in the way
+    what = "the divider gives" if isinstance(ref, DividerReference) else "it has"
+    return f"with {names} it needs a reference of {_volts(need)}, where {what} {_volts(volts)}"
+
+
+def _why_not(design: Design, params: list[str], targets: tuple[float, float],
+             bounds: tuple[float, float]) -> list[str]:
+    """Plain sentences: why no values in range place both points, and what would."""
+    out = []
+    reference = _reference_needed(design, params, targets, bounds)
+    if reference:
+        out.append(reference[0].upper() + reference[1:] + ".")
+    wide = None if reference else _exact(design, params, targets, _WIDE, _starts(design, params, bounds))
+    if wide is not None:
+        outside = [f"{_position(p)} {_ohms(v)}" for p, v in zip(params, wide, strict=True)
+                   if not bounds[0] <= v <= bounds[1]]
+        out.append(f"With {_names(params)} both points need values outside the allowed range "
+                   f"({_ohms(bounds[0])} to {_ohms(bounds[1])}): {', '.join(outside)}; widen the range.")
+    if not out:
+        out.append(f"No values of {_names(params)} between {_ohms(bounds[0])} and {_ohms(bounds[1])} "
+                   "place both points.")
+    return out
+
+
+def _names(params: list[str]) -> str:
+    names = [_position(p) for p in params]
+    return names[0] if len(names) == 1 else f"{', '.join(names[:-1])} and {names[-1]}"
+
+
+def _standing_notes(design: Design, held: Mapping[str, float]) -> list[str]:
+    notes = []
+    if held:
+        notes.append("Held as given: " + ", ".join(f"{_position(k)} {_ohms(v, 4)}" for k, v in held.items())
+                     + ".")
+    if design.inverting and design.resistors.input is not None and "resistors.input" not in held:
+        notes.append(f"The input resistor ({_ohms(design.resistors.input)}) carries only the - pin's bias "
+                     "current in the inverting stage; it is kept, and its drop is included.")
+    if isinstance(design.output, OpenDrain):
+        notes.append(f"The pull-up ({_ohms(design.output.pullup)}) is an output-stage choice and is kept; "
+                     "its loading of the output is included in every point.")
+    return notes
+
+
+# --- The fit -------------------------------------------------------------------------------------
+
+def _candidate(design: Design, params: list[str], row: np.ndarray, targets: tuple[float, float],
+               evaluated: tuple[float, float, float] | None = None) -> Candidate:
+    """A candidate from parameter values; the points come from the model."""
+    d = _with(design, dict(zip(params, (float(v) for v in row), strict=True)))
+    u, l, cur = evaluated or (float(a[0]) for a in _evaluator(design, params)(row[None, :]))  # noqa: E741
+    eu, el = float(u) - targets[0], float(l) - targets[1]
+    fitted_divider = any(p.startswith("reference.") for p in params)
+    return Candidate(resistors=d.resistors.present(), reference=d.reference if fitted_divider else None,
+                     upper=float(u), lower=float(l), error_upper=eu, error_lower=el,
+                     worst_error=max(abs(eu), abs(el)), network_current=float(cur), design=d)
+
+
+def _leg_options(design: Design, params: list[str], targets: tuple[float, float],
+                 bounds: tuple[float, float]) -> list[tuple[str, Design, list[str], np.ndarray]]:
+    """Legs whose addition places both points exactly in range, most robust first.
+
+    Each entry: the leg, the design with it, the parameters to fit, and an exact solution.  A
+    reference divider is first kept as drawn (the leg takes over its job, and five free values
+    would make the search slow); only if no leg works that way is it fitted as well.
+    """
+    divider = [p for p in params if p.startswith("reference.")]
+    for free in ([p for p in params if p not in divider], params) if divider else (params,):
+        options = []
+        for leg in _addable(design):
+            trial = _with(design, {f"resistors.{leg}": math.sqrt(bounds[0] * bounds[1])})
+            trial_params = [*free, f"resistors.{leg}"]
+            found = _exact(trial, trial_params, targets, bounds, _starts(trial, trial_params, bounds))
+            if found is not None:
+                options.append((_offset_gain(trial, trial_params, found), leg, trial, trial_params, found))
+        if options:
+            return [option[1:] for option in sorted(options, key=lambda o: o[0])]
+    return []
+
+
+def _search_order(design: Design, params: list[str], values: np.ndarray) -> np.ndarray:
+    """Positions by falling sensitivity of the points (per relative change) at the given values."""
+    step = np.exp(np.eye(len(params)) * 1e-3)
+    u, l, _ = _evaluator(design, params)(np.vstack([values, values * step]))  # noqa: E741
+    gain = np.maximum(np.abs(u[1:] - u[0]), np.abs(l[1:] - l[0]))
+    return np.argsort(-gain, kind="stable")
+
+
+def _offset_gain(design: Design, params: list[str], values: np.ndarray) -> float:
+    """How far the points move per volt of comparator offset at these values (from the model).
+
+    A leg whose far end sits near the + pin's switching potential moves the points only through
+    the offset and bias current; such a solution has a large gain and is fragile.
+    """
+    d = _with(design, dict(zip(params, values, strict=True)))
+    offset = d.comparator.offset + np.array([0.0, 1e-3])
+    pts = switching_points(d, {"comparator.offset": offset})
+    return float(max(abs(np.diff(pts.upper)[0]), abs(np.diff(pts.lower)[0])) / 1e-3)
+
+
+def fit(design: Design, upper: float, lower: float, *, series: str = "E24", min_ohms: float = 1e3,
+        max_ohms: float = 10e6, count: int = 5, fixed: Mapping[str, float | str] | None = None,
+        add_leg: bool = True) -> FitResult:
+    """Standard resistor values that place the switching points at ``upper`` and ``lower``.
+
+    Targets are volts of the signal's open-circuit voltage or, for a design with a front end, the
+    watched quantity (battery volts, degrees C): see :func:`_fit_watched`.
+
+    Parameters
+    ----------
+    design : Design
+        The stage; its resistor values are only a starting point.
+    upper, lower : float
+        Target switching points, volts of the signal's open-circuit voltage.
+    series : str
+        IEC 60063 series the values come from ("E3" to "E192").
+    min_ohms, max_ohms : float
+        Allowed range for every fitted resistor, ohms.
+    count : int
+        Candidates to return, best first.
+    fixed : mapping, optional
+        Resistors to hold at a given value (ohms or text such as "1M2"), by design-file key
+        ("feedback", "input", "to_ground", ..., "reference.top", "reference.bottom").
+    add_leg : bool
+        Allow the fit to add a leg from the + pin to ground, a rail or the reference when the
+        stage as drawn cannot place both points.
+
+    Returns
+    -------
+    FitResult
+        Candidates ranked by the larger of the two errors, ties by the lower network current
+        (the larger, over both switching points, of the total current flowing into the + pin
+        from its legs, plus the current down a reference divider).
+
+    Raises
+    ------
+    FitError
+        Settings that cannot be used, or targets no resistor values can meet; the message says
+        why and what would make them possible.
+    """
+    if not isinstance(count, int) or isinstance(count, bool) or count < 1:
+        raise FitError(f"count: must be a whole number of 1 or more, got {count!r}")
+    settings = dict(series=series, min_ohms=min_ohms, max_ohms=max_ohms, fixed=fixed, add_leg=add_leg)
+    if design.front_end is not None:
+        return _fit_watched(design, upper, lower, count, settings)
+    return _fit_stage(design, upper, lower, count, **settings)
+
+
+def _fit_stage(design: Design, upper: float, lower: float, count: int, *, series: str, min_ohms: float,
+               max_ohms: float, fixed: Mapping[str, float | str] | None, add_leg: bool) -> FitResult:
+    """The fit of a stage without a front end (targets in volts at its signal source)."""
+    grid = _grid(series, min_ohms, max_ohms)
+    _check_targets(design, upper, lower)
+    held = _held(design, fixed or {})
+    base = _with(design, held)
+    targets, bounds = (float(upper), float(lower)), (float(min_ohms), float(max_ohms))
+    params = [_param(p) for p in _positions(base) if _param(p) not in held]
+    if not params:
+        raise FitError("nothing to fit: every resistor of the stage is held; free at least one "
+                       f"of {', '.join(_positions(base))}")
+    notes, problems = _standing_notes(base, held), []
+    solution = _exact(base, params, targets, bounds, _starts(base, params, bounds))
+    added = None
+    if solution is None:
+        why = _why_not(base, params, targets, bounds)
+        options = _leg_options(base, params, targets, bounds)
+        if options and add_leg:
+            kept = "reference.top" in params and "reference.top" not in options[0][2]
+            added, base, params, solution = options[0]
+            notes.append(f"The stage as drawn cannot place both points. {' '.join(why)} The fit adds a "
+                         f"resistor from the + pin to {_LEG_WORDS[added]} (resistors.{added})"
+                         + (", of the legs that work the one least sensitive to the comparator's offset."
+                            if len(options) > 1 else ".")
+                         + (" The reference divider is kept as drawn." if kept else ""))
+        else:
+            problems = why
+            if options:
+                problems.append(f"A resistor from the + pin to {_LEG_WORDS[options[0][0]]} would make it "
+                                "possible; the fit adds one unless told not to.")
+            problems.append("The candidates are the closest the stage comes.")
+    # Search with the resistors the points are most sensitive to outermost (much faster; the
+    # answer does not depend on the order), and report in the design's own order.
+    start = solution if solution is not None else _starts(base, params, bounds)[0]
+    order = _search_order(base, params, start)
+    found = search(_evaluator(base, [params[i] for i in order]), grid, len(params), *targets, count)
+    found = replace(found, values=found.values[:, np.argsort(order)])
+    candidates = tuple(_candidate(base, params, found.values[i], targets,
+                                  (found.upper[i], found.lower[i], found.current[i]))
+                       for i in range(len(found.values)))
+    exact = None
+    if solution is not None:
+        nearest = _exact(base, params, targets, bounds, found.values[:1])
+        exact = _candidate(base, params, solution if nearest is None else nearest, targets)
+        if len(params) > 2:
+            notes.append(f"With {len(params)} free values the exact solutions form a family; the one shown "
+                         "is the nearest to the best candidate.")
+    return FitResult(design=base, upper=targets[0], lower=targets[1], series=series.strip().upper(),
+                     min_ohms=bounds[0], max_ohms=bounds[1], fitted=tuple(_position(p) for p in params),
+                     candidates=candidates, exact=exact, added_leg=added, notes=tuple(notes),
+                     problems=tuple(problems))
+
+
+# With a thermistor the stage's source resistance differs a little between the two target
+# temperatures; the stage is fitted at their middle and this many times more candidates are
+# re-ranked exactly through the front end.
+_WATCHED_POOL = 4
+
+
+def _fit_watched(design: Design, upper: float, lower: float, count: int, settings: dict) -> FitResult:
+    """Fit a design with a front end to targets in its watched quantity.
+
+    The watched targets map to targets at the stage's source (:func:`bandcalc.watched.stage_targets`;
+    exact for a divider or a linear sensor, whose resistance is fixed).  The stage is fitted as it
+    sees the front end, then every candidate is evaluated through the whole front end and stage
+    (:func:`bandcalc.watched.watched_points`) and ranked again on those exact figures.
+    """
+    unit = design.front_end.unit
+    try:
+        t = stage_targets(design, upper, lower)
+        stage = stage_design(design, 0.5 * (upper + lower))
+    except ValueError as exc:
+        raise FitError(f"targets {format_value(upper, unit)} / {format_value(lower, unit)}: {exc}") from None
+    s_up, s_low = sorted((float(t.upper), float(t.lower)), reverse=True)
+    if not (math.isfinite(s_up) and math.isfinite(s_low)):
+        raise FitError(f"targets {format_value(upper, unit)} / {format_value(lower, unit)}: outside what "
+                       "the front end can map to the stage; check the front end's range")
+    inner = _fit_stage(stage, s_up, s_low, max(count * _WATCHED_POOL, 20), **settings)
+
+    def watched(c: Candidate) -> Candidate:
+        full = apply_candidate(replace(design, resistors=inner.design.resistors), c)
+        w = watched_points(full)
+        eu, el = float(w.upper) - upper, float(w.lower) - lower
+        worst = max(abs(eu), abs(el)) if math.isfinite(eu + el) else math.inf
+        return replace(c, upper=float(w.upper), lower=float(w.lower), error_upper=eu, error_lower=el,
+                       worst_error=worst, design=full)
+
+    ranked = sorted((watched(c) for c in inner.candidates), key=lambda c: (c.worst_error, c.network_current))
+    note = (f"Targets of {format_value(upper, unit)} and {format_value(lower, unit)} map to "
+            f"{format_value(s_up, 'V')} and {format_value(s_low, 'V')} at the stage's source; every "
+            "candidate's points are computed through the front end and stage together.")
+    return replace(inner, design=replace(design, resistors=inner.design.resistors,
+                                         reference=inner.design.reference),
+                   upper=float(upper), lower=float(lower), candidates=tuple(ranked[:count]),
+                   exact=None if inner.exact is None else watched(inner.exact),
+                   notes=(note, *inner.notes),
+                   problems=tuple(f"At the stage: {p}" for p in inner.problems))
+
+
+def apply_candidate(design: Design, candidate: Candidate) -> Design:
+    """The design with a candidate's resistors (and fitted divider); everything else unchanged."""
+    return replace(design, resistors=Resistors(**candidate.resistors),
+                   reference=candidate.reference or design.reference)
+
+
+def candidate_to_dict(c: Candidate) -> dict:
+    """JSON shape of a candidate: resistors and any fitted divider in the design file's shape."""
+    out: dict = {"resistors": dict(c.resistors)}
+    if c.reference is not None:
+        out["reference"] = {"divider": {"top": c.reference.top, "bottom": c.reference.bottom}}
+    out.update(upper=c.upper, lower=c.lower, error_upper=c.error_upper, error_lower=c.error_lower,
+               worst_error=c.worst_error, network_current=c.network_current)
+    return out
+
+
+def fit_to_dict(r: FitResult) -> dict:
+    """JSON shape of a fit: candidates best first, the exact solution, notes and problems."""
+    return {"targets": {"upper": r.upper, "lower": r.lower}, "series": r.series,
+            "min_ohms": r.min_ohms, "max_ohms": r.max_ohms, "fitted": list(r.fitted),
+            "added_leg": r.added_leg, "candidates": [candidate_to_dict(c) for c in r.candidates],
+            "exact": None if r.exact is None else candidate_to_dict(r.exact),
+            "notes": list(r.notes), "problems": list(r.problems)}
