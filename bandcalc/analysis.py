@@ -170,7 +170,7 @@ class Analysis:
         return 0.5 * (self.upper + self.lower)
 
     @property
-    def network_current(self) -> float:
+    def positive_rail_current(self) -> float:
         """Largest current drawn from the positive rail at either switching point (A)."""
         return max(self.at_upper.rails["positive"], self.at_lower.rails["positive"])
 

@@ -48,7 +48,7 @@ def _analysis_table(path: str, a: Analysis) -> str:
         ("hysteresis", v(a.hysteresis)),
         ("centre", v(a.centre)),
         ("output high / low", f"{v(a.output_high)} / {v(a.output_low)}"),
-        ("network current", format_si(a.network_current, "A")),
+        ("positive rail current", format_si(a.positive_rail_current, "A")),
     ]
     if a.watched is not None:
         rows[1:1] = _watched_rows(a)

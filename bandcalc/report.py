@@ -234,7 +234,7 @@ def _points_rows(a: Analysis, spread) -> tuple[list[str], list[list[str]]]:
                  f"{_v(a.upper)} / {_v(a.lower)}", *blank]]
     rows += [["Output level reached, high", _v(a.output_high), *blank],
              ["Output level reached, low", _v(a.output_low), *blank],
-             ["Largest current from the positive rail", format_si(a.network_current, "A"), *blank]]
+             ["Largest current from the positive rail", format_si(a.positive_rail_current, "A"), *blank]]
     return header, rows
 
 
@@ -285,6 +285,29 @@ def _signal_section(run) -> list[str]:
     return _table(["Quantity", "Value"], rows) + [""] + [f"- {f}" for f in run.findings]
 
 
+def _fit_section(result) -> list[str]:
+    """Targets, the leading candidates and the exact solution of a fit (bandcalc.fit.FitResult)."""
+    unit = result.design.front_end.unit if result.design.front_end is not None else "V"
+    q = lambda x: format_value(x, unit, 4)  # noqa: E731
+
+    def value(c, position: str) -> float:
+        return getattr(c.reference, position.split(".")[1]) if "." in position else c.resistors[position]
+
+    lines = [f"Targets: upper {q(result.upper)}, lower {q(result.lower)}; fitted "
+             f"{', '.join(result.fitted)} from {result.series}, {format_si(result.min_ohms, 'Ohm')} to "
+             f"{format_si(result.max_ohms, 'Ohm')}.", ""]
+    header = ["Rank", *result.fitted, "Upper", "Lower", "Worst error", "Network current"]
+    rows = [[str(i), *(format_code(value(c, p)) for p in result.fitted), q(c.upper), q(c.lower),
+             format_value(c.worst_error, unit, 3), format_si(c.network_current, "A")]
+            for i, c in enumerate(result.candidates, 1)]
+    lines += _table(header, rows)
+    if result.exact is not None:
+        exact = ", ".join(f"{p} {format_si(value(result.exact, p), 'Ohm', 4)}" for p in result.fitted)
+        lines += ["", f"Exact (continuous) solution: {exact}."]
+    lines += [""] + [f"- {n}" for n in (*result.notes, *result.problems)]
+    return lines
+
+
 def _fence(text: str) -> str:
     longest = max((len(m) for m in re.findall(r"`+", text)), default=0)
     return "`" * max(3, longest + 1)
@@ -329,13 +352,11 @@ def design_summary(design: Design, inputs: SummaryInputs | None = None, *,
     md += _table(*_points_rows(a, inputs.spread))
     if inputs.spread is not None:
         md += ["", "## Spread over tolerances and temperature", ""] + _spread_section(inputs.spread)
+    if inputs.fit is not None:
+        md += ["", "## Standard values fitted to the targets", ""] + _fit_section(inputs.fit)
     if inputs.signal is not None:
         md += ["", "## Noise and delay", ""] + _signal_section(inputs.signal)
-    if inputs.spread is not None:
-        notes = [n for n in inputs.spread.notes]
-        findings_extra = notes
-    else:
-        findings_extra = []
+    findings_extra = list(inputs.spread.notes) if inputs.spread is not None else []
     md += ["", "## Findings", ""]
     md += [f"- {f}" for f in (*a.findings, *findings_extra)] or [
         "No findings: the checks found nothing to report."]

@@ -45,7 +45,7 @@ def test_rail_currents_include_divider_and_pullup():
     a = analyze(d)
     # At the upper point the output is low (0 V): the pull-up draws 5 mA, the divider ~0.25 mA.
     assert a.at_upper.rails["positive"] == pytest.approx(5e-3 + 0.25e-3, rel=1e-3)
-    assert a.network_current >= a.at_upper.rails["positive"]
+    assert a.positive_rail_current >= a.at_upper.rails["positive"]
 
 
 def test_open_drain_high_level_reached_is_below_pullup_volts():

@@ -12,7 +12,7 @@ from bandcalc.design import Design, FixedReference, Resistors, Source, Supply, l
 from bandcalc.network import switching_points
 from bandcalc.report import design_from_summary, design_summary, escape_text
 from bandcalc.signal import run_design
-from bandcalc.units import format_si, format_value
+from bandcalc.units import format_code, format_si, format_value
 from bandcalc.waveform import synthesize
 
 DEMOS = sorted((Path(__file__).parent.parent / "demo_data").glob("*.json"))
@@ -150,3 +150,16 @@ def test_spread_section_and_columns():
 def test_report_command_with_spread(capsys):
     assert main(["report", str(DEMOS[0]), "--spread", "--samples", "2000"]) == 0
     assert "## Spread over tolerances and temperature" in capsys.readouterr().out
+
+
+def test_fit_section():
+    from bandcalc.fit import fit
+
+    d = load_design(DEMOS[0].parent / "greenhouse_fan_thermostat.json")
+    r = fit(d, 32.0, 28.0, count=3)
+    text = design_summary(d, type("Inputs", (), {"spread": None, "signal": None, "fit": r})())
+    assert "## Standard values fitted to the targets" in text
+    assert "Targets: upper 32 C, lower 28 C" in text
+    best = r.candidates[0]
+    assert f"| 1 | {format_code(best.resistors['feedback'])} |" in text
+    assert sum(1 for line in text.splitlines() if line.startswith("| 3 |")) == 1
