@@ -7,24 +7,16 @@ Prints the time of the vectorized call, the per-variant time of a loop of scalar
 
 from __future__ import annotations
 
-import time
 from pathlib import Path
 
 import numpy as np
+from timing import best_of  # the benchmarks' shared timer (this folder)
 
 from bandcalc.design import load_design
 from bandcalc.network import parameters, switching_points
 
 DEMO = Path(__file__).parent.parent / "demo_data" / "solar_battery_disconnect.json"
 
-
-def best_of(fn, repeats: int) -> float:
-    best = float("inf")
-    for _ in range(repeats):
-        t0 = time.perf_counter()
-        fn()
-        best = min(best, time.perf_counter() - t0)
-    return best
 
 
 def main(n: int = 1_000_000, loop_n: int = 2_000) -> None:

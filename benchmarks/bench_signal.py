@@ -19,13 +19,14 @@ from __future__ import annotations
 import csv
 import io
 import sys
-import time
 from pathlib import Path
 
 import numpy as np
 
 # Time the package of this checkout, not whichever copy happens to be installed.
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
+
+from timing import best_of  # the benchmarks' shared timer (this folder)
 
 from bandcalc._loop_reference import switch_loop
 from bandcalc.signal import run_stage, switch_states
@@ -35,15 +36,6 @@ from bandcalc.waveform import synthesize
 SAMPLES = 1_000_000
 UPPER, LOWER = 1.05, 0.95
 
-
-def best_of(repeats: int, func) -> float:
-    """Shortest of ``repeats`` wall times of ``func()``, in s."""
-    best = float("inf")
-    for _ in range(repeats):
-        start = time.perf_counter()
-        func()
-        best = min(best, time.perf_counter() - start)
-    return best
 
 
 def loop_from_csv(data: bytes) -> int:
@@ -62,8 +54,8 @@ def main() -> None:
     assert switch_states(v, UPPER, LOWER).tolist() == switch_loop(t_list, v_list, UPPER,
                                                                   LOWER)[0]
 
-    core = best_of(30, lambda: switch_states(v, UPPER, LOWER))
-    loop = best_of(3, lambda: switch_loop(t_list, v_list, UPPER, LOWER))
+    core = best_of(lambda: switch_states(v, UPPER, LOWER), 30)
+    loop = best_of(lambda: switch_loop(t_list, v_list, UPPER, LOWER), 3)
     print(f"switching core, {SAMPLES:,} samples (target < 3 ms)")
     print(f"  vectorized      {core * 1e3:8.2f} ms")
     print(f"  per-sample loop {loop * 1e3:8.2f} ms")
@@ -75,11 +67,11 @@ def main() -> None:
     got = run_stage(read_waveform_csv(data), UPPER, LOWER).edge_count
     assert got == loop_from_csv(data.split(b"\n", 1)[1])
 
-    read = best_of(5, lambda: read_waveform_csv(data))
+    read = best_of(lambda: read_waveform_csv(data), 5)
     recorded = read_waveform_csv(data)
-    run = best_of(5, lambda: run_stage(recorded, UPPER, LOWER))
-    both = best_of(5, lambda: run_stage(read_waveform_csv(data), UPPER, LOWER))
-    plain = best_of(2, lambda: loop_from_csv(data.split(b"\n", 1)[1]))
+    run = best_of(lambda: run_stage(recorded, UPPER, LOWER), 5)
+    both = best_of(lambda: run_stage(read_waveform_csv(data), UPPER, LOWER), 5)
+    plain = best_of(lambda: loop_from_csv(data.split(b"\n", 1)[1]), 2)
     print(f"CSV read + run, {SAMPLES:,} rows, {len(data) / 1e6:.1f} MB (target < 0.5 s)")
     print(f"  read_waveform_csv          {read * 1e3:8.1f} ms")
     print(f"  run_stage                  {run * 1e3:8.1f} ms")

@@ -14,7 +14,7 @@ import os
 from pathlib import Path
 
 import numpy as np
-from bench_model import best_of  # the benchmarks' shared timer (this script's own folder)
+from timing import best_of  # the benchmarks' shared timer (this folder)
 
 from bandcalc.design import load_design
 from bandcalc.factors import VariedModel

@@ -10,11 +10,11 @@ largest difference between the two answers on the sample.
 
 from __future__ import annotations
 
-import time
 from pathlib import Path
 
 import numpy as np
 from scipy.optimize import brentq
+from timing import best_of  # the benchmarks' shared timer (this folder)
 
 from bandcalc.design import load_design
 from bandcalc.network import switching_points
@@ -22,14 +22,6 @@ from bandcalc.watched import all_parameters, volts_for, watched_points
 
 DEMO = Path(__file__).parent.parent / "demo_data" / "greenhouse_fan_thermostat.json"
 
-
-def best_of(fn, repeats: int) -> float:
-    best = float("inf")
-    for _ in range(repeats):
-        t0 = time.perf_counter()
-        fn()
-        best = min(best, time.perf_counter() - t0)
-    return best
 
 
 def bracketed(design, values: dict[str, float]) -> float:
