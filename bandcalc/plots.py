@@ -10,11 +10,10 @@ import math
 
 import plotly.graph_objects as go
 
-from .fit import Candidate, FitResult
 from .transfer import TransferCurve
-from .units import SI_UNITS, format_code, format_si, format_value
+from .units import format_si
 
-__all__ = ["PALETTE", "as_figure", "fit_spec", "transfer_figure", "transfer_spec"]
+__all__ = ["PALETTE", "as_figure", "transfer_figure", "transfer_spec"]
 
 # bandcalc's own colours: the rising branch in pine green, the falling branch in brick red,
 # the hysteresis band in pale sand, the switching points in ink blue.
@@ -137,40 +136,3 @@ def transfer_figure(curve: TransferCurve, title: str | None = None, validate: bo
 def as_figure(spec: dict, validate: bool = True) -> go.Figure:
     """A Plotly figure from a specification; ``validate=False`` skips Plotly's schema check."""
     return go.Figure(spec) if validate else go.Figure(spec, _validate=False)
-
-
-def fit_spec(result: FitResult) -> dict:
-    """A fit's candidates as a plain Plotly specification: worst error against network current.
-
-    One trace, "Candidates", a marker per candidate labelled with its rank (best first), so the
-    price of a smaller error in current drawn shows at a glance.  Errors are in the targets' unit
-    (volts, or the front end's watched unit); the current axis is logarithmic.
-    """
-    unit = result.design.front_end.unit if result.design.front_end is not None else "V"
-
-    def values(c: Candidate) -> str:
-        parts = [f"{key} {format_code(ohms)}" for key, ohms in c.resistors.items()]
-        if c.reference is not None:
-            parts.append(f"divider {format_code(c.reference.top)} / {format_code(c.reference.bottom)}")
-        return ", ".join(parts)
-
-    ranks = [str(i) for i in range(1, len(result.candidates) + 1)]
-    points = {"type": "scatter", "name": "Candidates", "mode": "markers+text", "text": ranks,
-              "textposition": "top center", "textfont": {"color": PALETTE["point"], "size": 13},
-              "x": [c.network_current for c in result.candidates],
-              "y": [c.worst_error for c in result.candidates],
-              "customdata": [[values(c), format_si(c.network_current, "A"),
-                              format_value(c.worst_error, unit, 3)] for c in result.candidates],
-              "marker": {"size": 11, "color": PALETTE["point"], "symbol": "hexagon"},
-              "hovertemplate": "Candidate %{text}: %{customdata[0]}<br>worst error %{customdata[2]}, "
-                               "network current %{customdata[1]}<extra></extra>"}
-    layout = {
-        "margin": {"l": 70, "r": 20, "t": 36, "b": 50}, "height": 300, "plot_bgcolor": "white",
-        "title": {"text": "Each candidate: worst error against the current it draws"},
-        "showlegend": False,
-        "xaxis": {"title": {"text": "Network current (A)"}, "type": "log", "tickformat": "~s",
-                  "gridcolor": PALETTE["grid"]},
-        "yaxis": {"title": {"text": f"Worst error ({unit})"}, "rangemode": "tozero",
-                  "tickformat": "~s" if unit in SI_UNITS else "~g", "gridcolor": PALETTE["grid"]},
-    }
-    return {"data": [points], "layout": layout}

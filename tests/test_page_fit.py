@@ -8,7 +8,6 @@ on a button press, and puts a candidate on the sliders with one click.
 
 from pathlib import Path
 
-import plotly.graph_objects as go
 import pytest
 from streamlit.testing.v1 import AppTest
 from test_page import SUMP, design_on, errors, expected, figures, page
@@ -19,7 +18,6 @@ from bandcalc.fit import apply_candidate, fit
 from bandcalc.page.address import PARAM, design_to_address
 from bandcalc.page.edit import with_value
 from bandcalc.page.panels import fit as panel
-from bandcalc.plots import fit_spec
 from bandcalc.units import format_code, format_si, format_value
 
 ROOT = Path(__file__).parent.parent
@@ -195,6 +193,16 @@ def test_held_resistors_keep_their_values():
     assert "Held as given: feedback 39 kOhm." in [i.value for i in at.info]
 
 
+def test_targets_out_of_reach_without_an_added_leg_are_explained():
+    at = fit_tab()
+    at.checkbox(key="fit.add_leg").uncheck()
+    find(at, "3.1", "1.9")
+    result = fit(SUMP, 3.1, 1.9, add_leg=False)
+    assert result.problems  # fit(): with input and feedback alone the sump stage needs another reference
+    assert [w.value for w in at.warning] == [f"Cannot meet the targets exactly: {p}" for p in result.problems]
+    assert candidates_shown(at)["Upper"] == [format_value(c.upper, "V", 4) for c in result.candidates]
+
+
 def test_settings_stay_across_tabs_and_restart_for_another_design():
     at = fit_tab()
     at.selectbox(key="fit.series").set_value("E96")
@@ -239,13 +247,3 @@ def test_latest_fit_holds_for_the_design_while_only_resistor_values_change():
     at.run()
     assert at.session_state["held"] == [True, True, False]
     assert with_value(SUMP, "resistors.feedback", 1e6) != SUMP
-
-
-def test_candidates_figure_is_valid_plotly():
-    result = fit(GREENHOUSE, 32.0, 28.0)
-    figure = go.Figure(fit_spec(result))  # Plotly's own validators (the page skips them)
-    (points,) = figure.data
-    assert list(points.x) == [c.network_current for c in result.candidates]
-    assert list(points.y) == [c.worst_error for c in result.candidates]
-    assert list(points.text) == ["1", "2", "3", "4", "5"]
-    assert figure.layout.yaxis.title.text == "Worst error (C)"

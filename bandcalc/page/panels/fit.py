@@ -18,7 +18,6 @@ import streamlit as st
 from ...design import Design, DividerReference, design_from_json, design_to_json
 from ...eseries import SERIES
 from ...fit import Candidate, FitResult, apply_candidate, fit
-from ...plots import as_figure, fit_spec
 from ...units import format_code, format_si, format_value, parse_quantity, parse_resistance
 from .. import state
 from ..compute import guarded
@@ -120,12 +119,14 @@ def _form(sheet, kept: dict) -> bool:
         row[3].checkbox("May add a resistor to the + pin", key=_WIDGET + "add_leg",
                         help="Where the stage as drawn cannot place both points, a resistor from the + pin "
                              "to ground, a rail or the reference is added")
-        pressed = st.form_submit_button("Find values", type="primary")
+        with st.container(horizontal=True):
+            pressed = st.form_submit_button("Find values", type="primary")
+            st.form_submit_button("Targets from the present points", on_click=_take_points,
+                                  args=_points(sheet),
+                                  help="Put the design's present switching points in the target boxes")
     for field in kept:
         if field != "basis":
             kept[field] = st.session_state[_WIDGET + field]
-    st.button("Targets from the present points", on_click=_take_points, args=_points(sheet),
-              help="Put the design's present switching points in the target boxes")
     return pressed
 
 
@@ -243,21 +244,19 @@ def _results(sheet) -> None:
     st.markdown(f"**Found for** {targets}: {fitted} from {r.series}, {span}.")
     for line in r.problems:
         st.warning(f"Cannot meet the targets exactly: {line}")
-    for line in r.notes:
-        st.info(line)
-    if not r.candidates:
-        return
-    st.table(_table(r, design), hide_index=True)
-    columns = st.columns(_COUNT_MAX)
-    for rank, c in enumerate(r.candidates, 1):
-        if columns[rank - 1].button(f"Apply {rank}", key=f"{_WIDGET}apply.{rank}",
-                                    help="Put this candidate's values on the sliders"):
-            state.apply_design(apply_candidate(design, c), _applied(r, rank, c, unit))
+    if r.candidates:
+        st.table(_table(r, design), hide_index=True)
+        with st.container(horizontal=True):
+            for rank, c in enumerate(r.candidates, 1):
+                if st.button(f"Apply {rank}", key=f"{_WIDGET}apply.{rank}",
+                             help="Put this candidate's values on the sliders"):
+                    state.apply_design(apply_candidate(design, c), _applied(r, rank, c, unit))
     if r.exact is not None:
         exact = ", ".join(f"{_NAMES[p].lower()} {format_si(_value(r.exact, p), 'Ohm', 4)}" for p in r.fitted)
         st.caption(f"Exact values, not standard: {exact} (upper {format_value(r.exact.upper, unit, 4)}, "
                    f"lower {format_value(r.exact.lower, unit, 4)}).")
-    st.plotly_chart(as_figure(fit_spec(r), validate=False), key="fit.chart", config={"displaylogo": False})
+    for line in r.notes:
+        st.info(line)
 
 
 def render(sheet) -> None:
