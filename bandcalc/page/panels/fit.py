@@ -58,8 +58,9 @@ def _holdable(design: Design) -> list[str]:
 def _points(sheet) -> tuple[str, str]:
     """The design's present switching points as target text (blank where there is none).
 
-    Five digits: rounded to four, the points of a stage with one free ratio (input and feedback
-    on a fixed reference) are often out of its reach, and the fit would add a resistor for them.
+    Five digits, not four: a stage with input and feedback on a fixed reference reaches only
+    some pairs of points.  The sump demo's points rounded to four digits are out of its reach in
+    the allowed range and the fit adds a resistor for them; at five its own values come first.
     """
     a, unit = sheet.analysis, _unit(sheet.design)
     points = (a.upper, a.lower) if a.watched is None else (a.upper_watched, a.lower_watched)
