@@ -78,7 +78,11 @@ def _raw_bytes(source: object) -> bytes:
     if len(data) > MAX_BYTES:
         raise WaveformError(f"the file has {len(data):,} bytes; at most {MAX_BYTES:,} are read")
     if data[:2] in (b"\xff\xfe", b"\xfe\xff"):
-        data = data.decode("utf-16").encode("utf-8")
+        try:
+            data = data.decode("utf-16").encode("utf-8")
+        except UnicodeDecodeError:
+            raise WaveformError("the file starts with a UTF-16 byte-order mark but is not UTF-16 text (cut "
+                                "short, or another encoding); save it again as UTF-8 or UTF-16") from None
     if data[:3] == b"\xef\xbb\xbf":
         data = data[3:]
     if b"\n" not in data and b"\r" in data:

@@ -4,7 +4,7 @@ import io
 
 import numpy as np
 import pytest
-from hypothesis import given, settings
+from hypothesis import example, given, settings
 from hypothesis import strategies as st
 
 from bandcalc import wavefile
@@ -153,6 +153,7 @@ def test_error_line_number_holds_across_pieces(row):
 
 
 @settings(max_examples=300, deadline=None)
+@example(b"\xfe\xff" + b"\x00" * 7)  # a UTF-16 byte-order mark, then an odd byte count
 @given(st.one_of(
     st.binary(max_size=200),
     st.text(alphabet="0123456789.,;\t\n\r -+eEnaifx\"", max_size=200),

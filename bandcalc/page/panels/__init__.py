@@ -23,11 +23,11 @@ import streamlit as st
 from ...analysis import Analysis
 from ...design import Design
 from ..compute import guarded
-from . import currents
+from . import currents, fit
 
 __all__ = ["PANELS", "Sheet", "render_panels"]
 
-PANELS: tuple[ModuleType, ...] = (currents,)
+PANELS: tuple[ModuleType, ...] = (currents, fit)
 _TAB_KEY = "page.panel"
 
 

@@ -1,0 +1,268 @@
+"""Panel: standard resistor values for the switching points wanted; one click puts a candidate in.
+
+The settings are the panel's own (they are not part of the design): they stay while the design
+is edited, a candidate applied or another tab opened, and start again from the design's present
+points when a design under another name or with another watched unit comes in.  The fit runs
+only when "Find values" is pressed, cached by the design's JSON and the settings; the latest
+result is kept in ``st.session_state["page.fit_result"]`` as ``(design JSON, FitResult)``, and
+:func:`latest_fit` gives it for a design it still holds for.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import replace
+
+import streamlit as st
+
+from ...design import Design, DividerReference, design_from_json, design_to_json
+from ...eseries import SERIES
+from ...fit import Candidate, FitResult, apply_candidate, fit
+from ...units import format_code, format_si, format_value, parse_quantity, parse_resistance
+from .. import state
+from ..compute import guarded
+from ..controls import SERIES_KEY
+from ..edit import value_at
+
+TITLE = "Fit to target points"
+
+__all__ = ["RESULT_KEY", "TITLE", "latest_fit", "render"]
+
+RESULT_KEY = "page.fit_result"
+_KEPT = "page.fit.settings"  # the settings, kept while the panel's widgets are not drawn
+_WIDGET = "fit."  # widget keys: fit.upper, fit.lower, ...
+_COUNT_MAX = 10
+_NAMES = {"input": "Input", "feedback": "Feedback", "to_positive": "To + rail", "to_negative": "To − rail",
+          "to_ground": "To ground", "to_reference": "To reference", "reference.top": "Divider top",
+          "reference.bottom": "Divider bottom"}
+_LABELS = {"upper": "Upper point wanted", "lower": "Lower point wanted", "min_ohms": "Smallest resistor",
+           "max_ohms": "Largest resistor"}
+
+
+def _unit(design: Design) -> str:
+    return design.front_end.unit if design.front_end is not None else "V"
+
+
+def _path(position: str) -> str:
+    return position if position.startswith("reference.") else f"resistors.{position}"
+
+
+def _holdable(design: Design) -> list[str]:
+    """Positions the fit may hold at their present value."""
+    out = list(design.resistors.present())
+    if isinstance(design.reference, DividerReference):
+        out += ["reference.top", "reference.bottom"]
+    return out
+
+
+def _points(sheet) -> tuple[str, str]:
+    """The design's present switching points as target text (blank where there is none).
+
+    Five digits, not four: a stage with input and feedback on a fixed reference reaches only
+    some pairs of points.  The sump demo's points rounded to four digits are out of its reach in
+    the allowed range and the fit adds a resistor for them; at five its own values come first.
+    """
+    a, unit = sheet.analysis, _unit(sheet.design)
+    points = (a.upper, a.lower) if a.watched is None else (a.upper_watched, a.lower_watched)
+    return tuple(format_value(x, unit, 5) if x is not None and math.isfinite(x) else "" for x in points)
+
+
+def _defaults(sheet) -> dict:
+    upper, lower = _points(sheet)
+    return {"basis": (sheet.design.name, _unit(sheet.design)), "upper": upper, "lower": lower,
+            "series": st.session_state.get(SERIES_KEY, "E24"), "min_ohms": "1k", "max_ohms": "10M",
+            "count": 5, "hold": [], "add_leg": True}
+
+
+def _settings(sheet) -> dict:
+    """The kept settings, started again for a design under another name or watched unit."""
+    kept = st.session_state.get(_KEPT)
+    if kept is None or kept["basis"] != (sheet.design.name, _unit(sheet.design)):
+        kept = _defaults(sheet)
+        for key in [k for k in st.session_state if str(k).startswith(_WIDGET)]:
+            del st.session_state[key]
+    kept["hold"] = [k for k in kept["hold"] if k in _holdable(sheet.design)]
+    st.session_state[_KEPT] = kept
+    for field, value in kept.items():  # a widget drawn again starts from the kept value
+        if field != "basis":
+            st.session_state.setdefault(_WIDGET + field, value)
+    return kept
+
+
+def _take_points(upper: str, lower: str) -> None:
+    for field, text in (("upper", upper), ("lower", lower)):
+        st.session_state[_KEPT][field] = st.session_state[_WIDGET + field] = text
+
+
+def _form(sheet, kept: dict) -> bool:
+    """The settings; returns whether "Find values" was pressed."""
+    design, unit = sheet.design, _unit(sheet.design)
+    what = "the watched quantity, " + unit if design.front_end is not None else "volts at the signal source"
+    with st.form("fit.form", border=False):
+        row = st.columns(4)
+        row[0].text_input(f"{_LABELS['upper']} ({unit})", key=_WIDGET + "upper",
+                          help=f"Where a rising input should switch; {what}")
+        row[1].text_input(f"{_LABELS['lower']} ({unit})", key=_WIDGET + "lower",
+                          help=f"Where a falling input should switch back; {what}")
+        row[2].selectbox("Standard series", tuple(SERIES), key=_WIDGET + "series",
+                         help="IEC 60063 series every fitted value comes from")
+        row[3].number_input("Candidates to list", min_value=1, max_value=_COUNT_MAX, step=1,
+                            key=_WIDGET + "count")
+        row = st.columns(4)
+        row[0].text_input(f"{_LABELS['min_ohms']} (Ω)", key=_WIDGET + "min_ohms",
+                          help="No fitted value below this: 4k7 or 4.7k")
+        row[1].text_input(f"{_LABELS['max_ohms']} (Ω)", key=_WIDGET + "max_ohms",
+                          help="No fitted value above this; above about 1 MΩ board leakage and bias "
+                               "current start to matter (common practice)")
+        row[2].multiselect("Hold at present value", _holdable(design), key=_WIDGET + "hold",
+                           format_func=lambda k: f"{_NAMES[k]} {format_code(value_at(design, _path(k)), 4)}",
+                           placeholder="none: all may change")
+        row[3].checkbox("May add a resistor to the + pin", key=_WIDGET + "add_leg",
+                        help="Where the stage as drawn cannot place both points, a resistor from the + pin "
+                             "to ground, a rail or the reference is added")
+        with st.container(horizontal=True):
+            pressed = st.form_submit_button("Find values", type="primary")
+            st.form_submit_button("Targets from the present points", on_click=_take_points,
+                                  args=_points(sheet),
+                                  help="Put the design's present switching points in the target boxes")
+    for field in kept:
+        if field != "basis":
+            kept[field] = st.session_state[_WIDGET + field]
+    return pressed
+
+
+def _read(design: Design, kept: dict) -> tuple[dict, list[str]]:
+    """The fit's arguments from the settings, and a message for each field that cannot be read."""
+    unit, args, wrong = _unit(design), {}, []
+    for field in ("upper", "lower"):
+        text = str(kept[field]).replace("°", "").strip()
+        try:
+            if not text:
+                raise ValueError(f"{_LABELS[field]}: needs a value in {unit}")
+            args[field] = parse_quantity(text, unit, _LABELS[field])
+        except ValueError as exc:
+            wrong.append(str(exc))
+    for field in ("min_ohms", "max_ohms"):
+        try:
+            args[field] = parse_resistance(str(kept[field]), _LABELS[field])
+            if args[field] <= 0:
+                raise ValueError(f"{_LABELS[field]}: must be above zero ohms, got {kept[field]!r}")
+        except ValueError as exc:
+            wrong.append(str(exc))
+    if "upper" in args and "lower" in args and args["upper"] <= args["lower"]:
+        wrong.append(f"{_LABELS['upper']} ({format_value(args['upper'], unit)}) must be above the "
+                     f"{_LABELS['lower'].lower()} ({format_value(args['lower'], unit)}): a rising input "
+                     "switches at the upper point, a falling one at the lower")
+    if "min_ohms" in args and "max_ohms" in args and args["min_ohms"] >= args["max_ohms"]:
+        wrong.append(f"{_LABELS['min_ohms']} ({format_code(args['min_ohms'], 4)}) must be below the "
+                     f"{_LABELS['max_ohms'].lower()} ({format_code(args['max_ohms'], 4)})")
+    args.update(series=kept["series"], count=int(kept["count"]), add_leg=bool(kept["add_leg"]),
+                fixed=tuple((k, float(value_at(design, _path(k)))) for k in kept["hold"]))
+    return args, wrong
+
+
+@st.cache_data(max_entries=64, show_spinner=False)
+def _fit_of(design_json: str, upper: float, lower: float, series: str, min_ohms: float, max_ohms: float,
+            count: int, fixed: tuple[tuple[str, float], ...], add_leg: bool) -> FitResult:
+    return fit(design_from_json(design_json), upper, lower, series=series, min_ohms=min_ohms,
+               max_ohms=max_ohms, count=count, fixed=dict(fixed), add_leg=add_leg)
+
+
+def _holds_for(fitted: Design, design: Design) -> bool:
+    """Whether a fit of ``fitted`` holds for ``design``: the two differ at most in resistor values
+    (a divider's included), name and notes, so each candidate applied gives the points listed."""
+    ref = design.reference if isinstance(fitted.reference, DividerReference) and isinstance(
+        design.reference, DividerReference) else fitted.reference
+    return replace(fitted, resistors=design.resistors, reference=ref, name=design.name,
+                   notes=design.notes) == design
+
+
+def latest_fit(design: Design) -> FitResult | None:
+    """The page's latest fit, if it holds for ``design`` (it differs at most in resistor values)."""
+    kept = st.session_state.get(RESULT_KEY)
+    if kept is None or not _holds_for(design_from_json(kept[0]), design):
+        return None
+    return kept[1]
+
+
+def _find(design: Design, kept: dict) -> None:
+    args, wrong = _read(design, kept)
+    for line in wrong:
+        st.error(f"{line}. Nothing was searched; the design and the last results are kept.")
+    if wrong:
+        return
+    text = design_to_json(design)
+    with st.spinner("Searching the standard values…"):
+        result = guarded("Find values", _fit_of, text, **args)
+    if result is not None:
+        st.session_state[RESULT_KEY] = (text, result)
+
+
+def _value(c: Candidate, position: str) -> float:
+    return float(value_at(c.design, _path(position)))
+
+
+def _in_use(design: Design, c: Candidate) -> bool:
+    return c.resistors == design.resistors.present() and c.reference in (None, design.reference)
+
+
+def _table(r: FitResult, design: Design) -> dict[str, list[str]]:
+    unit = _unit(design)
+    rows = r.candidates
+    table = {"Rank": [str(i) for i in range(1, len(rows) + 1)]}
+    table.update({_NAMES[p]: [format_code(_value(c, p), 3) for c in rows] for p in r.fitted})
+    table.update({
+        "Upper": [format_value(c.upper, unit, 4) for c in rows],
+        "Lower": [format_value(c.lower, unit, 4) for c in rows],
+        "Worst error": [format_value(c.worst_error, unit, 3) for c in rows],
+        "Network current": [format_si(c.network_current, "A") for c in rows],
+        "On the sliders": ["yes" if _in_use(design, c) else "" for c in rows],
+    })
+    return table
+
+
+def _applied(r: FitResult, rank: int, c: Candidate, unit: str) -> str:
+    values = ", ".join(f"{_NAMES[p].lower()} {format_code(_value(c, p), 3)}" for p in r.fitted)
+    return (f"Fit candidate {rank} applied: {values}; upper {format_value(c.upper, unit, 4)}, "
+            f"lower {format_value(c.lower, unit, 4)}.")
+
+
+def _results(sheet) -> None:
+    kept = st.session_state.get(RESULT_KEY)
+    if kept is None:
+        st.caption("Give the points wanted and press Find values; the list ranks standard-value sets by "
+                   "the larger of the two errors, and Apply puts a set on the sliders.")
+        return
+    design, (fitted_json, r) = sheet.design, kept
+    if not _holds_for(design_from_json(fitted_json), design):
+        st.info("The stage has changed since the last search in more than resistor values; press Find "
+                "values to search for the design as it is now.")
+        return
+    unit = _unit(design)
+    fitted = ", ".join(_NAMES[p].lower() for p in r.fitted)
+    targets = f"upper {format_value(r.upper, unit, 4)}, lower {format_value(r.lower, unit, 4)}"
+    span = f"{format_code(r.min_ohms, 4)} to {format_code(r.max_ohms, 4)}"
+    st.markdown(f"**Found for** {targets}: {fitted} from {r.series}, {span}.")
+    for line in r.problems:
+        st.warning(f"Cannot meet the targets exactly: {line}")
+    if r.candidates:
+        st.table(_table(r, design), hide_index=True)
+        with st.container(horizontal=True):
+            for rank, c in enumerate(r.candidates, 1):
+                if st.button(f"Apply {rank}", key=f"{_WIDGET}apply.{rank}",
+                             help="Put this candidate's values on the sliders"):
+                    state.apply_design(apply_candidate(design, c), _applied(r, rank, c, unit))
+    if r.exact is not None:
+        exact = ", ".join(f"{_NAMES[p].lower()} {format_si(_value(r.exact, p), 'Ohm', 4)}" for p in r.fitted)
+        st.caption(f"Exact values, not standard: {exact} (upper {format_value(r.exact.upper, unit, 4)}, "
+                   f"lower {format_value(r.exact.lower, unit, 4)}).")
+    for line in r.notes:
+        st.info(line)
+
+
+def render(sheet) -> None:
+    """Target points and settings, "Find values", the ranked candidates with an Apply button each."""
+    kept = _settings(sheet)
+    if _form(sheet, kept):
+        _find(sheet.design, kept)
+    _results(sheet)
