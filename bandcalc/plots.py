@@ -11,7 +11,7 @@ import math
 import plotly.graph_objects as go
 
 from .transfer import TransferCurve
-from .units import format_si
+from .units import format_value
 
 __all__ = ["PALETTE", "as_figure", "transfer_figure", "transfer_spec"]
 
@@ -25,10 +25,6 @@ PALETTE = {
     "point": "#24345c",
     "grid": "#e3e0d8",
 }
-
-
-def _v(volts: float) -> str:
-    return format_si(volts, "V", 4)
 
 
 def _view(curve: TransferCurve) -> tuple[float, float]:
@@ -64,6 +60,10 @@ def _direction_arrows(curve: TransferCurve) -> list[dict]:
     ]
 
 
+def _x(curve: TransferCurve, value: float) -> str:
+    return format_value(value, curve.unit, 4)
+
+
 def _band(curve: TransferCurve) -> tuple[list[dict], list[dict]]:
     """The shaded hysteresis band and its label (shapes, annotations)."""
     if not (math.isfinite(curve.hysteresis) and curve.hysteresis > 0):
@@ -73,19 +73,23 @@ def _band(curve: TransferCurve) -> tuple[list[dict], list[dict]]:
              "line": {"color": PALETTE["band_edge"], "width": 1, "dash": "dot"}}
     label = {"x": 0.5 * (curve.lower + curve.upper), "y": 1, "xref": "x", "yref": "paper",
              "yanchor": "bottom", "showarrow": False, "font": {"size": 12},
-             "text": f"Hysteresis {_v(curve.hysteresis)}"}
+             "text": f"Hysteresis {_x(curve, curve.hysteresis)}"}
     return [shape], [label]
 
 
-def transfer_spec(curve: TransferCurve, title: str | None = None) -> dict:
+def transfer_spec(curve: TransferCurve, title: str | None = None, x_title: str | None = None) -> dict:
     """The transfer-curve figure as a plain Plotly specification (``{"data": [...], "layout": {...}}``).
 
     Traces, in order: "Rising input", "Falling input", "Switching points"; the band is
-    ``layout.shapes[0]``, its label the first annotation, then four direction arrows.
+    ``layout.shapes[0]``, its label the first annotation, then four direction arrows.  The input
+    axis reads ``x_title`` (default "Input (V)", or "Watched quantity (unit)" for a watched curve).
     """
+    unit = curve.unit
+    x_title = x_title or f"{'Watched quantity' if curve.watched else 'Input'} ({unit})"
     heights = [0.5 * sum(curve.at_upper), 0.5 * sum(curve.at_lower)]
     points = {"type": "scatter", "x": [curve.upper, curve.lower], "y": heights, "name": "Switching points",
-              "mode": "markers+text", "text": [f"Upper {_v(curve.upper)}", f"Lower {_v(curve.lower)}"],
+              "mode": "markers+text",
+              "text": [f"Upper {_x(curve, curve.upper)}", f"Lower {_x(curve, curve.lower)}"],
               "textposition": ["middle right", "middle left"],
               "textfont": {"color": PALETTE["point"], "size": 13},
               "marker": {"symbol": ["hexagon", "hexagon-open"], "size": 13, "color": PALETTE["point"],
@@ -94,10 +98,10 @@ def transfer_spec(curve: TransferCurve, title: str | None = None) -> dict:
     data = [
         {"type": "scatter", "x": curve.signal, "y": curve.rising, "name": "Rising input", "mode": "lines",
          "line": {"color": PALETTE["rising"], "width": 3},
-         "hovertemplate": "in %{x:.4g} V<br>out %{y:.4g} V<extra>rising</extra>"},
+         "hovertemplate": f"in %{{x:.4g}} {unit}<br>out %{{y:.4g}} V<extra>rising</extra>"},
         {"type": "scatter", "x": curve.signal, "y": curve.falling, "name": "Falling input", "mode": "lines",
          "line": {"color": PALETTE["falling"], "width": 2, "dash": "dash"},
-         "hovertemplate": "in %{x:.4g} V<br>out %{y:.4g} V<extra>falling</extra>"},
+         "hovertemplate": f"in %{{x:.4g}} {unit}<br>out %{{y:.4g}} V<extra>falling</extra>"},
         points,
     ]
     shapes, labels = _band(curve)
@@ -105,7 +109,7 @@ def transfer_spec(curve: TransferCurve, title: str | None = None) -> dict:
         "title": {"text": title or ""},
         "margin": {"l": 60, "r": 20, "t": 50 if title else 36, "b": 50}, "height": 420,
         "plot_bgcolor": "white", "legend": {"orientation": "h", "y": -0.2, "x": 0},
-        "xaxis": {"title": {"text": "Input (V)"}, "range": list(_view(curve)), "gridcolor": PALETTE["grid"],
+        "xaxis": {"title": {"text": x_title}, "range": list(_view(curve)), "gridcolor": PALETTE["grid"],
                   "zeroline": False},
         "yaxis": {"title": {"text": "Output (V)"}, "gridcolor": PALETTE["grid"], "zeroline": False},
         "shapes": shapes,
