@@ -289,7 +289,7 @@ def test_a_panel_plugs_in_and_can_apply_a_design(monkeypatch):
     trial.render = render
     monkeypatch.setattr(panels, "PANELS", (*panels.PANELS, trial))
     at = page()
-    assert [t.label for t in at.tabs] == ["Currents and power", "Trial"]
+    assert [t.label for t in at.tabs] == ["Currents and power", "Spread", "Signal check", "Summary", "Trial"]
     assert not any("Panel sees" in m.value for m in at.markdown)  # a closed tab does not run
     at.session_state["page.panel"] = "Trial"
     at.run()

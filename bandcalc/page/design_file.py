@@ -21,10 +21,10 @@ _DEMO_KEY = "page.demo"
 _UPLOAD_KEY = "page.upload"
 
 
-def file_name(design: Design) -> str:
+def file_name(design: Design, suffix: str = ".json") -> str:
     """A file name from the design's name: "Sump level switch" -> "sump-level-switch.json"."""
     slug = re.sub(r"[^a-z0-9]+", "-", design.name.lower()).strip("-")
-    return f"{slug or 'design'}.json"
+    return f"{slug or 'design'}{suffix}"
 
 
 def _demo_chosen() -> None:

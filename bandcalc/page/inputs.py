@@ -33,7 +33,8 @@ from ..units import (
 from . import state
 from .edit import slider_options, value_at, with_value
 
-__all__ = ["PREFIXED_UNITS", "choice_control", "quantity_field", "read_value", "resistor_control", "shown"]
+__all__ = ["PREFIXED_UNITS", "choice_control", "quantity_field", "read_value", "resistor_control", "shown",
+           "value_field"]
 
 #: Units written with SI prefixes in the boxes ("10 mV", "1.5 mW/K"); others as plain figures.
 PREFIXED_UNITS = (*SI_UNITS, "W/K", "V/K")
@@ -119,10 +120,11 @@ def resistor_control(label: str, path: str, design: Design, series: str, help: s
         st.caption(f"{format_code(ohms, 4)} is not an {series} value; it is kept exactly as typed.")
 
 
-def _entered(path: str, label: str, unit: str, key: str, optional: bool) -> None:
-    old = value_at(state.current_design(), path)
+def _entered(key: str, label: str, where: str, unit: str, optional: bool,
+             get: Callable[[Design], float | None], change: Callable[[Design, float | None], Design]) -> None:
+    old = get(state.current_design())
     text = str(st.session_state[key]).strip()
-    what = f"{label} ({path})"
+    what = f"{label} ({where})"
     try:
         if not text:
             if not optional:
@@ -134,16 +136,28 @@ def _entered(path: str, label: str, unit: str, key: str, optional: bool) -> None
         state.say("error", f"{exc}. The design keeps {shown(old, unit) or 'no value'}.")
         st.session_state[key] = shown(old, unit)
         return
-    if not state.edit(lambda d: with_value(d, path, value), label, path, kept=shown(old, unit) or "no value"):
+    if not state.edit(lambda d: change(d, value), label, where, kept=shown(old, unit) or "no value"):
         st.session_state[key] = shown(old, unit)
+
+
+def value_field(label: str, key: str, design: Design, unit: str, get: Callable[[Design], float | None],
+                change: Callable[[Design, float | None], Design], *, where: str, optional: bool = False,
+                blank: str = "", help: str | None = None) -> None:
+    """A typed value of the design read by ``get`` and written by ``change(design, value)``.
+
+    Keyed ``in.<key>``; ``where`` names the value in messages (its design-file path).  ``optional``
+    fields may be left blank (``None``; ``blank`` says what a blank means).
+    """
+    key = f"{state.INPUT_PREFIX}{key}"
+    st.session_state.setdefault(key, shown(get(design), unit))
+    symbol = "Ω" if unit == "Ohm" else unit
+    st.text_input(f"{label} ({symbol})" if symbol else label, key=key, placeholder=blank or None, help=help,
+                  on_change=_entered, args=(key, label, where, unit, optional, get, change))
 
 
 def quantity_field(label: str, path: str, design: Design, unit: str, *, optional: bool = False,
                    blank: str = "", help: str | None = None) -> None:
     """A typed value with SI prefixes for ``path``; ``optional`` fields may be left blank (``blank`` says
     what a blank means)."""
-    key = f"{state.INPUT_PREFIX}{path}"
-    st.session_state.setdefault(key, shown(value_at(design, path), unit))
-    symbol = "Ω" if unit == "Ohm" else unit
-    st.text_input(f"{label} ({symbol})" if symbol else label, key=key, placeholder=blank or None, help=help,
-                  on_change=_entered, args=(path, label, unit, key, optional))
+    value_field(label, path, design, unit, lambda d: value_at(d, path), lambda d, v: with_value(d, path, v),
+                where=path, optional=optional, blank=blank, help=help)

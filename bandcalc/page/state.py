@@ -29,6 +29,7 @@ __all__ = [
     "explain",
     "replace_design",
     "say",
+    "show_messages",
     "take_messages",
     "write_address",
 ]
@@ -51,6 +52,12 @@ def say(kind: str, text: str) -> None:
 def take_messages() -> list[tuple[str, str]]:
     """The queued messages, emptying the queue."""
     return st.session_state.pop(_MESSAGES, [])
+
+
+def show_messages() -> None:
+    """Show the queued messages here, emptying the queue (the page's top; a panel's own rerun)."""
+    for kind, text in take_messages():
+        getattr(st, kind)(text)
 
 
 def _starting_design() -> Design:
