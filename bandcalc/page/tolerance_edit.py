@@ -94,13 +94,14 @@ def temperature_end(design: Design, end: str) -> float | None:
 
 def with_temperature_end(design: Design, end: str, celsius: float | None) -> Design:
     """Set one end of the temperature range; a blank end is 25 C (the parts' nominal temperature),
-    and with both ends blank there is no range."""
+    and where that leaves only 25 C there is no range."""
     _key(end, _ENDS)
     ends = [temperature_end(design, e) for e in _ENDS]
     ends[_ENDS.index(end)] = celsius
-    if ends == [None, None]:
+    filled = tuple(NOMINAL_CELSIUS if v is None else v for v in ends)
+    if filled == (NOMINAL_CELSIUS, NOMINAL_CELSIUS) and None in ends:  # nothing left but 25 C
         return _with(design, temperature=None)
-    return _with(design, temperature=tuple(NOMINAL_CELSIUS if v is None else v for v in ends))
+    return _with(design, temperature=filled)
 
 
 def window_end(design: Design, quantity: str, end: str) -> float | None:
