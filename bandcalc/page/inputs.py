@@ -77,17 +77,19 @@ def read_value(text: str, unit: str, what: str) -> float:
                         f"optionally with an SI prefix (e.g. 2.5, 50m, 1.5k)") from None
 
 
-def _chosen(key: str, change: Callable[[Design, Any], Design], label: str) -> None:
-    state.edit(lambda d: change(d, st.session_state[key]), label)
+def _chosen(key: str, change: Callable[[Design, Any], Design], label: str, controls: str) -> None:
+    state.edit(lambda d: change(d, st.session_state[key]), label, controls=controls)
 
 
 def choice_control(widget: Callable[..., Any], label: str, key: str, current: Any,
-                   change: Callable[[Design, Any], Design], **kwargs: Any) -> None:
+                   change: Callable[[Design, Any], Design], *, controls: str = state.INPUT_PREFIX,
+                   **kwargs: Any) -> None:
     """A selection widget (``st.radio``, ``st.toggle``, ...) whose value comes from the design and
-    whose change edits it through ``change(design, value)``; keyed ``in.<key>``."""
+    whose change edits it through ``change(design, value)``; keyed ``in.<key>``.  ``controls``:
+    the controls that start again after the change (see :func:`bandcalc.page.state.replace_design`)."""
     key = state.INPUT_PREFIX + key
     st.session_state.setdefault(key, current)
-    widget(label, key=key, on_change=_chosen, args=(key, change, label), **kwargs)
+    widget(label, key=key, on_change=_chosen, args=(key, change, label, controls), **kwargs)
 
 
 def _slid(path: str, label: str, key: str) -> None:
@@ -121,7 +123,8 @@ def resistor_control(label: str, path: str, design: Design, series: str, help: s
 
 
 def _entered(key: str, label: str, where: str, unit: str, optional: bool,
-             get: Callable[[Design], float | None], change: Callable[[Design, float | None], Design]) -> None:
+             get: Callable[[Design], float | None], change: Callable[[Design, float | None], Design],
+             controls: str) -> None:
     old = get(state.current_design())
     text = str(st.session_state[key]).strip()
     what = f"{label} ({where})"
@@ -136,23 +139,25 @@ def _entered(key: str, label: str, where: str, unit: str, optional: bool,
         state.say("error", f"{exc}. The design keeps {shown(old, unit) or 'no value'}.")
         st.session_state[key] = shown(old, unit)
         return
-    if not state.edit(lambda d: change(d, value), label, where, kept=shown(old, unit) or "no value"):
+    if not state.edit(lambda d: change(d, value), label, where, kept=shown(old, unit) or "no value",
+                      controls=controls):
         st.session_state[key] = shown(old, unit)
 
 
 def value_field(label: str, key: str, design: Design, unit: str, get: Callable[[Design], float | None],
                 change: Callable[[Design, float | None], Design], *, where: str, optional: bool = False,
-                blank: str = "", help: str | None = None) -> None:
+                blank: str = "", help: str | None = None, controls: str = state.INPUT_PREFIX) -> None:
     """A typed value of the design read by ``get`` and written by ``change(design, value)``.
 
     Keyed ``in.<key>``; ``where`` names the value in messages (its design-file path).  ``optional``
-    fields may be left blank (``None``; ``blank`` says what a blank means).
+    fields may be left blank (``None``; ``blank`` says what a blank means).  ``controls``: the
+    controls that start again after a change (see :func:`bandcalc.page.state.replace_design`).
     """
     key = f"{state.INPUT_PREFIX}{key}"
     st.session_state.setdefault(key, shown(get(design), unit))
     symbol = "Ω" if unit == "Ohm" else unit
     st.text_input(f"{label} ({symbol})" if symbol else label, key=key, placeholder=blank or None, help=help,
-                  on_change=_entered, args=(key, label, where, unit, optional, get, change))
+                  on_change=_entered, args=(key, label, where, unit, optional, get, change, controls))
 
 
 def quantity_field(label: str, path: str, design: Design, unit: str, *, optional: bool = False,

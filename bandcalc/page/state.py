@@ -8,6 +8,11 @@ loaded file, a demo, a value from the address or a panel's suggestion all show u
 Change the design only in widget callbacks (``on_change``/``on_click``) with
 :func:`replace_design` or :func:`edit`, or from a panel's body with :func:`apply_design`,
 which reruns the whole page.
+
+A panel reruns on its own (a fragment) when its widgets change.  A panel control that edits the
+design passes ``controls=`` its own key prefix (``"in.tolerances."``), so that only the panel's
+controls start again: the widgets outside the panel are not redrawn in that rerun, and forgetting
+their state then would make Streamlit take them for changed on the next interaction.
 """
 
 from __future__ import annotations
@@ -80,13 +85,15 @@ def current_design() -> Design:
     return st.session_state[_DESIGN]
 
 
-def replace_design(design: Design, note: str | None = None) -> None:
-    """Make ``design`` the page's design; every control starts again from it.
+def replace_design(design: Design, note: str | None = None, controls: str = INPUT_PREFIX) -> None:
+    """Make ``design`` the page's design; every control (keyed ``controls``...) starts again from it.
 
     Call from a widget callback (or before any control is drawn in this run).
     """
+    if not controls.startswith(INPUT_PREFIX):
+        raise ValueError(f"controls: {controls!r}; control keys start with {INPUT_PREFIX!r}")
     st.session_state[_DESIGN] = design
-    for key in [k for k in st.session_state if str(k).startswith(INPUT_PREFIX)]:
+    for key in [k for k in st.session_state if str(k).startswith(controls)]:
         del st.session_state[key]
     if note:
         say("success", note)
@@ -99,14 +106,15 @@ def apply_design(design: Design, note: str | None = None) -> None:
 
 
 def edit(change: Callable[[Design], Design], field: str, path: str | None = None,
-         kept: str | None = None) -> bool:
+         kept: str | None = None, controls: str = INPUT_PREFIX) -> bool:
     """Apply ``change`` to the current design; on bad input say so and keep the design.
 
     The message names ``field`` (the label the user sees) and, where given, the design-file
-    ``path`` and the value ``kept``.  Returns whether the design changed.
+    ``path`` and the value ``kept``.  ``controls``: see :func:`replace_design`.  Returns whether the
+    design changed.
     """
     try:
-        replace_design(change(current_design()))
+        replace_design(change(current_design()), controls=controls)
         return True
     except ValueError as exc:
         say("error", explain(exc, field, path) + (f". The design keeps {kept}." if kept else ""))

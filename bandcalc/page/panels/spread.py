@@ -40,6 +40,8 @@ __all__ = ["SAMPLES_KEY", "SEED_KEY", "TITLE", "render"]
 SAMPLES_KEY = "page.spread.samples"
 SEED_KEY = "page.spread.seed"
 _PART_KEY = "page.spread.part"
+# The panel's own controls: after a tolerance edit only they start again (bandcalc.page.state).
+_CONTROLS = "in.tolerances."
 _QUANTITIES = {"upper": "Upper switching point", "lower": "Lower switching point", "hysteresis": "Hysteresis"}
 _DISTRIBUTIONS = {"normal": "Normal: a tolerance is 3 sigma", "uniform": "Uniform: a tolerance is the bound"}
 # Three columns of (key, label, unit, blank means, help): the parts, the comparator, temperature.
@@ -58,7 +60,7 @@ _PLAIN = (
 def _plain(design: Design, key: str, label: str, unit: str, blank: str, help: str | None) -> None:
     value_field(label, f"tolerances.{key}", design, unit, lambda d: tolerance_value(d, key),
                 lambda d, v: with_tolerance(d, key, v), where=f"tolerances.{key}", optional=True,
-                blank=f"blank: {blank}", help=help)
+                blank=f"blank: {blank}", help=help, controls=_CONTROLS)
 
 
 def _tolerance_inputs(design: Design, unit: str) -> None:
@@ -72,10 +74,10 @@ def _tolerance_inputs(design: Design, unit: str) -> None:
             value_field(label, f"tolerances.temperature.{end}", design, "C",
                         lambda d, e=end: temperature_end(d, e),
                         lambda d, v, e=end: with_temperature_end(d, e, v), where="tolerances.temperature",
-                        optional=True, blank="blank: 25 C")
+                        optional=True, blank="blank: 25 C", controls=_CONTROLS)
     choice_control(st.radio, "Monte Carlo reads a tolerance as", "tolerances.distribution",
                    tolerances_of(design).distribution, lambda d, v: with_tolerance(d, "distribution", v),
-                   options=DISTRIBUTIONS, format_func=_DISTRIBUTIONS.get, horizontal=True)
+                   options=DISTRIBUTIONS, format_func=_DISTRIBUTIONS.get, horizontal=True, controls=_CONTROLS)
     st.markdown(f"**Windows a build must meet** ({unit}; a blank side is open)")
     for column, quantity in zip(st.columns(3), WINDOW_KEYS, strict=True):
         with column:
@@ -83,7 +85,8 @@ def _tolerance_inputs(design: Design, unit: str) -> None:
                 value_field(f"{_QUANTITIES[quantity]}, {side}", f"tolerances.limits.{quantity}.{end}", design,
                             unit, lambda d, q=quantity, e=end: window_end(d, q, e),
                             lambda d, v, q=quantity, e=end: with_window_end(d, q, e, v),
-                            where=f"tolerances.limits.{quantity}", optional=True, blank="blank: open")
+                            where=f"tolerances.limits.{quantity}", optional=True, blank="blank: open",
+                            controls=_CONTROLS)
 
 
 def _per_resistor(design: Design) -> None:
@@ -107,7 +110,8 @@ def _per_resistor(design: Design) -> None:
                 value_field(label, f"tolerances.{key}.{part}", design, unit,
                             lambda d, k=own: next(r[k] for r in resistor_rows(d) if r["name"] == part),
                             lambda d, v, k=key: with_part_tolerance(d, k, part, v),
-                            where=f"tolerances.{key}.{part}", optional=True, blank="blank: as the others")
+                            where=f"tolerances.{key}.{part}", optional=True, blank="blank: as the others",
+                            controls=_CONTROLS)
 
 
 def _run(design: Design, samples: int, seed: int) -> None:
@@ -227,4 +231,4 @@ def render(sheet) -> None:
 
 
 def _clear() -> None:
-    state.edit(without_tolerances, "Clear the tolerances section")
+    state.edit(without_tolerances, "Clear the tolerances section", controls=_CONTROLS)
