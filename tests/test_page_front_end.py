@@ -53,6 +53,10 @@ def test_a_thermistor_at_the_bottom_pairs_the_watched_upper_point_with_the_stage
     assert notes.index(f"{format_si(a.lower, 'V', 4)} at the stage") < notes.index(
         f"{format_si(a.upper, 'V', 4)} at the stage")
     assert any("output turns high as the watched quantity rises" in c for c in notes)  # the fan starts
+    # The currents panel works at the stage's own points and says where they are watched.
+    warm = format_value(float(a.watched.at_stage_upper), "C", 4)
+    assert any(c.startswith(f"At the stage's upper point: {format_si(a.upper, 'V', 4)} in ({warm} watched)")
+               for c in notes)
 
 
 def test_the_transfer_curve_plots_against_the_watched_quantity_or_the_stage():

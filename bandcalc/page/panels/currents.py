@@ -5,7 +5,7 @@ from __future__ import annotations
 import streamlit as st
 
 from ...analysis import OperatingPoint
-from ...units import format_si
+from ...units import format_si, format_value
 from ..names import part_name
 
 TITLE = "Currents and power"
@@ -20,15 +20,21 @@ def _amps(amps: float | None) -> str:
     return "—" if amps is None else format_si(amps, "A")  # a front end's parts: power only
 
 
-def _at(op: OperatingPoint) -> str:
-    return f"{format_si(op.signal, 'V', 4)} in, output {op.state} before switching"
+def _at(op: OperatingPoint, watched: float | None = None, unit: str | None = None) -> str:
+    where = "" if watched is None else f" ({format_value(watched, unit, 4)} watched)"
+    return f"{format_si(op.signal, 'V', 4)} in{where}, output {op.state} before switching"
 
 
 def render(sheet) -> None:
     """Tables of the network just before each switch, and the worst power in each resistor."""
     a = sheet.analysis
     up, low = a.at_upper, a.at_lower
-    st.caption(f"At the upper point: {_at(up)}. At the lower point: {_at(low)}.")
+    w = a.watched
+    if w is None:
+        st.caption(f"At the upper point: {_at(up)}. At the lower point: {_at(low)}.")
+    else:  # the stage's own points; with a falling front end its upper point is the lower watched one
+        st.caption(f"At the stage's upper point: {_at(up, float(w.at_stage_upper), w.unit)}. At its lower "
+                   f"point: {_at(low, float(w.at_stage_lower), w.unit)}.")
     pins = {
         "Node": ["Plus pin (+)", "Minus pin (−)", "Output"],
         "At the upper point": [format_si(v, "V", 4) for v in (up.plus, up.minus, up.output)],
