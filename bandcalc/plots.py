@@ -303,8 +303,9 @@ def tradeoff_spec(sweep: Sweep, unit: str, width: float | None = None) -> dict:
     """Output edges and delay against hysteresis width, from :func:`bandcalc.sweep.sweep_design`.
 
     Traces: "Output edges", "Edges of the noise-free signal" (where known), then on ``yaxis2``
-    (seconds) "Mean delay" and "Largest delay".  Shapes: the narrowest width with one clean edge per
-    crossing ("Narrowest clean width", where there is one) and the design's own ``width``.
+    (seconds) "Mean delay" and "Largest delay" (where known: they need the noise-free signal).
+    Shapes: the narrowest width with one clean edge per crossing ("Narrowest clean width", where
+    there is one) and the design's own ``width``.
     """
     w = sweep.widths
     data = [{"type": "scatter", "mode": "lines+markers", "x": w, "y": sweep.edge_counts,
@@ -313,10 +314,12 @@ def tradeoff_spec(sweep: Sweep, unit: str, width: float | None = None) -> dict:
         data.append({"type": "scatter", "mode": "lines", "x": w, "y": sweep.clean_edge_counts,
                      "name": "Edges of the noise-free signal",
                      "line": {"color": PALETTE["clean"], "dash": "dot"}})
+    delays = bool(np.isfinite(sweep.mean_delays).any())  # none without a noise-free signal
     for name, values, dash in (("Mean delay", sweep.mean_delays, "solid"),
                                ("Largest delay", sweep.max_delays, "dash")):
-        data.append({"type": "scatter", "mode": "lines", "x": w, "y": values, "name": name, "yaxis": "y2",
-                     "line": {"color": PALETTE["falling"], "dash": dash, "width": 2}})
+        if delays:
+            data.append({"type": "scatter", "mode": "lines", "x": w, "y": values, "name": name, "yaxis": "y2",
+                         "line": {"color": PALETTE["falling"], "dash": dash, "width": 2}})
     shapes, notes = [], []
     marks = (("Narrowest clean width", sweep.best_width, "solid"), ("This design", width, "dot"))
     for name, x, dash in marks:
@@ -329,7 +332,8 @@ def tradeoff_spec(sweep: Sweep, unit: str, width: float | None = None) -> dict:
     layout = {"height": 380, "plot_bgcolor": "white", "margin": {"l": 60, "r": 60, "t": 40, "b": 50},
               "legend": {"orientation": "h", "y": -0.22, "x": 0}, "shapes": shapes, "annotations": notes,
               "xaxis": _axis(f"Hysteresis width ({unit})"),
-              "yaxis": _axis("Output edges", rangemode="tozero"),
-              "yaxis2": _axis("Delay", overlaying="y", side="right", tickformat=".3~s", ticksuffix="s",
-                              rangemode="tozero", showgrid=False)}
+              "yaxis": _axis("Output edges", rangemode="tozero")}
+    if delays:
+        layout["yaxis2"] = _axis("Delay", overlaying="y", side="right", tickformat=".3~s", ticksuffix="s",
+                                 rangemode="tozero", showgrid=False)
     return {"data": data, "layout": layout}

@@ -171,17 +171,21 @@ def _run(design: Design, settings: tuple, sweep: bool) -> None:
 def _figures(run: SignalRun, unit: str) -> None:
     finite = run.edge_delays[np.isfinite(run.edge_delays)] if run.edge_delays is not None else np.array([])
     s = lambda x: format_si(x, "s", 3)  # noqa: E731
+    unknown = "—"
+    clean, extra = run.clean_edge_count, run.extra_edges
     columns = st.columns(6)
     columns[0].metric("Output edges", f"{run.edge_count:,}", help="Edges of the output over the record")
-    columns[1].metric("Noise-free edges", "not known" if run.clean_edge_count is None
-                      else f"{run.clean_edge_count:,}", help="Edges the noise-free signal gives")
-    extra = run.extra_edges
-    columns[2].metric("Extra edges (chatter)", "not known" if extra is None else f"{extra:,}")
-    columns[3].metric("Mean delay", s(finite.mean()) if finite.size else "not known",
+    columns[1].metric("Noise-free edges", unknown if clean is None else f"{clean:,}",
+                      help="Edges the noise-free signal gives")
+    columns[2].metric("Extra edges (chatter)", unknown if extra is None else f"{extra:,}")
+    columns[3].metric("Mean delay", s(finite.mean()) if finite.size else unknown,
                       help="After the noise-free signal crosses the centre; comparator delay and pull-up "
                            "rise time included")
-    columns[4].metric("Largest delay", s(finite.max()) if finite.size else "not known")
+    columns[4].metric("Largest delay", s(finite.max()) if finite.size else unknown)
     columns[5].metric("Output high", f"{100 * run.output_high_fraction:.1f} %", help="Share of the record")
+    if clean is None:
+        st.caption("A recorded signal has no noise-free version to compare with: chatter and delays are "
+                   "not known (—).")
     st.caption(f"Noise {format_value(run.noise.rms, unit, 3)} RMS, about "
                f"{format_value(run.noise.peak_to_peak, unit, 3)} peak-to-peak ({run.noise.source}).")
     for line in run.findings:
