@@ -438,3 +438,16 @@ def test_files_without_a_front_end_still_read_and_write_without_one():
     d = load_design(SUMP)
     assert d.front_end is None and "front_end" not in design_to_dict(d)
     assert analyze(d).upper_watched is None and analyze(d).watched_unit is None
+
+
+def test_a_thermistor_fed_from_a_zero_volt_reference_switches_at_no_temperature():
+    # Found by Hypothesis: with no excitation the divider's output never moves, so no temperature
+    # reaches either point (first principles); the answer is "none", not a division error.
+    from dataclasses import replace
+
+    from bandcalc.design import FixedReference, Source
+
+    thermistor = ThermistorFrontEnd(fixed=1e3, r25=1e3, beta=2500.0, position="top", excitation="reference")
+    d = replace(load_design(SUMP), reference=FixedReference(0.0), source=Source(), front_end=thermistor)
+    w = watched_points(d)
+    assert np.isnan(float(w.upper)) and np.isnan(float(w.lower))
