@@ -19,6 +19,7 @@ from __future__ import annotations
 
 import logging
 from collections.abc import Callable
+from typing import Any, TypeVar
 
 import streamlit as st
 
@@ -32,6 +33,7 @@ __all__ = [
     "current_design",
     "edit",
     "explain",
+    "read_upload",
     "replace_design",
     "say",
     "show_messages",
@@ -40,6 +42,7 @@ __all__ = [
 ]
 
 log = logging.getLogger("bandcalc.page")
+T = TypeVar("T")
 
 INPUT_PREFIX = "in."
 _DESIGN = "page.design"
@@ -139,3 +142,17 @@ def write_address(design: Design) -> None:
     text = design_to_address(design)
     if st.query_params.get(PARAM) != text:
         st.query_params[PARAM] = text
+
+
+def read_upload(upload: Any, read: Callable[[Any], T], kept: str) -> T | None:
+    """``read(upload)`` of an uploaded file, or ``None`` after a message naming the file and the
+    problem and saying what is ``kept`` (never a traceback)."""
+    try:
+        return read(upload)
+    except ValueError as exc:
+        text = str(exc)
+        say("error", f"{text if text.startswith(upload.name) else f'{upload.name}: {text}'}. {kept}")
+    except Exception:  # the page never shows a traceback
+        log.exception("reading %s failed", upload.name)
+        say("error", f"{upload.name}: could not be read. {kept}")
+    return None

@@ -9,7 +9,6 @@ for the design (:mod:`bandcalc.page.runs`); only the latest run is kept, as it h
 
 from __future__ import annotations
 
-import logging
 from dataclasses import dataclass
 
 import numpy as np
@@ -30,7 +29,6 @@ TITLE = "Signal check"
 
 __all__ = ["MAX_CSV_MB", "SETTINGS", "SignalResult", "TITLE", "render"]
 
-log = logging.getLogger("bandcalc.page")
 #: Largest recorded-signal file taken, MB (the page's server.maxUploadSize is the same).
 MAX_CSV_MB = 50
 _PREFIX = "page.signal."
@@ -126,14 +124,8 @@ def _uploaded() -> None:
         return
     kept = st.session_state.get(_PREFIX + "recorded")
     keeps = f"The signal check keeps {kept[0]}." if kept else "No recorded signal is loaded."
-    try:
-        wave = read_waveform_csv(upload.getvalue())
-    except ValueError as exc:
-        state.say("error", f"{upload.name}: {exc}. {keeps}")
-    except Exception:  # the page never shows a traceback
-        log.exception("reading %s failed", upload.name)
-        state.say("error", f"{upload.name}: could not be read. {keeps}")
-    else:
+    wave = state.read_upload(upload, lambda u: read_waveform_csv(u.getvalue()), keeps)
+    if wave is not None:
         st.session_state[_PREFIX + "recorded"] = (upload.name, upload.file_id, wave)
         state.say("success", f"Read {upload.name}: {_described(wave)}.")
 
