@@ -219,9 +219,10 @@ def test_watched_points_round_trip_through_the_stage_model(design):
     # At the watched point, the stage evaluated with the front end's source there switches
     # exactly at the front end's open-circuit voltage there.
     # Tolerance: both sides extrapolate from samples at 0 and 1 (V or the divider fraction), so
-    # the random designs' far-out points (kilovolts) carry rounding of up to about 1e-10.
+    # the random designs' far-out points carry rounding that grows with the distance: about 1e-10
+    # at kilovolts, above 1e-9 at millions of units (a 1 mV/kPa sensor's point at -6.4e6 kPa).
     w = watched_points(design)
-    close = {"abs": 1e-9 * max(1.0, design.supply.span), "rel": 1e-9}
+    close = {"abs": 1e-9 * max(1.0, design.supply.span), "rel": 1e-8}
     points = (("upper", w.at_stage_upper, w.stage_upper), ("lower", w.at_stage_lower, w.stage_lower))
     for which, x, volts in points:
         if not np.isfinite(x):
