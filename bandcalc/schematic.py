@@ -5,8 +5,10 @@ runs to the left above the comparator (the reference in a non-inverting stage, t
 an inverting one); the + pin's summing node runs to the left below it, with each leg hanging
 down from it, and the feedback resistor runs underneath from the output back to the + pin.
 Rails are open terminals marked with their voltage; a reference that two places use is drawn
-once and named "REF" where it is reached again.  Values are written in the IEC 60062 code
-("4k7", "1M5") and volts with SI prefixes.
+once and named "REF" where it is reached again.  A front end (:mod:`bandcalc.frontend`) is drawn
+ahead of the signal's input: the sense divider, the thermistor with its fixed resistor and
+excitation, or the sensor as a controlled source behind its output resistance.  Values are
+written in the IEC 60062 code ("4k7", "1M5") and volts with SI prefixes.
 
 The drawing depends only on which parts are fitted, so it is made once per topology with a
 placeholder in every value label (:func:`_template`, cached) and the values are written in
@@ -23,7 +25,8 @@ import schemdraw.elements as elm
 from schemdraw.util import Point
 
 from .design import Design, DividerReference, FixedReference, OpenDrain
-from .units import format_code, format_si
+from .frontend import DividerFrontEnd, LinearFrontEnd, ThermistorFrontEnd
+from .units import format_code, format_si, format_value
 
 __all__ = ["DESIGNATORS", "stage_labels", "stage_svg"]
 
@@ -39,14 +42,22 @@ DESIGNATORS = {
     "reference.top": "Rtop",
     "reference.bottom": "Rbot",
     "output.pullup": "Rpu",
+    "front_end.top": "Rd1",
+    "front_end.bottom": "Rd2",
+    "front_end.fixed": "Rfix",
+    "front_end.resistance": "Rsen",
 }
 # Every value label the drawing can hold, in a fixed order (a placeholder's number is its index).
-_SLOTS = (*DESIGNATORS, "supply.positive", "supply.negative", "reference.volts", "output.pullup_volts")
+_SLOTS = (*DESIGNATORS, "supply.positive", "supply.negative", "reference.volts", "output.pullup_volts",
+          "front_end.thermistor", "front_end.excitation", "front_end.sensor")
+# Placeholders for the longer labels are longer, so the drawing leaves room for them.
+_WIDTH = {"front_end.thermistor": 14, "front_end.sensor": 14}
 _INK = "#1d2433"
 _VALUE = "#2f6f4e"
 _MINUS_Y = 2.2   # height of the - input's wiring above the comparator's axis
 _PLUS_Y = -2.6   # height of the + pin's summing node and of the feedback path
 _LEG_STEP = 3.0  # horizontal spacing of the legs on the + node
+_FRONT_END_DROP = 2.6  # length of the front end's element from its node to ground
 
 
 def _v(volts: float) -> str:
@@ -68,13 +79,41 @@ def stage_labels(design: Design) -> dict[str, str]:
         ohms["output.pullup"] = design.output.pullup
         labels["output.pullup_volts"] = _v(vp if design.output.pullup_volts is None
                                            else design.output.pullup_volts)
+    ohms.update(_front_end_labels(design, labels))
     labels.update({path: f"{DESIGNATORS[path]} {format_code(value)}" for path, value in ohms.items()})
     return labels
 
 
+def _front_end_labels(design: Design, labels: dict[str, str]) -> dict[str, float]:
+    """Write the front end's non-resistor labels into ``labels``; return its resistors (ohms)."""
+    fe = design.front_end
+    if isinstance(fe, DividerFrontEnd):
+        return {"front_end.top": fe.top, "front_end.bottom": fe.bottom}
+    if isinstance(fe, ThermistorFrontEnd):
+        model = f"B {fe.beta:g} K" if fe.steinhart_hart is None else "S-H"
+        labels["front_end.thermistor"] = f"NTC {format_code(fe.nominal_r25)}, {model}"
+        labels["front_end.excitation"] = {"positive": _v(design.supply.positive), "reference": "REF"}.get(
+            fe.excitation) or _v(float(fe.excitation))  # type: ignore[arg-type]
+        return {"front_end.fixed": fe.fixed}
+    if isinstance(fe, LinearFrontEnd):
+        per = format_value(fe.volts_per_unit, "V", 3)
+        offset = f" {'+' if fe.offset >= 0 else '-'} {_v(abs(fe.offset))}" if fe.offset else ""
+        labels["front_end.sensor"] = f"{per}/{fe.unit}{offset}"
+        return {"front_end.resistance": fe.resistance} if fe.resistance > 0 else {}
+    return {}
+
+
+def _layout(design: Design) -> str:
+    """What the front end's drawing depends on besides its labels: its kind and position."""
+    fe = design.front_end
+    if fe is None:
+        return ""
+    return f"thermistor-{fe.position}" if isinstance(fe, ThermistorFrontEnd) else fe.kind
+
+
 def _slot(path: str) -> str:
     """The placeholder drawn where ``path``'s label goes: about as wide as a real label."""
-    return f"#{_SLOTS.index(path):02d}_____"
+    return f"#{_SLOTS.index(path):02d}" + "_" * _WIDTH.get(path, 5)
 
 
 def _value(element: elm.Element, path: str, loc: str | None = None) -> elm.Element:
@@ -100,13 +139,43 @@ def _reference(d: schemdraw.Drawing, slots: frozenset[str], at: Point, down_room
         _rail(d, bottom.end, "supply.negative", loc="bottom")
 
 
-def _signal(d: schemdraw.Drawing, slots: frozenset[str], start: Point) -> None:
-    """From ``start`` leftwards: the input resistor, the source resistance, the input terminal."""
+def _front_end(d: schemdraw.Drawing, slots: frozenset[str], layout: str, at: Point) -> None:
+    """The front end, its node at ``at`` (the wire arrives from the right), drawn to the left/down."""
+    if layout == "linear":  # the sensor: a source controlled by the watched quantity
+        if "front_end.resistance" in slots:
+            at = d.add(_value(elm.Resistor().at(at).left(), "front_end.resistance")).end
+        sensor = d.add(_value(elm.SourceControlledV().at(at).down().length(_FRONT_END_DROP).reverse(),
+                              "front_end.sensor", "bottom"))
+        d.add(elm.Ground().at(sensor.end))
+        return
+    d.add(elm.Dot().at(at))
+    if layout == "divider":
+        upper, lower = (elm.Resistor(), "front_end.top"), (elm.Resistor(), "front_end.bottom")
+    elif layout == "thermistor-top":
+        upper, lower = (elm.Thermistor(), "front_end.thermistor"), (elm.Resistor(), "front_end.fixed")
+    else:
+        upper, lower = (elm.Resistor(), "front_end.fixed"), (elm.Thermistor(), "front_end.thermistor")
+    top = d.add(_value(upper[0].at(at).left(), upper[1]))
+    if layout == "divider":  # the measured voltage comes in here
+        d.add(elm.Dot(open=True).at(top.end).label("IN", loc="left", color=_INK))
+    else:
+        _rail(d, top.end, "front_end.excitation")
+    bottom = d.add(_value(lower[0].at(at).down().length(_FRONT_END_DROP), lower[1], "top"))
+    d.add(elm.Ground().at(bottom.end))
+
+
+def _signal(d: schemdraw.Drawing, slots: frozenset[str], start: Point, layout: str = "") -> None:
+    """From ``start`` leftwards: the input resistor, the source resistance, then the input terminal
+    or the front end."""
     here = start
     for path in ("resistors.input", "source.resistance"):
         if path in slots:
             here = d.add(_value(elm.Resistor().at(here).left(), path)).end
-    d.add(elm.Dot(open=True).at(here).label("IN", loc="left", color=_INK))
+    if not layout:
+        d.add(elm.Dot(open=True).at(here).label("IN", loc="left", color=_INK))
+        return
+    here = d.add(elm.Line().at(here).left().length(1.5)).end
+    _front_end(d, slots, layout, here)
 
 
 def _legs(d: schemdraw.Drawing, stage: str, slots: frozenset[str], node: Point) -> Point:
@@ -133,8 +202,9 @@ def _legs(d: schemdraw.Drawing, stage: str, slots: frozenset[str], node: Point) 
 
 
 @lru_cache(maxsize=64)
-def _template(stage: str, slots: frozenset[str]) -> str:
-    """The SVG of one topology with a placeholder in each value label."""
+def _template(stage: str, slots: frozenset[str], layout: str = "") -> str:
+    """The SVG of one topology (``layout``: the front end's, see :func:`_layout`) with a placeholder
+    in each value label."""
     d = schemdraw.Drawing(canvas="svg", show=False)
     d.config(fontsize=12, color=_INK, lw=1.6)
     op = d.add(elm.Opamp(leads=True))
@@ -162,11 +232,11 @@ def _template(stage: str, slots: frozenset[str]) -> str:
     d.add(_value(elm.Resistor().endpoints((out_node.x, _PLUS_Y), plus), "resistors.feedback", "bottom"))
     left_of_legs = _legs(d, stage, slots, plus)
     if stage == "inverting":
-        _signal(d, slots, minus)
+        _signal(d, slots, minus, layout)
     else:
         wire = d.add(elm.Line().at(minus).left().length(2.5)).end
         _reference(d, slots, wire, down_room=_MINUS_Y - _PLUS_Y - 1.6)
-        _signal(d, slots, left_of_legs)
+        _signal(d, slots, left_of_legs, layout)
     return d.get_imagedata("svg").decode("utf-8")
 
 
@@ -183,7 +253,7 @@ def stage_svg(design: Design) -> str:
         A complete ``<svg>`` document (text drawn as SVG text, so values are searchable).
     """
     labels = stage_labels(design)
-    svg = _template(design.stage, frozenset(labels))
+    svg = _template(design.stage, frozenset(labels), _layout(design))
     for path, text in labels.items():
         svg = svg.replace(_slot(path), escape(text))
     return svg

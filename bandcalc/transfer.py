@@ -9,10 +9,19 @@ is the hysteresis band.
 The output level on each branch is the level the network model reaches (the output node's
 voltage, with the feedback and any pull-up or output resistance loading it), so it may slope
 slightly with the input.  This module only computes arrays; :mod:`bandcalc.plots` draws them.
+
+With a front end ahead of the stage (:mod:`bandcalc.frontend`) the curve runs over the watched
+range: against the front end's open-circuit voltage at the stage, or (``watched=True``) against
+the watched quantity itself.  At each input the stage sees the front end's Thevenin equivalent,
+whose resistance may move with the watched value (a thermistor), so the levels and both points
+agree with :func:`bandcalc.analysis.analyze`.  Where the stage's input falls as the watched
+quantity rises (a thermistor at the bottom of its divider), the watched curve starts in the
+stage's switched state.
 """
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 import numpy as np
@@ -20,13 +29,14 @@ from numpy.typing import NDArray
 
 from .design import Design
 from .network import node_voltages, parameters, switching_points
+from .watched import volts_for, watched_points, watched_range
 
 __all__ = ["TransferCurve", "transfer_curve"]
 
 
 @dataclass(frozen=True)
 class TransferCurve:
-    """Output against input on both branches, volts.
+    """Output (volts) against input on both branches; the input in volts or the watched quantity.
 
     ``signal`` is ascending and holds each switching point twice, so a branch's jump is a
     vertical step between two samples at the same input.  ``rising[i]`` is the output while
@@ -42,6 +52,8 @@ class TransferCurve:
     at_lower: tuple[float, float]  # output just before and just after the switch at the lower point
     start_state: str  # output state of the rising branch below the upper point: "low" or "high"
     inverting: bool
+    unit: str = "V"  # unit of ``signal``, ``upper`` and ``lower``: volts, or the watched quantity's
+    watched: bool = False  # True: ``signal`` is the watched quantity (battery volts, degrees C, ...)
 
     @property
     def hysteresis(self) -> float:
@@ -61,42 +73,20 @@ class TransferCurve:
         return float(np.interp(signal, self.signal, getattr(self, branch)))
 
 
-def _sweep(design: Design, upper: float, lower: float, samples: int, margin: float) -> NDArray[np.float64]:
-    low, high = design.signal_range()
-    finite = [v for v in (upper, lower) if np.isfinite(v)]
+def _grid(low: float, high: float, points: tuple[float, float], samples: int,
+          margin: float) -> NDArray[np.float64]:
+    """Evenly spaced inputs over [low, high] widened to hold the points, plus a margin; each point twice."""
+    finite = [v for v in points if np.isfinite(v)]
     lo, hi = min([low, *finite]), max([high, *finite])
     pad = margin * (hi - lo)
     base = np.linspace(lo - pad, hi + pad, samples)
     return np.sort(np.concatenate([base, np.repeat(finite, 2)]))
 
 
-def transfer_curve(design: Design, samples: int = 201, margin: float = 0.05) -> TransferCurve:
-    """Both branches of a design's transfer curve.
-
-    Parameters
-    ----------
-    design : Design
-    samples : int
-        Evenly spaced input values, volts, over the signal's range (widened to hold both
-        switching points) plus ``margin`` of that width on each side.  Each switching point
-        is added twice.
-    margin : float
-        Fraction of the swept width added on each side.
-
-    Returns
-    -------
-    TransferCurve
-    """
-    if samples < 2:
-        raise ValueError(f"samples: need at least 2, got {samples}")
-    pts = switching_points(design)
-    upper, lower = float(pts.upper), float(pts.lower)
-    signal = _sweep(design, upper, lower, samples, margin)
-    p = parameters(design)
-    level = {state: np.broadcast_to(node_voltages(design, p, signal, state).output, signal.shape)
-             for state in ("high", "low")}
-    start = "high" if design.inverting else "low"
-    switched = "low" if design.inverting else "high"
+def _curve(signal: NDArray[np.float64], level: dict[str, NDArray[np.float64]], upper: float, lower: float,
+           start: str, inverting: bool, unit: str = "V", watched: bool = False) -> TransferCurve:
+    """Both branches from the output level in each state along an ascending input."""
+    switched = "high" if start == "low" else "low"
     # Rising: the start state up to and including the first copy of the upper point.
     rising_switched = signal > upper
     if np.isfinite(upper):
@@ -107,10 +97,70 @@ def transfer_curve(design: Design, samples: int = 201, margin: float = 0.05) -> 
         falling_back[np.searchsorted(signal, lower, side="left")] = True
     rising = np.where(rising_switched, level[switched], level[start])
     falling = np.where(falling_back, level[start], level[switched])
-    ends = np.array([upper, lower])
-    out = {state: np.broadcast_to(node_voltages(design, p, ends, state).output, ends.shape)
-           for state in ("high", "low")}
+
+    def jump(point: float, before: str, after: str) -> tuple[float, float]:
+        if not np.isfinite(point):
+            return math.nan, math.nan
+        i = int(np.searchsorted(signal, point, side="left"))
+        return float(level[before][i]), float(level[after][i])
+
     return TransferCurve(signal=signal, rising=rising, falling=falling, upper=upper, lower=lower,
-                         at_upper=(float(out[start][0]), float(out[switched][0])),
-                         at_lower=(float(out[switched][1]), float(out[start][1])),
-                         start_state=start, inverting=design.inverting)
+                         at_upper=jump(upper, start, switched), at_lower=jump(lower, switched, start),
+                         start_state=start, inverting=inverting, unit=unit, watched=watched)
+
+
+def _front_end_curve(design: Design, samples: int, margin: float, watched: bool) -> TransferCurve:
+    fe = design.front_end
+    assert fe is not None
+    pts = watched_points(design)
+    stage_start = "high" if design.inverting else "low"
+    x = _grid(*watched_range(design), (float(pts.upper), float(pts.lower)), samples, margin)
+    volts, ohms = volts_for(design, x)
+    p = dict(parameters(design), **{"source.resistance": ohms})
+    level = {state: np.broadcast_to(node_voltages(design, p, volts, state).output, x.shape)
+             for state in ("high", "low")}
+    if watched:
+        start = stage_start if fe.rises else ("low" if stage_start == "high" else "high")
+        return _curve(x, level, float(pts.upper), float(pts.lower), start, design.inverting, fe.unit, True)
+    # Against the stage's input: the same samples in volts, ascending; the points where the
+    # watched quantity reaches them, through the same function, so they match samples exactly.
+    volts = np.asarray(volts, dtype=float)
+    if not fe.rises:
+        volts, level = volts[::-1], {k: v[::-1] for k, v in level.items()}
+    ends = volts_for(design, np.array([float(pts.at_stage_upper), float(pts.at_stage_lower)]))[0]
+    return _curve(volts, level, float(ends[0]), float(ends[1]), stage_start, design.inverting)
+
+
+def transfer_curve(design: Design, samples: int = 201, margin: float = 0.05, *,
+                   watched: bool = False) -> TransferCurve:
+    """Both branches of a design's transfer curve.
+
+    Parameters
+    ----------
+    design : Design
+    samples : int
+        Evenly spaced inputs over the signal's range (widened to hold both switching points)
+        plus ``margin`` of that width on each side.  Each switching point is added twice.
+        With a front end the samples are spaced evenly over the watched range.
+    margin : float
+        Fraction of the swept width added on each side.
+    watched : bool
+        Against the watched quantity (needs a front end); else against the stage's input, volts.
+
+    Returns
+    -------
+    TransferCurve
+    """
+    if samples < 2:
+        raise ValueError(f"samples: need at least 2, got {samples}")
+    if design.front_end is not None:
+        return _front_end_curve(design, samples, margin, watched)
+    if watched:
+        raise ValueError("watched: this design has no front end, so its input is the stage's own volts")
+    pts = switching_points(design)
+    upper, lower = float(pts.upper), float(pts.lower)
+    signal = _grid(*design.signal_range(), (upper, lower), samples, margin)
+    p = parameters(design)
+    level = {state: np.broadcast_to(node_voltages(design, p, signal, state).output, signal.shape)
+             for state in ("high", "low")}
+    return _curve(signal, level, upper, lower, "high" if design.inverting else "low", design.inverting)

@@ -131,12 +131,14 @@ def _root(design: Design, fe: FrontEnd, p: Mapping[str, ArrayLike], state: str) 
         signal, q["source.resistance"] = _source(fe, p, t)
         return node_voltages(design, q, signal, state).difference - p["comparator.offset"]
 
-    d0, d1 = residual(0.0), residual(1.0)
+    # As numpy values, so that a degenerate case (a residual that does not move) divides to inf
+    # or NaN, "no watched value switches it", where Python floats would raise.
+    d0, d1 = np.asarray(residual(0.0), dtype=float), np.asarray(residual(1.0), dtype=float)
     with np.errstate(divide="ignore", invalid="ignore"):
         if fe.affine:  # a fixed source resistance: two evaluations, as in the stage model
             return -d0 / (d1 - d0)
         # d(t) = (d0 + b t) / (1 + c t) through three samples; the root is t = -d0 / b.
-        dh = residual(0.5)
+        dh = np.asarray(residual(0.5), dtype=float)
         c = (2.0 * dh - d0 - d1) / (d1 - dh)
         return -d0 / (d1 * (1.0 + c) - d0)
 

@@ -2,7 +2,9 @@
 
 Starts ``streamlit run app.py`` on a free port on 127.0.0.1, then loads the page, moves a
 resistor slider with the keyboard, checks that the switching-point figures and the chart
-change, saves the design file, and reloads to find the same design in the address.  Skipped,
+change, saves the design file, downloads the design summary (Markdown) and reads it back, and
+reloads to find the same design in the address.  A second test edits a tolerance in the spread
+panel (which reruns on its own, as a fragment) and runs the spread.  Skipped,
 with the reason, where /usr/bin/chromium or Playwright is absent; browsers are never
 downloaded.
 """
@@ -25,6 +27,7 @@ from bandcalc.analysis import analyze
 from bandcalc.design import design_from_json, load_design
 from bandcalc.page.address import PARAM, address_to_design
 from bandcalc.page.edit import with_value
+from bandcalc.report import design_from_summary
 from bandcalc.units import format_si
 
 pytestmark = pytest.mark.browser
@@ -96,9 +99,20 @@ def chart_labels(page) -> list[str]:
         "el => Array.from(el.querySelectorAll('text')).map(t => t.textContent)")
 
 
-def feedback_in_address(url: str) -> float | None:
+def address(page) -> str:
+    """The page's address as the browser has it now (``page.url`` is only updated while Playwright
+    handles events, which a plain polling loop does not give it)."""
+    return page.evaluate("() => window.location.href")
+
+
+def design_in_address(url: str):
     values = parse_qs(urlsplit(url).query).get(PARAM)
-    return address_to_design(values[0]).resistors.feedback if values else None
+    return address_to_design(values[0]) if values else None
+
+
+def feedback_in_address(url: str) -> float | None:
+    design = design_in_address(url)
+    return None if design is None else design.resistors.feedback
 
 
 def wait_for(condition, what: str, timeout: float = 20.0) -> None:
@@ -107,6 +121,13 @@ def wait_for(condition, what: str, timeout: float = 20.0) -> None:
         if time.monotonic() > deadline:
             pytest.fail(f"timed out waiting for {what}")
         time.sleep(0.2)
+
+
+def settle(page) -> None:
+    """Wait until the page's script has finished its run (Streamlit marks the app element)."""
+    time.sleep(0.3)
+    app = page.locator("[data-testid='stApp']")
+    wait_for(lambda: app.get_attribute("data-test-script-state") == "notRunning", "the page to settle")
 
 
 def test_slider_by_keyboard_save_and_reload(server, browser, tmp_path):
@@ -128,7 +149,7 @@ def test_slider_by_keyboard_save_and_reload(server, browser, tmp_path):
     wait_for(lambda: metrics(page)[:2] == moved, "the figures to follow the slider")
     wait_for(lambda: f"Upper {moved[0]}" in chart_labels(page), "the chart to follow the slider")
     assert f"Upper {upper}" not in chart_labels(page)
-    wait_for(lambda: feedback_in_address(page.url) == 43e3, "the new design in the address")
+    wait_for(lambda: feedback_in_address(address(page)) == 43e3, "the new design in the address")
 
     # Save the design file and read it back.
     with page.expect_download() as download:
@@ -138,9 +159,52 @@ def test_slider_by_keyboard_save_and_reload(server, browser, tmp_path):
     assert design_from_json(saved.read_text()).resistors.feedback == 43e3
     assert json.loads(saved.read_text())["name"] == "Sump level switch"
 
+    # Download the summary (Markdown) and read it: the design's name, its switching point as the
+    # figures show it, and the design file at its end rebuilds the design on the page.
+    page.get_by_role("tab", name="Summary").click()
+    settle(page)
+    summary_button = page.get_by_role("button", name="Download the summary")
+    summary_button.wait_for(timeout=30_000)
+    with page.expect_download() as download:
+        summary_button.click()
+    assert download.value.suggested_filename == "sump-level-switch.md"
+    summary = tmp_path / "summary.md"
+    download.value.save_as(summary)
+    text = summary.read_text(encoding="utf-8")
+    assert text.startswith("# Sump level switch\n") and moved[0] in text
+    assert design_from_summary(text) == with_value(SUMP, "resistors.feedback", 43e3)
+
     # Reload: the address brings back the same design.
     page.reload()
     page.wait_for_selector("[data-testid='stMetricValue']", timeout=60_000)
     wait_for(lambda: metrics(page)[:2] == moved, "the same figures after a reload")
     assert page.get_by_role("slider", name="Feedback resistor").get_attribute("aria-valuetext") == "43k"
+    page.close()
+
+
+def test_spread_panel_edits_the_design_and_runs(server, browser):
+    page = browser.new_page(viewport={"width": 1500, "height": 1400})
+    page.goto(server)
+    page.wait_for_selector("[data-testid='stMetricValue']", timeout=60_000)
+    page.get_by_role("tab", name="Spread").click()
+    settle(page)
+    supply = page.get_by_role("textbox", name="Each supply rail (%)")
+    supply.wait_for(timeout=30_000)
+    supply.fill("3")
+    supply.press("Enter")
+    # The panel reruns alone (a fragment) and still writes the changed design into the address.
+    wait_for(lambda: design_in_address(address(page)).tolerances.supply == 3.0,
+             "the tolerance in the address")
+    settle(page)
+    page.get_by_role("button", name="Run the spread").click()
+    page.get_by_text("Yield", exact=True).wait_for(timeout=60_000)
+    settle(page)
+    assert page.get_by_text("Worst case", exact=False).count() >= 1
+    assert page.locator(".js-plotly-plot").count() >= 5  # transfer curve, three histograms, sensitivity
+    # The panel's edit must leave the sidebar's controls alone: a slider there still works after it.
+    slider = page.get_by_role("slider", name="Feedback resistor")
+    slider.focus()
+    page.keyboard.press("ArrowRight")
+    wait_for(lambda: feedback_in_address(address(page)) == 43e3, "the sidebar slider after a panel's edit")
+    assert design_in_address(address(page)).tolerances.supply == 3.0
     page.close()

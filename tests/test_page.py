@@ -5,60 +5,26 @@ published examples and lcapy; here the question is whether the page shows them f
 """
 
 import base64
-import json
-from pathlib import Path
 
 import numpy as np
 import pytest
+from page_helpers import ROOT, SUMP, chart, design_on, errors, figures, numbers, page
 from streamlit.testing.v1 import AppTest
 
 from bandcalc.analysis import analyze
 from bandcalc.design import design_to_json, load_design
-from bandcalc.page.address import PARAM, address_to_design, design_to_address
+from bandcalc.page.address import PARAM, design_to_address
 from bandcalc.page.edit import with_value
 from bandcalc.page.results import FIGURES
 from bandcalc.units import format_si
 
-ROOT = Path(__file__).parent.parent
-APP = str(ROOT / "app.py")
-SUMP = load_design(ROOT / "demo_data" / "sump_level_switch.json")
 FEEDBACK = "in.resistors.feedback"
 INPUT = "in.resistors.input"
-
-
-def page(query: dict | None = None) -> AppTest:
-    at = AppTest.from_file(APP, default_timeout=60)
-    at.query_params.update(query or {})
-    return at.run()
-
-
-def figures(at: AppTest) -> dict[str, str]:
-    return {m.label: m.value for m in at.metric}
 
 
 def expected(design) -> dict[str, str]:
     a = analyze(design)
     return {label: format_si(getattr(a, attr), "V", 4) for label, attr, _ in FIGURES}
-
-
-def chart(at: AppTest) -> dict:
-    (element,) = at.get("plotly_chart")
-    return json.loads(element.proto.spec)
-
-
-def numbers(array) -> np.ndarray:
-    """A Plotly JSON array: a plain list, or typed binary data ({"dtype", "bdata"})."""
-    if isinstance(array, dict):
-        return np.frombuffer(base64.b64decode(array["bdata"]), dtype=array["dtype"])
-    return np.asarray(array, dtype=float)
-
-
-def design_on(at: AppTest):
-    return address_to_design(at.query_params[PARAM])
-
-
-def errors(at: AppTest) -> list[str]:
-    return [e.value for e in at.error]
 
 
 def test_default_page_shows_the_sump_demo():

@@ -4,6 +4,7 @@ import base64
 import zlib
 from pathlib import Path
 
+import numpy as np
 import pytest
 
 from bandcalc.design import DesignError, DividerReference, FixedReference, OpenDrain, PushPull, load_design
@@ -105,3 +106,143 @@ def test_slider_options_span_decades_around_the_value():
     assert set(slider_options("E192", 1e3)) >= set(series_values("E192", 100, 99e3))
     with pytest.raises(DesignError, match="series"):
         slider_options("E7", 1e3)
+
+
+# --- front ends ---------------------------------------------------------------------------------
+
+def test_each_front_end_kind_starts_valid_and_clears_the_source_range():
+    from bandcalc.analysis import analyze
+    from bandcalc.page.edit import front_end_kind, with_front_end
+
+    ranged = with_value(SUMP, "source.high", 4.0)
+    units = {"divider": "V", "thermistor": "C", "linear": "C"}
+    for kind, unit in units.items():
+        d = with_front_end(ranged, kind)
+        assert front_end_kind(d) == kind and (d.source.low, d.source.high) == (None, None)
+        assert analyze(d).watched_unit == unit
+    bare = with_front_end(with_front_end(SUMP, "divider"), "none")
+    assert bare.front_end is None and bare.source.resistance == SUMP.source.resistance
+    assert (bare.source.low, bare.source.high) == (None, None)  # the rails
+    with pytest.raises(DesignError, match="front_end.kind: 'bridge' is not a front-end kind"):
+        with_front_end(SUMP, "bridge")
+
+
+def test_beta_and_steinhart_hart_describe_the_same_thermistor():
+    from bandcalc.frontend import KELVIN_AT_25C, beta_resistance, steinhart_hart_resistance
+    from bandcalc.page.edit import thermistor_model, with_front_end, with_thermistor_model
+
+    d = with_front_end(SUMP, "thermistor")
+    sh = with_thermistor_model(d, "steinhart_hart")
+    assert thermistor_model(sh) == "steinhart_hart"
+    # The Beta relation R = R25 exp(B (1/T - 1/298.15 K)) (DOMAIN.md) is Steinhart-Hart with C = 0.
+    kelvin = np.linspace(250.0, 400.0, 7)
+    expected = beta_resistance(10e3, 3950.0, kelvin)
+    assert np.allclose(steinhart_hart_resistance(sh.front_end.steinhart_hart, kelvin), expected, rtol=1e-12)
+    back = with_thermistor_model(sh, "beta").front_end
+    assert (back.r25, back.beta) == pytest.approx((10e3, 3950.0), rel=1e-12)
+    # From a 10 kOhm probe's published coefficients (tests/test_frontend.py): the Beta taken is the
+    # one between 25 C and 50 C (B25/50, as data sheets commonly state it), so the Beta curve meets
+    # the coefficients' curve at both temperatures.
+    probe = (1.129241e-3, 2.341077e-4, 8.775468e-8)
+    d = with_value(sh, "front_end.steinhart_hart", probe)
+    beta = with_thermistor_model(d, "beta").front_end
+    for kelvin in (KELVIN_AT_25C, KELVIN_AT_25C + 25.0):
+        assert beta_resistance(beta.r25, beta.beta, kelvin) == pytest.approx(
+            steinhart_hart_resistance(probe, kelvin), rel=1e-12)
+
+
+def test_one_steinhart_hart_coefficient_by_its_index():
+    from bandcalc.page.edit import with_front_end, with_thermistor_model
+
+    d = with_thermistor_model(with_front_end(SUMP, "thermistor"), "steinhart_hart")
+    assert value_at(d, "front_end.steinhart_hart[2]") == 0.0
+    moved = with_value(d, "front_end.steinhart_hart[2]", 8.775468e-8)
+    assert moved.front_end.steinhart_hart[2] == 8.775468e-8
+    assert moved.front_end.steinhart_hart[:2] == d.front_end.steinhart_hart[:2]
+    with pytest.raises(DesignError, match="front_end.steinhart_hart: an NTC thermistor needs B > 0"):
+        with_value(d, "front_end.steinhart_hart[1]", -1e-4)
+    with pytest.raises(DesignError, match=r"front_end.steinhart_hart\[3\]: not a value of this design"):
+        value_at(d, "front_end.steinhart_hart[3]")
+
+
+def test_thermistor_excitation_kinds():
+    from bandcalc.page.edit import excitation_kind, with_excitation, with_front_end
+
+    d = with_front_end(SUMP, "thermistor")
+    assert excitation_kind(d) == "positive"
+    own = with_excitation(d, "volts")
+    assert own.front_end.excitation == SUMP.supply.positive and excitation_kind(own) == "volts"
+    assert with_excitation(own, "reference").front_end.excitation == "reference"  # the sump has 2.5 V fixed
+    divided = with_value(with_reference(SUMP, "divider"), "resistors.feedback", 39e3)
+    with pytest.raises(DesignError, match='"reference" needs a fixed reference'):
+        with_excitation(with_front_end(divided, "thermistor"), "reference")
+
+
+# --- tolerances ---------------------------------------------------------------------------------
+
+def test_tolerance_entries_edit_the_design_section():
+    from bandcalc.page.tolerance_edit import (
+        tolerance_value,
+        with_part_tolerance,
+        with_temperature_end,
+        with_tolerance,
+        with_window_end,
+        without_tolerances,
+    )
+    from bandcalc.tolerances import ToleranceError
+
+    assert SUMP.tolerances is not None
+    d = with_tolerance(SUMP, "supply", 2.5)
+    assert d.tolerances.supply == 2.5 and tolerance_value(d, "supply") == 2.5
+    assert with_tolerance(d, "supply", None).tolerances.supply == 0.0  # blank: exact
+    assert with_tolerance(d, "resistors", None).tolerances.resistors.default is None  # blank: the series'
+    with pytest.raises(ToleranceError, match="tolerances.supply: must be from 0 to 50 percent"):
+        with_tolerance(d, "supply", 60.0)
+    # A blank end of the temperature range is 25 C, the parts' nominal temperature; both blank: none.
+    bare = without_tolerances(SUMP)
+    cold = with_temperature_end(bare, "low", -20.0)
+    assert cold.tolerances.temperature == (-20.0, 25.0)
+    assert with_temperature_end(cold, "low", None).tolerances.temperature is None
+    w = with_window_end(bare, "upper", "high", 3.2)
+    assert w.tolerances.limits.upper == (None, 3.2)
+    assert with_window_end(w, "upper", "high", None).tolerances.limits.upper is None
+    with pytest.raises(ToleranceError, match="tolerances.limits.upper: the lowest value"):
+        with_window_end(w, "upper", "low", 3.3)
+    part = with_part_tolerance(bare, "resistors", "feedback", 0.1)
+    assert part.tolerances.resistors.get("feedback") == 0.1 and part.tolerances.resistors.get("input") is None
+    assert with_part_tolerance(part, "resistors", "feedback", None).tolerances.resistors.parts == ()
+
+
+def test_resistor_rows_take_the_series_tolerance_unless_given():
+    from bandcalc.page.tolerance_edit import resistor_rows, with_part_tolerance, without_tolerances
+
+    rows = {r["name"]: r for r in resistor_rows(without_tolerances(SUMP))}
+    # 10k and 39k are E24 values: 5 % (IEC 60063 usual tolerance of E24, common practice).
+    assert (rows["input"]["percent"], rows["input"]["origin"]) == (5.0, "usual for E24")
+    assert rows["feedback"]["percent"] == 5.0
+    given = {r["name"]: r for r in resistor_rows(with_part_tolerance(SUMP, "resistors", "feedback", 0.1))}
+    assert (given["feedback"]["percent"], given["feedback"]["origin"]) == (0.1, "given for this resistor")
+    solar = {r["name"]: r for r in resistor_rows(load_design(DEMO_DIR / "solar_battery_disconnect.json"))}
+    assert solar["front_end.top"]["percent"] == 0.1 and solar["front_end.top"]["tempco"] == 25.0
+    assert solar["input"]["origin"] == "given for every resistor"
+
+
+@pytest.mark.parametrize(("text", "unit", "value"), [
+    ("25", "C", 25.0), ("-20 C", "C", -20.0), ("3950 K", "K", 3950.0), ("1.5m", "W/K", 1.5e-3),
+    ("1.5 mW/K", "W/K", 1.5e-3), ("100 ppm/K", "ppm/K", 100.0), ("7u", "V/K", 7e-6), ("2.5 %", "%", 2.5),
+    ("8.775468e-8", "", 8.775468e-8), ("4k7", "Ohm", 4700.0), ("50 kPa", "kPa", 50.0),
+])
+def test_typed_values_in_any_unit(text, unit, value):
+    from bandcalc.page.inputs import read_value
+
+    assert read_value(text, unit, "field") == pytest.approx(value, rel=1e-15)
+
+
+def test_typed_value_errors_name_the_field():
+    from bandcalc.page.inputs import read_value, shown
+    from bandcalc.units import UnitError
+
+    with pytest.raises(UnitError, match=r"Beta \(front_end.beta\): cannot read 'warm'; write a number in K"):
+        read_value("warm", "K", "Beta (front_end.beta)")
+    assert shown(3950.0, "K") == "3950 K" and shown(1.5e-3, "W/K") == "1.5 mW/K"
+    assert shown(8.775468e-8, "") == "8.775468e-08" and shown(25.0, "C") == "25 C"

@@ -52,3 +52,58 @@ def test_view_centres_on_a_narrow_band():
 def test_fast_figure_matches_validated_one():
     c = transfer_curve(load_design(DEMO_DIR / "greenhouse_fan_thermostat.json"))
     assert transfer_figure(c, validate=False).to_dict() == transfer_figure(c).to_dict()
+
+
+# --- spread and signal figures ------------------------------------------------------------------
+
+def test_spread_and_signal_specs_pass_plotlys_schema():
+    import numpy as np
+
+    from bandcalc.plots import histogram_spec, sensitivity_spec, signal_spec, tradeoff_spec
+    from bandcalc.signal import design_points, run_design
+    from bandcalc.spread import spread
+    from bandcalc.sweep import sweep_design
+    from bandcalc.waveform import synthesize
+
+    d = load_design(DEMO_DIR / "solar_battery_disconnect.json")
+    s = spread(d, samples=1000)
+    y = s.monte_carlo.build_yield
+    wc = s.worst_case
+    hist = go.Figure(histogram_spec(s.monte_carlo.hysteresis, "Hysteresis", "V",
+                                    window=y.windows["hysteresis"], nominal=wc.nominal["hysteresis"],
+                                    extremes=(wc.hysteresis.min, wc.hysteresis.max)))
+    # An open side of a window (hysteresis: at least 0.9 V) is drawn to the edge of the view.
+    assert hist.layout.shapes[0].x1 == hist.layout.xaxis.range[1] and hist.layout.shapes[0].x0 == 0.9
+    bars = go.Figure(sensitivity_spec(s.sensitivity, {}))
+    assert [t.name for t in bars.data] == ["Hysteresis", "Lower point", "Upper point"]
+    upper, lower, _ = design_points(d)
+    wave = synthesize("sine", 0.5 * (upper + lower), upper - lower, 50, 0.1, 1e5, noise_rms=0.1, seed=1)
+    run = run_design(d, wave)
+    time = go.Figure(signal_spec(run, (0.0, 5.0), "V"))
+    assert [t.name for t in time.data] == ["Input", "Noise-free input", "Upper point", "Lower point",
+                                           "Output", "Rising edges", "Falling edges"]
+    # The output steps between the two levels exactly at the edge times, starting where the run starts.
+    step = time.data[4]
+    assert list(step.x[1:-1:2]) == list(run.edge_times) == list(step.x[2:-1:2])
+    assert step.y[0] == (5.0 if run.output_high[0] else 0.0) and set(step.y) == {0.0, 5.0}
+    assert np.all(np.diff(step.x) >= 0)
+    trade = go.Figure(tradeoff_spec(sweep_design(d, wave), "V", upper - lower))
+    assert [s.name for s in trade.layout.shapes] == ["Narrowest clean width", "This design"]
+
+
+def test_display_index_keeps_each_runs_extremes():
+    import numpy as np
+
+    from bandcalc.plots import display_index
+
+    v = np.random.default_rng(5).normal(size=100_003)
+    v[12_345] = 9.0  # a spike must survive the thinning
+    index = display_index(v, 2000)
+    assert index.size <= 2002 and index[0] == 0 and index[-1] == v.size - 1
+    assert np.all(np.diff(index) > 0) and 12_345 in index
+    # Brute force: the least and greatest sample of each of the 1000 runs of ceil(n / 1000) samples.
+    size = -(-v.size // 1000)
+    for start in range(0, v.size, size):
+        block = v[start:start + size]
+        assert start + int(np.argmin(block)) in index and start + int(np.argmax(block)) in index
+    assert np.array_equal(display_index(v[:500], 2000), np.arange(500))

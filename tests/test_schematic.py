@@ -20,9 +20,12 @@ def texts(svg: str) -> list[str]:
     # Values as written in each demo file (4k7 = 4700 ohm per IEC 60062).
     ("sump_level_switch", ["Rin 10k", "Rfb 39k", "Rsrc 100R", "2.5 V", "5 V", "0 V", "IN", "OUT", "REF"]),
     ("motor_current_direction", ["Rtop 10k", "Rbot 10k", "Rpu 4k7", "Rfb 1M", "3.3 V", "-5 V"]),
-    ("greenhouse_fan_thermostat", ["Rup 150k", "Rgnd 120k", "Rfb 1M5"]),
+    # Front ends: the NTC (10 kOhm at 25 C, Beta 3950 K) under its 10k fixed resistor from 5 V, and
+    # the 240k / 62k sense divider from the battery, drawn ahead of the stage's input.
+    ("greenhouse_fan_thermostat",
+     ["Rup 150k", "Rgnd 120k", "Rfb 1M5", "Rfix 10k", "NTC 10k, B 3950 K", "5 V"]),
     ("strain_overload_alarm", ["Rref 100k", "Rup 100k", "Rfb 200k", "Rpu 4k7", "REF", "-15 V"]),
-    ("solar_battery_disconnect", ["Rin 1k", "Rfb 1M", "Rpu 10k", "2.495 V"]),
+    ("solar_battery_disconnect", ["Rin 1k", "Rfb 1M", "Rpu 10k", "2.495 V", "Rd1 240k", "Rd2 62k", "IN"]),
 ])
 def test_svg_names_every_part_with_its_value(stem, expected):
     svg = stage_svg(load_design(DEMO_DIR / f"{stem}.json"))
@@ -56,3 +59,51 @@ def test_values_change_the_labels_only():
     assert "Rfb 47k" in texts(b) and "Rfb 39k" not in texts(b)
     assert a.replace("Rfb 39k", "Rfb 47k") == b
     assert stage_labels(moved)["resistors.feedback"] == "Rfb 47k"
+
+
+def positions(svg: str) -> dict[str, float]:
+    """x of each text label (the start of its first line)."""
+    root = ET.fromstring(svg)
+    return {"".join(t.itertext()): float(t.get("x")) for t in root.iter("{http://www.w3.org/2000/svg}text")
+            if t.get("x") is not None}
+
+
+def test_the_front_end_sits_ahead_of_the_input_resistor():
+    found = positions(stage_svg(load_design(DEMO_DIR / "solar_battery_disconnect.json")))
+    assert found["IN"] < found["Rd1 240k"] < found["Rin 1k"]
+
+
+def _with_front_end(front_end: dict):
+    from bandcalc.design import design_from_dict, design_to_dict
+
+    data = design_to_dict(load_design(DEMO_DIR / "sump_level_switch.json"))
+    return design_from_dict({**data, "source": {"resistance": 100}, "front_end": front_end})
+
+
+def test_a_linear_sensor_is_drawn_with_its_law_and_output_resistance():
+    svg = stage_svg(_with_front_end({"kind": "linear", "volts_per_unit": 0.04, "offset": 0.5, "unit": "kPa",
+                                     "resistance": "1k"}))
+    found = texts(svg)
+    assert "40 mV/kPa + 500 mV" in found and "Rsen 1k" in found
+    assert "IN" not in found  # the sensor is the input
+    bare = texts(stage_svg(_with_front_end({"kind": "linear", "volts_per_unit": 0.01, "unit": "C"})))
+    assert "10 mV/C" in bare and not any(t.startswith("Rsen") for t in bare)
+
+
+def test_a_thermistor_on_top_from_the_reference():
+    found = texts(stage_svg(_with_front_end({
+        "kind": "thermistor", "steinhart_hart": [1.129241e-3, 2.341077e-4, 8.775468e-8], "fixed": "10k",
+        "position": "top", "excitation": "reference"})))
+    # Steinhart-Hart coefficients of a 10 kOhm probe: its resistance at 25 C rounds to 10k.
+    assert "NTC 10k, S-H" in found and "Rfix 10k" in found and found.count("REF") == 2
+
+
+def test_each_front_end_layout_is_drawn_once():
+    from bandcalc.page.edit import with_value
+    from bandcalc.schematic import _template
+
+    d = load_design(DEMO_DIR / "greenhouse_fan_thermostat.json")
+    stage_svg(d)
+    before = _template.cache_info().hits
+    stage_svg(with_value(d, "front_end.fixed", 12e3))  # a new value, the same drawing
+    assert _template.cache_info().hits == before + 1

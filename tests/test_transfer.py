@@ -10,8 +10,10 @@ from circuit_reference import netlist
 from bandcalc.analysis import analyze
 from bandcalc.design import Design, FixedReference, PushPull, Resistors, Supply, load_design
 from bandcalc.transfer import transfer_curve
+from bandcalc.watched import stage_design
 
-DEMOS = sorted((Path(__file__).parent.parent / "demo_data").glob("*.json"))
+DEMO_DIR = Path(__file__).parent.parent / "demo_data"
+DEMOS = sorted(DEMO_DIR.glob("*.json"))
 
 
 def branch_at(curve, branch, x):
@@ -93,11 +95,56 @@ def test_branch_levels_against_lcapy(stem):
 
 
 def test_sweep_covers_the_signal_range_and_both_points():
-    d = load_design(Path(__file__).parent.parent / "demo_data" / "solar_battery_disconnect.json")
+    d = load_design(DEMO_DIR / "rain_tank_overflow.json")
     c = transfer_curve(d)
     low, high = d.signal_range()
     assert c.signal[0] < low and c.signal[-1] > high
     assert c.signal[0] < c.lower < c.upper < c.signal[-1]
+
+
+def test_with_a_divider_ahead_the_stage_sees_its_thevenin_equivalent():
+    # The solar demo watches 0 to 16 V of battery through 240k / 62k: the stage's input runs over
+    # 16 V x 62 / 302 = 3.285 V (divider ratio), and the curve is the stage with the divider's
+    # Thevenin resistance in series (bandcalc.watched.stage_design folds it in the same way).
+    d = load_design(DEMO_DIR / "solar_battery_disconnect.json")
+    a, c = analyze(d), transfer_curve(d)
+    assert c.signal[0] < 0 and c.signal[-1] > 16 * 62 / 302
+    assert (c.upper, c.lower) == pytest.approx((a.upper, a.lower), rel=1e-12)
+    folded = transfer_curve(stage_design(d))
+    assert (folded.upper, folded.lower) == pytest.approx((c.upper, c.lower), rel=1e-12)
+    x = 0.5 * (c.upper + c.lower)
+    for branch in ("rising", "falling"):
+        assert c.level_at(branch, x) == pytest.approx(folded.level_at(branch, x), rel=1e-12)
+    assert (c.unit, c.watched) == ("V", False)
+
+
+def test_against_the_watched_quantity():
+    d = load_design(DEMO_DIR / "solar_battery_disconnect.json")
+    a, c = analyze(d), transfer_curve(d, watched=True)
+    assert (c.unit, c.watched) == ("V", True)
+    assert (c.upper, c.lower) == pytest.approx((a.upper_watched, a.lower_watched), rel=1e-12)
+    assert c.signal[0] < 0 and c.signal[-1] > 16  # the watched range, front_end.low / high
+    # Each watched point maps to the stage's point through the divider ratio 62 / 302.
+    assert c.upper * 62 / 302 == pytest.approx(a.upper, rel=1e-9)
+    with pytest.raises(ValueError, match="watched: this design has no front end"):
+        transfer_curve(load_design(DEMO_DIR / "sump_level_switch.json"), watched=True)
+
+
+def test_a_thermistor_at_the_bottom_switches_the_other_way_round():
+    # Greenhouse demo: NTC at the bottom, inverting stage.  As it warms the stage's input falls, so
+    # the warming branch starts where the stage has switched (output low: fan off) and turns the
+    # fan on (output high) at the upper watched point; the stage's own curve is the usual one.
+    d = load_design(DEMO_DIR / "greenhouse_fan_thermostat.json")
+    a = analyze(d)
+    warm = transfer_curve(d, watched=True)
+    assert warm.unit == "C" and warm.start_state == "low"
+    assert (warm.upper, warm.lower) == pytest.approx((a.upper_watched, a.lower_watched), rel=1e-9)
+    assert warm.level_at("rising", 20.0) == pytest.approx(a.output_low, abs=1e-9)
+    assert warm.level_at("rising", 40.0) == pytest.approx(a.output_high, abs=1e-9)
+    assert warm.level_at("falling", 0.5 * (warm.upper + warm.lower)) == pytest.approx(a.output_high, abs=1e-9)
+    stage = transfer_curve(d)
+    assert stage.start_state == "high"
+    assert (stage.upper, stage.lower) == pytest.approx((a.upper, a.lower), rel=1e-9)
 
 
 def test_bad_arguments_are_named():

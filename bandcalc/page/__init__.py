@@ -3,13 +3,16 @@
 Importing this package imports nothing; its modules import Streamlit where they draw.
 
 - ``address``: the design in the page address (pure functions, no Streamlit)
-- ``edit``: pure edits of a design made by the controls (no Streamlit)
+- ``edit``: pure edits of a design made by the controls, front ends included (no Streamlit)
+- ``tolerance_edit``: pure edits of the design's tolerances section (no Streamlit)
 - ``state``: the current design in the session, messages, and the page address
 - ``compute``: cached, guarded calls into the package
-- ``inputs``: the resistor control (slider + typed value) and the quantity field
-- ``controls``: the sidebar that edits the stage
+- ``inputs``: the resistor control (slider + typed value), typed values in any unit, selections
+- ``controls``: the sidebar that edits the stage and its front end
 - ``design_file``: demo designs, open and save a design file
 - ``results``: what is always in view: figures, findings, transfer curve, schematic
+- ``names``: names of parts and varied quantities for people
+- ``runs``: results of the runs started by a button, kept per design and settings
 - ``panels``: one module per panel below the live view; add yours to ``panels.PANELS``
 - ``sheet``: puts the page together; ``app.py`` calls :func:`sheet.main`
 """

@@ -47,14 +47,15 @@ def analysis_of(design: Design) -> Analysis:
 
 
 @st.cache_data(max_entries=256, show_spinner=False, hash_funcs=_BY_JSON)
-def _transfer_spec(design: Design) -> dict:
-    return transfer_spec(transfer_curve(design))
+def _transfer_spec(design: Design, watched: bool, x_title: str | None) -> dict:
+    return transfer_spec(transfer_curve(design, watched=watched), x_title=x_title)
 
 
-def transfer_figure_of(design: Design) -> go.Figure:
-    """The transfer-curve figure; its specification is checked against Plotly's schema in the tests,
-    so the page skips that check (it would cost most of a slider move's time)."""
-    return as_figure(_transfer_spec(design), validate=False)
+def transfer_figure_of(design: Design, watched: bool = False, x_title: str | None = None) -> go.Figure:
+    """The transfer-curve figure (against the watched quantity where ``watched``); its specification
+    is checked against Plotly's schema in the tests, so the page skips that check (it would cost
+    most of a slider move's time)."""
+    return as_figure(_transfer_spec(design, watched, x_title), validate=False)
 
 
 @st.cache_data(max_entries=256, show_spinner=False, hash_funcs=_BY_JSON)

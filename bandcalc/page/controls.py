@@ -7,24 +7,34 @@ callbacks (:mod:`bandcalc.page.state`), so the design stays the single source of
 from __future__ import annotations
 
 from collections.abc import Callable, Sequence
-from typing import Any
 
 import streamlit as st
 
 from ..design import LEG_KEYS, STAGES, Design, OpenDrain
 from ..eseries import SERIES
+from ..frontend import POSITIONS, THERMISTOR_RANGE, ThermistorFrontEnd
 from . import state
 from .edit import (
+    EXCITATION_KINDS,
+    FRONT_END_KINDS,
     OUTPUT_KINDS,
     STARTING_OHMS,
+    THERMISTOR_MODELS,
+    excitation_kind,
+    front_end_kind,
     reference_kind,
+    thermistor_model,
+    value_at,
+    with_excitation,
+    with_front_end,
     with_legs,
     with_output,
     with_reference,
     with_stage,
+    with_thermistor_model,
     with_value,
 )
-from .inputs import quantity_field, resistor_control
+from .inputs import choice_control, quantity_field, resistor_control
 
 __all__ = ["SECTION_PREFIX", "SERIES_KEY", "render_controls"]
 
@@ -36,22 +46,17 @@ _LEG_NAMES = {"to_positive": "the positive rail", "to_negative": "the negative r
               "to_ground": "ground", "to_reference": "the reference"}
 _REFERENCE_NAMES = {"none": "None", "fixed": "Fixed voltage", "divider": "Divider across the rails"}
 _OUTPUT_NAMES = {"push-pull": "Push-pull", "open-drain": "Open-drain / open-collector"}
-
-
-def _chosen(key: str, change: Callable[[Design, Any], Design], label: str) -> None:
-    state.edit(lambda d: change(d, st.session_state[key]), label)
-
-
-def _choice(widget: Callable[..., Any], label: str, key: str, current: Any,
-            change: Callable[[Design, Any], Design], **kwargs: Any) -> None:
-    """A selection widget whose value comes from the design and whose change edits it."""
-    key = state.INPUT_PREFIX + key
-    st.session_state.setdefault(key, current)
-    widget(label, key=key, on_change=_chosen, args=(key, change, label), **kwargs)
+_FRONT_END_NAMES = {"none": "Nothing: the signal drives the stage", "divider": "Sense divider from a voltage",
+                    "thermistor": "NTC thermistor divider", "linear": "Sensor with a linear output"}
+_MODEL_NAMES = {"beta": "Beta", "steinhart_hart": "Steinhart-Hart"}
+_POSITION_NAMES = {"bottom": "To ground (input falls as it warms)",
+                   "top": "From the excitation (input rises as it warms)"}
+_EXCITATION_NAMES = {"positive": "Positive rail", "reference": "Fixed reference",
+                     "volts": "A voltage of its own"}
 
 
 def _stage_and_supply(design: Design) -> None:
-    _choice(st.radio, "Stage", "stage", design.stage, with_stage, options=STAGES,
+    choice_control(st.radio, "Stage", "stage", design.stage, with_stage, options=STAGES,
             format_func=_STAGE_NAMES.get)
     quantity_field("Positive rail", "supply.positive", design, "V")
     quantity_field("Negative rail", "supply.negative", design, "V", help="0 V for a single supply")
@@ -69,14 +74,14 @@ def _resistors(design: Design, series: str) -> None:
     resistor_control("Feedback resistor", "resistors.feedback", design, series,
                      help="From the output back to the + pin")
     if design.inverting:
-        _choice(st.toggle, "Input resistor in series with the − pin", "resistors.input.fitted",
+        choice_control(st.toggle, "Input resistor in series with the − pin", "resistors.input.fitted",
                 design.resistors.input is not None, _input_fitted)
     if design.resistors.input is not None:
         resistor_control("Input resistor", "resistors.input", design, series,
                          help="From the signal to the + pin" if not design.inverting
                          else "From the signal to the − pin")
     fitted = [k for k in LEG_KEYS if getattr(design.resistors, k) is not None]
-    _choice(st.multiselect, "Resistors from the + pin to…", "resistors.legs", fitted, _fitted_legs,
+    choice_control(st.multiselect, "Resistors from the + pin to…", "resistors.legs", fitted, _fitted_legs,
             options=LEG_KEYS, format_func=_LEG_NAMES.get)
     for key in fitted:
         resistor_control(f"Resistor to {_LEG_NAMES[key]}", f"resistors.{key}", design, series)
@@ -84,7 +89,7 @@ def _resistors(design: Design, series: str) -> None:
 
 def _reference(design: Design, series: str) -> None:
     kinds = ("fixed", "divider") if not design.inverting else ("none", "fixed", "divider")
-    _choice(st.radio, "Reference", "reference.kind", reference_kind(design), with_reference,
+    choice_control(st.radio, "Reference", "reference.kind", reference_kind(design), with_reference,
             options=kinds, format_func=_REFERENCE_NAMES.get, horizontal=True,
             help="On the − pin of a non-inverting stage; reached through the resistor to the reference")
     kind = reference_kind(design)
@@ -98,7 +103,7 @@ def _reference(design: Design, series: str) -> None:
 
 
 def _output(design: Design, series: str) -> None:
-    _choice(st.radio, "Output stage", "output.kind", design.output.kind, with_output,
+    choice_control(st.radio, "Output stage", "output.kind", design.output.kind, with_output,
             options=OUTPUT_KINDS, format_func=_OUTPUT_NAMES.get, horizontal=True)
     if isinstance(design.output, OpenDrain):
         resistor_control("Pull-up resistor", "output.pullup", design, series)
@@ -126,12 +131,84 @@ def _comparator(design: Design) -> None:
 
 
 def _source(design: Design) -> None:
+    if design.front_end is not None:
+        quantity_field("Resistance between the front end and the stage", "source.resistance", design, "Ohm",
+                       help="A protection or filter resistor; the front end's own resistance is added to it")
+        st.caption("With a front end, its watched range sets the signal's range (Front end section).")
+        return
     quantity_field("Source resistance", "source.resistance", design, "Ohm",
                    help="In series with the signal (sensor or divider output resistance)")
     quantity_field("Lowest signal", "source.low", design, "V", optional=True,
                    blank="blank: the negative rail")
     quantity_field("Highest signal", "source.high", design, "V", optional=True,
                    blank="blank: the positive rail")
+
+
+def _unit_entered(key: str) -> None:
+    old = value_at(state.current_design(), "front_end.unit")
+    if not state.edit(lambda d: with_value(d, "front_end.unit", st.session_state[key].strip()),
+                      "Watched unit", "front_end.unit", kept=repr(old)):
+        st.session_state[key] = old
+
+
+def _watched_range(design: Design, unit: str, low: str, high: str) -> None:
+    for label, key, default in (("Lowest", "low", low), ("Highest", "high", high)):
+        quantity_field(f"{label} watched value", f"front_end.{key}", design, unit, optional=True,
+                       blank=f"blank: {default}")
+
+
+def _thermistor(design: Design, fe: ThermistorFrontEnd, series: str) -> None:
+    choice_control(st.radio, "Thermistor described by", "front_end.model", thermistor_model(design),
+            with_thermistor_model, options=THERMISTOR_MODELS, format_func=_MODEL_NAMES.get, horizontal=True)
+    if fe.steinhart_hart is None:
+        quantity_field("Resistance at 25 C", "front_end.r25", design, "Ohm")
+        quantity_field("Beta", "front_end.beta", design, "K", help="R = R25 exp(B (1/T − 1/298.15 K))")
+        quantity_field("Beta tolerance", "front_end.beta_tolerance", design, "%", optional=True,
+                       blank="blank: exact")
+    else:
+        for i, name in enumerate("ABC"):
+            quantity_field(f"Coefficient {name}", f"front_end.steinhart_hart[{i}]", design, "",
+                           help="1/T = A + B ln R + C (ln R)³, T in kelvin, R in ohms")
+    quantity_field("Resistance tolerance at 25 C", "front_end.r25_tolerance", design, "%", optional=True,
+                   blank="blank: exact")
+    resistor_control("Fixed resistor", "front_end.fixed", design, series,
+                     help="The other half of the thermistor's divider")
+    choice_control(st.radio, "Thermistor connects the node", "front_end.position", fe.position,
+            lambda d, v: with_value(d, "front_end.position", v), options=POSITIONS,
+            format_func=_POSITION_NAMES.get)
+    choice_control(st.radio, "Divider fed from", "front_end.excitation.kind", excitation_kind(design),
+            with_excitation, options=EXCITATION_KINDS, format_func=_EXCITATION_NAMES.get, horizontal=True)
+    if excitation_kind(design) == "volts":
+        quantity_field("Excitation voltage", "front_end.excitation", design, "V")
+    quantity_field("Dissipation constant", "front_end.dissipation_constant", design, "W/K",
+                   help="Self-heating: the part's own figure from its data sheet (1.5 mW/K if not given)")
+    _watched_range(design, "C", *(f"{t:g} C" for t in THERMISTOR_RANGE))
+
+
+def _front_end(design: Design, series: str) -> None:
+    choice_control(st.radio, "Ahead of the stage", "front_end.kind", front_end_kind(design), with_front_end,
+            options=FRONT_END_KINDS, format_func=_FRONT_END_NAMES.get,
+            help="The switching points are then also shown in the quantity you watch")
+    fe = design.front_end
+    if fe is None:
+        return
+    if fe.kind == "divider":
+        resistor_control("Sense divider, upper resistor (Rd1)", "front_end.top", design, series,
+                         help="From the watched voltage to the stage's input")
+        resistor_control("Sense divider, lower resistor (Rd2)", "front_end.bottom", design, series,
+                         help="From the stage's input to ground")
+        _watched_range(design, "V", "what maps to the negative rail", "what maps to the positive rail")
+    elif isinstance(fe, ThermistorFrontEnd):
+        _thermistor(design, fe, series)
+    else:
+        key = state.INPUT_PREFIX + "front_end.unit"
+        st.session_state.setdefault(key, fe.unit)
+        st.text_input("Watched unit", key=key, on_change=_unit_entered, args=(key,),
+                      help="The sensor's quantity: C, kPa, %RH, ...")
+        quantity_field(f"Output per {fe.unit}", "front_end.volts_per_unit", design, "V")
+        quantity_field(f"Output at 0 {fe.unit}", "front_end.offset", design, "V")
+        quantity_field("Sensor output resistance", "front_end.resistance", design, "Ohm")
+        _watched_range(design, fe.unit, "what maps to the negative rail", "what maps to the positive rail")
 
 
 def render_controls(design: Design) -> None:
@@ -146,6 +223,7 @@ def render_controls(design: Design) -> None:
         ("output", "Output stage", False, lambda: _output(design, series)),
         ("comparator", "Comparator", False, lambda: _comparator(design)),
         ("source", "Signal source", False, lambda: _source(design)),
+        ("front_end", "Front end: divider or sensor", False, lambda: _front_end(design, series)),
     )
     # Only open sections draw their controls: fewer widgets make each slider move faster, and
     # a control drawn again starts from the design, so nothing is lost while a section is shut.

@@ -2,29 +2,27 @@
 
 from __future__ import annotations
 
-import logging
 import re
 
 import streamlit as st
 
-from ..design import Design, design_from_json, design_to_json
+from ..design import Design, DesignError, design_from_json, design_to_json
 from . import state
 from .demos import demo_designs
 from .edit import with_value
 
 __all__ = ["MAX_UPLOAD_MB", "file_name", "render_design_file"]
 
-log = logging.getLogger("bandcalc.page")
 # A design file is well under a kilobyte; 1 MB is plenty (server.maxUploadSize caps all uploads).
 MAX_UPLOAD_MB = 1
 _DEMO_KEY = "page.demo"
 _UPLOAD_KEY = "page.upload"
 
 
-def file_name(design: Design) -> str:
+def file_name(design: Design, suffix: str = ".json") -> str:
     """A file name from the design's name: "Sump level switch" -> "sump-level-switch.json"."""
     slug = re.sub(r"[^a-z0-9]+", "-", design.name.lower()).strip("-")
-    return f"{slug or 'design'}.json"
+    return f"{slug or 'design'}{suffix}"
 
 
 def _demo_chosen() -> None:
@@ -35,21 +33,20 @@ def _demo_chosen() -> None:
         st.session_state[_DEMO_KEY] = None  # so the same demo can be chosen again to start over
 
 
+def _design_of(upload) -> Design:
+    try:
+        text = upload.getvalue().decode("utf-8")
+    except UnicodeDecodeError:
+        raise DesignError("not a UTF-8 text file") from None
+    return design_from_json(text, upload.name)
+
+
 def _opened() -> None:
     upload = st.session_state[_UPLOAD_KEY]
     if upload is None:
         return
-    try:
-        text = upload.getvalue().decode("utf-8")
-        design = design_from_json(text, upload.name)
-    except UnicodeDecodeError:
-        state.say("error", f"{upload.name}: not a UTF-8 text file. The current design is kept.")
-    except ValueError as exc:
-        state.say("error", f"{exc}. The current design is kept.")
-    except Exception:  # the page never shows a traceback
-        log.exception("opening %s failed", upload.name)
-        state.say("error", f"{upload.name}: could not be opened. The current design is kept.")
-    else:
+    design = state.read_upload(upload, _design_of, "The current design is kept.")
+    if design is not None:
         state.replace_design(design, f"Opened {upload.name}.")
 
 

@@ -9,6 +9,7 @@ input resistor and a reference), the edit fits a stated starting value.
 from __future__ import annotations
 
 import math
+import re
 from dataclasses import replace
 from typing import Any
 
@@ -23,20 +24,36 @@ from ..design import (
     PushPull,
 )
 from ..eseries import SERIES, nearest, series_values
+from ..frontend import (
+    KELVIN_AT_25C,
+    DividerFrontEnd,
+    LinearFrontEnd,
+    ThermistorFrontEnd,
+    steinhart_hart_resistance,
+)
 
 __all__ = [
     "DECADES_BELOW",
     "DECADES_ABOVE",
+    "EXCITATION_KINDS",
+    "FRONT_END_KINDS",
     "OUTPUT_KINDS",
     "REFERENCE_KINDS",
     "STARTING_OHMS",
+    "THERMISTOR_MODELS",
+    "excitation_kind",
+    "front_end_kind",
     "reference_kind",
     "slider_options",
+    "thermistor_model",
     "value_at",
+    "with_excitation",
+    "with_front_end",
     "with_legs",
     "with_output",
     "with_reference",
     "with_stage",
+    "with_thermistor_model",
     "with_value",
 ]
 
@@ -46,15 +63,35 @@ REFERENCE_KINDS = ("none", "fixed", "divider")
 OUTPUT_KINDS = ("push-pull", "open-drain")
 # The resistor sliders span the decade holding the value, one below and one above.
 DECADES_BELOW, DECADES_ABOVE = 1, 2
+FRONT_END_KINDS = ("none", "divider", "thermistor", "linear")
+THERMISTOR_MODELS = ("beta", "steinhart_hart")
+EXCITATION_KINDS = ("positive", "reference", "volts")
+# A Beta is commonly stated between 25 C and 50 C on NTC data sheets (B25/50, common practice).
+_BETA_FROM_KELVIN = KELVIN_AT_25C + 25.0
+_INDEXED = re.compile(r"^(?P<name>\w+)\[(?P<index>\d)\]$")
+
+
+def _part_and_name(design: Design, path: str) -> tuple[Any, str, int | None]:
+    """The section object, the field name and, for "name[i]", the index into a tuple field."""
+    section, _, name = path.partition(".")
+    part = getattr(design, section, None)
+    indexed = _INDEXED.match(name)
+    index = int(indexed["index"]) if indexed else None
+    name = indexed["name"] if indexed else name
+    if part is None or not name or not hasattr(part, name):
+        raise DesignError(f"{path}: not a value of this design")
+    value = getattr(part, name)
+    if index is not None and not (isinstance(value, tuple) and index < len(value)):
+        raise DesignError(f"{path}: not a value of this design")
+    return part, name, index
 
 
 def value_at(design: Design, path: str) -> Any:
-    """The value at a design-file path such as "resistors.feedback" or "reference.top"."""
-    section, _, name = path.partition(".")
-    part = getattr(design, section, None)
-    if part is None or not name or not hasattr(part, name):
-        raise DesignError(f"{path}: not a value of this design")
-    return getattr(part, name)
+    """The value at a design-file path such as "resistors.feedback", "reference.top" or
+    "front_end.steinhart_hart[1]" (one element of a list in the file)."""
+    part, name, index = _part_and_name(design, path)
+    value = getattr(part, name)
+    return value if index is None else value[index]
 
 
 def with_value(design: Design, path: str, value: Any) -> Design:
@@ -73,10 +110,12 @@ def with_value(design: Design, path: str, value: Any) -> Design:
         if not isinstance(value, str):
             raise DesignError(f"{path}: must be text")
         return replace(design, **{path: value})
-    value_at(design, path)  # raises for a path this design does not have
-    section, _, name = path.partition(".")
+    part, name, index = _part_and_name(design, path)  # raises for a path this design does not have
+    if index is not None:
+        value = tuple(value if i == index else v for i, v in enumerate(getattr(part, name)))
+    section = path.partition(".")[0]
     try:
-        return replace(design, **{section: replace(getattr(design, section), **{name: value})})
+        return replace(design, **{section: replace(part, **{name: value})})
     except TypeError as exc:
         raise DesignError(f"{path}: {exc}") from None
 
@@ -180,3 +219,88 @@ def slider_options(series: str, ohms: float) -> tuple[float, ...]:
     if ohms not in values:
         values = sorted([*values, float(ohms)])
     return tuple(values)
+
+
+def front_end_kind(design: Design) -> str:
+    """"none", "divider", "thermistor" or "linear"."""
+    return "none" if design.front_end is None else design.front_end.kind
+
+
+def with_front_end(design: Design, kind: str) -> Design:
+    """Put a front end of ``kind`` ahead of the stage ("none" takes it away).
+
+    The watched range then comes from the front end, so ``source.low`` / ``source.high`` are
+    cleared.  Starting values: a 100k / 100k sense divider (as other new parts, 100 kOhm); a
+    10 kOhm NTC with Beta 3950 K under a 10 kOhm fixed resistor from the positive rail (the
+    commonest probe, common practice); a sensor of 10 mV per degree Celsius (a common kind of
+    temperature sensor).  Change them to your parts.
+    """
+    if kind not in FRONT_END_KINDS:
+        raise DesignError(f"front_end.kind: {kind!r} is not a front-end kind; "
+                          f"allowed: {', '.join(FRONT_END_KINDS)}")
+    if kind == front_end_kind(design):
+        return design
+    source = replace(design.source, low=None, high=None)
+    if kind == "none":
+        return replace(design, front_end=None, source=source)
+    front_end = {
+        "divider": lambda: DividerFrontEnd(top=STARTING_OHMS, bottom=STARTING_OHMS),
+        "thermistor": lambda: ThermistorFrontEnd(fixed=10e3, r25=10e3, beta=3950.0),
+        "linear": lambda: LinearFrontEnd(volts_per_unit=0.01, unit="C"),
+    }[kind]()
+    return replace(design, front_end=front_end, source=source)
+
+
+def _thermistor(design: Design) -> ThermistorFrontEnd:
+    if not isinstance(design.front_end, ThermistorFrontEnd):
+        raise DesignError("front_end: this design has no thermistor front end")
+    return design.front_end
+
+
+def thermistor_model(design: Design) -> str:
+    """"beta" or "steinhart_hart"."""
+    return "beta" if _thermistor(design).steinhart_hart is None else "steinhart_hart"
+
+
+def with_thermistor_model(design: Design, model: str) -> Design:
+    """Describe the thermistor by Beta or by Steinhart-Hart coefficients, keeping its curve.
+
+    Beta to Steinhart-Hart is exact: A = 1/298.15 K - ln(R25)/B, B' = 1/B, C = 0.  Back to Beta
+    takes R25 and the Beta between 25 C and 50 C of the coefficients' curve (B25/50, as data
+    sheets commonly state it).  The Beta tolerance applies to the Beta model only.
+    """
+    if model not in THERMISTOR_MODELS:
+        raise DesignError(f"front_end: {model!r} is not a thermistor model; "
+                          f"allowed: {', '.join(THERMISTOR_MODELS)}")
+    fe = _thermistor(design)
+    if model == thermistor_model(design):
+        return design
+    if model == "steinhart_hart":
+        beta, r25 = float(fe.beta), float(fe.r25)  # type: ignore[arg-type]
+        coefficients = (1.0 / KELVIN_AT_25C - math.log(r25) / beta, 1.0 / beta, 0.0)
+        new = replace(fe, r25=None, beta=None, beta_tolerance=None, steinhart_hart=coefficients)
+    else:
+        assert fe.steinhart_hart is not None
+        r25 = fe.nominal_r25
+        r50 = float(steinhart_hart_resistance(fe.steinhart_hart, _BETA_FROM_KELVIN))
+        beta = math.log(r25 / r50) / (1.0 / KELVIN_AT_25C - 1.0 / _BETA_FROM_KELVIN)
+        new = replace(fe, steinhart_hart=None, r25=r25, beta=beta)
+    return replace(design, front_end=new)
+
+
+def excitation_kind(design: Design) -> str:
+    """How the thermistor divider is fed: "positive" (rail), "reference" or "volts" (its own)."""
+    excitation = _thermistor(design).excitation
+    return excitation if isinstance(excitation, str) else "volts"
+
+
+def with_excitation(design: Design, kind: str) -> Design:
+    """Feed the thermistor divider from the positive rail, the fixed reference, or a voltage of
+    its own (starting at the positive rail's)."""
+    if kind not in EXCITATION_KINDS:
+        raise DesignError(f"front_end.excitation: {kind!r} is not allowed; "
+                          f"allowed: {', '.join(EXCITATION_KINDS)}")
+    if kind == excitation_kind(design):
+        return design
+    value: str | float = design.supply.positive if kind == "volts" else kind
+    return replace(design, front_end=replace(_thermistor(design), excitation=value))

@@ -4,7 +4,9 @@
   decades around the part's value, and a box to type an exact value in either notation
   ("4k7" or "4.7k").  A typed value that is not in the series is kept exactly and shown.
 - :func:`quantity_field`: a box for a voltage, current, time, capacitance or resistance that is
-  not a standard part, read with SI prefixes ("2 mV", "100n", "-12").
+  not a standard part, read with SI prefixes ("2 mV", "100n", "-12"), or a value in another unit
+  (degrees C, kelvin, ppm/K, percent, a sensor's own unit), read as a number with the unit optional.
+- :func:`choice_control`: a radio, toggle or select whose value comes from the design.
 
 Each control is keyed by its design-file path (``in.<path>.slider``, ``in.<path>.text``,
 ``in.<path>``) and edits the design through :func:`bandcalc.page.state.edit`.
@@ -12,24 +14,82 @@ Each control is keyed by its design-file path (``in.<path>.slider``, ``in.<path>
 
 from __future__ import annotations
 
+from collections.abc import Callable
+from typing import Any
+
 import streamlit as st
 
 from ..design import Design
 from ..eseries import series_values
-from ..units import format_code, format_si, parse_quantity, parse_resistance
+from ..units import (
+    SI_UNITS,
+    UnitError,
+    format_code,
+    format_si,
+    format_value,
+    parse_quantity,
+    parse_resistance,
+)
 from . import state
 from .edit import slider_options, value_at, with_value
 
-__all__ = ["quantity_field", "resistor_control", "shown"]
+__all__ = ["PREFIXED_UNITS", "choice_control", "quantity_field", "read_value", "resistor_control", "shown",
+           "value_field"]
+
+#: Units written with SI prefixes in the boxes ("10 mV", "1.5 mW/K"); others as plain figures.
+PREFIXED_UNITS = (*SI_UNITS, "W/K", "V/K")
 
 
 def shown(value: float | None, unit: str) -> str:
-    """A value as the page writes it in a box: ohms in the IEC 60062 code, others with SI prefixes."""
+    """A value as the page writes it in a box: ohms in the IEC 60062 code, volts and the like with
+    SI prefixes, other units as plain figures ("25 C", "3950 K"), bare numbers to 7 digits."""
     if value is None:
         return ""
     if unit == "Ohm":
         return format_code(value, 4) if value > 0 else "0"
-    return format_si(value, unit, 6)
+    if not unit:
+        return f"{value:.7g}"
+    return format_si(value, unit, 6) if unit in PREFIXED_UNITS else format_value(value, unit, 6)
+
+
+def read_value(text: str, unit: str, what: str) -> float:
+    """Read a typed value in ``unit``: ohms in either notation, SI units with prefixes, other units
+    as a number (SI prefixes allowed) with the unit itself optional ("25", "25 C", "100 ppm/K").
+
+    Raises
+    ------
+    UnitError
+        Naming ``what`` and the text.
+    """
+    if unit == "Ohm":
+        return parse_resistance(text, what)
+    if unit in SI_UNITS:
+        return parse_quantity(text, unit, what)
+    body = str(text).strip()
+    for suffix in (f"°{unit}", unit):
+        if unit and body.endswith(suffix):
+            body = body[:-len(suffix)]
+            break
+    try:
+        return parse_quantity(body, "", what)
+    except UnitError:
+        raise UnitError(f"{what}: cannot read {text!r}; write a number{f' in {unit}' if unit else ''}, "
+                        f"optionally with an SI prefix (e.g. 2.5, 50m, 1.5k)") from None
+
+
+def _chosen(key: str, change: Callable[[Design, Any], Design], label: str, controls: str) -> None:
+    state.edit(lambda d: change(d, st.session_state[key]), label, controls=controls)
+
+
+def choice_control(widget: Callable[..., Any], label: str, key: str, current: Any,
+                   change: Callable[[Design, Any], Design], *, controls: str = state.INPUT_PREFIX,
+                   **kwargs: Any) -> None:
+    """A selection widget (``st.radio``, ``st.toggle``, ...) whose value comes from the design and
+    whose change edits it through ``change(design, value)``; keyed ``in.<key>``.  ``controls``:
+    the controls that start again after the change (see :func:`bandcalc.page.state.replace_design`)."""
+    key = state.INPUT_PREFIX + key
+    st.session_state.setdefault(key, current)
+    widget(label, key=key, on_change=_chosen, args=(key, change, label, controls), **kwargs)
 
 
 def _slid(path: str, label: str, key: str) -> None:
@@ -62,33 +122,47 @@ def resistor_control(label: str, path: str, design: Design, series: str, help: s
         st.caption(f"{format_code(ohms, 4)} is not an {series} value; it is kept exactly as typed.")
 
 
-def _entered(path: str, label: str, unit: str, key: str, optional: bool) -> None:
-    old = value_at(state.current_design(), path)
+def _entered(key: str, label: str, where: str, unit: str, optional: bool,
+             get: Callable[[Design], float | None], change: Callable[[Design, float | None], Design],
+             controls: str) -> None:
+    old = get(state.current_design())
     text = str(st.session_state[key]).strip()
-    what = f"{label} ({path})"
+    what = f"{label} ({where})"
     try:
         if not text:
             if not optional:
                 raise ValueError(f"{what}: needs a value")
             value = None
-        elif unit == "Ohm":
-            value = parse_resistance(text, what)
         else:
-            value = parse_quantity(text, unit, what)
+            value = read_value(text, unit, what)
     except ValueError as exc:
         state.say("error", f"{exc}. The design keeps {shown(old, unit) or 'no value'}.")
         st.session_state[key] = shown(old, unit)
         return
-    if not state.edit(lambda d: with_value(d, path, value), label, path, kept=shown(old, unit) or "no value"):
+    if not state.edit(lambda d: change(d, value), label, where, kept=shown(old, unit) or "no value",
+                      controls=controls):
         st.session_state[key] = shown(old, unit)
+
+
+def value_field(label: str, key: str, design: Design, unit: str, get: Callable[[Design], float | None],
+                change: Callable[[Design, float | None], Design], *, where: str, optional: bool = False,
+                blank: str = "", help: str | None = None, controls: str = state.INPUT_PREFIX) -> None:
+    """A typed value of the design read by ``get`` and written by ``change(design, value)``.
+
+    Keyed ``in.<key>``; ``where`` names the value in messages (its design-file path).  ``optional``
+    fields may be left blank (``None``; ``blank`` says what a blank means).  ``controls``: the
+    controls that start again after a change (see :func:`bandcalc.page.state.replace_design`).
+    """
+    key = f"{state.INPUT_PREFIX}{key}"
+    st.session_state.setdefault(key, shown(get(design), unit))
+    symbol = "Ω" if unit == "Ohm" else unit
+    st.text_input(f"{label} ({symbol})" if symbol else label, key=key, placeholder=blank or None, help=help,
+                  on_change=_entered, args=(key, label, where, unit, optional, get, change, controls))
 
 
 def quantity_field(label: str, path: str, design: Design, unit: str, *, optional: bool = False,
                    blank: str = "", help: str | None = None) -> None:
     """A typed value with SI prefixes for ``path``; ``optional`` fields may be left blank (``blank`` says
     what a blank means)."""
-    key = f"{state.INPUT_PREFIX}{path}"
-    st.session_state.setdefault(key, shown(value_at(design, path), unit))
-    symbol = "Ω" if unit == "Ohm" else unit
-    st.text_input(f"{label} ({symbol})", key=key, placeholder=blank or None, help=help,
-                  on_change=_entered, args=(path, label, unit, key, optional))
+    value_field(label, path, design, unit, lambda d: value_at(d, path), lambda d, v: with_value(d, path, v),
+                where=path, optional=optional, blank=blank, help=help)

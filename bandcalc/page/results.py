@@ -1,5 +1,10 @@
 """What is always in view: the switching-point figures, findings and cautions, the transfer curve
-and the schematic of the current stage."""
+and the schematic of the current stage.
+
+With a front end the switching points, hysteresis and centre are shown in the watched quantity
+(battery volts, degrees C, ...) with the stage's own input volts beneath each, and the transfer
+curve can be drawn against either.
+"""
 
 from __future__ import annotations
 
@@ -7,10 +12,14 @@ import streamlit as st
 
 from ..analysis import Analysis
 from ..design import Design
-from ..units import format_si
+from ..frontend import ThermistorFrontEnd
+from ..units import format_si, format_value
 from .compute import analysis_of, guarded, schematic_of, transfer_figure_of
 
-__all__ = ["FIGURES", "render_figures", "render_results", "render_views"]
+__all__ = ["AXIS_KEY", "FIGURES", "figure_texts", "render_figures", "render_results", "render_views",
+           "watched_name"]
+
+AXIS_KEY = "page.transfer.axis"
 
 # (label on the page, attribute of Analysis, what it means)
 FIGURES = (
@@ -23,10 +32,53 @@ FIGURES = (
 )
 
 
+_WATCHED_MEANING = {
+    "upper": "Value of the watched quantity at which, rising, it switches the output",
+    "lower": "Value of the watched quantity at which, falling, it switches the output back",
+    "hysteresis": "Upper minus lower switching point, in the watched quantity",
+    "centre": "Halfway between the switching points, in the watched quantity",
+}
+
+
+def watched_name(design: Design) -> str:
+    """What the front end watches, for axis titles: "Temperature", "Watched voltage", ..."""
+    if isinstance(design.front_end, ThermistorFrontEnd):
+        return "Temperature"
+    return "Watched voltage" if design.front_end is not None and design.front_end.unit == "V" \
+        else "Watched quantity"
+
+
+def figure_texts(analysis: Analysis) -> list[tuple[str, str, str | None, str]]:
+    """(label, value shown, the stage's volts beneath it or None, meaning) for each figure."""
+    a, w = analysis, analysis.watched
+    out = []
+    for label, attr, meaning in FIGURES:
+        volts = format_si(getattr(a, attr), "V", 4)
+        if w is None or attr.startswith("output"):
+            out.append((label, volts, None, meaning))
+            continue
+        value = {"upper": w.upper, "lower": w.lower, "hysteresis": w.hysteresis, "centre": w.centre}[attr]
+        # Where the stage's input falls as the watched quantity rises (a thermistor at the bottom),
+        # the watched upper point is where the stage reaches its lower point, and the other way round.
+        stage = {"upper": a.upper if w.rises else a.lower, "lower": a.lower if w.rises else a.upper}.get(
+            attr, getattr(a, attr))
+        out.append((label, format_value(float(value), w.unit, 4), f"{format_si(stage, 'V', 4)} at the stage",
+                    _WATCHED_MEANING[attr]))
+    return out
+
+
 def render_figures(analysis: Analysis) -> None:
     """The six figures, then the findings and cautions."""
-    for column, (label, attr, meaning) in zip(st.columns(len(FIGURES)), FIGURES, strict=True):
-        column.metric(label, format_si(getattr(analysis, attr), "V", 4), help=meaning)
+    texts = figure_texts(analysis)
+    for column, (label, value, stage, meaning) in zip(st.columns(len(texts)), texts, strict=True):
+        column.metric(label, value, help=meaning)
+        if stage:
+            column.caption(stage)
+    if analysis.watched is not None:
+        w, unit = analysis.watched, analysis.watched_unit
+        st.caption(f"Switching points in the watched quantity ({unit}), through the front end; beneath "
+                   f"each, the stage's input in volts. The output turns {analysis.watched_rising_output} "
+                   f"as the watched quantity rises through {format_value(float(w.upper), unit, 4)}.")
     for line in analysis.cautions:
         st.error(line, icon=":material/warning:")
     for line in analysis.findings:
@@ -35,11 +87,24 @@ def render_figures(analysis: Analysis) -> None:
         st.caption("No findings: both points are reachable, inside the rails and the given ranges.")
 
 
+def _axis(design: Design) -> tuple[bool, str | None]:
+    """With a front end, a choice of axis for the transfer curve: (watched, axis title)."""
+    if design.front_end is None:
+        return False, None
+    unit = design.front_end.unit
+    names = {"watched": f"{watched_name(design)} ({unit})", "stage": "Stage input, open-circuit (V)"}
+    st.session_state.setdefault(AXIS_KEY, "watched")
+    choice = st.radio("Plot against", tuple(names), key=AXIS_KEY, format_func=names.get, horizontal=True,
+                      label_visibility="collapsed")
+    return choice == "watched", names[choice]
+
+
 def render_views(design: Design) -> None:
     """Transfer curve and schematic side by side."""
     chart, drawing = st.columns([3, 2], gap="medium")
     with chart:
-        figure = guarded("Transfer curve", transfer_figure_of, design)
+        watched, x_title = _axis(design)
+        figure = guarded("Transfer curve", transfer_figure_of, design, watched, x_title)
         if figure is not None:
             st.plotly_chart(figure, key="transfer", config={"displaylogo": False})
     with drawing:

@@ -16,7 +16,6 @@ from .results import render_results
 __all__ = ["main"]
 
 log = logging.getLogger("bandcalc.page")
-_SHOW = {"error": st.error, "warning": st.warning, "info": st.info, "success": st.success}
 
 
 def main() -> None:
@@ -42,8 +41,7 @@ def _sheet() -> None:
         render_controls(design)
         st.caption(f"bandcalc {__version__}")
     st.title(design.name or "Comparator stage with hysteresis")
-    for kind, text in state.take_messages():
-        _SHOW[kind](text)
+    state.show_messages()
     analysis = render_results(design)
     if analysis is not None:
         render_panels(Sheet(design=design, analysis=analysis))

@@ -8,12 +8,18 @@ loaded file, a demo, a value from the address or a panel's suggestion all show u
 Change the design only in widget callbacks (``on_change``/``on_click``) with
 :func:`replace_design` or :func:`edit`, or from a panel's body with :func:`apply_design`,
 which reruns the whole page.
+
+A panel reruns on its own (a fragment) when its widgets change.  A panel control that edits the
+design passes ``controls=`` its own key prefix (``"in.tolerances."``), so that only the panel's
+controls start again: the widgets outside the panel are not redrawn in that rerun, and forgetting
+their state then would make Streamlit take them for changed on the next interaction.
 """
 
 from __future__ import annotations
 
 import logging
 from collections.abc import Callable
+from typing import Any, TypeVar
 
 import streamlit as st
 
@@ -27,13 +33,16 @@ __all__ = [
     "current_design",
     "edit",
     "explain",
+    "read_upload",
     "replace_design",
     "say",
+    "show_messages",
     "take_messages",
     "write_address",
 ]
 
 log = logging.getLogger("bandcalc.page")
+T = TypeVar("T")
 
 INPUT_PREFIX = "in."
 _DESIGN = "page.design"
@@ -51,6 +60,12 @@ def say(kind: str, text: str) -> None:
 def take_messages() -> list[tuple[str, str]]:
     """The queued messages, emptying the queue."""
     return st.session_state.pop(_MESSAGES, [])
+
+
+def show_messages() -> None:
+    """Show the queued messages here, emptying the queue (the page's top; a panel's own rerun)."""
+    for kind, text in take_messages():
+        getattr(st, kind)(text)
 
 
 def _starting_design() -> Design:
@@ -73,13 +88,15 @@ def current_design() -> Design:
     return st.session_state[_DESIGN]
 
 
-def replace_design(design: Design, note: str | None = None) -> None:
-    """Make ``design`` the page's design; every control starts again from it.
+def replace_design(design: Design, note: str | None = None, controls: str = INPUT_PREFIX) -> None:
+    """Make ``design`` the page's design; every control (keyed ``controls``...) starts again from it.
 
     Call from a widget callback (or before any control is drawn in this run).
     """
+    if not controls.startswith(INPUT_PREFIX):
+        raise ValueError(f"controls: {controls!r}; control keys start with {INPUT_PREFIX!r}")
     st.session_state[_DESIGN] = design
-    for key in [k for k in st.session_state if str(k).startswith(INPUT_PREFIX)]:
+    for key in [k for k in st.session_state if str(k).startswith(controls)]:
         del st.session_state[key]
     if note:
         say("success", note)
@@ -92,14 +109,15 @@ def apply_design(design: Design, note: str | None = None) -> None:
 
 
 def edit(change: Callable[[Design], Design], field: str, path: str | None = None,
-         kept: str | None = None) -> bool:
+         kept: str | None = None, controls: str = INPUT_PREFIX) -> bool:
     """Apply ``change`` to the current design; on bad input say so and keep the design.
 
     The message names ``field`` (the label the user sees) and, where given, the design-file
-    ``path`` and the value ``kept``.  Returns whether the design changed.
+    ``path`` and the value ``kept``.  ``controls``: see :func:`replace_design`.  Returns whether the
+    design changed.
     """
     try:
-        replace_design(change(current_design()))
+        replace_design(change(current_design()), controls=controls)
         return True
     except ValueError as exc:
         say("error", explain(exc, field, path) + (f". The design keeps {kept}." if kept else ""))
@@ -124,3 +142,17 @@ def write_address(design: Design) -> None:
     text = design_to_address(design)
     if st.query_params.get(PARAM) != text:
         st.query_params[PARAM] = text
+
+
+def read_upload(upload: Any, read: Callable[[Any], T], kept: str) -> T | None:
+    """``read(upload)`` of an uploaded file, or ``None`` after a message naming the file and the
+    problem and saying what is ``kept`` (never a traceback)."""
+    try:
+        return read(upload)
+    except ValueError as exc:
+        text = str(exc)
+        say("error", f"{text if text.startswith(upload.name) else f'{upload.name}: {text}'}. {kept}")
+    except Exception:  # the page never shows a traceback
+        log.exception("reading %s failed", upload.name)
+        say("error", f"{upload.name}: could not be read. {kept}")
+    return None

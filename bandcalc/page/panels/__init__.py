@@ -10,7 +10,10 @@ widget inside a panel reruns just that panel, and a slider move in the sidebar d
 closed panels at all.  Wrap expensive package calls in ``st.cache_data`` (keyed by the design and
 the panel's own settings) and guard them with :func:`bandcalc.page.compute.guarded`.  To change
 the design from a panel (say, apply a candidate), call
-:func:`bandcalc.page.state.apply_design` after a button press.
+:func:`bandcalc.page.state.apply_design` after a button press; a panel's own controls that edit
+the design (the spread panel's tolerances) use :func:`bandcalc.page.state.edit` in callbacks as
+the sidebar does, and the panel's rerun then shows their messages and writes the address.
+Results of long runs go to :mod:`bandcalc.page.runs`, where the summary finds them.
 """
 
 from __future__ import annotations
@@ -22,12 +25,13 @@ import streamlit as st
 
 from ...analysis import Analysis
 from ...design import Design
-from ..compute import guarded
-from . import currents, fit
+from .. import state
+from ..compute import analysis_of, guarded
+from . import currents, fit, signal_check, spread, summary
 
 __all__ = ["PANELS", "Sheet", "render_panels"]
 
-PANELS: tuple[ModuleType, ...] = (currents, fit)
+PANELS: tuple[ModuleType, ...] = (currents, fit, spread, signal_check, summary)
 _TAB_KEY = "page.panel"
 
 
@@ -41,7 +45,17 @@ class Sheet:
 
 @st.fragment
 def _panel(panel: ModuleType, sheet: Sheet) -> None:
+    design = state.current_design()
+    if design is not sheet.design:
+        # A rerun of the panel alone gets the arguments of the last full run: after the panel's own
+        # controls changed the design, work from the design as it is now.
+        analysis = guarded("Analysis", analysis_of, design)
+        if analysis is None:
+            return
+        sheet = Sheet(design=design, analysis=analysis)
+    state.show_messages()
     guarded(panel.TITLE, panel.render, sheet)
+    state.write_address(state.current_design())
 
 
 def render_panels(sheet: Sheet) -> None:

@@ -1,0 +1,145 @@
+"""Edits the spread panel makes to the design's ``tolerances`` section: pure functions, no Streamlit.
+
+Tolerances are part of the design, so an edit here lives in the page address and the saved file
+like any other.  Each edit returns a new design or raises a ``ValueError`` naming the key
+(``tolerances.supply``, ``tolerances.limits.upper``, ...) and what is allowed; the caller keeps the
+old design.  Units are those of the design file: percent, volts, amperes, degrees Celsius, ppm/K,
+V/K; windows in volts or, with a front end, in the watched quantity.
+"""
+
+from __future__ import annotations
+
+from dataclasses import replace
+
+from ..design import Design
+from ..tolerances import NOMINAL_CELSIUS, OTHER_RESISTORS, PerResistor, Tolerances, series_tolerance
+from ..watched import all_parameters
+
+__all__ = [
+    "PLAIN_KEYS",
+    "WINDOW_KEYS",
+    "resistor_rows",
+    "temperature_end",
+    "tolerance_value",
+    "tolerances_of",
+    "window_end",
+    "with_part_tolerance",
+    "with_temperature_end",
+    "with_tolerance",
+    "with_window_end",
+    "without_tolerances",
+]
+
+#: Keys holding one number; a blank (None) means 0 (exact), except ``resistors`` and
+#: ``resistor_tempco``, where it means "not given" (the series' tolerance, no coefficient).
+PLAIN_KEYS = ("resistors", "reference", "supply", "offset", "bias_current", "resistor_tempco",
+              "reference_drift", "offset_drift")
+WINDOW_KEYS = ("upper", "lower", "hysteresis")
+_PER_RESISTOR = ("resistors", "resistor_tempco")
+_ENDS = ("low", "high")
+
+
+def tolerances_of(design: Design) -> Tolerances:
+    """The design's tolerances section, or the empty one (series tolerances, everything else exact)."""
+    return design.tolerances if design.tolerances is not None else Tolerances()
+
+
+def _with(design: Design, **changes: object) -> Design:
+    return replace(design, tolerances=replace(tolerances_of(design), **changes))
+
+
+def without_tolerances(design: Design) -> Design:
+    """The design without a tolerances section."""
+    return replace(design, tolerances=None)
+
+
+def _key(key: str, allowed: tuple[str, ...]) -> None:
+    if key not in allowed:
+        raise ValueError(f"tolerances.{key}: unknown key; allowed: {', '.join(allowed)}")
+
+
+def tolerance_value(design: Design, key: str) -> float | None:
+    """A one-number entry: for ``resistors`` / ``resistor_tempco`` the value every resistor takes."""
+    _key(key, PLAIN_KEYS)
+    tol = tolerances_of(design)
+    return getattr(tol, key).default if key in _PER_RESISTOR else getattr(tol, key)
+
+
+def with_tolerance(design: Design, key: str, value: float | str | None) -> Design:
+    """Set a one-number entry (``PLAIN_KEYS``) or ``distribution``."""
+    if key == "distribution":
+        return _with(design, distribution=value)
+    _key(key, PLAIN_KEYS)
+    if key in _PER_RESISTOR:
+        return _with(design, **{key: replace(getattr(tolerances_of(design), key), default=value)})
+    return _with(design, **{key: 0.0 if value is None else value})
+
+
+def with_part_tolerance(design: Design, key: str, part: str, value: float | None) -> Design:
+    """Set ``resistors`` or ``resistor_tempco`` for one resistor (``None``: it takes the default)."""
+    _key(key, _PER_RESISTOR)
+    per = getattr(tolerances_of(design), key)
+    parts = {k: v for k, v in per.parts if k != part}
+    if value is not None:
+        parts[part] = value
+    return _with(design, **{key: PerResistor(default=per.default, parts=tuple(parts.items()))})
+
+
+def temperature_end(design: Design, end: str) -> float | None:
+    """The lowest ("low") or highest ("high") temperature, C; None without a range."""
+    _key(end, _ENDS)
+    span = tolerances_of(design).temperature
+    return None if span is None else span[_ENDS.index(end)]
+
+
+def with_temperature_end(design: Design, end: str, celsius: float | None) -> Design:
+    """Set one end of the temperature range; a blank end is 25 C (the parts' nominal temperature),
+    and where that leaves only 25 C there is no range."""
+    _key(end, _ENDS)
+    ends = [temperature_end(design, e) for e in _ENDS]
+    ends[_ENDS.index(end)] = celsius
+    filled = tuple(NOMINAL_CELSIUS if v is None else v for v in ends)
+    if filled == (NOMINAL_CELSIUS, NOMINAL_CELSIUS) and None in ends:  # nothing left but 25 C
+        return _with(design, temperature=None)
+    return _with(design, temperature=filled)
+
+
+def window_end(design: Design, quantity: str, end: str) -> float | None:
+    """One side of a window a build must meet; None where open."""
+    _key(quantity, WINDOW_KEYS)
+    _key(end, _ENDS)
+    window = getattr(tolerances_of(design).limits, quantity)
+    return None if window is None else window[_ENDS.index(end)]
+
+
+def with_window_end(design: Design, quantity: str, end: str, value: float | None) -> Design:
+    """Set one side of a window (None: open); with both sides open there is no window."""
+    _key(quantity, WINDOW_KEYS)
+    _key(end, _ENDS)
+    sides = [window_end(design, quantity, e) for e in _ENDS]
+    sides[_ENDS.index(end)] = value
+    window = None if sides == [None, None] else tuple(sides)
+    return _with(design, limits=replace(tolerances_of(design).limits, **{quantity: window}))
+
+
+def resistor_rows(design: Design) -> list[dict[str, object]]:
+    """Every resistor that can be varied: its tolerances-section name, value, the tolerance (percent)
+    and temperature coefficient (ppm/K) it takes, and whether each was given or is a default."""
+    tol = tolerances_of(design)
+    nominal = all_parameters(design)
+    keys = [k for k in nominal if k.startswith("resistors.")] + [k for k in OTHER_RESISTORS if k in nominal]
+    rows = []
+    for key in keys:
+        name = key.removeprefix("resistors.")
+        ohms = nominal[key]
+        given = dict(tol.resistors.parts).get(name)
+        percent = tol.resistors.get(name)
+        origin = "given for this resistor" if given is not None else "given for every resistor"
+        if percent is None:
+            percent, series = series_tolerance(ohms)
+            origin = f"usual for {series}" if series else "in no series: a precision part"
+        tempco = tol.resistor_tempco.get(name)
+        rows.append({"name": name, "ohms": ohms, "percent": percent, "origin": origin,
+                     "tempco": tempco or 0.0, "own_percent": given,
+                     "own_tempco": dict(tol.resistor_tempco.parts).get(name)})
+    return rows
