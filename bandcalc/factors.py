@@ -64,14 +64,18 @@ class Factor:
         """The factor's value for unit variable ``z`` (-1: low, 0: centre, +1: high)."""
         return self.centre + 0.5 * (self.high - self.low) * z
 
-    def draw(self, rng: np.random.Generator, n: int) -> np.ndarray:
-        """``n`` random values: normal with the bounds at +/-3 sigma, or uniform between the bounds."""
+    def draw(self, rng: np.random.Generator, n: int, out: np.ndarray | None = None) -> np.ndarray:
+        """``n`` random values: normal with the bounds at +/-3 sigma, or uniform between the bounds.
+
+        ``out`` (shape ``(n,)``) is filled instead of a new array; the numbers are the same.
+        """
+        x = np.empty(n) if out is None else out
         if self.distribution == "normal":
-            x = rng.standard_normal(n)
+            rng.standard_normal(out=x)
             x *= (self.high - self.low) / 6.0  # half the range is 3 sigma
             x += self.centre
         else:
-            x = rng.random(n)
+            rng.random(out=x)
             x *= self.high - self.low
             x += self.low
         return x

@@ -9,8 +9,8 @@ by Millman's theorem with the current drawn by the pin:
     V+ = (sum(V_k / R_k) - I_bias) / sum(1 / R_k)
 
 and the far node's own voltage follows from the leg current.  Because every node voltage is
-linear in the signal, each switching point is exact from two evaluations:
-V+ - V- = a * V_signal + b  gives  V_switch = (offset - b) / a.
+linear in the signal, one pass gives V+ - V- = a * V_signal + b (the signal leg enters Millman's
+sum as a slope, :func:`difference_line`), and V_switch = (offset - b) / a is exact.
 
 All parameters may be numpy arrays: they broadcast, so a million variants cost one call.
 Parameters are named by their design-file path ("resistors.feedback", "supply.positive", ...).
@@ -28,6 +28,7 @@ from .design import Design, DividerReference, FixedReference, OpenDrain
 __all__ = [
     "Nodes",
     "Points",
+    "difference_line",
     "node_voltages",
     "parameters",
     "switching_points",
@@ -120,9 +121,21 @@ class Nodes:
         return self.plus - self.minus
 
 
-def node_voltages(design: Design, p: Mapping[str, ArrayLike], signal: ArrayLike, state: str) -> Nodes:
-    """Solve the network for one output state ("high" or "low") at a signal's open-circuit voltage."""
-    ib = p["comparator.bias_current"]
+@dataclass(frozen=True)
+class _PlusNode:
+    """The + node of one output state, solved once: V+ = plus0 + slope x signal."""
+
+    plus0: ArrayLike  # V+ with the signal at 0 V
+    slope: ArrayLike  # dV+ / dV_signal: the signal leg's share of the node's conductance
+    v_ref: ArrayLike
+    r_ref: ArrayLike
+    v_drv: ArrayLike
+    r_drv: ArrayLike
+    signal_path: ArrayLike  # ohms from the signal's source to its pin
+
+
+def _plus_node(design: Design, p: Mapping[str, ArrayLike], state: str) -> _PlusNode:
+    """Millman at the + pin with every leg but the signal's value (which enters as the slope)."""
     v_ref, r_ref = _reference(design, p)
     v_drv, r_drv = _driver(design, p, state)
     legs: list[tuple[ArrayLike, ArrayLike]] = [(v_drv, r_drv + p["resistors.feedback"])]
@@ -130,21 +143,45 @@ def node_voltages(design: Design, p: Mapping[str, ArrayLike], signal: ArrayLike,
     for key, volts in fixed.items():
         if f"resistors.{key}" in p:
             legs.append((volts, p[f"resistors.{key}"]))
-    has_ref_leg = "resistors.to_reference" in p
-    if has_ref_leg:
+    if "resistors.to_reference" in p:
         legs.append((v_ref, r_ref + p["resistors.to_reference"]))
     signal_path = p["source.resistance"] + p.get("resistors.input", 0.0)
-    if not design.inverting:
-        legs.append((signal, signal_path))
-    total_g = sum(1.0 / r for _, r in legs)
-    plus = (sum(v / r for v, r in legs) - ib) / total_g
-    output = _far_node(v_drv, r_drv, plus, p["resistors.feedback"])
-    reference = _far_node(v_ref, r_ref, plus, p["resistors.to_reference"]) if has_ref_leg else v_ref
+    g_signal = 0.0 if design.inverting else 1.0 / signal_path
+    total_g = sum(1.0 / r for _, r in legs) + g_signal
+    plus0 = (sum(v / r for v, r in legs) - p["comparator.bias_current"]) / total_g
+    return _PlusNode(plus0, g_signal / total_g, v_ref, r_ref, v_drv, r_drv, signal_path)
+
+
+def _ref_share(p: Mapping[str, ArrayLike], n: _PlusNode) -> ArrayLike:
+    """How much of a change of V+ reaches the reference node through the to_reference leg."""
+    return n.r_ref / (n.r_ref + p["resistors.to_reference"]) if "resistors.to_reference" in p else 0.0
+
+
+def node_voltages(design: Design, p: Mapping[str, ArrayLike], signal: ArrayLike, state: str) -> Nodes:
+    """Solve the network for one output state ("high" or "low") at a signal's open-circuit voltage."""
+    n = _plus_node(design, p, state)
+    plus = n.plus0 + n.slope * signal
+    output = _far_node(n.v_drv, n.r_drv, plus, p["resistors.feedback"])
+    reference = n.v_ref + (plus - n.v_ref) * _ref_share(p, n)
     if design.inverting:
-        minus = signal - ib * signal_path
+        minus = signal - p["comparator.bias_current"] * n.signal_path
     else:
         minus = reference
     return Nodes(plus=plus, minus=minus, output=output, reference=reference)
+
+
+def difference_line(design: Design, p: Mapping[str, ArrayLike], state: str) -> tuple[ArrayLike, ArrayLike]:
+    """V+ - V- with the signal at 0 V, and its change per volt of signal, for one output state.
+
+    Every node voltage is linear in the signal, so these two numbers place the switching point;
+    one pass through the network gives both.
+    """
+    n = _plus_node(design, p, state)
+    if design.inverting:  # the signal drives the - pin directly
+        return n.plus0 + p["comparator.bias_current"] * n.signal_path, n.slope - 1.0
+    share = _ref_share(p, n)
+    minus0 = n.v_ref + (n.plus0 - n.v_ref) * share
+    return n.plus0 - minus0, n.slope * (1.0 - share)
 
 
 @dataclass(frozen=True)
@@ -170,8 +207,7 @@ class Points:
 
 
 def _crossing(design: Design, p: Mapping[str, ArrayLike], state: str) -> tuple[ArrayLike, Nodes]:
-    at_zero = node_voltages(design, p, 0.0, state).difference
-    slope = node_voltages(design, p, 1.0, state).difference - at_zero
+    at_zero, slope = difference_line(design, p, state)
     point = (p["comparator.offset"] - at_zero) / slope
     return point, node_voltages(design, p, point, state)
 

@@ -283,10 +283,12 @@ def _monte_carlo(model: VariedModel, samples: int, seed: int, progress: Callable
     # One generator per factor: the numbers do not depend on the block size.
     generators = np.random.default_rng(seed).spawn(len(model.factors))
     upper, lower = np.empty(samples), np.empty(samples)
+    buffers = {f.name: np.empty(min(CHUNK, samples)) for f in model.factors}  # reused by every block
     done = 0
     while done < samples:
         n = min(CHUNK, samples - done)
-        x = {f.name: f.draw(g, n) for f, g in zip(model.factors, generators, strict=True)}
+        x = {f.name: f.draw(g, n, buffers[f.name][:n])
+             for f, g in zip(model.factors, generators, strict=True)}
         values = model.evaluate(x, n)
         upper[done:done + n], lower[done:done + n] = values["upper"], values["lower"]
         done += n

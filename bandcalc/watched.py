@@ -6,11 +6,12 @@ Each front end (:mod:`bandcalc.frontend`) has a coordinate t in which its Theven
 resistance are both affine: the watched value itself for the divider and the linear sensor, and
 the divider fraction u = R_t / (R_t + R_fixed) for the thermistor (V_th = V_e u or V_e (1 - u),
 R_th = R_fixed u).  With a fixed resistance (divider, linear sensor) the stage's switching
-condition V+ - V- - offset is affine in t, so each point is exact from two evaluations, as in
-the stage model.  With the thermistor, whose Thevenin resistance moves with temperature, the
-condition is a bilinear (Moebius) function of u: every node voltage of a linear network is a
-ratio of two affine functions of any one element's value (the bilinear theorem of network
-functions), and here the signal and its series resistance move together along one line.  So
+condition V+ - V- - offset is affine in t, so each point is exact from the stage's own line
+(one pass, :func:`bandcalc.network.difference_line`).  With the thermistor, whose Thevenin
+resistance moves with temperature, the condition is a bilinear (Moebius) function of u: every
+node voltage of a linear network is a ratio of two affine functions of any one element's value
+(the bilinear theorem of network functions), and here the signal and its series resistance move
+together along one line.  So
 each point is exact from three evaluations of the one general solution
 (:func:`bandcalc.network.node_voltages`) at u = 0, 1/2 and 1, then mapped back to a temperature
 by the thermistor's model.  No iteration and no bracket (the tests check it against scipy's
@@ -46,7 +47,7 @@ import numpy as np
 
 from .design import Design, DesignError, Source
 from .frontend import DividerFrontEnd, FrontEnd, ThermistorFrontEnd
-from .network import node_voltages, parameters
+from .network import difference_line, node_voltages, parameters
 
 __all__ = [
     "StageTargets",
@@ -133,10 +134,15 @@ def _root(design: Design, fe: FrontEnd, p: Mapping[str, ArrayLike], state: str) 
 
     # As numpy values, so that a degenerate case (a residual that does not move) divides to inf
     # or NaN, "no watched value switches it", where Python floats would raise.
+    if fe.affine:  # a fixed source resistance: the stage's own straight line in the signal
+        v0, v1, r0, _ = fe.ends(p)
+        q["source.resistance"] = p["source.resistance"] + r0
+        at_zero, slope = difference_line(design, q, state)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            span = np.asarray(slope * (v1 - v0), dtype=float)  # 0 where the front end never moves
+            return (p["comparator.offset"] - at_zero - slope * v0) / span
     d0, d1 = np.asarray(residual(0.0), dtype=float), np.asarray(residual(1.0), dtype=float)
     with np.errstate(divide="ignore", invalid="ignore"):
-        if fe.affine:  # a fixed source resistance: two evaluations, as in the stage model
-            return -d0 / (d1 - d0)
         # d(t) = (d0 + b t) / (1 + c t) through three samples; the root is t = -d0 / b.
         dh = np.asarray(residual(0.5), dtype=float)
         c = (2.0 * dh - d0 - d1) / (d1 - dh)
