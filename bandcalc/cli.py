@@ -15,8 +15,6 @@ import textwrap
 from collections.abc import Callable, Sequence
 from pathlib import Path
 
-import numpy as np
-
 from . import __version__
 from .analysis import Analysis, analysis_to_dict, analyze
 from .design import Design, load_design
@@ -115,14 +113,11 @@ def _synthetic(args: argparse.Namespace, design: Design):
 
 
 def _signal_dict(run, sweep, unit: str) -> dict:
-    delays = run.edge_delays
-    finite = delays[np.isfinite(delays)] if delays is not None else np.array([])
     out = {
         "unit": unit, "upper": run.upper, "lower": run.lower, "edges": run.edge_count,
         "edge_times": run.edge_times.tolist(), "edge_directions": run.edge_directions.tolist(),
         "clean_edges": run.clean_edge_count, "extra_edges": run.extra_edges, "missed": run.missed_count,
-        "delay_mean": float(finite.mean()) if finite.size else None,
-        "delay_max": float(finite.max()) if finite.size else None,
+        "delay_mean": run.delay_mean, "delay_max": run.delay_max,
         "output_high_fraction": run.output_high_fraction,
         "noise_rms": run.noise.rms, "noise_peak_to_peak": run.noise.peak_to_peak,
         "findings": list(run.findings),

@@ -267,10 +267,6 @@ def _table(header: list[str], rows: list[list[str]]) -> list[str]:
 
 def _signal_section(run) -> list[str]:
     """Table and findings of a signal run (bandcalc.signal.SignalRun)."""
-    import numpy as np
-
-    delays = run.edge_delays
-    finite = delays[np.isfinite(delays)] if delays is not None else np.array([])
     t = lambda x: format_si(x, "s")  # noqa: E731
     clean = "not known (recorded signal)" if run.clean_edge_count is None else str(run.clean_edge_count)
     rows = [
@@ -278,7 +274,7 @@ def _signal_section(run) -> list[str]:
         ["Output edges", str(run.edge_count)],
         ["Edges of the noise-free signal", clean],
         ["Edge delay after the centre crossing, mean / max",
-         f"{t(finite.mean())} / {t(finite.max())}" if finite.size else "not known"],
+         "not known" if run.delay_mean is None else f"{t(run.delay_mean)} / {t(run.delay_max)}"],
         ["Time the output is high", f"{100 * run.output_high_fraction:.1f} %"],
         ["Noise", f"{_v(run.noise.rms)} RMS, about {_v(run.noise.peak_to_peak)} peak-to-peak"],
     ]

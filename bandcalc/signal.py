@@ -23,9 +23,10 @@ from dataclasses import dataclass
 import numpy as np
 
 from bandcalc._checks import real
-from bandcalc.analysis import analyze
 from bandcalc.design import Design, OpenDrain
+from bandcalc.network import switching_points
 from bandcalc.noise import NoiseLevel, hysteresis_noise_finding, noise_level
+from bandcalc.watched import watched_points
 from bandcalc.waveform import Waveform
 
 __all__ = [
@@ -341,6 +342,22 @@ class SignalRun:
             return None
         return self.edge_count - self.clean_edge_count
 
+    def _known_delays(self) -> np.ndarray:
+        d = self.edge_delays
+        return d[np.isfinite(d)] if d is not None else np.empty(0)
+
+    @property
+    def delay_mean(self) -> float | None:
+        """Mean edge delay (s) after the noise-free centre crossing; None where not known."""
+        d = self._known_delays()
+        return float(d.mean()) if d.size else None
+
+    @property
+    def delay_max(self) -> float | None:
+        """Largest edge delay (s); None where not known (a recorded signal, or no edges)."""
+        d = self._known_delays()
+        return float(d.max()) if d.size else None
+
 
 def run_stage(wave: Waveform, upper: float, lower: float, *, inverting: bool = False,
               delay: float = 0.0, rise_time: float = 0.0,
@@ -421,11 +438,12 @@ def design_points(design: Design) -> tuple[float, float, bool]:
     points, and where the source voltage falls as the watched quantity rises (a thermistor on
     the bottom of its divider) the output sense flips.
     """
-    a = analyze(design)
-    if a.watched is None:
-        return a.upper, a.lower, design.inverting
-    flips = not a.watched.rises
-    return float(a.upper_watched), float(a.lower_watched), design.inverting != flips
+    if design.front_end is None:
+        pts = switching_points(design)
+        return float(pts.upper), float(pts.lower), design.inverting
+    w = watched_points(design)
+    flips = not w.rises
+    return float(w.upper), float(w.lower), design.inverting != flips
 
 
 def run_design(design: Design, wave: Waveform, *, noise_rms: float | None = None) -> SignalRun:

@@ -11,7 +11,6 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-import numpy as np
 import streamlit as st
 
 from ...design import Design
@@ -161,7 +160,6 @@ def _run(design: Design, settings: tuple, sweep: bool) -> None:
 
 
 def _figures(run: SignalRun, unit: str) -> None:
-    finite = run.edge_delays[np.isfinite(run.edge_delays)] if run.edge_delays is not None else np.array([])
     s = lambda x: format_si(x, "s", 3)  # noqa: E731
     unknown = "—"
     clean, extra = run.clean_edge_count, run.extra_edges
@@ -170,10 +168,10 @@ def _figures(run: SignalRun, unit: str) -> None:
     columns[1].metric("Noise-free edges", unknown if clean is None else f"{clean:,}",
                       help="Edges the noise-free signal gives")
     columns[2].metric("Extra edges (chatter)", unknown if extra is None else f"{extra:,}")
-    columns[3].metric("Mean delay", s(finite.mean()) if finite.size else unknown,
+    columns[3].metric("Mean delay", unknown if run.delay_mean is None else s(run.delay_mean),
                       help="After the noise-free signal crosses the centre; comparator delay and pull-up "
                            "rise time included")
-    columns[4].metric("Largest delay", s(finite.max()) if finite.size else unknown)
+    columns[4].metric("Largest delay", unknown if run.delay_max is None else s(run.delay_max))
     columns[5].metric("Output high", f"{100 * run.output_high_fraction:.1f} %", help="Share of the record")
     if clean is None:
         st.caption("A recorded signal has no noise-free version to compare with: chatter and delays are "
