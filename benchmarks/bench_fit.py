@@ -14,10 +14,13 @@ from pathlib import Path
 import numpy as np
 from timing import timed  # the benchmarks' shared timer (this folder)
 
-from bandcalc import search
-from bandcalc.design import design_from_dict, load_design
-from bandcalc.eseries import series_values
-from bandcalc.fit import _evaluator, fit  # the fit's own model call, so both rank by the same numbers
+from bandcalc.fit import grid_search as search
+from bandcalc.fit.selection import (  # the fit's own model call, so both rank by the same numbers
+    _evaluator,
+    fit,
+)
+from bandcalc.model.design_file import design_from_dict, load_design
+from bandcalc.model.standard_values import series_values
 
 # A three-resistor stage (input, leg to ground, feedback; open-drain, offset, bias and source
 # resistance included): a 12 V battery watch straight into the + pin, 5 V comparator.

@@ -12,8 +12,8 @@ from pathlib import Path
 import numpy as np
 from timing import best_of  # the benchmarks' shared timer (this folder)
 
-from bandcalc.design import load_design
-from bandcalc.network import parameters, switching_points
+from bandcalc.model.design_file import load_design
+from bandcalc.model.network import parameters, switching_points
 
 DEMO = Path(__file__).parent.parent / "demo_data" / "solar_battery_disconnect.json"
 

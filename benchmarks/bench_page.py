@@ -22,7 +22,7 @@ from streamlit.testing.v1 import AppTest
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))  # this checkout's bandcalc, also inside the page's script
 
-from bandcalc.design import load_design  # noqa: E402
+from bandcalc.model.design_file import load_design  # noqa: E402
 from bandcalc.page.address import PARAM, design_to_address  # noqa: E402
 from bandcalc.page.edit import slider_options  # noqa: E402
 from bandcalc.page.panels import PANELS  # noqa: E402

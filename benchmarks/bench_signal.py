@@ -3,11 +3,11 @@
 Run: ``python benchmarks/bench_signal.py``. Prints best-of-N wall times
 (time.perf_counter) for
 
-1. the vectorized switching core (:func:`bandcalc.signal.switch_states`) on
+1. the vectorized switching core (:func:`bandcalc.signal_check.edges.switch_states`) on
    1,000,000 noisy samples, against the per-sample loop
-   (:func:`bandcalc._loop_reference.switch_loop`) on the same samples;
+   (:func:`bandcalc.signal_check.loop_reference.switch_loop`) on the same samples;
 2. reading a 1,000,000-row CSV and running the stage
-   (:func:`bandcalc.wavefile.read_waveform_csv` + :func:`bandcalc.signal.run_stage`),
+   (``recording.read_waveform_csv`` + ``edges.run_stage`` of :mod:`bandcalc.signal_check`),
    against the standard-library csv module feeding the same loop.
 
 Targets: 1 under 3 ms, 2 under 0.5 s. The machine is shared, so the ratios,
@@ -28,10 +28,10 @@ sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
 from timing import best_of  # the benchmarks' shared timer (this folder)
 
-from bandcalc._loop_reference import switch_loop
-from bandcalc.signal import run_stage, switch_states
-from bandcalc.wavefile import read_waveform_csv
-from bandcalc.waveform import synthesize
+from bandcalc.signal_check.edges import run_stage, switch_states
+from bandcalc.signal_check.loop_reference import switch_loop
+from bandcalc.signal_check.recording import read_waveform_csv
+from bandcalc.signal_check.waveform import synthesize
 
 SAMPLES = 1_000_000
 UPPER, LOWER = 1.05, 0.95

@@ -16,9 +16,9 @@ from pathlib import Path
 import numpy as np
 from timing import best_of  # the benchmarks' shared timer (this folder)
 
-from bandcalc.design import load_design
-from bandcalc.factors import VariedModel
-from bandcalc.spread import monte_carlo, worst_case
+from bandcalc.model.design_file import load_design
+from bandcalc.spread.factors import VariedModel
+from bandcalc.spread.propagation import monte_carlo, worst_case
 
 DEMO = Path(__file__).parent.parent / "demo_data" / "solar_battery_disconnect.json"
 

@@ -16,9 +16,9 @@ import numpy as np
 from scipy.optimize import brentq
 from timing import best_of  # the benchmarks' shared timer (this folder)
 
-from bandcalc.design import load_design
-from bandcalc.network import switching_points
-from bandcalc.watched import all_parameters, volts_for, watched_points
+from bandcalc.model.design_file import load_design
+from bandcalc.model.network import switching_points
+from bandcalc.model.points import all_parameters, volts_for, watched_points
 
 DEMO = Path(__file__).parent.parent / "demo_data" / "greenhouse_fan_thermostat.json"
 

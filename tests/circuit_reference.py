@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import sympy
 
-from bandcalc.design import Design, DividerReference, FixedReference, OpenDrain
+from bandcalc.model.design import Design, DividerReference, FixedReference, OpenDrain
 
 
 def netlist(design: Design, state: str) -> tuple[str, str]:

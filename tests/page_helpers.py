@@ -9,7 +9,7 @@ from pathlib import Path
 import numpy as np
 from streamlit.testing.v1 import AppTest
 
-from bandcalc.design import load_design
+from bandcalc.model.design_file import load_design
 from bandcalc.page.address import PARAM, address_to_design, design_to_address
 
 ROOT = Path(__file__).parent.parent
@@ -60,7 +60,7 @@ def design_on(at: AppTest):
     return address_to_design(at.query_params[PARAM])
 
 
-CAUTIONS = ("Hazardous voltage", "Protective function")  # bandcalc.analysis cautions, not input errors
+CAUTIONS = ("Hazardous voltage", "Protective function")  # bandcalc.model.operating cautions, not input errors
 
 
 def errors(at: AppTest) -> list[str]:

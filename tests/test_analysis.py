@@ -2,8 +2,7 @@
 
 import pytest
 
-from bandcalc.analysis import analyze
-from bandcalc.design import (
+from bandcalc.model.design import (
     Comparator,
     Design,
     DividerReference,
@@ -14,6 +13,7 @@ from bandcalc.design import (
     Source,
     Supply,
 )
+from bandcalc.model.operating import analyze
 
 TEXTBOOK = Design(stage="non-inverting", supply=Supply(5.0), reference=FixedReference(2.5),
                   resistors=Resistors(input=1e3, feedback=2e3))

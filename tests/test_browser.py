@@ -23,12 +23,12 @@ from urllib.parse import parse_qs, urlsplit
 
 import pytest
 
-from bandcalc.analysis import analyze
-from bandcalc.design import design_from_json, load_design
+from bandcalc.model.design_file import design_from_json, load_design
+from bandcalc.model.operating import analyze
+from bandcalc.model.units import format_si
+from bandcalc.outputs.summary import design_from_summary
 from bandcalc.page.address import PARAM, address_to_design
 from bandcalc.page.edit import with_value
-from bandcalc.report import design_from_summary
-from bandcalc.units import format_si
 
 pytestmark = pytest.mark.browser
 

@@ -7,7 +7,7 @@ from pathlib import Path
 
 import pytest
 
-from bandcalc.cli import main
+from bandcalc.cli.commands import main
 
 ROOT = Path(__file__).parent.parent
 SUMP = str(ROOT / "demo_data" / "sump_level_switch.json")

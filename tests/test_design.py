@@ -6,8 +6,8 @@ from pathlib import Path
 
 import pytest
 
-from bandcalc.design import (
-    DesignError,
+from bandcalc.errors import DesignError
+from bandcalc.model.design_file import (
     design_from_dict,
     design_from_json,
     design_to_dict,

@@ -1,4 +1,4 @@
-"""Tests for bandcalc.eseries against IEC 60063 and the ``eseries`` package."""
+"""Tests for bandcalc.model.standard_values against IEC 60063 and the ``eseries`` package."""
 
 from decimal import Decimal
 from itertools import pairwise
@@ -8,7 +8,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from bandcalc.eseries import (
+from bandcalc.model.standard_values import (
     SERIES,
     TOLERANCE,
     EseriesError,

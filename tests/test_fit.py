@@ -9,10 +9,11 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from bandcalc import search
-from bandcalc.analysis import analyze
-from bandcalc.cli import main
-from bandcalc.design import (
+from bandcalc.cli.commands import main
+from bandcalc.fit import grid_search as search
+from bandcalc.fit.exact import solve
+from bandcalc.fit.selection import FitError, apply_candidate, fit, fit_to_dict
+from bandcalc.model.design import (
     Comparator,
     Design,
     DividerReference,
@@ -22,12 +23,11 @@ from bandcalc.design import (
     Resistors,
     Source,
     Supply,
-    load_design,
 )
-from bandcalc.eseries import series_values
-from bandcalc.fit import FitError, apply_candidate, fit, fit_to_dict
-from bandcalc.network import switching_points
-from bandcalc.solver import solve
+from bandcalc.model.design_file import load_design
+from bandcalc.model.network import switching_points
+from bandcalc.model.operating import analyze
+from bandcalc.model.standard_values import series_values
 
 ROOT = Path(__file__).parent.parent
 DEMO = ROOT / "demo_data"
@@ -202,7 +202,7 @@ def designs():
 @settings(max_examples=25, deadline=None)
 @given(designs(), st.floats(0.5, 4.5), st.floats(0.05, 0.8), st.sampled_from([1, 3, 8]))
 def test_search_equals_enumerating_every_combination(design, centre, width, count):
-    # The search (bandcalc.search) must return exactly what evaluating everything returns,
+    # The search (bandcalc.fit.grid_search) must return exactly what evaluating everything returns,
     # ties (by current) included.
     keys = ["resistors.to_positive" if design.inverting else "resistors.input", "resistors.to_ground",
             "resistors.feedback"]
@@ -383,7 +383,7 @@ def test_fit_to_dict_round_trips_through_json():
 
 def _exhaustive_watched(design, params, grid, upper, lower):
     """Every combination of grid values, evaluated through the front end; the least worst error."""
-    from bandcalc.watched import watched_points
+    from bandcalc.model.points import watched_points
 
     mesh = np.meshgrid(*([grid] * len(params)), indexing="ij")
     values = {f"resistors.{p}": m.ravel() for p, m in zip(params, mesh, strict=True)}
@@ -397,7 +397,7 @@ def _exhaustive_watched(design, params, grid, upper, lower):
     ("greenhouse_fan_thermostat.json", 32.0, 28.0),  # thermistor: source resistance moves with T
 ])
 def test_watched_targets_best_equals_exhaustive_search(name, upper, lower):
-    from bandcalc.eseries import series_values
+    from bandcalc.model.standard_values import series_values
 
     design = load_design(DEMO / name)
     r = fit(design, upper, lower, series="E12", count=3, add_leg=False)

@@ -12,22 +12,11 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 from test_network import designs  # the stage strategy: every stage, supply, reference and output
 
-from bandcalc.analysis import analysis_to_dict, analyze
-from bandcalc.cli import main
-from bandcalc.design import (
-    Design,
-    DesignError,
-    FixedReference,
-    OpenDrain,
-    PushPull,
-    Resistors,
-    Source,
-    Supply,
-    design_from_dict,
-    design_to_dict,
-    load_design,
-)
-from bandcalc.frontend import (
+from bandcalc.cli.commands import main
+from bandcalc.errors import DesignError
+from bandcalc.model.design import Design, FixedReference, OpenDrain, PushPull, Resistors, Source, Supply
+from bandcalc.model.design_file import design_from_dict, design_to_dict, load_design
+from bandcalc.model.front_end import (
     DividerFrontEnd,
     LinearFrontEnd,
     ThermistorFrontEnd,
@@ -37,8 +26,9 @@ from bandcalc.frontend import (
     steinhart_hart_resistance,
     steinhart_hart_temperature,
 )
-from bandcalc.network import switching_points
-from bandcalc.watched import (
+from bandcalc.model.network import switching_points
+from bandcalc.model.operating import analysis_to_dict, analyze
+from bandcalc.model.points import (
     front_end_power,
     stage_design,
     stage_targets,
@@ -446,7 +436,7 @@ def test_a_thermistor_fed_from_a_zero_volt_reference_switches_at_no_temperature(
     # reaches either point (first principles); the answer is "none", not a division error.
     from dataclasses import replace
 
-    from bandcalc.design import FixedReference, Source
+    from bandcalc.model.design import FixedReference, Source
 
     thermistor = ThermistorFrontEnd(fixed=1e3, r25=1e3, beta=2500.0, position="top", excitation="reference")
     d = replace(load_design(SUMP), reference=FixedReference(0.0), source=Source(), front_end=thermistor)

@@ -7,7 +7,7 @@ import pytest
 from hypothesis import HealthCheck, assume, given, settings
 from hypothesis import strategies as st
 
-from bandcalc.design import (
+from bandcalc.model.design import (
     Comparator,
     Design,
     DividerReference,
@@ -18,7 +18,7 @@ from bandcalc.design import (
     Source,
     Supply,
 )
-from bandcalc.network import parameters, switching_points
+from bandcalc.model.network import parameters, switching_points
 
 
 def points(design):

@@ -11,12 +11,12 @@ import pytest
 from page_helpers import ROOT, SUMP, chart, design_on, errors, figures, numbers, page
 from streamlit.testing.v1 import AppTest
 
-from bandcalc.analysis import analyze
-from bandcalc.design import design_to_json, load_design
+from bandcalc.model.design_file import design_to_json, load_design
+from bandcalc.model.operating import analyze
+from bandcalc.model.units import format_si
 from bandcalc.page.address import PARAM, design_to_address
 from bandcalc.page.edit import with_value
 from bandcalc.page.results import FIGURES
-from bandcalc.units import format_si
 
 FEEDBACK = "in.resistors.feedback"
 INPUT = "in.resistors.input"

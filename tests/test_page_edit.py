@@ -7,8 +7,10 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from bandcalc.design import DesignError, DividerReference, FixedReference, OpenDrain, PushPull, load_design
-from bandcalc.eseries import series_values
+from bandcalc.errors import DesignError
+from bandcalc.model.design import DividerReference, FixedReference, OpenDrain, PushPull
+from bandcalc.model.design_file import load_design
+from bandcalc.model.standard_values import series_values
 from bandcalc.page.address import address_to_design, design_to_address
 from bandcalc.page.edit import (
     slider_options,
@@ -111,7 +113,7 @@ def test_slider_options_span_decades_around_the_value():
 # --- front ends ---------------------------------------------------------------------------------
 
 def test_each_front_end_kind_starts_valid_and_clears_the_source_range():
-    from bandcalc.analysis import analyze
+    from bandcalc.model.operating import analyze
     from bandcalc.page.edit import front_end_kind, with_front_end
 
     ranged = with_value(SUMP, "source.high", 4.0)
@@ -128,7 +130,7 @@ def test_each_front_end_kind_starts_valid_and_clears_the_source_range():
 
 
 def test_beta_and_steinhart_hart_describe_the_same_thermistor():
-    from bandcalc.frontend import KELVIN_AT_25C, beta_resistance, steinhart_hart_resistance
+    from bandcalc.model.front_end import KELVIN_AT_25C, beta_resistance, steinhart_hart_resistance
     from bandcalc.page.edit import thermistor_model, with_front_end, with_thermistor_model
 
     d = with_front_end(SUMP, "thermistor")
@@ -181,6 +183,7 @@ def test_thermistor_excitation_kinds():
 # --- tolerances ---------------------------------------------------------------------------------
 
 def test_tolerance_entries_edit_the_design_section():
+    from bandcalc.model.tolerances import ToleranceError
     from bandcalc.page.tolerance_edit import (
         tolerance_value,
         with_part_tolerance,
@@ -189,7 +192,6 @@ def test_tolerance_entries_edit_the_design_section():
         with_window_end,
         without_tolerances,
     )
-    from bandcalc.tolerances import ToleranceError
 
     assert SUMP.tolerances is not None
     d = with_tolerance(SUMP, "supply", 2.5)
@@ -239,8 +241,8 @@ def test_typed_values_in_any_unit(text, unit, value):
 
 
 def test_typed_value_errors_name_the_field():
+    from bandcalc.model.units import UnitError
     from bandcalc.page.inputs import read_value, shown
-    from bandcalc.units import UnitError
 
     with pytest.raises(UnitError, match=r"Beta \(front_end.beta\): cannot read 'warm'; write a number in K"):
         read_value("warm", "K", "Beta (front_end.beta)")

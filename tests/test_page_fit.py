@@ -12,13 +12,14 @@ import pytest
 from streamlit.testing.v1 import AppTest
 from test_page import SUMP, design_on, errors, expected, figures, page
 
-from bandcalc.analysis import analyze
-from bandcalc.design import Resistors, design_to_json, load_design
-from bandcalc.fit import apply_candidate, fit
+from bandcalc.fit.selection import apply_candidate, fit
+from bandcalc.model.design import Resistors
+from bandcalc.model.design_file import design_to_json, load_design
+from bandcalc.model.operating import analyze
+from bandcalc.model.units import format_code, format_si, format_value
 from bandcalc.page.address import PARAM, design_to_address
 from bandcalc.page.edit import with_value
 from bandcalc.page.panels import fit as panel
-from bandcalc.units import format_code, format_si, format_value
 
 ROOT = Path(__file__).parent.parent
 GREENHOUSE = load_design(ROOT / "demo_data" / "greenhouse_fan_thermostat.json")
@@ -232,7 +233,7 @@ def test_latest_fit_holds_for_the_design_while_only_resistor_values_change():
     def script():
         import streamlit as st
 
-        from bandcalc.design import load_design
+        from bandcalc.model.design_file import load_design
         from bandcalc.page.edit import with_value
         from bandcalc.page.panels.fit import latest_fit
 

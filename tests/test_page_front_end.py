@@ -8,10 +8,10 @@ import base64
 import pytest
 from page_helpers import DEMO_DIR, SUMP, captions, chart, design_on, errors, figures, numbers, page
 
-from bandcalc.analysis import analyze
-from bandcalc.design import load_design
-from bandcalc.frontend import DividerFrontEnd, LinearFrontEnd, ThermistorFrontEnd
-from bandcalc.units import format_code, format_si, format_value
+from bandcalc.model.design_file import load_design
+from bandcalc.model.front_end import DividerFrontEnd, LinearFrontEnd, ThermistorFrontEnd
+from bandcalc.model.operating import analyze
+from bandcalc.model.units import format_code, format_si, format_value
 
 SOLAR = load_design(DEMO_DIR / "solar_battery_disconnect.json")
 GREENHOUSE = load_design(DEMO_DIR / "greenhouse_fan_thermostat.json")
@@ -49,7 +49,7 @@ def test_a_thermistor_at_the_bottom_pairs_the_watched_upper_point_with_the_stage
     assert figures(at)["Upper switching point"] == format_value(a.upper_watched, "C", 4)
     notes = captions(at)
     # As it warms the divider's output falls, so the warm point is where the stage's input has
-    # fallen to its lower point (bandcalc.watched.WatchedPoints): the first caption is that one.
+    # fallen to its lower point (bandcalc.model.points.WatchedPoints): the first caption is that one.
     assert notes.index(f"{format_si(a.lower, 'V', 4)} at the stage") < notes.index(
         f"{format_si(a.upper, 'V', 4)} at the stage")
     assert any("output turns high as the watched quantity rises" in c for c in notes)  # the fan starts

@@ -21,16 +21,16 @@ from page_helpers import (
     trace,
 )
 
-from bandcalc.design import load_design
+from bandcalc.model.design_file import load_design
+from bandcalc.model.units import format_si, format_value
+from bandcalc.outputs.summary import design_summary
 from bandcalc.page.names import factor_name
 from bandcalc.page.panels import spread as spread_panel
-from bandcalc.report import design_summary
-from bandcalc.signal import design_points, run_design
-from bandcalc.spread import spread
-from bandcalc.sweep import sweep_design
-from bandcalc.units import format_si, format_value
-from bandcalc.wavefile import read_waveform_csv
-from bandcalc.waveform import synthesize
+from bandcalc.signal_check.edges import design_points, run_design
+from bandcalc.signal_check.recording import read_waveform_csv
+from bandcalc.signal_check.waveform import synthesize
+from bandcalc.signal_check.width_trade import sweep_design
+from bandcalc.spread.propagation import spread
 
 SOLAR = load_design(DEMO_DIR / "solar_battery_disconnect.json")
 GREENHOUSE = load_design(DEMO_DIR / "greenhouse_fan_thermostat.json")
@@ -109,7 +109,7 @@ def test_long_runs_report_progress(monkeypatch):
     monkeypatch.setattr(spread_panel, "spread", recorded)
     at = run_spread(SUMP, samples=100_000)
     assert not at.exception
-    assert calls[-1] == (100_000, 100_000) and len(calls) == 4  # blocks of 32,768 (bandcalc.spread.CHUNK)
+    assert calls[-1] == (100_000, 100_000) and len(calls) == 4  # blocks of 32,768 (propagation.CHUNK)
     assert any(m.value.startswith("**Monte Carlo**: 100,000 builds, seed 1") for m in at.markdown)
 
 

@@ -5,10 +5,10 @@ from pathlib import Path
 import plotly.graph_objects as go
 import pytest
 
-from bandcalc.design import load_design
-from bandcalc.plots import PALETTE, transfer_figure, transfer_spec
-from bandcalc.transfer import transfer_curve
-from bandcalc.units import format_si
+from bandcalc.model.design_file import load_design
+from bandcalc.model.transfer import transfer_curve
+from bandcalc.model.units import format_si
+from bandcalc.outputs.plots import PALETTE, transfer_figure, transfer_spec
 
 DEMO_DIR = Path(__file__).parent.parent / "demo_data"
 DEMOS = sorted(DEMO_DIR.glob("*.json"))
@@ -59,11 +59,11 @@ def test_fast_figure_matches_validated_one():
 def test_spread_and_signal_specs_pass_plotlys_schema():
     import numpy as np
 
-    from bandcalc.plots import histogram_spec, sensitivity_spec, signal_spec, tradeoff_spec
-    from bandcalc.signal import design_points, run_design
-    from bandcalc.spread import spread
-    from bandcalc.sweep import sweep_design
-    from bandcalc.waveform import synthesize
+    from bandcalc.outputs.plots import histogram_spec, sensitivity_spec, signal_spec, tradeoff_spec
+    from bandcalc.signal_check.edges import design_points, run_design
+    from bandcalc.signal_check.waveform import synthesize
+    from bandcalc.signal_check.width_trade import sweep_design
+    from bandcalc.spread.propagation import spread
 
     d = load_design(DEMO_DIR / "solar_battery_disconnect.json")
     s = spread(d, samples=1000)
@@ -94,7 +94,7 @@ def test_spread_and_signal_specs_pass_plotlys_schema():
 def test_display_index_keeps_each_runs_extremes():
     import numpy as np
 
-    from bandcalc.plots import display_index
+    from bandcalc.outputs.plots import display_index
 
     v = np.random.default_rng(5).normal(size=100_003)
     v[12_345] = 9.0  # a spike must survive the thinning

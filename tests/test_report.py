@@ -6,14 +6,15 @@ from pathlib import Path
 import pytest
 from markdown_it import MarkdownIt
 
-from bandcalc.analysis import analyze
-from bandcalc.cli import main
-from bandcalc.design import Design, FixedReference, Resistors, Source, Supply, load_design
-from bandcalc.network import switching_points
-from bandcalc.report import design_from_summary, design_summary, escape_text
-from bandcalc.signal import run_design
-from bandcalc.units import format_code, format_si, format_value
-from bandcalc.waveform import synthesize
+from bandcalc.cli.commands import main
+from bandcalc.model.design import Design, FixedReference, Resistors, Source, Supply
+from bandcalc.model.design_file import load_design
+from bandcalc.model.network import switching_points
+from bandcalc.model.operating import analyze
+from bandcalc.model.units import format_code, format_si, format_value
+from bandcalc.outputs.summary import design_from_summary, design_summary, escape_text
+from bandcalc.signal_check.edges import run_design
+from bandcalc.signal_check.waveform import synthesize
 
 DEMOS = sorted((Path(__file__).parent.parent / "demo_data").glob("*.json"))
 # markdown-it-py (PyPI) in its "commonmark" preset is a CommonMark-conformant parser; the
@@ -135,7 +136,7 @@ def test_report_command_writes_file(tmp_path):
 
 
 def test_spread_section_and_columns():
-    from bandcalc.spread import spread
+    from bandcalc.spread.propagation import spread
 
     d = load_design(DEMOS[0].parent / "sump_level_switch.json")
     s = spread(d, samples=5_000)
@@ -153,7 +154,7 @@ def test_report_command_with_spread(capsys):
 
 
 def test_fit_section():
-    from bandcalc.fit import fit
+    from bandcalc.fit.selection import fit
 
     d = load_design(DEMOS[0].parent / "greenhouse_fan_thermostat.json")
     r = fit(d, 32.0, 28.0, count=3)

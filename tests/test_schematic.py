@@ -5,8 +5,8 @@ from pathlib import Path
 
 import pytest
 
-from bandcalc.design import load_design
-from bandcalc.schematic import stage_svg
+from bandcalc.model.design_file import load_design
+from bandcalc.outputs.schematic import stage_svg
 
 DEMO_DIR = Path(__file__).parent.parent / "demo_data"
 
@@ -50,8 +50,8 @@ def test_a_reference_leg_in_a_non_inverting_stage_names_the_shared_reference():
 
 
 def test_values_change_the_labels_only():
+    from bandcalc.outputs.schematic import stage_labels
     from bandcalc.page.edit import with_value
-    from bandcalc.schematic import stage_labels
 
     d = load_design(DEMO_DIR / "sump_level_switch.json")
     moved = with_value(d, "resistors.feedback", 47e3)
@@ -74,7 +74,7 @@ def test_the_front_end_sits_ahead_of_the_input_resistor():
 
 
 def _with_front_end(front_end: dict):
-    from bandcalc.design import design_from_dict, design_to_dict
+    from bandcalc.model.design_file import design_from_dict, design_to_dict
 
     data = design_to_dict(load_design(DEMO_DIR / "sump_level_switch.json"))
     return design_from_dict({**data, "source": {"resistance": 100}, "front_end": front_end})
@@ -99,8 +99,8 @@ def test_a_thermistor_on_top_from_the_reference():
 
 
 def test_each_front_end_layout_is_drawn_once():
+    from bandcalc.outputs.schematic import _template
     from bandcalc.page.edit import with_value
-    from bandcalc.schematic import _template
 
     d = load_design(DEMO_DIR / "greenhouse_fan_thermostat.json")
     stage_svg(d)

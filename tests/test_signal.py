@@ -9,15 +9,7 @@ from hypothesis import strategies as st
 from hypothesis.extra.numpy import arrays
 from scipy import stats
 
-from bandcalc._loop_reference import switch_loop
-from bandcalc.noise import (
-    PEAK_TO_PEAK_PER_RMS,
-    NoiseLevel,
-    estimate_noise_rms,
-    hysteresis_noise_finding,
-    noise_level,
-)
-from bandcalc.signal import (
+from bandcalc.signal_check.edges import (
     edge_delays,
     find_edges,
     missed_transitions,
@@ -25,7 +17,15 @@ from bandcalc.signal import (
     run_stage,
     switch_states,
 )
-from bandcalc.waveform import Waveform, synthesize
+from bandcalc.signal_check.loop_reference import switch_loop
+from bandcalc.signal_check.noise import (
+    PEAK_TO_PEAK_PER_RMS,
+    NoiseLevel,
+    estimate_noise_rms,
+    hysteresis_noise_finding,
+    noise_level,
+)
+from bandcalc.signal_check.waveform import Waveform, synthesize
 
 
 def assert_matches_loop(v, upper, lower):
@@ -242,7 +242,7 @@ def test_recorded_signal_has_no_delays_and_an_estimated_noise():
 
 def test_normal_quartile_matches_scipy():
     # The estimator divides by Phi^-1(0.75) = 0.6745 (standard normal table).
-    from bandcalc import noise
+    from bandcalc.signal_check import noise
 
     assert noise._NORMAL_UPPER_QUARTILE == pytest.approx(stats.norm.ppf(0.75), rel=1e-12)
 

@@ -6,12 +6,12 @@ from pathlib import Path
 
 import pytest
 
-from bandcalc.analysis import analyze
-from bandcalc.cli import main
-from bandcalc.design import load_design
-from bandcalc.signal import output_rise_time, run_design
-from bandcalc.sweep import sweep_design
-from bandcalc.waveform import synthesize
+from bandcalc.cli.commands import main
+from bandcalc.model.design_file import load_design
+from bandcalc.model.operating import analyze
+from bandcalc.signal_check.edges import output_rise_time, run_design
+from bandcalc.signal_check.waveform import synthesize
+from bandcalc.signal_check.width_trade import sweep_design
 
 DEMO = Path(__file__).parent.parent / "demo_data"
 

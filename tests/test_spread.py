@@ -11,12 +11,14 @@ import numpy as np
 import pytest
 from scipy import stats
 
-from bandcalc import spread as spread_module
-from bandcalc.cli import main
-from bandcalc.design import load_design
-from bandcalc.factors import QUANTITIES, Factor, factors
-from bandcalc.network import parameters, switching_points
-from bandcalc.spread import (
+from bandcalc.cli.commands import main
+from bandcalc.model.design_file import load_design
+from bandcalc.model.network import parameters, switching_points
+from bandcalc.model.points import all_parameters, watched_points
+from bandcalc.model.tolerances import Limits, PerResistor, Tolerances
+from bandcalc.spread import propagation as spread_module
+from bandcalc.spread.factors import QUANTITIES, Factor, factors
+from bandcalc.spread.propagation import (
     SpreadError,
     _summary,
     monte_carlo,
@@ -26,8 +28,6 @@ from bandcalc.spread import (
     wilson_interval,
     worst_case,
 )
-from bandcalc.tolerances import Limits, PerResistor, Tolerances
-from bandcalc.watched import all_parameters, watched_points
 
 DEMO = Path(__file__).parent.parent / "demo_data"
 DEMOS = sorted(DEMO.glob("*.json"))
@@ -50,7 +50,7 @@ def demo(path, tolerances=OWN):
 
 
 def points_of(design, values):
-    # A front end puts the points in the watched quantity (bandcalc.watched, tested on its own).
+    # A front end puts the points in the watched quantity (bandcalc.model.points, tested on its own).
     p = watched_points(design, values) if design.front_end is not None else switching_points(design, values)
     return {"upper": float(p.upper), "lower": float(p.lower), "hysteresis": float(p.upper - p.lower)}
 

@@ -5,10 +5,10 @@ import math
 import numpy as np
 import pytest
 
-from bandcalc.noise import PEAK_TO_PEAK_PER_RMS
-from bandcalc.signal import run_stage
-from bandcalc.sweep import MAX_WIDTHS, hysteresis_sweep
-from bandcalc.waveform import Waveform, synthesize
+from bandcalc.signal_check.edges import run_stage
+from bandcalc.signal_check.noise import PEAK_TO_PEAK_PER_RMS
+from bandcalc.signal_check.waveform import Waveform, synthesize
+from bandcalc.signal_check.width_trade import MAX_WIDTHS, hysteresis_sweep
 
 
 def test_clean_sine_delays_follow_asin():

@@ -5,8 +5,9 @@ import copy
 import eseries
 import pytest
 
-from bandcalc.design import DesignError, design_from_dict, design_to_dict
-from bandcalc.tolerances import Limits, PerResistor, ToleranceError, Tolerances, series_tolerance
+from bandcalc.errors import DesignError
+from bandcalc.model.design_file import design_from_dict, design_to_dict
+from bandcalc.model.tolerances import Limits, PerResistor, ToleranceError, Tolerances, series_tolerance
 
 BASE = {
     "format": 1,

@@ -7,10 +7,11 @@ import pytest
 import sympy
 from circuit_reference import netlist
 
-from bandcalc.analysis import analyze
-from bandcalc.design import Design, FixedReference, PushPull, Resistors, Supply, load_design
-from bandcalc.transfer import transfer_curve
-from bandcalc.watched import stage_design
+from bandcalc.model.design import Design, FixedReference, PushPull, Resistors, Supply
+from bandcalc.model.design_file import load_design
+from bandcalc.model.operating import analyze
+from bandcalc.model.points import stage_design
+from bandcalc.model.transfer import transfer_curve
 
 DEMO_DIR = Path(__file__).parent.parent / "demo_data"
 DEMOS = sorted(DEMO_DIR.glob("*.json"))
@@ -105,7 +106,7 @@ def test_sweep_covers_the_signal_range_and_both_points():
 def test_with_a_divider_ahead_the_stage_sees_its_thevenin_equivalent():
     # The solar demo watches 0 to 16 V of battery through 240k / 62k: the stage's input runs over
     # 16 V x 62 / 302 = 3.285 V (divider ratio), and the curve is the stage with the divider's
-    # Thevenin resistance in series (bandcalc.watched.stage_design folds it in the same way).
+    # Thevenin resistance in series (bandcalc.model.points.stage_design folds it in the same way).
     d = load_design(DEMO_DIR / "solar_battery_disconnect.json")
     a, c = analyze(d), transfer_curve(d)
     assert c.signal[0] < 0 and c.signal[-1] > 16 * 62 / 302

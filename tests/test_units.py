@@ -2,7 +2,14 @@
 
 import pytest
 
-from bandcalc.units import UnitError, format_code, format_ohms, format_si, parse_quantity, parse_resistance
+from bandcalc.model.units import (
+    UnitError,
+    format_code,
+    format_ohms,
+    format_si,
+    parse_quantity,
+    parse_resistance,
+)
 
 
 @pytest.mark.parametrize(("text", "ohms"), [

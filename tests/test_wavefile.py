@@ -7,8 +7,8 @@ import pytest
 from hypothesis import example, given, settings
 from hypothesis import strategies as st
 
-from bandcalc import wavefile
-from bandcalc.wavefile import WaveformError, read_waveform_csv
+from bandcalc.signal_check import recording as wavefile
+from bandcalc.signal_check.recording import WaveformError, read_waveform_csv
 
 
 @pytest.mark.parametrize(

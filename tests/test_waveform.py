@@ -6,8 +6,8 @@ import numpy as np
 import pytest
 from scipy import stats
 
-from bandcalc import waveform
-from bandcalc.waveform import Waveform, synthesize
+from bandcalc.signal_check import waveform
+from bandcalc.signal_check.waveform import Waveform, synthesize
 
 
 def test_waveform_arrays_are_read_only_float_views():

@@ -12,7 +12,9 @@ import binascii
 import json
 import zlib
 
-from ..design import Design, DesignError, design_from_dict, design_to_dict
+from bandcalc.errors import DesignError
+from bandcalc.model.design import Design
+from bandcalc.model.design_file import design_from_dict, design_to_dict
 
 __all__ = ["PARAM", "address_to_design", "design_to_address"]
 

@@ -13,11 +13,12 @@ from typing import Any, TypeVar
 import plotly.graph_objects as go
 import streamlit as st
 
-from ..analysis import Analysis, analyze
-from ..design import Design, design_to_json
-from ..plots import as_figure, transfer_spec
-from ..schematic import stage_svg
-from ..transfer import transfer_curve
+from bandcalc.model.design import Design
+from bandcalc.model.design_file import design_to_json
+from bandcalc.model.operating import Analysis, analyze
+from bandcalc.model.transfer import transfer_curve
+from bandcalc.outputs.plots import as_figure, transfer_spec
+from bandcalc.outputs.schematic import stage_svg
 
 __all__ = ["analysis_of", "guarded", "schematic_of", "transfer_figure_of"]
 

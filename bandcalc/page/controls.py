@@ -10,11 +10,11 @@ from collections.abc import Callable, Sequence
 
 import streamlit as st
 
-from ..design import LEG_KEYS, STAGES, Design, OpenDrain
-from ..eseries import SERIES
-from ..frontend import POSITIONS, THERMISTOR_RANGE, ThermistorFrontEnd
-from . import state
-from .edit import (
+from bandcalc.model.design import LEG_KEYS, STAGES, Design, OpenDrain
+from bandcalc.model.front_end import POSITIONS, THERMISTOR_RANGE, ThermistorFrontEnd
+from bandcalc.model.standard_values import SERIES
+from bandcalc.page import state
+from bandcalc.page.edit import (
     EXCITATION_KINDS,
     FRONT_END_KINDS,
     OUTPUT_KINDS,
@@ -34,7 +34,7 @@ from .edit import (
     with_thermistor_model,
     with_value,
 )
-from .inputs import choice_control, quantity_field, resistor_control
+from bandcalc.page.inputs import choice_control, quantity_field, resistor_control
 
 __all__ = ["SECTION_PREFIX", "SERIES_KEY", "render_controls"]
 

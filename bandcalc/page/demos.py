@@ -5,7 +5,8 @@ from __future__ import annotations
 from functools import cache
 from pathlib import Path
 
-from ..design import Design, load_design
+from bandcalc.model.design import Design
+from bandcalc.model.design_file import load_design
 
 __all__ = ["DEFAULT_DEMO", "DEMO_DIR", "demo_designs"]
 

@@ -1,7 +1,7 @@
 """Edits the page's controls make to a design: pure functions, no Streamlit.
 
-Every edit returns a new, validated :class:`~bandcalc.design.Design` or raises
-:class:`~bandcalc.design.DesignError` naming what is wrong; the caller keeps the old design.
+Every edit returns a new, validated :class:`~bandcalc.model.design.Design` or raises
+:class:`~bandcalc.model.design.DesignError` naming what is wrong; the caller keeps the old design.
 Where a change of topology needs a part that was not there (a non-inverting stage needs an
 input resistor and a reference), the edit fits a stated starting value.
 """
@@ -13,24 +13,24 @@ import re
 from dataclasses import replace
 from typing import Any
 
-from ..design import (
+from bandcalc.errors import DesignError
+from bandcalc.model.design import (
     LEG_KEYS,
     STAGES,
     Design,
-    DesignError,
     DividerReference,
     FixedReference,
     OpenDrain,
     PushPull,
 )
-from ..eseries import SERIES, nearest, series_values
-from ..frontend import (
+from bandcalc.model.front_end import (
     KELVIN_AT_25C,
     DividerFrontEnd,
     LinearFrontEnd,
     ThermistorFrontEnd,
     steinhart_hart_resistance,
 )
+from bandcalc.model.standard_values import SERIES, nearest, series_values
 
 __all__ = [
     "DECADES_BELOW",

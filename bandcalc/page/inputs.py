@@ -19,9 +19,9 @@ from typing import Any
 
 import streamlit as st
 
-from ..design import Design
-from ..eseries import series_values
-from ..units import (
+from bandcalc.model.design import Design
+from bandcalc.model.standard_values import series_values
+from bandcalc.model.units import (
     SI_UNITS,
     UnitError,
     format_code,
@@ -30,8 +30,8 @@ from ..units import (
     parse_quantity,
     parse_resistance,
 )
-from . import state
-from .edit import slider_options, value_at, with_value
+from bandcalc.page import state
+from bandcalc.page.edit import slider_options, value_at, with_value
 
 __all__ = ["PREFIXED_UNITS", "choice_control", "quantity_field", "read_value", "resistor_control", "shown",
            "value_field"]

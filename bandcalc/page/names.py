@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from ..schematic import DESIGNATORS
+from bandcalc.outputs.schematic import DESIGNATORS
 
 __all__ = ["PART_NAMES", "factor_name", "part_name"]
 
@@ -46,7 +46,7 @@ def part_name(key: str) -> str:
 
 
 def factor_name(name: str) -> str:
-    """A varied quantity's name (``bandcalc.factors.Factor.name``) for people."""
+    """A varied quantity's name (``bandcalc.spread.factors.Factor.name``) for people."""
     if name.startswith("resistors."):
         return part_name(name.removeprefix("resistors."))
     return part_name(name) if name in PART_NAMES else _OTHERS.get(name, name)

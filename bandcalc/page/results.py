@@ -10,11 +10,11 @@ from __future__ import annotations
 
 import streamlit as st
 
-from ..analysis import Analysis
-from ..design import Design
-from ..frontend import ThermistorFrontEnd
-from ..units import format_si, format_value
-from .compute import analysis_of, guarded, schematic_of, transfer_figure_of
+from bandcalc.model.design import Design
+from bandcalc.model.front_end import ThermistorFrontEnd
+from bandcalc.model.operating import Analysis
+from bandcalc.model.units import format_si, format_value
+from bandcalc.page.compute import analysis_of, guarded, schematic_of, transfer_figure_of
 
 __all__ = ["AXIS_KEY", "FIGURES", "figure_texts", "render_figures", "render_results", "render_views",
            "watched_name"]

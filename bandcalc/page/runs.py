@@ -15,7 +15,8 @@ from typing import Any
 
 import streamlit as st
 
-from ..design import Design, design_to_json
+from bandcalc.model.design import Design
+from bandcalc.model.design_file import design_to_json
 
 __all__ = ["KEPT", "latest", "recall", "remember"]
 

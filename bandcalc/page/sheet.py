@@ -6,12 +6,12 @@ import logging
 
 import streamlit as st
 
-from .. import __version__
-from . import state
-from .controls import render_controls
-from .design_file import render_design_file
-from .panels import Sheet, render_panels
-from .results import render_results
+from bandcalc import __version__
+from bandcalc.page import state
+from bandcalc.page.controls import render_controls
+from bandcalc.page.panels import Sheet, render_panels
+from bandcalc.page.results import render_results
+from bandcalc.page.whole_design import render_design_file
 
 __all__ = ["main"]
 

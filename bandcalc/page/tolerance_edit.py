@@ -11,9 +11,15 @@ from __future__ import annotations
 
 from dataclasses import replace
 
-from ..design import Design
-from ..tolerances import NOMINAL_CELSIUS, OTHER_RESISTORS, PerResistor, Tolerances, series_tolerance
-from ..watched import all_parameters
+from bandcalc.model.design import Design
+from bandcalc.model.points import all_parameters
+from bandcalc.model.tolerances import (
+    NOMINAL_CELSIUS,
+    OTHER_RESISTORS,
+    PerResistor,
+    Tolerances,
+    series_tolerance,
+)
 
 __all__ = [
     "PLAIN_KEYS",

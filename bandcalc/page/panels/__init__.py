@@ -23,11 +23,11 @@ from types import ModuleType
 
 import streamlit as st
 
-from ...analysis import Analysis
-from ...design import Design
-from .. import state
-from ..compute import analysis_of, guarded
-from . import currents, fit, signal_check, spread, summary
+from bandcalc.model.design import Design
+from bandcalc.model.operating import Analysis
+from bandcalc.page import state
+from bandcalc.page.compute import analysis_of, guarded
+from bandcalc.page.panels import currents, fit, signal_check, spread, summary
 
 __all__ = ["PANELS", "Sheet", "render_panels"]
 

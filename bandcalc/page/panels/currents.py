@@ -4,9 +4,9 @@ from __future__ import annotations
 
 import streamlit as st
 
-from ...analysis import OperatingPoint
-from ...units import format_si, format_value
-from ..names import part_name
+from bandcalc.model.operating import OperatingPoint
+from bandcalc.model.units import format_si, format_value
+from bandcalc.page.names import part_name
 
 TITLE = "Currents and power"
 

@@ -15,14 +15,15 @@ from dataclasses import replace
 
 import streamlit as st
 
-from ...design import Design, DividerReference, design_from_json, design_to_json
-from ...eseries import SERIES
-from ...fit import Candidate, FitResult, apply_candidate, fit
-from ...units import format_code, format_si, format_value, parse_quantity, parse_resistance
-from .. import state
-from ..compute import guarded
-from ..controls import SERIES_KEY
-from ..edit import value_at
+from bandcalc.fit.selection import Candidate, FitResult, apply_candidate, fit
+from bandcalc.model.design import Design, DividerReference
+from bandcalc.model.design_file import design_from_json, design_to_json
+from bandcalc.model.standard_values import SERIES
+from bandcalc.model.units import format_code, format_si, format_value, parse_quantity, parse_resistance
+from bandcalc.page import state
+from bandcalc.page.compute import guarded
+from bandcalc.page.controls import SERIES_KEY
+from bandcalc.page.edit import value_at
 
 TITLE = "Fit to target points"
 

@@ -13,16 +13,16 @@ from dataclasses import dataclass
 
 import streamlit as st
 
-from ...design import Design
-from ...plots import DISPLAY_POINTS, as_figure, signal_spec, tradeoff_spec
-from ...signal import SignalRun, design_points, run_design
-from ...sweep import Sweep, sweep_design
-from ...units import format_si, format_value
-from ...wavefile import read_waveform_csv
-from ...waveform import HUM_FREQUENCIES, SHAPES, Waveform, synthesize
-from .. import runs, state
-from ..compute import guarded
-from ..inputs import read_value
+from bandcalc.model.design import Design
+from bandcalc.model.units import format_si, format_value
+from bandcalc.outputs.plots import DISPLAY_POINTS, as_figure, signal_spec, tradeoff_spec
+from bandcalc.page import runs, state
+from bandcalc.page.compute import guarded
+from bandcalc.page.inputs import read_value
+from bandcalc.signal_check.edges import SignalRun, design_points, run_design
+from bandcalc.signal_check.recording import read_waveform_csv
+from bandcalc.signal_check.waveform import HUM_FREQUENCIES, SHAPES, Waveform, synthesize
+from bandcalc.signal_check.width_trade import Sweep, sweep_design
 
 TITLE = "Signal check"
 

@@ -10,16 +10,15 @@ from __future__ import annotations
 
 import streamlit as st
 
-from ...design import Design
-from ...plots import as_figure, histogram_spec, sensitivity_spec
-from ...spread import DEFAULT_SAMPLES, DEFAULT_SEED, MAX_SAMPLES, MIN_SAMPLES, PERCENTILES, Spread, spread
-from ...tolerances import DISTRIBUTIONS
-from ...units import format_si, format_value
-from .. import runs, state
-from ..compute import guarded
-from ..inputs import choice_control, value_field
-from ..names import factor_name, part_name
-from ..tolerance_edit import (
+from bandcalc.model.design import Design
+from bandcalc.model.tolerances import DISTRIBUTIONS
+from bandcalc.model.units import format_si, format_value
+from bandcalc.outputs.plots import as_figure, histogram_spec, sensitivity_spec
+from bandcalc.page import runs, state
+from bandcalc.page.compute import guarded
+from bandcalc.page.inputs import choice_control, value_field
+from bandcalc.page.names import factor_name, part_name
+from bandcalc.page.tolerance_edit import (
     WINDOW_KEYS,
     resistor_rows,
     temperature_end,
@@ -31,6 +30,15 @@ from ..tolerance_edit import (
     with_tolerance,
     with_window_end,
     without_tolerances,
+)
+from bandcalc.spread.propagation import (
+    DEFAULT_SAMPLES,
+    DEFAULT_SEED,
+    MAX_SAMPLES,
+    MIN_SAMPLES,
+    PERCENTILES,
+    Spread,
+    spread,
 )
 
 TITLE = "Spread"

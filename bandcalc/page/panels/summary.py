@@ -10,10 +10,10 @@ from __future__ import annotations
 
 import streamlit as st
 
-from ...report import SummaryInputs, design_summary
-from .. import runs
-from ..design_file import file_name
-from .fit import latest_fit
+from bandcalc.outputs.summary import SummaryInputs, design_summary
+from bandcalc.page import runs
+from bandcalc.page.panels.fit import latest_fit
+from bandcalc.page.whole_design import file_name
 
 TITLE = "Summary"
 

@@ -28,7 +28,8 @@ import re
 import numpy as np
 import pandas as pd
 
-from bandcalc.waveform import MAX_SAMPLES, Waveform
+from bandcalc.errors import BandcalcError
+from bandcalc.signal_check.waveform import MAX_SAMPLES, Waveform
 
 __all__ = ["MAX_BYTES", "MAX_HEADER_LINES", "MAX_ROWS", "WaveformError", "read_waveform_csv"]
 
@@ -50,7 +51,7 @@ _STARTS_NUMERIC = re.compile(r"\s*\"?[+-]?[.,]?\d")
 _NOT_FINITE = re.compile(r"[+-]?(?:nan|inf|infinity)", re.IGNORECASE)
 
 
-class WaveformError(ValueError):
+class WaveformError(BandcalcError):
     """A CSV waveform file that cannot be read; the message names the line."""
 
 

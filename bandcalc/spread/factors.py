@@ -10,7 +10,7 @@ practice), with the coefficient its kind shares, so like resistors drift togethe
 reference is ``V25 (1 + drift (T - 25 C))`` and the offset ``offset25 + drift (T - 25 C)``,
 each drift coefficient a factor of its own within +/- its bound, as its sign is unknown.
 :class:`VariedModel` builds the model parameters from factor values and evaluates the points
-through :func:`bandcalc.network.switching_points`, many sets of values in one call.
+through :func:`bandcalc.model.network.switching_points`, many sets of values in one call.
 """
 
 from __future__ import annotations
@@ -21,12 +21,12 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .design import Design, DividerReference, FixedReference
-from .frontend import front_end_tolerances
-from .network import switching_points
-from .tolerances import NOMINAL_CELSIUS, OTHER_RESISTORS, Tolerances, series_tolerance
-from .units import format_si
-from .watched import all_parameters, watched_points
+from bandcalc.model.design import Design, DividerReference, FixedReference
+from bandcalc.model.front_end import front_end_tolerances
+from bandcalc.model.network import switching_points
+from bandcalc.model.points import all_parameters, watched_points
+from bandcalc.model.tolerances import NOMINAL_CELSIUS, OTHER_RESISTORS, Tolerances, series_tolerance
+from bandcalc.model.units import format_si
 
 __all__ = ["QUANTITIES", "Factor", "VariedModel", "factors"]
 

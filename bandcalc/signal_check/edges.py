@@ -22,12 +22,12 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from bandcalc._checks import real
-from bandcalc.design import Design, OpenDrain
-from bandcalc.network import switching_points
-from bandcalc.noise import NoiseLevel, hysteresis_noise_finding, noise_level
-from bandcalc.watched import watched_points
-from bandcalc.waveform import Waveform
+from bandcalc.model.design import Design, OpenDrain
+from bandcalc.model.network import switching_points
+from bandcalc.model.points import watched_points
+from bandcalc.model.validation import real
+from bandcalc.signal_check.noise import NoiseLevel, hysteresis_noise_finding, noise_level
+from bandcalc.signal_check.waveform import Waveform
 
 __all__ = [
     "Edges",
@@ -379,7 +379,7 @@ def run_stage(wave: Waveform, upper: float, lower: float, *, inverting: bool = F
         output use :func:`pullup_rise_time`, for push-pull leave 0.
     noise_rms : float, optional
         Known input noise RMS, in V; else measured or estimated, see
-        :func:`bandcalc.noise.noise_level`.
+        :func:`bandcalc.signal_check.noise.noise_level`.
     unit : str
         Unit of the input and the points ("V", or a front end's watched unit such as "C").
 

@@ -12,7 +12,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from bandcalc._checks import choice, real, whole
+from bandcalc.model.validation import choice, real, whole
 
 __all__ = ["HUM_FREQUENCIES", "MAX_SAMPLES", "SHAPES", "Waveform", "synthesize"]
 

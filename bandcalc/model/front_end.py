@@ -16,10 +16,10 @@ stage: a protection or filter resistor), so the stage's signal leg is
 
 Watched values are in the front end's ``unit``; temperatures in degrees Celsius, as the trade
 states them and as the design file stores them; the thermistor models themselves take kelvin.
-Each front end describes itself to the solver (:mod:`bandcalc.watched`) by a coordinate t in
+Each front end describes itself to the solver (:mod:`bandcalc.model.points`) by a coordinate t in
 which its Thevenin voltage and resistance are both affine: ``ends(p)`` gives (V, R) at t = 0
 and t = 1, ``coordinate`` maps x to t and ``watched`` maps t back.  This module holds the
-parts, their models and their design-file section; :mod:`bandcalc.watched` solves the stage.
+parts, their models and their design-file section; :mod:`bandcalc.model.points` solves the stage.
 """
 
 from __future__ import annotations
@@ -30,8 +30,10 @@ from typing import Any, ClassVar
 
 import numpy as np
 
-from .design import Design, DesignError, FixedReference, _finite, _positive, _section
-from .units import UnitError, parse_quantity, parse_resistance
+from bandcalc.errors import DesignError
+from bandcalc.model.design import Design, FixedReference
+from bandcalc.model.units import UnitError, parse_quantity, parse_resistance
+from bandcalc.model.validation import finite, positive, section
 
 __all__ = [
     "DISSIPATION_CONSTANT",
@@ -113,7 +115,7 @@ def steinhart_hart_resistance(coefficients: tuple[float, float, float], kelvin: 
 def _range_checked(low: float | None, high: float | None) -> None:
     for key, value in (("low", low), ("high", high)):
         if value is not None:
-            _finite(value, f"front_end.{key}")
+            finite(value, f"front_end.{key}")
     if low is not None and high is not None and low >= high:
         raise DesignError(f"front_end: low ({low}) must be below high ({high})")
 
@@ -165,8 +167,8 @@ class DividerFrontEnd(_Base):
     affine: ClassVar[bool] = True  # fixed resistance: the switching condition is affine in x
 
     def __post_init__(self) -> None:
-        _positive(self.top, "front_end.top")
-        _positive(self.bottom, "front_end.bottom")
+        positive(self.top, "front_end.top")
+        positive(self.bottom, "front_end.bottom")
         _range_checked(self.low, self.high)
 
     def parameters(self) -> dict[str, float]:
@@ -202,11 +204,11 @@ class LinearFrontEnd(_Base):
     affine: ClassVar[bool] = True
 
     def __post_init__(self) -> None:
-        _finite(self.volts_per_unit, "front_end.volts_per_unit")
+        finite(self.volts_per_unit, "front_end.volts_per_unit")
         if self.volts_per_unit == 0:
             raise DesignError("front_end.volts_per_unit: must not be zero")
-        _finite(self.offset, "front_end.offset")
-        _finite(self.resistance, "front_end.resistance")
+        finite(self.offset, "front_end.offset")
+        finite(self.resistance, "front_end.resistance")
         if self.resistance < 0:
             raise DesignError(f"front_end.resistance: must be zero or more, got {self.resistance!r}")
         if not isinstance(self.unit, str) or not self.unit.strip():
@@ -265,13 +267,13 @@ class ThermistorFrontEnd(_Base):
     affine: ClassVar[bool] = False  # its resistance moves with temperature
 
     def __post_init__(self) -> None:
-        _positive(self.fixed, "front_end.fixed")
+        positive(self.fixed, "front_end.fixed")
         if self.steinhart_hart is None:
             if self.r25 is None or self.beta is None:
                 raise DesignError("front_end: give the thermistor as r25 and beta, "
                                   "or as steinhart_hart [A, B, C]")
-            _positive(self.r25, "front_end.r25")
-            _positive(self.beta, "front_end.beta")
+            positive(self.r25, "front_end.r25")
+            positive(self.beta, "front_end.beta")
         else:
             if self.r25 is not None or self.beta is not None or self.beta_tolerance is not None:
                 raise DesignError("front_end.steinhart_hart: give either steinhart_hart or r25 and beta "
@@ -280,7 +282,7 @@ class ThermistorFrontEnd(_Base):
             if not isinstance(sh, (tuple, list)) or len(sh) != 3:
                 raise DesignError("front_end.steinhart_hart: give three coefficients [A, B, C]")
             for name, value in zip("ABC", sh, strict=True):
-                _finite(value, f"front_end.steinhart_hart {name}")
+                finite(value, f"front_end.steinhart_hart {name}")
             if not (sh[1] > 0 and sh[2] >= 0):
                 raise DesignError("front_end.steinhart_hart: an NTC thermistor needs B > 0 and C >= 0")
             object.__setattr__(self, "steinhart_hart", tuple(float(v) for v in sh))
@@ -292,12 +294,12 @@ class ThermistorFrontEnd(_Base):
                 raise DesignError(f"front_end.excitation: {self.excitation!r} is not allowed; give "
                                   f"\"positive\", \"reference\" or a voltage")
         else:
-            _positive(self.excitation, "front_end.excitation")
-        _positive(self.dissipation_constant, "front_end.dissipation_constant")
+            positive(self.excitation, "front_end.excitation")
+        positive(self.dissipation_constant, "front_end.dissipation_constant")
         for key in ("r25_tolerance", "beta_tolerance"):
             value = getattr(self, key)
             if value is not None:
-                _finite(value, f"front_end.{key}")
+                finite(value, f"front_end.{key}")
                 if not 0 <= value < 100:
                     raise DesignError(f"front_end.{key}: a percentage from 0 to below 100, got {value!r}")
         _range_checked(self.low, self.high)
@@ -424,7 +426,7 @@ def front_end_from_dict(data: Any) -> FrontEnd | None:
     cls = _CLASSES[kind]
     allowed = ("kind",) + tuple(f.name for f in fields(cls))
     required = ("kind",) + tuple(f.name for f in fields(cls) if f.default is MISSING)
-    _section(data, "front_end", allowed, required)
+    section(data, "front_end", allowed, required)
     unit = cls.unit if isinstance(getattr(cls, "unit", None), str) else ""
     return cls(**{k: _read(k, v, unit) for k, v in data.items() if k != "kind"})
 

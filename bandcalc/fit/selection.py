@@ -6,7 +6,7 @@ values.  The fit chooses which resistors are free, adds a + pin leg where the st
 cannot place both points, finds the exact continuous solution, and lists the best standard
 values, ranked by the larger of the two errors (ties: lower network current).
 
-Every number reported comes from the general model (:func:`bandcalc.network.switching_points`),
+Every number reported comes from the general model (:func:`bandcalc.model.network.switching_points`),
 so open-drain loading, offset, bias current and source resistance are always included.
 """
 
@@ -18,13 +18,21 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from .design import RESISTOR_KEYS, Design, DividerReference, FixedReference, OpenDrain, Resistors
-from .eseries import EseriesError, series_values
-from .network import Points, parameters, switching_points
-from .search import Evaluate, search
-from .solver import solve
-from .units import UnitError, format_si, format_value, parse_resistance
-from .watched import stage_design, stage_targets, watched_points
+from bandcalc.errors import BandcalcError
+from bandcalc.fit.exact import solve
+from bandcalc.fit.grid_search import Evaluate, search
+from bandcalc.model.design import (
+    RESISTOR_KEYS,
+    Design,
+    DividerReference,
+    FixedReference,
+    OpenDrain,
+    Resistors,
+)
+from bandcalc.model.network import Points, parameters, switching_points
+from bandcalc.model.points import stage_design, stage_targets, watched_points
+from bandcalc.model.standard_values import EseriesError, series_values
+from bandcalc.model.units import UnitError, format_si, format_value, parse_resistance
 
 __all__ = [
     "Candidate",
@@ -43,7 +51,7 @@ _LEG_WORDS = {"to_ground": "ground", "to_positive": "the positive rail",
               "to_negative": "the negative rail", "to_reference": "the reference"}
 
 
-class FitError(ValueError):
+class FitError(BandcalcError):
     """Targets or settings the fit cannot work with; the message says why and what would help."""
 
 
@@ -499,10 +507,10 @@ _WATCHED_POOL = 4
 def _fit_watched(design: Design, upper: float, lower: float, count: int, settings: dict) -> FitResult:
     """Fit a design with a front end to targets in its watched quantity.
 
-    The watched targets map to targets at the stage's source (:func:`bandcalc.watched.stage_targets`;
+    The watched targets map to targets at the stage's source (:func:`bandcalc.model.points.stage_targets`;
     exact for a divider or a linear sensor, whose resistance is fixed).  The stage is fitted as it
     sees the front end, then every candidate is evaluated through the whole front end and stage
-    (:func:`bandcalc.watched.watched_points`) and ranked again on those exact figures.
+    (:func:`bandcalc.model.points.watched_points`) and ranked again on those exact figures.
     """
     unit = design.front_end.unit
     try:

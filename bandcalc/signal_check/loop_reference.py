@@ -1,7 +1,7 @@
 """The switching rule written sample by sample, as plainly as possible.
 
 Not used by the package: it is the readable definition that the vectorized
-core in :mod:`bandcalc.signal` is tested against, and the baseline its
+core in :mod:`bandcalc.signal_check.edges` is tested against, and the baseline its
 benchmark is timed against.
 """
 

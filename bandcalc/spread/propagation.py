@@ -1,7 +1,7 @@
 """Spread of the switching points over part tolerances and temperature.
 
 Three analyses of one design, all through the one vectorized stage model
-(:class:`bandcalc.factors.VariedModel` over the stage model, through the front end if any):
+(:class:`bandcalc.spread.factors.VariedModel` over the stage model, through the front end if any):
 
 - worst case: the exact least and greatest upper point, lower point and hysteresis over the
   whole tolerance box, and the corner that gives each;
@@ -18,12 +18,13 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .analysis import analyze
-from .design import Design
-from .factors import QUANTITIES, Factor, VariedModel
-from .tolerances import Tolerances
-from .units import format_value
-from .watched import watched_range
+from bandcalc.errors import BandcalcError
+from bandcalc.model.design import Design
+from bandcalc.model.operating import analyze
+from bandcalc.model.points import watched_range
+from bandcalc.model.tolerances import Tolerances
+from bandcalc.model.units import format_value
+from bandcalc.spread.factors import QUANTITIES, Factor, VariedModel
 
 __all__ = [
     "CHUNK",
@@ -66,7 +67,7 @@ DEFAULT_BINS = 60
 Z95 = 1.959963984540054
 
 
-class SpreadError(ValueError):
+class SpreadError(BandcalcError):
     """A spread request that cannot be run; the message names the setting and what is allowed."""
 
 

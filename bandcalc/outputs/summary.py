@@ -13,12 +13,13 @@ import json
 import re
 from dataclasses import dataclass
 
-from . import __version__
-from .analysis import Analysis, analyze
-from .design import Design, DividerReference, FixedReference, OpenDrain, design_to_dict
-from .frontend import DividerFrontEnd, LinearFrontEnd, ThermistorFrontEnd
-from .tolerances import series_tolerance
-from .units import format_code, format_si, format_value
+from bandcalc import __version__
+from bandcalc.model.design import Design, DividerReference, FixedReference, OpenDrain
+from bandcalc.model.design_file import design_to_dict
+from bandcalc.model.front_end import DividerFrontEnd, LinearFrontEnd, ThermistorFrontEnd
+from bandcalc.model.operating import Analysis, analyze
+from bandcalc.model.tolerances import series_tolerance
+from bandcalc.model.units import format_code, format_si, format_value
 
 __all__ = [
     "SummaryInputs",
@@ -239,7 +240,7 @@ def _points_rows(a: Analysis, spread) -> tuple[list[str], list[list[str]]]:
 
 
 def _spread_section(spread) -> list[str]:
-    """How the spread was run, the yield and the parts that matter most (bandcalc.spread.Spread)."""
+    """How the spread was run, the yield and the parts that matter most (a ``Spread``)."""
     mc, se = spread.monte_carlo, spread.sensitivity
     kind = ("normal, a tolerance taken as 3 sigma" if spread.tolerances.distribution == "normal"
             else "uniform within each tolerance")
@@ -266,7 +267,7 @@ def _table(header: list[str], rows: list[list[str]]) -> list[str]:
 
 
 def _signal_section(run) -> list[str]:
-    """Table and findings of a signal run (bandcalc.signal.SignalRun)."""
+    """Table and findings of a signal run (bandcalc.signal_check.edges.SignalRun)."""
     t = lambda x: format_si(x, "s")  # noqa: E731
     clean = "not known (recorded signal)" if run.clean_edge_count is None else str(run.clean_edge_count)
     rows = [
@@ -282,7 +283,7 @@ def _signal_section(run) -> list[str]:
 
 
 def _fit_section(result) -> list[str]:
-    """Targets, the leading candidates and the exact solution of a fit (bandcalc.fit.FitResult)."""
+    """Targets, the leading candidates and the exact solution of a fit (bandcalc.fit.selection.FitResult)."""
     unit = result.design.front_end.unit if result.design.front_end is not None else "V"
     q = lambda x: format_value(x, unit, 4)  # noqa: E731
 
@@ -372,7 +373,8 @@ _JSON_BLOCK = re.compile(r"^## Design file\n\n(?P<fence>`{3,})json\n(?P<body>.*?
 
 def design_from_summary(text: str) -> Design:
     """Rebuild the design from a summary's closing ``json`` block."""
-    from .design import DesignError, design_from_json
+    from bandcalc.errors import DesignError
+    from bandcalc.model.design_file import design_from_json
 
     m = _JSON_BLOCK.search(text)
     if m is None:

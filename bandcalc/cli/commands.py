@@ -15,16 +15,25 @@ import textwrap
 from collections.abc import Callable, Sequence
 from pathlib import Path
 
-from . import __version__
-from .analysis import Analysis, analysis_to_dict, analyze
-from .design import Design, load_design
-from .factors import QUANTITIES, Factor
-from .fit import Candidate, FitResult, fit, fit_to_dict
-from .signal import design_points, run_design
-from .spread import DEFAULT_SAMPLES, DEFAULT_SEED, MAX_SAMPLES, MIN_SAMPLES, Spread, spread, spread_to_dict
-from .sweep import sweep_design
-from .units import format_ohms, format_si, format_value, parse_quantity, parse_resistance
-from .waveform import synthesize
+from bandcalc import __version__
+from bandcalc.fit.selection import Candidate, FitResult, fit, fit_to_dict
+from bandcalc.model.design import Design
+from bandcalc.model.design_file import load_design
+from bandcalc.model.operating import Analysis, analysis_to_dict, analyze
+from bandcalc.model.units import format_ohms, format_si, format_value, parse_quantity, parse_resistance
+from bandcalc.signal_check.edges import design_points, run_design
+from bandcalc.signal_check.waveform import synthesize
+from bandcalc.signal_check.width_trade import sweep_design
+from bandcalc.spread.factors import QUANTITIES, Factor
+from bandcalc.spread.propagation import (
+    DEFAULT_SAMPLES,
+    DEFAULT_SEED,
+    MAX_SAMPLES,
+    MIN_SAMPLES,
+    Spread,
+    spread,
+    spread_to_dict,
+)
 
 __all__ = ["main"]
 
@@ -149,7 +158,9 @@ def _signal_table(path: str, d: dict) -> str:
 
 
 def _cmd_signal(args: argparse.Namespace) -> int:
-    from .wavefile import read_waveform_csv  # pandas: imported only when a command needs it
+    from bandcalc.signal_check.recording import (
+        read_waveform_csv,  # pandas: imported only when a command needs it
+    )
 
     recorded = None
     if args.csv:
@@ -169,7 +180,7 @@ def _cmd_signal(args: argparse.Namespace) -> int:
 
 
 def _cmd_report(args: argparse.Namespace) -> int:
-    from .report import SummaryInputs, design_summary
+    from bandcalc.outputs.summary import SummaryInputs, design_summary
 
     def work(path: str, design: Design) -> object:
         run = spread(design, samples=args.samples, seed=args.seed) if args.spread else None

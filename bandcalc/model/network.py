@@ -23,7 +23,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .design import Design, DividerReference, FixedReference, OpenDrain
+from bandcalc.model.design import Design, DividerReference, FixedReference, OpenDrain
 
 __all__ = [
     "Nodes",

@@ -2,18 +2,18 @@
 
 How the points are solved
 -------------------------
-Each front end (:mod:`bandcalc.frontend`) has a coordinate t in which its Thevenin voltage and
+Each front end (:mod:`bandcalc.model.front_end`) has a coordinate t in which its Thevenin voltage and
 resistance are both affine: the watched value itself for the divider and the linear sensor, and
 the divider fraction u = R_t / (R_t + R_fixed) for the thermistor (V_th = V_e u or V_e (1 - u),
 R_th = R_fixed u).  With a fixed resistance (divider, linear sensor) the stage's switching
 condition V+ - V- - offset is affine in t, so each point is exact from the stage's own line
-(one pass, :func:`bandcalc.network.difference_line`).  With the thermistor, whose Thevenin
+(one pass, :func:`bandcalc.model.network.difference_line`).  With the thermistor, whose Thevenin
 resistance moves with temperature, the condition is a bilinear (Moebius) function of u: every
 node voltage of a linear network is a ratio of two affine functions of any one element's value
 (the bilinear theorem of network functions), and here the signal and its series resistance move
 together along one line.  So
 each point is exact from three evaluations of the one general solution
-(:func:`bandcalc.network.node_voltages`) at u = 0, 1/2 and 1, then mapped back to a temperature
+(:func:`bandcalc.model.network.node_voltages`) at u = 0, 1/2 and 1, then mapped back to a temperature
 by the thermistor's model.  No iteration and no bracket (the tests check it against scipy's
 bracketed root finder and against lcapy), and it vectorizes like the stage model.
 
@@ -32,7 +32,7 @@ For fit, spread and page
 * Spread: :func:`watched_points` takes the same array overrides as ``switching_points`` plus the
   front end's own parameters (``front_end.r25``, ``front_end.beta``, ``front_end.fixed``,
   ``front_end.top``, ...; :func:`all_parameters` lists them);
-  :func:`bandcalc.frontend.front_end_tolerances` gives the front end's tolerances as fractions
+  :func:`bandcalc.model.front_end.front_end_tolerances` gives the front end's tolerances as fractions
   keyed the same way.  It returns the points in volts too (``stage_upper``, ``stage_lower``).
 * Page: plot against :func:`watched_at` (source volts -> watched value) and label with
   :func:`format_value`.
@@ -45,9 +45,10 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from .design import Design, DesignError, Source
-from .frontend import DividerFrontEnd, FrontEnd, ThermistorFrontEnd
-from .network import difference_line, node_voltages, parameters
+from bandcalc.errors import DesignError
+from bandcalc.model.design import Design, Source
+from bandcalc.model.front_end import DividerFrontEnd, FrontEnd, ThermistorFrontEnd
+from bandcalc.model.network import difference_line, node_voltages, parameters
 
 __all__ = [
     "StageTargets",
@@ -72,7 +73,7 @@ def _front_end(design: Design) -> FrontEnd:
 
 
 def all_parameters(design: Design) -> dict[str, float]:
-    """:func:`bandcalc.network.parameters` plus the front end's own (``front_end.*``), if any."""
+    """:func:`bandcalc.model.network.parameters` plus the front end's own (``front_end.*``), if any."""
     extra = design.front_end.parameters() if design.front_end is not None else {}
     return {**parameters(design), **extra}
 

@@ -12,11 +12,11 @@ from collections.abc import Mapping
 import numpy as np
 import plotly.graph_objects as go
 
-from .signal import SignalRun
-from .spread import Sensitivity, Summary
-from .sweep import Sweep
-from .transfer import TransferCurve
-from .units import format_value
+from bandcalc.model.transfer import TransferCurve
+from bandcalc.model.units import format_value
+from bandcalc.signal_check.edges import SignalRun
+from bandcalc.signal_check.width_trade import Sweep
+from bandcalc.spread.propagation import Sensitivity, Summary
 
 __all__ = [
     "DISPLAY_POINTS",
@@ -148,7 +148,7 @@ def transfer_figure(curve: TransferCurve, title: str | None = None, validate: bo
     Parameters
     ----------
     curve : TransferCurve
-        From :func:`bandcalc.transfer.transfer_curve`.
+        From :func:`bandcalc.model.transfer.transfer_curve`.
     title : str, optional
     validate : bool
         Check the specification against Plotly's schema (about 70 ms).  The page passes False:
@@ -300,7 +300,7 @@ def signal_spec(run: SignalRun, output_levels: tuple[float, float], unit: str,
 
 
 def tradeoff_spec(sweep: Sweep, unit: str, width: float | None = None) -> dict:
-    """Output edges and delay against hysteresis width, from :func:`bandcalc.sweep.sweep_design`.
+    """Output edges and delay against hysteresis width (from ``width_trade.sweep_design``).
 
     Traces: "Output edges", "Edges of the noise-free signal" (where known), then on ``yaxis2``
     (seconds) "Mean delay" and "Largest delay" (where known: they need the noise-free signal).

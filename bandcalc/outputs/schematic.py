@@ -5,7 +5,7 @@ runs to the left above the comparator (the reference in a non-inverting stage, t
 an inverting one); the + pin's summing node runs to the left below it, with each leg hanging
 down from it, and the feedback resistor runs underneath from the output back to the + pin.
 Rails are open terminals marked with their voltage; a reference that two places use is drawn
-once and named "REF" where it is reached again.  A front end (:mod:`bandcalc.frontend`) is drawn
+once and named "REF" where it is reached again.  A front end (:mod:`bandcalc.model.front_end`) is drawn
 ahead of the signal's input: the sense divider, the thermistor with its fixed resistor and
 excitation, or the sensor as a controlled source behind its output resistance.  Values are
 written in the IEC 60062 code ("4k7", "1M5") and volts with SI prefixes.
@@ -24,9 +24,9 @@ import schemdraw
 import schemdraw.elements as elm
 from schemdraw.util import Point
 
-from .design import Design, DividerReference, FixedReference, OpenDrain
-from .frontend import DividerFrontEnd, LinearFrontEnd, ThermistorFrontEnd
-from .units import format_code, format_si, format_value
+from bandcalc.model.design import Design, DividerReference, FixedReference, OpenDrain
+from bandcalc.model.front_end import DividerFrontEnd, LinearFrontEnd, ThermistorFrontEnd
+from bandcalc.model.units import format_code, format_si, format_value
 
 __all__ = ["DESIGNATORS", "stage_labels", "stage_svg"]
 

@@ -10,6 +10,8 @@ from __future__ import annotations
 import math
 import re
 
+from bandcalc.errors import BandcalcError
+
 __all__ = [
     "UnitError",
     "format_code",
@@ -36,7 +38,7 @@ _CODE_RE = re.compile(r"^\s*(?P<int>\d*)(?P<letter>[RrKkMGT])(?P<frac>\d*)\s*(?P
 _RES_HINT = "write ohms as a number, with an SI prefix (4.7k, 2.2M) or in the IEC 60062 code (4k7, 2R2, 1M5)"
 
 
-class UnitError(ValueError):
+class UnitError(BandcalcError):
     """A typed quantity that cannot be read; the message names the field and the text."""
 
 

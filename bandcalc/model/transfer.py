@@ -8,13 +8,13 @@ is the hysteresis band.
 
 The output level on each branch is the level the network model reaches (the output node's
 voltage, with the feedback and any pull-up or output resistance loading it), so it may slope
-slightly with the input.  This module only computes arrays; :mod:`bandcalc.plots` draws them.
+slightly with the input.  This module only computes arrays; :mod:`bandcalc.outputs.plots` draws them.
 
-With a front end ahead of the stage (:mod:`bandcalc.frontend`) the curve runs over the watched
+With a front end ahead of the stage (:mod:`bandcalc.model.front_end`) the curve runs over the watched
 range: against the front end's open-circuit voltage at the stage, or (``watched=True``) against
 the watched quantity itself.  At each input the stage sees the front end's Thevenin equivalent,
 whose resistance may move with the watched value (a thermistor), so the levels and both points
-agree with :func:`bandcalc.analysis.analyze`.  Where the stage's input falls as the watched
+agree with :func:`bandcalc.model.operating.analyze`.  Where the stage's input falls as the watched
 quantity rises (a thermistor at the bottom of its divider), the watched curve starts in the
 stage's switched state.
 """
@@ -27,9 +27,9 @@ from dataclasses import dataclass
 import numpy as np
 from numpy.typing import NDArray
 
-from .design import Design
-from .network import node_voltages, parameters, switching_points
-from .watched import volts_for, watched_points, watched_range
+from bandcalc.model.design import Design
+from bandcalc.model.network import node_voltages, parameters, switching_points
+from bandcalc.model.points import volts_for, watched_points, watched_range
 
 __all__ = ["TransferCurve", "transfer_curve"]
 

@@ -20,6 +20,8 @@ from types import MappingProxyType
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
+from bandcalc.errors import BandcalcError
+
 __all__ = [
     "SERIES",
     "TOLERANCE",
@@ -33,7 +35,7 @@ __all__ = [
 ]
 
 
-class EseriesError(ValueError):
+class EseriesError(BandcalcError):
     """A series name or a value that the E-series lookups cannot use."""
 
 

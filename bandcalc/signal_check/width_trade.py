@@ -12,10 +12,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from bandcalc._checks import real
-from bandcalc.design import Design
-from bandcalc.noise import noise_level
-from bandcalc.signal import (
+from bandcalc.model.design import Design
+from bandcalc.model.validation import real
+from bandcalc.signal_check.edges import (
     centre_crossings,
     design_points,
     edge_delays,
@@ -24,7 +23,8 @@ from bandcalc.signal import (
     missed_transitions,
     output_rise_time,
 )
-from bandcalc.waveform import Waveform
+from bandcalc.signal_check.noise import noise_level
+from bandcalc.signal_check.waveform import Waveform
 
 __all__ = ["MAX_WIDTHS", "Sweep", "hysteresis_sweep", "sweep_design"]
 
@@ -48,7 +48,7 @@ class Sweep:
         Edges of the noise-free signal for each width.
     missed_counts : numpy.ndarray of int or None
         Centre crossings of the noise-free signal it does not answer (points
-        beyond the swing), see :func:`bandcalc.signal.missed_transitions`.
+        beyond the swing), see :func:`bandcalc.signal_check.edges.missed_transitions`.
     clean_crossing_count : int or None
         Centre crossings of the noise-free signal: the transitions wanted.
     mean_delays, max_delays : numpy.ndarray
@@ -131,7 +131,7 @@ def hysteresis_sweep(wave: Waveform, centre: float, widths: object, *,
     widths : array_like
         Hysteresis widths to try, in V, each at least 0, up to ``MAX_WIDTHS``.
     inverting, delay, rise_time
-        As for :func:`bandcalc.signal.run_stage`.
+        As for :func:`bandcalc.signal_check.edges.run_stage`.
 
     Returns
     -------
@@ -174,7 +174,7 @@ def sweep_design(design: Design, wave: Waveform, widths: object | None = None) -
     """Sweep the hysteresis width about the design's own centre (see ``signal.design_points``).
 
     Default widths: 81 steps from 0 to twice the larger of the design's hysteresis and the
-    noise's peak-to-peak (6.6 x RMS, see :mod:`bandcalc.noise`).
+    noise's peak-to-peak (6.6 x RMS, see :mod:`bandcalc.signal_check.noise`).
     """
     upper, lower, inverting = design_points(design)
     if widths is None:

@@ -12,9 +12,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from bandcalc._checks import real
-from bandcalc.units import format_value
-from bandcalc.waveform import Waveform
+from bandcalc.model.units import format_value
+from bandcalc.model.validation import real
+from bandcalc.signal_check.waveform import Waveform
 
 __all__ = [
     "PEAK_TO_PEAK_PER_RMS",

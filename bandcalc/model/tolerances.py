@@ -5,7 +5,7 @@ file: percent for resistors, a fixed reference and the supply rails; volts for t
 offset; amperes for its bias current; degrees Celsius for the temperature range; ppm/K for
 resistor temperature coefficients and reference drift; volts per kelvin for offset drift.
 
-This module reads and writes the section only; :mod:`bandcalc.spread` turns it into varied
+This module reads and writes the section only; :mod:`bandcalc.spread.propagation` turns it into varied
 parameters of the stage model.  It imports nothing from the design module, so that the design
 module can import it.
 """
@@ -17,8 +17,9 @@ from collections.abc import Sequence
 from dataclasses import dataclass, field
 from typing import Any
 
-from .eseries import TOLERANCE, EseriesError, nearest
-from .units import UnitError, parse_quantity
+from bandcalc.errors import BandcalcError
+from bandcalc.model.standard_values import TOLERANCE, EseriesError, nearest
+from bandcalc.model.units import UnitError, parse_quantity
 
 __all__ = [
     "DISTRIBUTIONS",
@@ -49,7 +50,7 @@ _PRECISION_SERIES = ("E24", "E48", "E96", "E192")
 _MATCH_RTOL = 1e-9
 
 
-class ToleranceError(ValueError):
+class ToleranceError(BandcalcError):
     """A tolerances section that cannot be used; the message names the key and what is allowed."""
 
 

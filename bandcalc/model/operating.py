@@ -1,7 +1,7 @@
 """Analysis of one design: switching points, levels, currents, power and plain-sentence findings.
 
-With a front end (a divider or sensor ahead of the stage, :mod:`bandcalc.frontend`) the stage is
-analysed as it sees the front end at each switching point (:func:`bandcalc.watched.stage_design`)
+With a front end (a divider or sensor ahead of the stage, :mod:`bandcalc.model.front_end`) the stage is
+analysed as it sees the front end at each switching point (:func:`bandcalc.model.points.stage_design`)
 and both points are reported in the watched quantity as well as in volts.
 """
 
@@ -10,11 +10,10 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, replace
 
-from .design import Design, DividerReference, OpenDrain
-from .frontend import SELF_HEATING_LIMIT, ThermistorFrontEnd
-from .network import Nodes, node_voltages, parameters, switching_points
-from .units import format_si, format_value
-from .watched import (
+from bandcalc.model.design import Design, DividerReference, OpenDrain
+from bandcalc.model.front_end import SELF_HEATING_LIMIT, ThermistorFrontEnd
+from bandcalc.model.network import Nodes, node_voltages, parameters, switching_points
+from bandcalc.model.points import (
     WatchedPoints,
     front_end_power,
     stage_design,
@@ -22,6 +21,7 @@ from .watched import (
     watched_points,
     watched_range,
 )
+from bandcalc.model.units import format_si, format_value
 
 __all__ = [
     "HAZARD_VOLTS",

@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .search import Evaluate
+from bandcalc.fit.grid_search import Evaluate
 
 __all__ = ["solve"]
 

@@ -1,0 +1,1 @@
+"""What bandcalc hands over: the Markdown design summary, Plotly figures and the SVG schematic."""

@@ -1,0 +1,1 @@
+"""A sampled input run through the stage: waveforms, recordings, edges, noise, width trade-off."""

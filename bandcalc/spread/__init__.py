@@ -1,0 +1,1 @@
+"""Spread of the switching points over tolerances and temperature: worst case, Monte Carlo, sensitivity."""
