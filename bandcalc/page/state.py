@@ -23,10 +23,10 @@ from typing import Any, TypeVar
 
 import streamlit as st
 
+from bandcalc.demos import DEFAULT_DEMO, demo_designs
 from bandcalc.errors import DesignError
 from bandcalc.model.design import Design
 from bandcalc.page.address import PARAM, address_to_design, design_to_address
-from bandcalc.page.demos import DEFAULT_DEMO, demo_designs
 
 __all__ = [
     "INPUT_PREFIX",

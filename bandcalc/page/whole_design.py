@@ -6,11 +6,11 @@ import re
 
 import streamlit as st
 
+from bandcalc.demos import demo_designs
 from bandcalc.errors import DesignError
 from bandcalc.model.design import Design
 from bandcalc.model.design_file import design_from_json, design_to_json
 from bandcalc.page import state
-from bandcalc.page.demos import demo_designs
 from bandcalc.page.edit import with_value
 
 __all__ = ["MAX_UPLOAD_MB", "file_name", "render_design_file"]
