@@ -13,7 +13,8 @@ import numpy as np
 from timing import best_of  # the benchmarks' shared timer (this folder)
 
 from bandcalc.model.design_file import load_design
-from bandcalc.model.network import parameters, switching_points
+from bandcalc.model.network import switching_points
+from bandcalc.model.parts import parameters
 
 DEMO = Path(__file__).parent.parent / "demo_data" / "solar_battery_disconnect.json"
 

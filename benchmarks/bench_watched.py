@@ -1,7 +1,7 @@
 """Benchmark: watched switching points of a thermistor front end, vectorized, against a root finder.
 
 Run:  python benchmarks/bench_watched.py
-Times one ``watched_points`` call over 1,000,000 variants of the greenhouse thermostat (R25,
+Times one ``design_points`` call over 1,000,000 variants of the greenhouse thermostat (R25,
 Beta, fixed resistor, stage resistors), and, side by side in the same run, a scalar bracketed
 root solve (scipy's brentq on temperature, the stage re-evaluated at each trial's Thevenin
 resistance) over a sample of the same variants; prints both per variant, their ratio, and the
@@ -18,7 +18,8 @@ from timing import best_of  # the benchmarks' shared timer (this folder)
 
 from bandcalc.model.design_file import load_design
 from bandcalc.model.network import switching_points
-from bandcalc.model.points import all_parameters, volts_for, watched_points
+from bandcalc.model.parts import parameters
+from bandcalc.model.points import design_points, volts_for
 
 DEMO = Path(__file__).parent.parent / "demo_data" / "greenhouse_fan_thermostat.json"
 
@@ -39,15 +40,15 @@ def bracketed(design, values: dict[str, float]) -> float:
 def main(n: int = 1_000_000, loop_n: int = 200) -> None:
     design = load_design(DEMO)
     rng = np.random.default_rng(1)
-    nominal = all_parameters(design)
+    nominal = parameters(design)
     keys = ["front_end.r25", "front_end.beta", "front_end.fixed",
             "resistors.to_positive", "resistors.to_ground", "resistors.feedback"]
     values = {k: nominal[k] * rng.normal(1.0, 0.01, n) for k in keys}
 
-    vector = best_of(lambda: watched_points(design, values), 3)
+    vector = best_of(lambda: design_points(design, values), 3)
     sample = [{k: float(v[i]) for k, v in values.items()} for i in range(loop_n)]
     loop = best_of(lambda: [bracketed(design, s) for s in sample], 1)
-    fast = watched_points(design, {k: v[:loop_n] for k, v in values.items()}).at_stage_upper
+    fast = design_points(design, {k: v[:loop_n] for k, v in values.items()}).at_stage_upper
     slow = np.array([bracketed(design, s) for s in sample])
     per_vector, per_loop = vector / n, loop / loop_n
     print(f"design: {design.name} (thermistor front end, {design.stage} stage)")

@@ -25,10 +25,10 @@ import pytest
 
 from bandcalc.model.design_file import design_from_json, load_design
 from bandcalc.model.operating import analyze
+from bandcalc.model.parts import with_value
 from bandcalc.model.units import format_si
 from bandcalc.outputs.summary import design_from_summary
 from bandcalc.page.address import PARAM, address_to_design
-from bandcalc.page.edit import with_value
 
 pytestmark = pytest.mark.browser
 

@@ -17,7 +17,6 @@ from bandcalc.model.standard_values import (
     next_below,
     series_of,
     series_values,
-    usual_tolerance,
 )
 
 NAMES = ("E3", "E6", "E12", "E24", "E48", "E96", "E192")
@@ -253,9 +252,9 @@ def test_vectorized_matches_scalar(name, values):
         (4990.0, "E96", 0.01),  # 4.99 is in E96 (and E192), not E48
     ],
 )
-def test_series_of_and_usual_tolerance(value, name, tolerance):
+def test_series_of_and_its_tolerance(value, name, tolerance):
     assert series_of(value) == name
-    assert usual_tolerance(value) == tolerance
+    assert (TOLERANCE[name] if name else None) == tolerance
 
 
 # --- Bad input --------------------------------------------------------------------------

@@ -92,7 +92,7 @@ def test_every_candidate_reanalysed_gives_its_points(name, upper, lower):
         assert applied.name == design.name and applied.comparator == design.comparator
         a = analyze(applied)
         # With a front end the points are in the watched quantity (battery volts here).
-        got = (a.upper, a.lower) if a.watched is None else (a.upper_watched, a.lower_watched)
+        got = (float(a.points.upper), float(a.points.lower))
         assert got == pytest.approx((c.upper, c.lower), abs=1e-9)
         assert (c.error_upper, c.error_lower) == (c.upper - upper, c.lower - lower)
         assert c.worst_error == max(abs(c.error_upper), abs(c.error_lower))
@@ -383,11 +383,11 @@ def test_fit_to_dict_round_trips_through_json():
 
 def _exhaustive_watched(design, params, grid, upper, lower):
     """Every combination of grid values, evaluated through the front end; the least worst error."""
-    from bandcalc.model.points import watched_points
+    from bandcalc.model.points import design_points
 
     mesh = np.meshgrid(*([grid] * len(params)), indexing="ij")
     values = {f"resistors.{p}": m.ravel() for p, m in zip(params, mesh, strict=True)}
-    w = watched_points(design, values)
+    w = design_points(design, values)
     worst = np.maximum(np.abs(w.upper - upper), np.abs(w.lower - lower))
     return float(np.nanmin(worst))
 
@@ -403,7 +403,7 @@ def test_watched_targets_best_equals_exhaustive_search(name, upper, lower):
     r = fit(design, upper, lower, series="E12", count=3, add_leg=False)
     best = r.candidates[0]
     a = analyze(best.design)
-    assert (a.upper_watched, a.lower_watched) == pytest.approx((best.upper, best.lower), abs=1e-9)
+    assert (float(a.points.upper), float(a.points.lower)) == pytest.approx((best.upper, best.lower), abs=1e-9)
     params = [p for p in r.fitted if not p.startswith("reference.")]
     grid = series_values("E12", 1e3, 10e6)
     assert best.worst_error == pytest.approx(_exhaustive_watched(design, params, grid, upper, lower),

@@ -29,12 +29,12 @@ from bandcalc.model.front_end import (
 from bandcalc.model.network import switching_points
 from bandcalc.model.operating import analysis_to_dict, analyze
 from bandcalc.model.points import (
+    design_points,
     front_end_power,
+    input_at,
     stage_design,
     stage_targets,
     volts_for,
-    watched_at,
-    watched_points,
 )
 
 ROOT = Path(__file__).parent.parent
@@ -123,7 +123,7 @@ def test_watched_divider_points_against_lcapy_whole_circuit(stage):
                  else Resistors(input=10e3, to_reference=100e3, feedback=1e6))
     design = _stage(stage=stage, resistors=resistors, front_end=DividerFrontEnd(240e3, 62e3),
                     source=Source(resistance=470.0))
-    w = watched_points(design)
+    w = design_points(design)
     states = ("high", "low") if design.inverting else ("low", "high")
     for state, x in zip(states, (w.at_stage_upper, w.at_stage_lower), strict=True):
         text, minus = _full_circuit(design, state, ["Vs w 0 vs", "Rtop w s 240000.0", "Rbot s 0 62000.0"])
@@ -148,7 +148,7 @@ def test_watched_thermistor_points_satisfy_the_whole_circuit_in_lcapy(position, 
                  else Resistors(to_positive=150e3, to_ground=120e3, feedback=1.5e6))
     design = _stage(stage=stage, resistors=resistors, reference=FixedReference(2.5), front_end=fe,
                     output=PushPull(0.02, 0.02, 60.0), source=Source(resistance=220.0))
-    w = watched_points(design)
+    w = design_points(design)
     states = ("high", "low") if design.inverting else ("low", "high")
     for state, x in zip(states, (w.at_stage_upper, w.at_stage_lower), strict=True):
         r_t = float(fe.resistance({"front_end.r25": 10e3, "front_end.beta": 3950.0}, x))
@@ -167,7 +167,7 @@ def test_thermistor_points_against_a_bracketed_root_solve():
     from scipy.optimize import brentq
 
     design = load_design(GREENHOUSE)
-    w = watched_points(design)
+    w = design_points(design)
 
     def gap(celsius, which):
         volts, ohms = volts_for(design, celsius)
@@ -211,7 +211,7 @@ def test_watched_points_round_trip_through_the_stage_model(design):
     # Tolerance: both sides extrapolate from samples at 0 and 1 (V or the divider fraction), so
     # the random designs' far-out points carry rounding that grows with the distance: about 1e-10
     # at kilovolts, above 1e-9 at millions of units (a 1 mV/kPa sensor's point at -6.4e6 kPa).
-    w = watched_points(design)
+    w = design_points(design)
     close = {"abs": 1e-9 * max(1.0, design.supply.span), "rel": 1e-8}
     points = (("upper", w.at_stage_upper, w.stage_upper), ("lower", w.at_stage_lower, w.stage_lower))
     for which, x, volts in points:
@@ -221,28 +221,28 @@ def test_watched_points_round_trip_through_the_stage_model(design):
         assert float(v) == pytest.approx(float(volts), **close)
         point = getattr(switching_points(design, {"source.resistance": r}), which)
         assert float(point) == pytest.approx(float(v), **close)
-        assert float(watched_at(design, v)) == pytest.approx(float(x), rel=1e-9, abs=1e-9)
+        assert float(input_at(design, v)) == pytest.approx(float(x), rel=1e-9, abs=1e-9)
 
 
 def test_watched_points_broadcast_like_the_stage_model():
     design = load_design(GREENHOUSE)
     r25 = 10e3 * np.array([0.99, 1.0, 1.01])[:, None]
     beta = 3950.0 * np.array([0.99, 1.0, 1.01])[None, :]
-    vec = watched_points(design, {"front_end.r25": r25, "front_end.beta": beta})
+    vec = design_points(design, {"front_end.r25": r25, "front_end.beta": beta})
     assert vec.upper.shape == (3, 3)
     for i in range(3):
         for j in range(3):
-            one = watched_points(design, {"front_end.r25": r25[i, 0], "front_end.beta": beta[0, j]})
+            one = design_points(design, {"front_end.r25": r25[i, 0], "front_end.beta": beta[0, j]})
             assert float(one.upper) == pytest.approx(vec.upper[i, j], rel=1e-14)
     # A higher R25 reads colder, so the fan switches at a higher temperature (first principles).
     assert vec.upper[2, 1] > vec.upper[1, 1] > vec.upper[0, 1]
-    with pytest.raises(KeyError, match="front_end.top"):
-        watched_points(design, {"front_end.top": 1e3})
+    with pytest.raises(DesignError, match="front_end.top"):
+        design_points(design, {"front_end.top": 1e3})
 
 
 def test_stage_targets_for_the_fit_are_exact():
     design = load_design(GREENHOUSE)
-    w = watched_points(design)
+    w = design_points(design)
     t = stage_targets(design, w.upper, w.lower)
     assert float(switching_points(design, {"source.resistance": t.upper_resistance}).upper) == pytest.approx(
         float(t.upper), abs=1e-12)
@@ -258,7 +258,7 @@ def test_divider_stage_design_is_the_stage_with_the_thevenin_resistance():
     assert stage.front_end is None
     assert stage.source.resistance == pytest.approx(240e3 * 62e3 / 302e3)
     # Hand check: the watched points are the stage's volts points over the divider ratio.
-    pts, w = switching_points(stage), watched_points(design)
+    pts, w = switching_points(stage), design_points(design)
     assert float(w.upper) == pytest.approx(float(pts.upper) * 302 / 62, rel=1e-12)
     assert float(w.lower) == pytest.approx(float(pts.lower) * 302 / 62, rel=1e-12)
 
@@ -271,23 +271,23 @@ def test_linear_sensor_by_hand():
                        "source": Source(resistance=100.0)})
     pts = switching_points(design, {"source.resistance": 1100.0})
     a = analyze(design)
-    assert a.upper_watched == pytest.approx((float(pts.upper) - 0.5) / 0.04, rel=1e-12)
-    assert a.lower_watched == pytest.approx((float(pts.lower) - 0.5) / 0.04, rel=1e-12)
-    assert (a.watched_unit, a.watched_direction, a.watched_rising_output) == ("kPa", "rises", "high")
+    assert float(a.points.upper) == pytest.approx((float(pts.upper) - 0.5) / 0.04, rel=1e-12)
+    assert float(a.points.lower) == pytest.approx((float(pts.lower) - 0.5) / 0.04, rel=1e-12)
+    assert (a.points.unit, a.points.rises, a.rising_output) == ("kPa", True, "high")
 
 
 # --- analysis -------------------------------------------------------------------------------------
 
 def test_greenhouse_reads_in_celsius_with_the_direction_turned():
     a = analyze(load_design(GREENHOUSE))
-    assert a.watched_unit == "C" and a.watched_direction == "falls"
-    assert a.upper_watched == pytest.approx(31.91, abs=0.01)
-    assert a.lower_watched == pytest.approx(27.94, abs=0.01)
+    assert a.points.unit == "C" and not a.points.rises
+    assert float(a.points.upper) == pytest.approx(31.91, abs=0.01)
+    assert float(a.points.lower) == pytest.approx(27.94, abs=0.01)
     # By hand (Beta model): the 10k/NTC divider's voltage at the hotter point is the stage's lower point.
-    r = 10e3 * math.exp(3950 * (1 / (a.upper_watched + 273.15) - 1 / 298.15))
+    r = 10e3 * math.exp(3950 * (1 / (float(a.points.upper) + 273.15) - 1 / 298.15))
     assert a.lower == pytest.approx(5 * r / (r + 10e3), abs=1e-9)
     # The fan (output high) comes on as the temperature rises through the upper watched point.
-    assert a.watched_rising_output == "high"
+    assert a.rising_output == "high"
     heating = "Self-heating: at its switching points the thermistor dissipates up to 622 uW (at 27.94 C)"
     assert any(f.startswith(heating) for f in a.findings)
 
@@ -313,7 +313,7 @@ def test_latch_is_judged_in_the_watched_quantity():
     short = Design(**{**design.__dict__, "front_end": DividerFrontEnd(240e3, 62e3, low=0.0, high=12.0)})
     (latch,) = [f for f in analyze(short).findings if f.startswith("Latches")]
     assert "upper switching point" in latch
-    assert "only at 12.78 V, outside the watched range (0 V to 12 V)" in latch
+    assert "12.78 V (2.623 V at the stage) is above the highest value the input reaches (12 V)" in latch
     assert not any(f.startswith("Latches") for f in analyze(design).findings)
 
 
@@ -349,7 +349,7 @@ def test_unreached_point_is_null_in_json():
                     reference=FixedReference(2.5), resistors=Resistors(input=10e3, feedback=1e6))
     data = analysis_to_dict(analyze(design))
     assert data["upper_watched"] is None and data["lower_watched"] is None
-    assert any("at no value of the watched quantity" in f for f in data["warnings"])
+    assert any("no value the input reaches switches the stage" in f for f in data["warnings"])
 
 
 # --- the design-file section -----------------------------------------------------------------------
@@ -428,7 +428,7 @@ def test_source_range_is_refused_beside_a_front_end():
 def test_files_without_a_front_end_still_read_and_write_without_one():
     d = load_design(SUMP)
     assert d.front_end is None and "front_end" not in design_to_dict(d)
-    assert analyze(d).upper_watched is None and analyze(d).watched_unit is None
+    assert d.unit == "V" and analyze(d).points.unit == "V"
 
 
 def test_a_thermistor_fed_from_a_zero_volt_reference_switches_at_no_temperature():
@@ -440,5 +440,5 @@ def test_a_thermistor_fed_from_a_zero_volt_reference_switches_at_no_temperature(
 
     thermistor = ThermistorFrontEnd(fixed=1e3, r25=1e3, beta=2500.0, position="top", excitation="reference")
     d = replace(load_design(SUMP), reference=FixedReference(0.0), source=Source(), front_end=thermistor)
-    w = watched_points(d)
+    w = design_points(d)
     assert np.isnan(float(w.upper)) and np.isnan(float(w.lower))

@@ -13,9 +13,9 @@ from streamlit.testing.v1 import AppTest
 
 from bandcalc.model.design_file import design_to_json, load_design
 from bandcalc.model.operating import analyze
+from bandcalc.model.parts import with_value
 from bandcalc.model.units import format_si
 from bandcalc.page.address import PARAM, design_to_address
-from bandcalc.page.edit import with_value
 from bandcalc.page.results import FIGURES
 
 FEEDBACK = "in.resistors.feedback"

@@ -10,17 +10,10 @@ import pytest
 from bandcalc.errors import DesignError
 from bandcalc.model.design import DividerReference, FixedReference, OpenDrain, PushPull
 from bandcalc.model.design_file import load_design
+from bandcalc.model.parts import value_at, with_value
 from bandcalc.model.standard_values import series_values
 from bandcalc.page.address import address_to_design, design_to_address
-from bandcalc.page.edit import (
-    slider_options,
-    value_at,
-    with_legs,
-    with_output,
-    with_reference,
-    with_stage,
-    with_value,
-)
+from bandcalc.page.edit import slider_options, with_legs, with_output, with_reference, with_stage
 
 DEMO_DIR = Path(__file__).parent.parent / "demo_data"
 DEMOS = sorted(DEMO_DIR.glob("*.json"))
@@ -121,7 +114,7 @@ def test_each_front_end_kind_starts_valid_and_clears_the_source_range():
     for kind, unit in units.items():
         d = with_front_end(ranged, kind)
         assert front_end_kind(d) == kind and (d.source.low, d.source.high) == (None, None)
-        assert analyze(d).watched_unit == unit
+        assert analyze(d).points.unit == unit
     bare = with_front_end(with_front_end(SUMP, "divider"), "none")
     assert bare.front_end is None and bare.source.resistance == SUMP.source.resistance
     assert (bare.source.low, bare.source.high) == (None, None)  # the rails
@@ -130,7 +123,7 @@ def test_each_front_end_kind_starts_valid_and_clears_the_source_range():
 
 
 def test_beta_and_steinhart_hart_describe_the_same_thermistor():
-    from bandcalc.model.front_end import KELVIN_AT_25C, beta_resistance, steinhart_hart_resistance
+    from bandcalc.model.thermistor import KELVIN_AT_25C, beta_resistance, steinhart_hart_resistance
     from bandcalc.page.edit import thermistor_model, with_front_end, with_thermistor_model
 
     d = with_front_end(SUMP, "thermistor")

@@ -16,9 +16,9 @@ from bandcalc.fit.selection import apply_candidate, fit
 from bandcalc.model.design import Resistors
 from bandcalc.model.design_file import design_to_json, load_design
 from bandcalc.model.operating import analyze
+from bandcalc.model.parts import with_value
 from bandcalc.model.units import format_code, format_si, format_value
 from bandcalc.page.address import PARAM, design_to_address
-from bandcalc.page.edit import with_value
 from bandcalc.page.panels import fit as panel
 
 ROOT = Path(__file__).parent.parent
@@ -147,8 +147,8 @@ def test_the_search_runs_only_on_the_button(monkeypatch):
 def test_a_front_end_design_takes_targets_and_shows_candidates_in_its_unit():
     at = fit_tab({PARAM: design_to_address(GREENHOUSE)})
     a = analyze(GREENHOUSE)
-    assert at.text_input(key="fit.upper").value == format_value(a.upper_watched, "C", 5) == "31.914 C"
-    assert at.text_input(key="fit.lower").value == format_value(a.lower_watched, "C", 5) == "27.94 C"
+    assert at.text_input(key="fit.upper").value == format_value(float(a.points.upper), "C", 5) == "31.914 C"
+    assert at.text_input(key="fit.lower").value == format_value(float(a.points.lower), "C", 5) == "27.94 C"
     assert at.text_input(key="fit.upper").label == "Upper point wanted (C)"
     find(at, "32", "28 °C")
     assert not errors(at)
@@ -162,7 +162,7 @@ def test_a_front_end_design_takes_targets_and_shows_candidates_in_its_unit():
     applied = apply_candidate(GREENHOUSE, result.candidates[1])
     assert design_on(at) == applied
     # With a front end the figures read in the watched quantity.
-    assert figures(at)["Upper switching point"] == format_value(analyze(applied).upper_watched, "C", 4)
+    assert figures(at)["Upper switching point"] == format_value(float(analyze(applied).points.upper), "C", 4)
 
 
 @pytest.mark.parametrize(("upper", "lower", "fields", "message"), [
@@ -234,7 +234,7 @@ def test_latest_fit_holds_for_the_design_while_only_resistor_values_change():
         import streamlit as st
 
         from bandcalc.model.design_file import load_design
-        from bandcalc.page.edit import with_value
+        from bandcalc.model.parts import with_value
         from bandcalc.page.panels.fit import latest_fit
 
         design = load_design(st.session_state["path"])

@@ -33,9 +33,9 @@ def test_solar_figures_read_in_battery_volts_with_the_stage_beneath():
     at = page(design=SOLAR)
     a = analyze(SOLAR)
     shown = figures(at)
-    assert shown["Upper switching point"] == format_value(a.upper_watched, "V", 4) == "12.78 V"
-    assert shown["Lower switching point"] == format_value(a.lower_watched, "V", 4) == "11.56 V"
-    assert shown["Hysteresis"] == format_value(a.upper_watched - a.lower_watched, "V", 4)
+    assert shown["Upper switching point"] == format_value(float(a.points.upper), "V", 4) == "12.78 V"
+    assert shown["Lower switching point"] == format_value(float(a.points.lower), "V", 4) == "11.56 V"
+    assert shown["Hysteresis"] == format_value(float(a.points.upper) - float(a.points.lower), "V", 4)
     assert shown["Output high"] == format_si(a.output_high, "V", 4)
     notes = captions(at)
     assert f"{format_si(a.upper, 'V', 4)} at the stage" in notes
@@ -46,15 +46,15 @@ def test_solar_figures_read_in_battery_volts_with_the_stage_beneath():
 def test_a_thermistor_at_the_bottom_pairs_the_watched_upper_point_with_the_stage_lower_point():
     at = page(design=GREENHOUSE)
     a = analyze(GREENHOUSE)
-    assert figures(at)["Upper switching point"] == format_value(a.upper_watched, "C", 4)
+    assert figures(at)["Upper switching point"] == format_value(float(a.points.upper), "C", 4)
     notes = captions(at)
     # As it warms the divider's output falls, so the warm point is where the stage's input has
-    # fallen to its lower point (bandcalc.model.points.WatchedPoints): the first caption is that one.
+    # fallen to its lower point (bandcalc.model.points.DesignPoints): the first caption is that one.
     assert notes.index(f"{format_si(a.lower, 'V', 4)} at the stage") < notes.index(
         f"{format_si(a.upper, 'V', 4)} at the stage")
     assert any("output turns high as the watched quantity rises" in c for c in notes)  # the fan starts
     # The currents panel works at the stage's own points and says where they are watched.
-    warm = format_value(float(a.watched.at_stage_upper), "C", 4)
+    warm = format_value(float(a.points.at_stage_upper), "C", 4)
     assert any(c.startswith(f"At the stage's upper point: {format_si(a.upper, 'V', 4)} in ({warm} watched)")
                for c in notes)
 
@@ -65,9 +65,9 @@ def test_the_transfer_curve_plots_against_the_watched_quantity_or_the_stage():
     spec = chart(at)
     assert spec["layout"]["xaxis"]["title"]["text"] == "Temperature (C)"
     points = spec["data"][2]
-    assert points["x"] == pytest.approx([a.upper_watched, a.lower_watched])
-    assert points["text"] == [f"Upper {format_value(a.upper_watched, 'C', 4)}",
-                              f"Lower {format_value(a.lower_watched, 'C', 4)}"]
+    assert points["x"] == pytest.approx([float(a.points.upper), float(a.points.lower)])
+    assert points["text"] == [f"Upper {format_value(float(a.points.upper), 'C', 4)}",
+                              f"Lower {format_value(float(a.points.lower), 'C', 4)}"]
     at.radio(key="page.transfer.axis").set_value("stage").run()
     spec = chart(at)
     assert spec["layout"]["xaxis"]["title"]["text"] == "Stage input, open-circuit (V)"
@@ -89,7 +89,7 @@ def test_a_sense_divider_from_the_sidebar():
     d = design_on(at)
     assert d.front_end == DividerFrontEnd(top=100e3, bottom=100e3)
     assert (d.source.low, d.source.high) == (None, None)  # the watched range takes their place
-    assert figures(at)["Upper switching point"] == format_value(analyze(d).upper_watched, "V", 4)
+    assert figures(at)["Upper switching point"] == format_value(float(analyze(d).points.upper), "V", 4)
     at.text_input(key="in.front_end.top.text").input("300k").run()
     assert design_on(at).front_end.top == 300e3
     assert "Rd1 300k" in svg_of(at) and "Rd2 100k" in svg_of(at)
@@ -137,7 +137,7 @@ def test_a_linear_sensor_from_the_sidebar():
     fe = design_on(at).front_end
     assert (fe.unit, fe.volts_per_unit, fe.offset) == ("kPa", 0.045, 0.2)
     a = analyze(design_on(at))
-    assert figures(at)["Upper switching point"] == format_value(a.upper_watched, "kPa", 4)
+    assert figures(at)["Upper switching point"] == format_value(float(a.points.upper), "kPa", 4)
     assert "45 mV/kPa + 200 mV" in svg_of(at)
     at.text_input(key="in.front_end.unit").input("  ").run()
     (message,) = errors(at)

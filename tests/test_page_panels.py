@@ -26,7 +26,7 @@ from bandcalc.model.units import format_si, format_value
 from bandcalc.outputs.summary import design_summary
 from bandcalc.page.names import factor_name
 from bandcalc.page.panels import spread as spread_panel
-from bandcalc.signal_check.edges import design_points, run_design
+from bandcalc.signal_check.edges import run_design, run_points
 from bandcalc.signal_check.recording import read_waveform_csv
 from bandcalc.signal_check.waveform import synthesize
 from bandcalc.signal_check.width_trade import sweep_design
@@ -167,7 +167,7 @@ def run_signal(design, settings: dict | None = None, sweep: bool = True):
 def test_synthetic_signal_check_matches_the_package(design, noise):
     at = run_signal(design, {"noise": str(noise)})
     assert not at.exception and not errors(at)
-    upper, lower, _ = design_points(design)
+    upper, lower, _ = run_points(design)
     wave = synthesize("sine", 0.5 * (upper + lower), upper - lower, 50.0, 0.1, 100e3, noise_rms=noise, seed=1)
     run, sweep = run_design(design, wave), sweep_design(design, wave)
     shown = figures(at)

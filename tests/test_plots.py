@@ -60,7 +60,7 @@ def test_spread_and_signal_specs_pass_plotlys_schema():
     import numpy as np
 
     from bandcalc.outputs.plots import histogram_spec, sensitivity_spec, signal_spec, tradeoff_spec
-    from bandcalc.signal_check.edges import design_points, run_design
+    from bandcalc.signal_check.edges import run_design, run_points
     from bandcalc.signal_check.waveform import synthesize
     from bandcalc.signal_check.width_trade import sweep_design
     from bandcalc.spread.propagation import spread
@@ -76,7 +76,7 @@ def test_spread_and_signal_specs_pass_plotlys_schema():
     assert hist.layout.shapes[0].x1 == hist.layout.xaxis.range[1] and hist.layout.shapes[0].x0 == 0.9
     bars = go.Figure(sensitivity_spec(s.sensitivity, {}))
     assert [t.name for t in bars.data] == ["Hysteresis", "Lower point", "Upper point"]
-    upper, lower, _ = design_points(d)
+    upper, lower, _ = run_points(d)
     wave = synthesize("sine", 0.5 * (upper + lower), upper - lower, 50, 0.1, 1e5, noise_rms=0.1, seed=1)
     run = run_design(d, wave)
     time = go.Figure(signal_spec(run, (0.0, 5.0), "V"))

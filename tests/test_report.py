@@ -41,11 +41,8 @@ def test_summary_content_for_each_demo(path):
     for section in ("Purpose and notes", "The stage", "Components", "Switching points", "Findings",
                     "Assumptions", "Design file"):
         assert section in headings
-    if a.watched is None:
-        assert f"| Upper switching point (rising signal) | {format_si(a.upper, 'V', 4)} |" in text
-    else:
-        shown = format_value(a.upper_watched, a.watched_unit, 4)
-        assert f"| Upper switching point of the watched quantity | {shown} |" in text
+    shown = format_value(float(a.points.upper), a.points.unit, 4)
+    assert f"| Upper switching point (rising input) | {shown} |" in text
     assert "Made with bandcalc" in text and "2026-12-01" in text
     # One component row per resistor, each with a designator R1, R2, ...
     rows = [t for t in _tokens(text) if t.type == "tr_open"]
@@ -144,7 +141,7 @@ def test_spread_section_and_columns():
     assert "## Spread over tolerances and temperature" in text
     lo, hi = format_si(s.worst_case.upper.min, "V", 4), format_si(s.worst_case.upper.max, "V", 4)
     nominal = format_si(analyze(d).upper, "V", 4)
-    assert f"| Upper switching point (rising signal) | {nominal} | {lo} | {hi} |" in text
+    assert f"| Upper switching point (rising input) | {nominal} | {lo} | {hi} |" in text
     assert "Yield against the limits" in text
 
 

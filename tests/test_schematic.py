@@ -50,8 +50,8 @@ def test_a_reference_leg_in_a_non_inverting_stage_names_the_shared_reference():
 
 
 def test_values_change_the_labels_only():
+    from bandcalc.model.parts import with_value
     from bandcalc.outputs.schematic import stage_labels
-    from bandcalc.page.edit import with_value
 
     d = load_design(DEMO_DIR / "sump_level_switch.json")
     moved = with_value(d, "resistors.feedback", 47e3)
@@ -99,8 +99,8 @@ def test_a_thermistor_on_top_from_the_reference():
 
 
 def test_each_front_end_layout_is_drawn_once():
+    from bandcalc.model.parts import with_value
     from bandcalc.outputs.schematic import _template
-    from bandcalc.page.edit import with_value
 
     d = load_design(DEMO_DIR / "greenhouse_fan_thermostat.json")
     stage_svg(d)

@@ -77,9 +77,9 @@ def test_front_end_design_runs_in_the_watched_quantity(capsys):
     # so the inverting stage reads as non-inverting in degrees C (warmer -> output high).
     d = load_design(DEMO / "greenhouse_fan_thermostat.json")
     a = analyze(d)
-    wave = synthesize("sine", a.watched.centre, 6.0, 0.01, 200.0, 50.0)
+    wave = synthesize("sine", a.points.centre, 6.0, 0.01, 200.0, 50.0)
     run = run_design(d, wave)
-    assert (run.upper, run.lower) == pytest.approx((a.upper_watched, a.lower_watched))
+    assert (run.upper, run.lower) == pytest.approx((float(a.points.upper), float(a.points.lower)))
     assert not run.inverting
     assert " C " in run.findings[0] and " V " not in run.findings[0]
     assert main(["signal", str(DEMO / "greenhouse_fan_thermostat.json"), "--json", "--frequency", "0.01",

@@ -13,8 +13,9 @@ from scipy import stats
 
 from bandcalc.cli.commands import main
 from bandcalc.model.design_file import load_design
-from bandcalc.model.network import parameters, switching_points
-from bandcalc.model.points import all_parameters, watched_points
+from bandcalc.model.network import switching_points
+from bandcalc.model.parts import parameters
+from bandcalc.model.points import design_points
 from bandcalc.model.tolerances import Limits, PerResistor, Tolerances
 from bandcalc.spread import propagation as spread_module
 from bandcalc.spread.factors import QUANTITIES, Factor, factors
@@ -51,13 +52,13 @@ def demo(path, tolerances=OWN):
 
 def points_of(design, values):
     # A front end puts the points in the watched quantity (bandcalc.model.points, tested on its own).
-    p = watched_points(design, values) if design.front_end is not None else switching_points(design, values)
+    p = design_points(design, values) if design.front_end is not None else switching_points(design, values)
     return {"upper": float(p.upper), "lower": float(p.lower), "hysteresis": float(p.upper - p.lower)}
 
 
 def plain_bounds(design, tol):
     """Each varied parameter's (low, high), written out from the tolerance definitions (no temperature)."""
-    p, bounds = all_parameters(design), {}
+    p, bounds = parameters(design), {}
     for key, value in p.items():
         name = key.removeprefix("resistors.")
         if key.startswith("resistors.") or key in ("reference.top", "reference.bottom", "output.pullup",

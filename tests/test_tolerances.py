@@ -7,7 +7,8 @@ import pytest
 
 from bandcalc.errors import DesignError
 from bandcalc.model.design_file import design_from_dict, design_to_dict
-from bandcalc.model.tolerances import Limits, PerResistor, ToleranceError, Tolerances, series_tolerance
+from bandcalc.model.parts import series_tolerance
+from bandcalc.model.tolerances import Limits, PerResistor, ToleranceError, Tolerances
 
 BASE = {
     "format": 1,

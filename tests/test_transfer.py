@@ -123,12 +123,15 @@ def test_against_the_watched_quantity():
     d = load_design(DEMO_DIR / "solar_battery_disconnect.json")
     a, c = analyze(d), transfer_curve(d, watched=True)
     assert (c.unit, c.watched) == ("V", True)
-    assert (c.upper, c.lower) == pytest.approx((a.upper_watched, a.lower_watched), rel=1e-12)
+    assert (c.upper, c.lower) == pytest.approx((float(a.points.upper), float(a.points.lower)), rel=1e-12)
     assert c.signal[0] < 0 and c.signal[-1] > 16  # the watched range, front_end.low / high
     # Each watched point maps to the stage's point through the divider ratio 62 / 302.
     assert c.upper * 62 / 302 == pytest.approx(a.upper, rel=1e-9)
-    with pytest.raises(ValueError, match="watched: this design has no front end"):
-        transfer_curve(load_design(DEMO_DIR / "sump_level_switch.json"), watched=True)
+    # Without a front end the design's input is the stage's own volts: both axes are the same.
+    sump = load_design(DEMO_DIR / "sump_level_switch.json")
+    same, stage = transfer_curve(sump, watched=True), transfer_curve(sump)
+    assert np.array_equal(same.signal, stage.signal)
+    assert (same.upper, same.lower) == (stage.upper, stage.lower)
 
 
 def test_a_thermistor_at_the_bottom_switches_the_other_way_round():
@@ -139,7 +142,7 @@ def test_a_thermistor_at_the_bottom_switches_the_other_way_round():
     a = analyze(d)
     warm = transfer_curve(d, watched=True)
     assert warm.unit == "C" and warm.start_state == "low"
-    assert (warm.upper, warm.lower) == pytest.approx((a.upper_watched, a.lower_watched), rel=1e-9)
+    assert (warm.upper, warm.lower) == pytest.approx((float(a.points.upper), float(a.points.lower)), rel=1e-9)
     assert warm.level_at("rising", 20.0) == pytest.approx(a.output_low, abs=1e-9)
     assert warm.level_at("rising", 40.0) == pytest.approx(a.output_high, abs=1e-9)
     assert warm.level_at("falling", 0.5 * (warm.upper + warm.lower)) == pytest.approx(a.output_high, abs=1e-9)

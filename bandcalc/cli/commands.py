@@ -16,12 +16,12 @@ from collections.abc import Callable, Sequence
 from pathlib import Path
 
 from bandcalc import __version__
-from bandcalc.fit.selection import Candidate, FitResult, fit, fit_to_dict
+from bandcalc.fit.selection import FitResult, fit, fit_to_dict
 from bandcalc.model.design import Design
 from bandcalc.model.design_file import load_design
 from bandcalc.model.operating import Analysis, analysis_to_dict, analyze
 from bandcalc.model.units import format_ohms, format_si, format_value, parse_quantity, parse_resistance
-from bandcalc.signal_check.edges import design_points, run_design
+from bandcalc.signal_check.edges import run_design, run_points
 from bandcalc.signal_check.waveform import synthesize
 from bandcalc.signal_check.width_trade import sweep_design
 from bandcalc.spread.factors import QUANTITIES, Factor
@@ -57,7 +57,7 @@ def _analysis_table(path: str, a: Analysis) -> str:
         ("output high / low", f"{v(a.output_high)} / {v(a.output_low)}"),
         ("positive rail current", format_si(a.positive_rail_current, "A")),
     ]
-    if a.watched is not None:
+    if a.design.front_end is not None:  # the points in the watched quantity, above the stage's volts
         rows[1:1] = _watched_rows(a)
     lines = [f"{a.design.name or '(unnamed design)'}  [{path}]"]
     lines += [f"  {k:<18} {val}" for k, val in rows]
@@ -70,10 +70,9 @@ def _analysis_table(path: str, a: Analysis) -> str:
 
 def _watched_rows(a: Analysis) -> list[tuple[str, str]]:
     """The points in the watched quantity, each with the volts point it comes from."""
-    w, unit = a.watched, a.watched_unit or ""
-    assert w is not None
+    w, unit = a.points, a.design.unit
     stage_up, stage_low = ("upper", "lower") if w.rises else ("lower", "upper")
-    rising = a.watched_rising_output
+    rising = a.rising_output
     falling = "low" if rising == "high" else "high"
     return [
         ("watched upper", f"{format_value(w.upper, unit)}  (the stage's {stage_up} point; "
@@ -113,7 +112,7 @@ def _print_results(results: list, status: int, as_json: bool) -> int:
 
 def _synthetic(args: argparse.Namespace, design: Design):
     """The synthetic signal of the options; offset and amplitude default to the design's band."""
-    upper, lower, _ = design_points(design)
+    upper, lower, _ = run_points(design)
     offset = 0.5 * (upper + lower) if args.offset is None else args.offset
     amplitude = upper - lower if args.amplitude is None else args.amplitude
     return synthesize(args.shape, offset, amplitude, args.frequency, args.duration, args.rate,
@@ -172,7 +171,7 @@ def _cmd_signal(args: argparse.Namespace) -> int:
 
     def work(path: str, design: Design) -> object:
         wave = recorded if recorded is not None else _synthetic(args, design)
-        unit = design.front_end.unit if design.front_end is not None else "V"
+        unit = design.unit
         d = _signal_dict(run_design(design, wave), sweep_design(design, wave) if args.sweep else None, unit)
         return {"file": path, **d} if args.json else _signal_table(path, d)
 
@@ -299,15 +298,12 @@ def _cmd_spread(args: argparse.Namespace) -> int:
 
 
 def _fit_table(path: str, r: FitResult, code: bool) -> str:
-    unit = r.design.front_end.unit if r.design.front_end is not None else "V"
+    unit = r.design.unit
     v = lambda x: format_value(x, unit, 4)  # noqa: E731
     ohms = lambda x: format_ohms(x, code)  # noqa: E731
 
-    def value(c: Candidate, position: str) -> float:
-        return getattr(c.reference, position.split(".")[1]) if "." in position else c.resistors[position]
-
     head = ["#", *r.fitted, "upper", "lower", "worst error", "current"]
-    rows = [[str(i), *(ohms(value(c, p)) for p in r.fitted), v(c.upper), v(c.lower),
+    rows = [[str(i), *(ohms(c.value(p)) for p in r.fitted), v(c.upper), v(c.lower),
              format_value(c.worst_error, unit, 3), format_si(c.network_current, "A")]
             for i, c in enumerate(r.candidates, 1)]
     widths = [max(len(row[j]) for row in [head, *rows]) for j in range(len(head))]
@@ -322,7 +318,7 @@ def _fit_table(path: str, r: FitResult, code: bool) -> str:
     lines += ["  " + "  ".join(cell.ljust(w) for cell, w in zip(row, widths, strict=True)).rstrip()
               for row in [head, *rows]]
     if r.exact is not None:
-        exact = ", ".join(f"{p} {format_ohms(value(r.exact, p), code, 4)}" for p in r.fitted)
+        exact = ", ".join(f"{p} {format_ohms(r.exact.value(p), code, 4)}" for p in r.fitted)
         lines.append(f"  exact     {exact}")
     return "\n".join(lines)
 
@@ -342,7 +338,7 @@ def _cmd_fit(args: argparse.Namespace) -> int:
         return EXIT_BAD_INPUT
 
     def work(path: str, design: Design) -> FitResult:
-        unit = design.front_end.unit if design.front_end is not None else "V"  # "3.1V", "32C" read too
+        unit = design.unit  # "3.1V", "32C" read too
         upper = parse_quantity(args.upper, unit, "--upper")
         lower = parse_quantity(args.lower, unit, "--lower")
         return fit(design, upper, lower, series=args.series, min_ohms=low_ohms, max_ohms=high_ohms,

@@ -28,9 +28,11 @@ from bandcalc.model.design import (
     FixedReference,
     OpenDrain,
     Resistors,
+    divider_thevenin,
 )
-from bandcalc.model.network import Points, parameters, switching_points
-from bandcalc.model.points import stage_design, stage_targets, watched_points
+from bandcalc.model.network import Points, switching_points
+from bandcalc.model.parts import parameters, part, value_at, with_values
+from bandcalc.model.points import design_points, stage_design, stage_targets
 from bandcalc.model.standard_values import EseriesError, series_values
 from bandcalc.model.units import UnitError, format_si, format_value, parse_resistance
 
@@ -47,8 +49,6 @@ __all__ = [
 # Both points within this many volts (relative to the larger target, at least 1 V) count as exact.
 _EXACT = 1e-9
 _WIDE = (1e-3, 1e15)  # ohms: the bounds of "any value at all" when explaining a failure
-_LEG_WORDS = {"to_ground": "ground", "to_positive": "the positive rail",
-              "to_negative": "the negative rail", "to_reference": "the reference"}
 
 
 class FitError(BandcalcError):
@@ -73,6 +73,10 @@ class Candidate:
     worst_error: float
     network_current: float
     design: Design
+
+    def value(self, position: str) -> float:
+        """Ohms at a fitted position: a resistor key ("feedback") or "reference.top" / "reference.bottom"."""
+        return value_at(self.design, part(position).path)
 
 
 @dataclass(frozen=True)
@@ -103,14 +107,6 @@ def _volts(value: float) -> str:
 
 # --- Positions and the model -----------------------------------------------------------------
 
-def _param(position: str) -> str:
-    return position if position.startswith("reference.") else f"resistors.{position}"
-
-
-def _position(param: str) -> str:
-    return param.removeprefix("resistors.")
-
-
 def _positions(design: Design) -> list[str]:
     """The positions the fit may move: the resistors present and a reference divider.
 
@@ -123,21 +119,6 @@ def _positions(design: Design) -> list[str]:
     if isinstance(design.reference, DividerReference):
         out += ["reference.top", "reference.bottom"]
     return out
-
-
-def _with(design: Design, values: Mapping[str, float]) -> Design:
-    """A copy of the design with parameters (design-file paths as in network.parameters) set."""
-    res = {k: getattr(design.resistors, k) for k in RESISTOR_KEYS}
-    ref = design.reference
-    for key, value in values.items():
-        section, name = key.split(".")
-        if section == "resistors":
-            res[name] = float(value)
-        elif name == "volts":
-            ref = FixedReference(float(value))
-        else:
-            ref = replace(ref, **{name: float(value)})
-    return replace(design, resistors=Resistors(**res), reference=ref)
 
 
 def _network_current(design: Design, p: Mapping, pts: Points) -> np.ndarray:
@@ -223,13 +204,20 @@ def _output_levels(design: Design) -> tuple[float, float]:
     return float(at_high.output), float(at_low.output)
 
 
-def _check_targets(design: Design, upper: float, lower: float) -> None:
+def _check_order(upper: float, lower: float, unit: str) -> None:
+    """Targets in the design's unit: two numbers, the upper above the lower."""
     for key, value in (("upper", upper), ("lower", lower)):
         if not _is_number(value):
-            raise FitError(f"{key}: must be a number of volts, got {value!r}")
+            raise FitError(f"{key}: must be a number ({unit}), got {value!r}")
     if upper <= lower:
-        raise FitError(f"the upper point ({_volts(upper)}) must be above the lower point ({_volts(lower)}): "
-                       "a rising signal switches the stage at the upper point, a falling one at the lower")
+        raise FitError(f"the upper point ({format_value(upper, unit, 4)}) must be above the lower point "
+                       f"({format_value(lower, unit, 4)}): a rising input switches the stage at the upper "
+                       "point, a falling one at the lower")
+
+
+def _check_targets(design: Design, upper: float, lower: float) -> None:
+    """The stage's own targets (volts at its source) against what the stage can see and do."""
+    _check_order(upper, lower, "V")
     low, high = design.signal_range()
     if upper > high:
         raise FitError(f"the upper point {_volts(upper)} is above the highest signal the stage can see "
@@ -262,7 +250,7 @@ def _held(design: Design, fixed: Mapping[str, float | str]) -> dict[str, float]:
             raise FitError(str(exc)) from None
         if ohms <= 0:
             raise FitError(f"fixed.{key}: must be greater than zero, got {value!r}")
-        out[_param(position)] = ohms
+        out[part(position).path] = ohms
     return out
 
 
@@ -283,7 +271,7 @@ def _reference_needed(design: Design, params: list[str], targets: tuple[float, f
         return None
     ref = design.reference
     volts = ref.volts if isinstance(ref, FixedReference) else float(
-        design.supply.negative + design.supply.span * ref.bottom / (ref.top + ref.bottom))
+        divider_thevenin(ref.top, ref.bottom, design.supply.positive, design.supply.negative)[0])
     trial = replace(design, reference=FixedReference(volts))
     trial_params = [p for p in params if p.startswith("resistors.")] + ["reference.volts"]
     found = _exact(trial, trial_params, targets, bounds, _starts(trial, trial_params, bounds))
@@ -311,7 +299,7 @@ def _why_not(design: Design, params: list[str], targets: tuple[float, float],
         out.append(reference[0].upper() + reference[1:] + ".")
     wide = None if reference else _exact(design, params, targets, _WIDE, _starts(design, params, bounds))
     if wide is not None:
-        outside = [f"{_position(p)} {_ohms(v)}" for p, v in zip(params, wide, strict=True)
+        outside = [f"{part(p).key} {_ohms(v)}" for p, v in zip(params, wide, strict=True)
                    if not bounds[0] <= v <= bounds[1]]
         out.append(f"With {_names(params)} both points need values outside the allowed range "
                    f"({_ohms(bounds[0])} to {_ohms(bounds[1])}): {', '.join(outside)}; widen the range.")
@@ -322,14 +310,14 @@ def _why_not(design: Design, params: list[str], targets: tuple[float, float],
 
 
 def _names(params: list[str]) -> str:
-    names = [_position(p) for p in params]
+    names = [part(p).key for p in params]
     return names[0] if len(names) == 1 else f"{', '.join(names[:-1])} and {names[-1]}"
 
 
 def _standing_notes(design: Design, held: Mapping[str, float]) -> list[str]:
     notes = []
     if held:
-        notes.append("Held as given: " + ", ".join(f"{_position(k)} {_ohms(v, 4)}" for k, v in held.items())
+        notes.append("Held as given: " + ", ".join(f"{part(k).key} {_ohms(v, 4)}" for k, v in held.items())
                      + ".")
     if design.inverting and design.resistors.input is not None and "resistors.input" not in held:
         notes.append(f"The input resistor ({_ohms(design.resistors.input)}) carries only the - pin's bias "
@@ -345,7 +333,7 @@ def _standing_notes(design: Design, held: Mapping[str, float]) -> list[str]:
 def _candidate(design: Design, params: list[str], row: np.ndarray, targets: tuple[float, float],
                evaluated: tuple[float, float, float] | None = None) -> Candidate:
     """A candidate from parameter values; the points come from the model."""
-    d = _with(design, dict(zip(params, (float(v) for v in row), strict=True)))
+    d = with_values(design, dict(zip(params, (float(v) for v in row), strict=True)))
     u, l, cur = evaluated or (float(a[0]) for a in _evaluator(design, params)(row[None, :]))  # noqa: E741
     eu, el = float(u) - targets[0], float(l) - targets[1]
     fitted_divider = any(p.startswith("reference.") for p in params)
@@ -366,7 +354,7 @@ def _leg_options(design: Design, params: list[str], targets: tuple[float, float]
     for free in ([p for p in params if p not in divider], params) if divider else (params,):
         options = []
         for leg in _addable(design):
-            trial = _with(design, {f"resistors.{leg}": math.sqrt(bounds[0] * bounds[1])})
+            trial = with_values(design, {f"resistors.{leg}": math.sqrt(bounds[0] * bounds[1])})
             trial_params = [*free, f"resistors.{leg}"]
             found = _exact(trial, trial_params, targets, bounds, _starts(trial, trial_params, bounds))
             if found is not None:
@@ -390,7 +378,7 @@ def _offset_gain(design: Design, params: list[str], values: np.ndarray) -> float
     A leg whose far end sits near the + pin's switching potential moves the points only through
     the offset and bias current; such a solution has a large gain and is fragile.
     """
-    d = _with(design, dict(zip(params, values, strict=True)))
+    d = with_values(design, {k: float(v) for k, v in zip(params, values, strict=True)})
     offset = d.comparator.offset + np.array([0.0, 1e-3])
     pts = switching_points(d, {"comparator.offset": offset})
     return float(max(abs(np.diff(pts.upper)[0]), abs(np.diff(pts.lower)[0])) / 1e-3)
@@ -401,15 +389,15 @@ def fit(design: Design, upper: float, lower: float, *, series: str = "E24", min_
         add_leg: bool = True) -> FitResult:
     """Standard resistor values that place the switching points at ``upper`` and ``lower``.
 
-    Targets are volts of the signal's open-circuit voltage or, for a design with a front end, the
-    watched quantity (battery volts, degrees C): see :func:`_fit_watched`.
+    Targets are in the design's unit: volts of the signal's open-circuit voltage or, for a design
+    with a front end, the watched quantity (battery volts, degrees C): see :func:`_fit_through_input`.
 
     Parameters
     ----------
     design : Design
         The stage; its resistor values are only a starting point.
     upper, lower : float
-        Target switching points, volts of the signal's open-circuit voltage.
+        Target switching points, in the design's unit.
     series : str
         IEC 60063 series the values come from ("E3" to "E192").
     min_ohms, max_ohms : float
@@ -439,9 +427,7 @@ def fit(design: Design, upper: float, lower: float, *, series: str = "E24", min_
     if not isinstance(count, int) or isinstance(count, bool) or count < 1:
         raise FitError(f"count: must be a whole number of 1 or more, got {count!r}")
     settings = dict(series=series, min_ohms=min_ohms, max_ohms=max_ohms, fixed=fixed, add_leg=add_leg)
-    if design.front_end is not None:
-        return _fit_watched(design, upper, lower, count, settings)
-    return _fit_stage(design, upper, lower, count, **settings)
+    return _fit_through_input(design, upper, lower, count, settings)
 
 
 def _fit_stage(design: Design, upper: float, lower: float, count: int, *, series: str, min_ohms: float,
@@ -450,9 +436,9 @@ def _fit_stage(design: Design, upper: float, lower: float, count: int, *, series
     grid = _grid(series, min_ohms, max_ohms)
     _check_targets(design, upper, lower)
     held = _held(design, fixed or {})
-    base = _with(design, held)
+    base = with_values(design, held)
     targets, bounds = (float(upper), float(lower)), (float(min_ohms), float(max_ohms))
-    params = [_param(p) for p in _positions(base) if _param(p) not in held]
+    params = [part(p).path for p in _positions(base) if part(p).path not in held]
     if not params:
         raise FitError("nothing to fit: every resistor of the stage is held; free at least one "
                        f"of {', '.join(_positions(base))}")
@@ -466,14 +452,14 @@ def _fit_stage(design: Design, upper: float, lower: float, count: int, *, series
             kept = "reference.top" in params and "reference.top" not in options[0][2]
             added, base, params, solution = options[0]
             notes.append(f"The stage as drawn cannot place both points. {' '.join(why)} The fit adds a "
-                         f"resistor from the + pin to {_LEG_WORDS[added]} (resistors.{added})"
+                         f"resistor from the + pin to {part(added).far_end} (resistors.{added})"
                          + (", of the legs that work the one least sensitive to the comparator's offset."
                             if len(options) > 1 else ".")
                          + (" The reference divider is kept as drawn." if kept else ""))
         else:
             problems = why
             if options:
-                problems.append(f"A resistor from the + pin to {_LEG_WORDS[options[0][0]]} would make it "
+                problems.append(f"A resistor from the + pin to {part(options[0][0]).far_end} would make it "
                                 "possible; the fit adds one unless told not to.")
             problems.append("The candidates are the closest the stage comes.")
     # Search with the resistors the points are most sensitive to outermost (much faster; the
@@ -493,7 +479,7 @@ def _fit_stage(design: Design, upper: float, lower: float, count: int, *, series
             notes.append(f"With {len(params)} free values the exact solutions form a family; the one shown "
                          "is the nearest to the best candidate.")
     return FitResult(design=base, upper=targets[0], lower=targets[1], series=series.strip().upper(),
-                     min_ohms=bounds[0], max_ohms=bounds[1], fitted=tuple(_position(p) for p in params),
+                     min_ohms=bounds[0], max_ohms=bounds[1], fitted=tuple(part(p).key for p in params),
                      candidates=candidates, exact=exact, added_leg=added, notes=tuple(notes),
                      problems=tuple(problems))
 
@@ -501,18 +487,20 @@ def _fit_stage(design: Design, upper: float, lower: float, count: int, *, series
 # With a thermistor the stage's source resistance differs a little between the two target
 # temperatures; the stage is fitted at their middle and this many times more candidates are
 # re-ranked exactly through the front end.
-_WATCHED_POOL = 4
+_INPUT_POOL = 4
 
 
-def _fit_watched(design: Design, upper: float, lower: float, count: int, settings: dict) -> FitResult:
-    """Fit a design with a front end to targets in its watched quantity.
+def _fit_through_input(design: Design, upper: float, lower: float, count: int, settings: dict) -> FitResult:
+    """Fit a design to targets in its own unit, through whatever lies ahead of the stage.
 
-    The watched targets map to targets at the stage's source (:func:`bandcalc.model.points.stage_targets`;
-    exact for a divider or a linear sensor, whose resistance is fixed).  The stage is fitted as it
-    sees the front end, then every candidate is evaluated through the whole front end and stage
-    (:func:`bandcalc.model.points.watched_points`) and ranked again on those exact figures.
+    The targets map to targets at the stage's source (:func:`bandcalc.model.points.stage_targets`;
+    exact for a divider or a linear sensor, whose resistance is fixed, and the targets themselves
+    without a front end).  The stage is fitted as it sees its input; where the map is not the
+    identity, every candidate is evaluated through the whole front end and stage
+    (:func:`bandcalc.model.points.design_points`) and ranked again on those exact figures.
     """
-    unit = design.front_end.unit
+    unit = design.unit
+    _check_order(upper, lower, unit)
     try:
         t = stage_targets(design, upper, lower)
         stage = stage_design(design, 0.5 * (upper + lower))
@@ -522,11 +510,13 @@ def _fit_watched(design: Design, upper: float, lower: float, count: int, setting
     if not (math.isfinite(s_up) and math.isfinite(s_low)):
         raise FitError(f"targets {format_value(upper, unit)} / {format_value(lower, unit)}: outside what "
                        "the front end can map to the stage; check the front end's range")
-    inner = _fit_stage(stage, s_up, s_low, max(count * _WATCHED_POOL, 20), **settings)
+    if (s_up, s_low) == (upper, lower) and t.upper_resistance == t.lower_resistance:
+        return _fit_stage(stage, s_up, s_low, count, **settings)  # the stage's own targets
+    inner = _fit_stage(stage, s_up, s_low, max(count * _INPUT_POOL, 20), **settings)
 
     def watched(c: Candidate) -> Candidate:
         full = apply_candidate(replace(design, resistors=inner.design.resistors), c)
-        w = watched_points(full)
+        w = design_points(full)
         eu, el = float(w.upper) - upper, float(w.lower) - lower
         worst = max(abs(eu), abs(el)) if math.isfinite(eu + el) else math.inf
         return replace(c, upper=float(w.upper), lower=float(w.lower), error_upper=eu, error_lower=el,

@@ -9,14 +9,14 @@ classes section by section.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import TYPE_CHECKING
+from typing import TYPE_CHECKING, Any
 
 from bandcalc.errors import DesignError
-from bandcalc.model.tolerances import Tolerances
 from bandcalc.model.validation import finite, not_negative, positive
 
 if TYPE_CHECKING:
     from bandcalc.model.front_end import FrontEnd
+    from bandcalc.model.tolerances import Tolerances
 
 __all__ = [
     "FORMAT",
@@ -33,6 +33,7 @@ __all__ = [
     "Resistors",
     "Source",
     "Supply",
+    "divider_thevenin",
 ]
 
 FORMAT = 1
@@ -80,6 +81,11 @@ class DividerReference:
     def __post_init__(self) -> None:
         positive(self.top, "reference.divider.top")
         positive(self.bottom, "reference.divider.bottom")
+
+
+def divider_thevenin(top: Any, bottom: Any, positive: Any, negative: Any) -> tuple[Any, Any]:
+    """Open-circuit volts and resistance (ohms) of a divider across two rails; numbers or arrays."""
+    return negative + (positive - negative) * bottom / (top + bottom), top * bottom / (top + bottom)
 
 
 @dataclass(frozen=True)
@@ -229,6 +235,12 @@ class Design:
     @property
     def inverting(self) -> bool:
         return self.stage == "inverting"
+
+    @property
+    def unit(self) -> str:
+        """The unit of the design's switching points: its front end's watched quantity ("C",
+        "kPa", "V" of a measured voltage), or "V" of the stage's own input without one."""
+        return "V" if self.front_end is None else self.front_end.unit
 
     def signal_range(self) -> tuple[float, float]:
         """The lowest and highest signal the source can reach, volts (default: the rails)."""

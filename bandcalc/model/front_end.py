@@ -32,33 +32,35 @@ import numpy as np
 
 from bandcalc.errors import DesignError
 from bandcalc.model.design import Design, FixedReference
+from bandcalc.model.thermistor import (
+    KELVIN_AT_0C,
+    KELVIN_AT_25C,
+    beta_resistance,
+    beta_temperature,
+    steinhart_hart_resistance,
+    steinhart_hart_temperature,
+)
 from bandcalc.model.units import UnitError, parse_quantity, parse_resistance
 from bandcalc.model.validation import finite, positive, section
 
 __all__ = [
     "DISSIPATION_CONSTANT",
     "EXCITATIONS",
-    "KELVIN_AT_0C",
-    "KELVIN_AT_25C",
     "POSITIONS",
     "SELF_HEATING_LIMIT",
     "THERMISTOR_RANGE",
+    "DirectInput",
     "DividerFrontEnd",
     "FrontEnd",
     "LinearFrontEnd",
     "ThermistorFrontEnd",
-    "beta_resistance",
-    "beta_temperature",
     "front_end_from_dict",
+    "front_end_of",
     "front_end_tolerances",
-    "steinhart_hart_resistance",
-    "steinhart_hart_temperature",
 ]
 
 ArrayLike = float | np.ndarray
 
-KELVIN_AT_0C = 273.15
-KELVIN_AT_25C = 298.15
 # Dissipation constant of a small epoxy-bead NTC probe in still air: data sheets commonly list
 # about 1 to 2 mW/K (typical data-sheet value, from memory); give the part's own figure.
 DISSIPATION_CONSTANT = 1.5e-3
@@ -68,46 +70,6 @@ SELF_HEATING_LIMIT = 0.1
 # Default watched range of a thermistor, C: the -55 to +150 C that NTC parts are commonly
 # rated over (common practice); give front_end.low / high for the application's own range.
 THERMISTOR_RANGE = (-55.0, 150.0)
-
-
-# --- thermistor models (kelvin and ohms) ------------------------------------------------------
-
-def beta_resistance(r25: ArrayLike, beta: ArrayLike, kelvin: ArrayLike) -> ArrayLike:
-    """Beta model: R(T) = R25 exp(B (1/T - 1/298.15 K)), ohms."""
-    return r25 * np.exp(beta * (1.0 / np.asarray(kelvin, dtype=float) - 1.0 / KELVIN_AT_25C))
-
-
-def beta_temperature(r25: ArrayLike, beta: ArrayLike, ohms: ArrayLike) -> ArrayLike:
-    """Inverse of :func:`beta_resistance`: temperature in kelvin (NaN where there is none)."""
-    with np.errstate(divide="ignore", invalid="ignore"):
-        inverse = 1.0 / KELVIN_AT_25C + np.log(np.asarray(ohms, dtype=float) / r25) / beta
-        return np.where(inverse > 0, 1.0 / inverse, np.nan)
-
-
-def steinhart_hart_temperature(coefficients: tuple[float, float, float], ohms: ArrayLike) -> ArrayLike:
-    """Steinhart-Hart: 1/T = A + B ln R + C (ln R)^3; temperature in kelvin."""
-    a, b, c = coefficients
-    with np.errstate(divide="ignore", invalid="ignore"):
-        y = np.log(np.asarray(ohms, dtype=float))
-        inverse = a + b * y + c * y**3
-        return np.where(inverse > 0, 1.0 / inverse, np.nan)
-
-
-def steinhart_hart_resistance(coefficients: tuple[float, float, float], kelvin: ArrayLike) -> ArrayLike:
-    """Inverse of :func:`steinhart_hart_temperature`: resistance in ohms at ``kelvin``.
-
-    Solves C y^3 + B y + (A - 1/T) = 0 for y = ln R by Cardano's formula (one real root for
-    B > 0, C >= 0), then one Newton step to recover the digits the formula loses.
-    """
-    a, b, c = coefficients
-    g = a - 1.0 / np.asarray(kelvin, dtype=float)
-    if c == 0:
-        return np.exp(-g / b)
-    p, q = b / c, g / c
-    root = np.sqrt(0.25 * q * q + p**3 / 27.0)
-    y = np.cbrt(-0.5 * q + root) + np.cbrt(-0.5 * q - root)
-    y = y - (c * y**3 + b * y + g) / (3.0 * c * y * y + b)
-    return np.exp(y)
 
 
 # --- the front ends -----------------------------------------------------------------------------
@@ -123,6 +85,7 @@ def _range_checked(low: float | None, high: float | None) -> None:
 class _Base:
     """What every front end shares: its file shape and the checks against the stage."""
 
+    quantity: ClassVar[str] = "the watched quantity"  # what the design's points are a value of
     kind: ClassVar[str]
     affine: ClassVar[bool]
     low: float | None
@@ -385,6 +348,44 @@ class ThermistorFrontEnd(_Base):
 
 
 FrontEnd = DividerFrontEnd | ThermistorFrontEnd | LinearFrontEnd
+
+
+@dataclass(frozen=True)
+class DirectInput(_Base):
+    """No front end: the signal drives the stage itself, so the design's input is the stage's volts.
+
+    Not a design-file section: :func:`front_end_of` stands it in for a design without a front end,
+    so every analysis takes one path.  ``low`` / ``high`` are ``source.low`` / ``source.high``.
+    """
+
+    low: float | None = None
+    high: float | None = None
+
+    kind: ClassVar[str] = "none"
+    unit: ClassVar[str] = "V"
+    quantity: ClassVar[str] = "the stage's input"
+    rises: ClassVar[bool] = True
+    affine: ClassVar[bool] = True
+
+    def parameters(self) -> dict[str, float]:
+        return {}
+
+    def ends(self, p: Mapping[str, ArrayLike]) -> tuple[ArrayLike, ...]:
+        return 0.0, 1.0, 0.0, 0.0
+
+    def coordinate(self, p: Mapping[str, ArrayLike], x: ArrayLike) -> ArrayLike:
+        return np.asarray(x, dtype=float)
+
+    def watched(self, p: Mapping[str, ArrayLike], t: ArrayLike) -> ArrayLike:
+        return np.asarray(t, dtype=float)
+
+
+def front_end_of(design: Design) -> FrontEnd | DirectInput:
+    """What lies ahead of the stage: the design's front end, or :class:`DirectInput` without one."""
+    if design.front_end is not None:
+        return design.front_end
+    return DirectInput(design.source.low, design.source.high)
+
 _CLASSES: dict[str, type] = {c.kind: c for c in (DividerFrontEnd, ThermistorFrontEnd, LinearFrontEnd)}
 _OHMS = ("top", "bottom", "fixed", "r25", "resistance")
 _READ_UNITS = {"beta": "K", "offset": "V", "excitation": "V", "dissipation_constant": ""}

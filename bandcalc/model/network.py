@@ -23,53 +23,21 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from bandcalc.model.design import Design, DividerReference, FixedReference, OpenDrain
+from bandcalc.errors import DesignError
+from bandcalc.model.design import Design, DividerReference, FixedReference, OpenDrain, divider_thevenin
+from bandcalc.model.parts import parameters
 
 __all__ = [
     "Nodes",
     "Points",
+    "TwoPoints",
     "difference_line",
     "node_voltages",
-    "parameters",
     "switching_points",
 ]
 
 ArrayLike = float | np.ndarray
 STATES = ("high", "low")
-
-
-def parameters(design: Design) -> dict[str, float]:
-    """The design's numeric values, flat, keyed by design-file path; the names the solver reads.
-
-    ``output.pullup_volts`` and ``output.low_volts`` appear only when set, so that by default
-    they follow their rail when ``supply.*`` is varied.
-    """
-    p: dict[str, float] = {
-        "supply.positive": design.supply.positive,
-        "supply.negative": design.supply.negative,
-        "comparator.offset": design.comparator.offset,
-        "comparator.bias_current": design.comparator.bias_current,
-        "source.resistance": design.source.resistance,
-    }
-    p.update({f"resistors.{k}": v for k, v in design.resistors.present().items()})
-    ref = design.reference
-    if isinstance(ref, FixedReference):
-        p["reference.volts"] = ref.volts
-    elif isinstance(ref, DividerReference):
-        p["reference.top"] = ref.top
-        p["reference.bottom"] = ref.bottom
-    out = design.output
-    if isinstance(out, OpenDrain):
-        p["output.pullup"] = out.pullup
-        if out.pullup_volts is not None:
-            p["output.pullup_volts"] = out.pullup_volts
-        if out.low_volts is not None:
-            p["output.low_volts"] = out.low_volts
-    else:
-        p["output.high_drop"] = out.high_drop
-        p["output.low_drop"] = out.low_drop
-        p["output.resistance"] = out.resistance
-    return p
 
 
 def _driver(design: Design, p: Mapping[str, ArrayLike], state: str) -> tuple[ArrayLike, ArrayLike]:
@@ -89,10 +57,8 @@ def _reference(design: Design, p: Mapping[str, ArrayLike]) -> tuple[ArrayLike, A
     In the non-inverting stage the - pin sits on this node and draws its bias current from it.
     """
     if isinstance(design.reference, DividerReference):
-        top, bottom = p["reference.top"], p["reference.bottom"]
-        vp, vn = p["supply.positive"], p["supply.negative"]
-        volts = vn + (vp - vn) * bottom / (top + bottom)
-        ohms = top * bottom / (top + bottom)
+        volts, ohms = divider_thevenin(p["reference.top"], p["reference.bottom"],
+                                       p["supply.positive"], p["supply.negative"])
     elif isinstance(design.reference, FixedReference):
         volts, ohms = p["reference.volts"], 0.0
     else:
@@ -184,8 +150,23 @@ def difference_line(design: Design, p: Mapping[str, ArrayLike], state: str) -> t
     return n.plus0 - minus0, n.slope * (1.0 - share)
 
 
+class TwoPoints:
+    """What follows from an upper and a lower switching point, for every class that holds both."""
+
+    upper: ArrayLike
+    lower: ArrayLike
+
+    @property
+    def hysteresis(self) -> ArrayLike:
+        return self.upper - self.lower
+
+    @property
+    def centre(self) -> ArrayLike:
+        return 0.5 * (self.upper + self.lower)
+
+
 @dataclass(frozen=True)
-class Points:
+class Points(TwoPoints):
     """Switching points (volts of the signal's open-circuit voltage) and the nodes at each.
 
     ``at_upper`` holds the node voltages just before the stage switches at the upper point
@@ -196,14 +177,6 @@ class Points:
     lower: ArrayLike
     at_upper: Nodes
     at_lower: Nodes
-
-    @property
-    def hysteresis(self) -> ArrayLike:
-        return self.upper - self.lower
-
-    @property
-    def centre(self) -> ArrayLike:
-        return 0.5 * (self.upper + self.lower)
 
 
 def _crossing(design: Design, p: Mapping[str, ArrayLike], state: str) -> tuple[ArrayLike, Nodes]:
@@ -220,7 +193,7 @@ def switching_points(design: Design, values: Mapping[str, ArrayLike] | None = No
     design : Design
         Gives the topology and the default value of every parameter.
     values : mapping of parameter name to float or array, optional
-        Overrides, named as in :func:`parameters`; arrays broadcast against each other.
+        Overrides, named as in :func:`bandcalc.model.parts.parameters`; arrays broadcast against each other.
 
     Returns
     -------
@@ -232,7 +205,7 @@ def switching_points(design: Design, values: Mapping[str, ArrayLike] | None = No
     if values:
         unknown = sorted(set(values) - set(p) - {"output.pullup_volts", "output.low_volts"})
         if unknown:
-            raise KeyError(f"unknown parameter {unknown[0]!r}; this design has: {', '.join(sorted(p))}")
+            raise DesignError(f"{unknown[0]}: not a parameter of this design; it has {', '.join(sorted(p))}")
         p.update({k: np.asarray(v, dtype=float) for k, v in values.items()})
     upper_state, lower_state = ("high", "low") if design.inverting else ("low", "high")
     upper, at_upper = _crossing(design, p, upper_state)

@@ -1,8 +1,8 @@
 """Analysis of one design: switching points, levels, currents, power and plain-sentence findings.
 
-With a front end (a divider or sensor ahead of the stage, :mod:`bandcalc.model.front_end`) the stage is
-analysed as it sees the front end at each switching point (:func:`bandcalc.model.points.stage_design`)
-and both points are reported in the watched quantity as well as in volts.
+The stage is analysed as it sees its input at each switching point
+(:func:`bandcalc.model.points.stage_design`: a front end folded into the source), and both points
+are reported in the design's unit (:attr:`Analysis.points`) as well as in the stage's volts.
 """
 
 from __future__ import annotations
@@ -12,14 +12,15 @@ from dataclasses import dataclass, replace
 
 from bandcalc.model.design import Design, DividerReference, OpenDrain
 from bandcalc.model.front_end import SELF_HEATING_LIMIT, ThermistorFrontEnd
-from bandcalc.model.network import Nodes, node_voltages, parameters, switching_points
+from bandcalc.model.network import Nodes, TwoPoints, node_voltages, switching_points
+from bandcalc.model.parts import parameters, resistors_of
 from bandcalc.model.points import (
-    WatchedPoints,
+    DesignPoints,
+    design_points,
     front_end_power,
+    input_range,
     stage_design,
     volts_for,
-    watched_points,
-    watched_range,
 )
 from bandcalc.model.units import format_si, format_value
 
@@ -41,8 +42,8 @@ LEAKAGE_OHMS = 1e6
 PULLUP_RATIO = 0.1
 # Small chip resistors (0603) are commonly rated 0.1 W (common practice; check the part).
 POWER_LIMIT = 0.1
-# Voltages above about 50 V call for the usual cautions (DOMAIN.md; extra-low-voltage limits
-# in IEC 61140 are 50 V a.c. / 120 V d.c. ripple-free: 50 V is the conservative figure).
+# Voltages above about 50 V call for the usual cautions (common practice; extra-low-voltage limits
+# in IEC 61140 are 50 V a.c. / 120 V d.c. ripple-free, from memory: 50 V is the conservative figure).
 HAZARD_VOLTS = 50.0
 
 
@@ -79,16 +80,6 @@ def branch_currents(design: Design, nodes: Nodes, signal: float, state: str) -> 
     return cur
 
 
-def _ohms(design: Design) -> dict[str, float]:
-    ohms = dict(design.resistors.present())
-    if isinstance(design.reference, DividerReference):
-        ohms["reference.top"] = design.reference.top
-        ohms["reference.bottom"] = design.reference.bottom
-    if isinstance(design.output, OpenDrain):
-        ohms["output.pullup"] = design.output.pullup
-    return ohms
-
-
 def _rail_currents(design: Design, cur: dict[str, float]) -> dict[str, float]:
     """Current (A) flowing out of each rail into the network (negative: the rail sinks it)."""
     pullup_on_rail = isinstance(design.output, OpenDrain) and design.output.pullup_volts is None
@@ -115,8 +106,12 @@ class OperatingPoint:
 
 
 @dataclass(frozen=True)
-class Analysis:
-    """Everything bandcalc tells about one design, in SI units."""
+class Analysis(TwoPoints):
+    """Everything bandcalc tells about one design, in SI units.
+
+    ``upper`` and ``lower`` are the stage's points in volts of its source; ``points`` holds them in
+    the design's unit (the watched quantity of a front end) as well.
+    """
 
     design: Design
     upper: float
@@ -128,46 +123,13 @@ class Analysis:
     power: dict[str, float]
     findings: tuple[str, ...]
     cautions: tuple[str, ...]
-    watched: WatchedPoints | None = None  # with a front end: the points in the watched quantity
+    points: DesignPoints  # the points in the design's unit, with the stage's volts
 
     @property
-    def hysteresis(self) -> float:
-        return self.upper - self.lower
-
-    @property
-    def upper_watched(self) -> float | None:
-        """The higher watched switching point (front end's unit); None without a front end.
-
-        It is the stage's upper point in volts where the source voltage rises with the watched
-        quantity (``watched_direction == "rises"``), its lower point where it falls.
-        """
-        return None if self.watched is None else float(self.watched.upper)
-
-    @property
-    def lower_watched(self) -> float | None:
-        """The lower watched switching point; None without a front end."""
-        return None if self.watched is None else float(self.watched.lower)
-
-    @property
-    def watched_unit(self) -> str | None:
-        return None if self.watched is None else self.watched.unit
-
-    @property
-    def watched_direction(self) -> str | None:
-        """"rises" or "falls": how the source voltage moves as the watched quantity rises."""
-        return None if self.watched is None else ("rises" if self.watched.rises else "falls")
-
-    @property
-    def watched_rising_output(self) -> str | None:
-        """Output state once the watched quantity has risen through ``upper_watched``."""
-        if self.watched is None:
-            return None
-        crossed = self.at_upper if self.watched.rises else self.at_lower
+    def rising_output(self) -> str:
+        """Output state once the input (in the design's unit) has risen through its upper point."""
+        crossed = self.at_upper if self.points.rises else self.at_lower
         return "low" if crossed.state == "high" else "high"
-
-    @property
-    def centre(self) -> float:
-        return 0.5 * (self.upper + self.lower)
 
     @property
     def positive_rail_current(self) -> float:
@@ -188,7 +150,7 @@ def _worst_power(design: Design) -> dict[str, float]:
     end of the range; taking both states at both ends is conservative.
     """
     p = parameters(design)
-    ohms = _ohms(design)
+    ohms = resistors_of(design)
     worst = dict.fromkeys(ohms, 0.0)
     for signal in design.signal_range():
         for state in ("high", "low"):
@@ -200,20 +162,10 @@ def _worst_power(design: Design) -> dict[str, float]:
 
 def _findings(design: Design, a: Analysis) -> list[str]:
     out: list[str] = []
-    low, high = design.signal_range()
     if a.hysteresis <= 1e-12 * max(1.0, design.supply.span):
         out.append(f"No hysteresis: the upper point ({_v(a.upper)}) is not above the lower point "
                    f"({_v(a.lower)}); the output levels must differ and the feedback must reach the + pin.")
-    up_state, low_state = a.at_upper.state, a.at_lower.state
-    in_volts = a.watched is None  # with a front end, latching is judged in the watched quantity
-    if in_volts and a.upper > high:
-        out.append(f"Latches: the upper switching point {_v(a.upper)} is above the highest signal the "
-                   f"stage can see ({_v(high)}); a rising signal never switches it, so the output stays "
-                   f"{up_state}.")
-    if in_volts and a.lower < low:
-        out.append(f"Latches: the lower switching point {_v(a.lower)} is below the lowest signal the "
-                   f"stage can see ({_v(low)}); once switched, a falling signal never switches it back, "
-                   f"so the output stays {low_state}.")
+    out += _latching(a)
     rails = (design.supply.negative, design.supply.positive)
     cm = design.comparator
     for name, op in (("upper", a.at_upper), ("lower", a.at_lower)):
@@ -236,8 +188,7 @@ def _findings(design: Design, a: Analysis) -> list[str]:
                        f"resistor ({format_si(design.resistors.feedback, 'Ohm')}); the output only reaches "
                        f"{_v(a.output_high)} of the {_v(pu_volts)} pull-up supply when high, and that level "
                        f"moves with the feedback load.")
-    front_end_ohms = {} if a.design.front_end is None else a.design.front_end.resistors()
-    for key, ohms in {**_ohms(design), **front_end_ohms}.items():
+    for key, ohms in resistors_of(a.design).items():
         if ohms > LEAKAGE_OHMS:
             out.append(f"High value: {key} is {format_si(ohms, 'Ohm')}, above 1 MOhm; board leakage and "
                        f"bias current start to move the switching points (clean, coated boards help).")
@@ -248,23 +199,34 @@ def _findings(design: Design, a: Analysis) -> list[str]:
     return out
 
 
-def _watched_findings(design: Design, a: Analysis) -> list[str]:
-    """Latching in the watched quantity, and the thermistor's self-heating at each point."""
-    w, fe = a.watched, design.front_end
-    assert w is not None and fe is not None
-    low, high = watched_range(design)
+def _latching(a: Analysis) -> list[str]:
+    """A point the input never reaches (judged in the design's unit): the stage latches."""
+    w, fe = a.points, a.design.front_end
+    low, high = input_range(a.design)
     fmt = lambda x: format_value(x, w.unit)  # noqa: E731
     out: list[str] = []
-    for name, x, op in (("upper", w.at_stage_upper, a.at_upper), ("lower", w.at_stage_lower, a.at_lower)):
-        x = float(x)
-        where = None
+    stage_order = (a.at_upper, a.at_lower) if w.rises else (a.at_lower, a.at_upper)
+    for name, x, op in zip(("upper", "lower"), (float(w.upper), float(w.lower)), stage_order, strict=True):
+        at_stage = "" if w.unit == "V" and fe is None else f" ({_v(op.signal)} at the stage)"
         if math.isnan(x):
-            where = "at no value of the watched quantity"
-        elif not low <= x <= high:
-            where = f"only at {fmt(x)}, outside the watched range ({fmt(low)} to {fmt(high)})"
-        if where:
-            out.append(f"Latches: the stage reaches its {name} switching point ({_v(op.signal)}) {where}; "
-                       f"once the output is {op.state} it stays {op.state}.")
+            where = (f"Latches: no value the input reaches switches the stage at its {name} point{at_stage}")
+        elif x > high:
+            where = (f"Latches: the {name} switching point {fmt(x)}{at_stage} is above the highest value "
+                     f"the input reaches ({fmt(high)})")
+        elif x < low:
+            where = (f"Latches: the {name} switching point {fmt(x)}{at_stage} is below the lowest value "
+                     f"the input reaches ({fmt(low)})")
+        else:
+            continue
+        out.append(f"{where}; once the output is {op.state} it stays {op.state}.")
+    return out
+
+
+def _self_heating(design: Design, a: Analysis) -> list[str]:
+    """A thermistor warmed by its own current at the switching points."""
+    w, fe = a.points, design.front_end
+    fmt = lambda x: format_value(x, w.unit)  # noqa: E731
+    out: list[str] = []
     if isinstance(fe, ThermistorFrontEnd):
         heat = [(front_end_power(design, float(x), op.state)["front_end.thermistor"], float(x))
                 for x, op in ((w.at_stage_upper, a.at_upper), (w.at_stage_lower, a.at_lower))
@@ -280,10 +242,10 @@ def _watched_findings(design: Design, a: Analysis) -> list[str]:
     return out
 
 
-def _cautions(design: Design, watched: WatchedPoints | None = None) -> list[str]:
+def _cautions(design: Design, points: DesignPoints) -> list[str]:
     levels = [design.supply.positive, design.supply.negative, *design.signal_range()]
-    if watched is not None and watched.unit == "V":  # a front end watching a voltage
-        levels += [*watched_range(design), float(watched.upper), float(watched.lower)]
+    if points.unit == "V":  # the input is a voltage (a measured one, through a front end)
+        levels += [*input_range(design), float(points.upper), float(points.lower)]
     if isinstance(design.output, OpenDrain) and design.output.pullup_volts is not None:
         levels.append(design.output.pullup_volts)
     top = max(abs(v) for v in levels if not math.isnan(v))
@@ -298,8 +260,8 @@ def _cautions(design: Design, watched: WatchedPoints | None = None) -> list[str]
 
 _DEFER = ("bandcalc is a design aid, not a safety-rated protection; follow local codes and licensed "
           "practice, and use certified protective parts where a standard requires them.")
-# Words that mark a stage guarding people or property when the design does not say (DOMAIN.md:
-# battery protection, heater cut-off); matching errs on the side of showing the caution.
+# Words that mark a stage guarding people or property when the design does not say (battery
+# protection, heater cut-off: common practice); matching errs on the side of showing the caution.
 PROTECTIVE_WORDS = ("protect", "disconnect", "cut-off", "cutoff", "cut off", "overvoltage",
                     "over-voltage", "undervoltage", "under-voltage", "overtemperature",
                     "over-temperature", "overcurrent", "over-current", "overload", "heater", "battery",
@@ -324,14 +286,14 @@ def _stage_at(design: Design, x: float, which: str) -> Design:
         pts = switching_points(stage_design(design, end))
         return abs(float(getattr(pts, which)) - float(volts_for(design, end)[0]))
 
-    return stage_design(design, min(watched_range(design), key=miss))
+    return stage_design(design, min(input_range(design), key=miss))
 
 
-def _power_with_front_end(design: Design, w: WatchedPoints) -> dict[str, float]:
-    """Worst power in each part, the front end's own included, over the watched range and at
-    both points (the front end's resistance, and so the stage's, may move with the watched value)."""
+def _power(design: Design, w: DesignPoints) -> dict[str, float]:
+    """Worst power in each part, a front end's own included, over the input's range and at both
+    points (a front end's resistance, and so the stage's, may move with the input)."""
     worst: dict[str, float] = {}
-    xs = [*watched_range(design), *(float(x) for x in (w.at_stage_upper, w.at_stage_lower))]
+    xs = [*input_range(design), *(float(x) for x in (w.at_stage_upper, w.at_stage_lower))]
     for x in (x for x in xs if not math.isnan(x)):
         parts = [_worst_power(stage_design(design, x))]
         parts += [front_end_power(design, x, state) for state in ("high", "low")]
@@ -343,26 +305,20 @@ def _power_with_front_end(design: Design, w: WatchedPoints) -> dict[str, float]:
 
 
 def analyze(design: Design) -> Analysis:
-    """Analyse one design at its nominal values (with a front end, also in the watched quantity)."""
-    watched = None if design.front_end is None else watched_points(design)
-    if watched is None:
-        stage_up = stage_low = design
-    else:
-        stage_up = _stage_at(design, float(watched.at_stage_upper), "upper")
-        stage_low = _stage_at(design, float(watched.at_stage_lower), "lower")
+    """Analyse one design at its nominal values, in the stage's volts and in the design's unit."""
+    points = design_points(design)
+    stage_up = _stage_at(design, float(points.at_stage_upper), "upper")
+    stage_low = _stage_at(design, float(points.at_stage_lower), "lower")
     pts_up, pts_low = switching_points(stage_up), switching_points(stage_low)
     upper, lower = float(pts_up.upper), float(pts_low.lower)
     at_upper = _operating_point(stage_up, upper, "high" if design.inverting else "low", pts_up.at_upper)
     at_lower = _operating_point(stage_low, lower, "low" if design.inverting else "high", pts_low.at_lower)
     by_state = {at_upper.state: at_upper.output, at_lower.state: at_lower.output}
-    power = _worst_power(design) if watched is None else _power_with_front_end(design, watched)
     partial = Analysis(design=design, upper=upper, lower=lower, output_high=by_state["high"],
                        output_low=by_state["low"], at_upper=at_upper, at_lower=at_lower,
-                       power=power, findings=(), cautions=(), watched=watched)
-    findings = _findings(stage_up, partial)
-    if watched is not None:
-        findings += _watched_findings(design, partial)
-    return replace(partial, findings=tuple(findings), cautions=tuple(_cautions(design, watched)))
+                       power=_power(design, points), findings=(), cautions=(), points=points)
+    findings = _findings(stage_up, partial) + _self_heating(design, partial)
+    return replace(partial, findings=tuple(findings), cautions=tuple(_cautions(design, points)))
 
 
 def analysis_to_dict(a: Analysis) -> dict:
@@ -376,9 +332,10 @@ def analysis_to_dict(a: Analysis) -> dict:
            "hysteresis": a.hysteresis, "centre": a.centre, "output_high": a.output_high,
            "output_low": a.output_low, "at_upper": point(a.at_upper), "at_lower": point(a.at_lower),
            "power": a.power, "warnings": list(a.findings), "cautions": list(a.cautions)}
-    if a.watched is not None:
-        finite = lambda x: x if x is not None and math.isfinite(x) else None  # noqa: E731
-        out |= {"upper_watched": finite(a.upper_watched), "lower_watched": finite(a.lower_watched),
-                "watched_unit": a.watched_unit, "watched_direction": a.watched_direction,
-                "watched_rising_output": a.watched_rising_output}
+    if a.design.front_end is not None:  # the points in the watched quantity too, under keys of their own
+        w = a.points
+        finite = lambda x: float(x) if math.isfinite(x) else None  # noqa: E731
+        out |= {"upper_watched": finite(w.upper), "lower_watched": finite(w.lower), "watched_unit": w.unit,
+                "watched_direction": "rises" if w.rises else "falls",
+                "watched_rising_output": a.rising_output}
     return out

@@ -1,41 +1,36 @@
-"""Switching points in the watched quantity: the stage solved with its front end ahead of it.
+"""The design's switching points in its own unit, through whatever lies ahead of the stage.
+
+One path for every design: the points in the design's unit (:attr:`Design.unit`: the watched
+quantity of a front end, or the stage's input volts without one), with the stage's volts
+alongside, from :func:`design_points`.  A design without a front end goes through the same
+path with :class:`~bandcalc.model.front_end.DirectInput` ahead of it, whose watched value is
+the signal's own volts.
 
 How the points are solved
 -------------------------
-Each front end (:mod:`bandcalc.model.front_end`) has a coordinate t in which its Thevenin voltage and
-resistance are both affine: the watched value itself for the divider and the linear sensor, and
-the divider fraction u = R_t / (R_t + R_fixed) for the thermistor (V_th = V_e u or V_e (1 - u),
-R_th = R_fixed u).  With a fixed resistance (divider, linear sensor) the stage's switching
+Each front end (:mod:`bandcalc.model.front_end`) has a coordinate t in which its Thevenin voltage
+and resistance are both affine: the watched value itself for the direct input, the divider and
+the linear sensor, and the divider fraction u = R_t / (R_t + R_fixed) for the thermistor
+(V_th = V_e u or V_e (1 - u), R_th = R_fixed u).  With a fixed resistance the stage's switching
 condition V+ - V- - offset is affine in t, so each point is exact from the stage's own line
 (one pass, :func:`bandcalc.model.network.difference_line`).  With the thermistor, whose Thevenin
 resistance moves with temperature, the condition is a bilinear (Moebius) function of u: every
 node voltage of a linear network is a ratio of two affine functions of any one element's value
 (the bilinear theorem of network functions), and here the signal and its series resistance move
-together along one line.  So
-each point is exact from three evaluations of the one general solution
-(:func:`bandcalc.model.network.node_voltages`) at u = 0, 1/2 and 1, then mapped back to a temperature
-by the thermistor's model.  No iteration and no bracket (the tests check it against scipy's
-bracketed root finder and against lcapy), and it vectorizes like the stage model.
+together along one line.  So each point is exact from three evaluations of the one general
+solution (:func:`bandcalc.model.network.node_voltages`) at u = 0, 1/2 and 1, then mapped back to a
+temperature by the thermistor's model.  No iteration and no bracket (the tests check it against
+scipy's bracketed root finder and against lcapy), and it vectorizes like the stage model.
 
 For fit, spread and page
 ------------------------
-* ``network.switching_points(design)`` knows nothing of the front end: on a design with a front
-  end it gives the bare stage.  Use :func:`stage_design` (the stage with the front end folded
-  into ``source.resistance``) or the calls below.
-* Fit: :func:`stage_targets` turns targets in the watched quantity into the stage's targets: the
-  upper point in volts with its own total source resistance, and the lower point with its own.
-  Divider and linear front ends: both resistances are equal and fixed, so fit
-  ``stage_design(design)`` to those volts as usual.  Thermistor: evaluate candidates' upper
-  point with ``{"source.resistance": t.upper_resistance}`` and their lower point with
-  ``{"source.resistance": t.lower_resistance}``; exact, since at a target temperature the source
-  is known.  :func:`volts_for` gives the source at any single watched value.
-* Spread: :func:`watched_points` takes the same array overrides as ``switching_points`` plus the
-  front end's own parameters (``front_end.r25``, ``front_end.beta``, ``front_end.fixed``,
-  ``front_end.top``, ...; :func:`all_parameters` lists them);
-  :func:`bandcalc.model.front_end.front_end_tolerances` gives the front end's tolerances as fractions
-  keyed the same way.  It returns the points in volts too (``stage_upper``, ``stage_lower``).
-* Page: plot against :func:`watched_at` (source volts -> watched value) and label with
-  :func:`format_value`.
+* :func:`design_points` takes array overrides named by path (stage and ``front_end.*``
+  parameters, :func:`bandcalc.model.parts.parameters`) that broadcast.
+* :func:`stage_design` is the stage alone as it sees the front end at one input value (the front
+  end folded into ``source.resistance``); :func:`stage_targets` turns targets in the design's unit
+  into the stage's targets, each point in volts with its own total source resistance.
+* :func:`volts_for` gives the stage's source at any input value, :func:`input_at` the inverse,
+  :func:`input_range` the range the input reaches.
 """
 
 from __future__ import annotations
@@ -47,48 +42,39 @@ import numpy as np
 
 from bandcalc.errors import DesignError
 from bandcalc.model.design import Design, Source
-from bandcalc.model.front_end import DividerFrontEnd, FrontEnd, ThermistorFrontEnd
-from bandcalc.model.network import difference_line, node_voltages, parameters
+from bandcalc.model.front_end import DirectInput, DividerFrontEnd, FrontEnd, ThermistorFrontEnd, front_end_of
+from bandcalc.model.network import TwoPoints, difference_line, node_voltages
+from bandcalc.model.parts import parameters
 
 __all__ = [
+    "DesignPoints",
     "StageTargets",
-    "WatchedPoints",
-    "all_parameters",
+    "design_points",
     "front_end_power",
+    "input_at",
+    "input_range",
     "stage_design",
     "stage_targets",
     "volts_for",
-    "watched_at",
-    "watched_points",
-    "watched_range",
 ]
 
 ArrayLike = float | np.ndarray
 
 
-def _front_end(design: Design) -> FrontEnd:
-    if design.front_end is None:
-        raise DesignError("front_end: this design has no front end")
-    return design.front_end
-
-
-def all_parameters(design: Design) -> dict[str, float]:
-    """:func:`bandcalc.model.network.parameters` plus the front end's own (``front_end.*``), if any."""
-    extra = design.front_end.parameters() if design.front_end is not None else {}
-    return {**parameters(design), **extra}
+Ahead = FrontEnd | DirectInput
 
 
 def _merged(design: Design, values: Mapping[str, ArrayLike] | None) -> dict[str, ArrayLike]:
-    p: dict[str, ArrayLike] = dict(all_parameters(design))
+    p: dict[str, ArrayLike] = dict(parameters(design))
     if values:
         unknown = sorted(set(values) - set(p) - {"output.pullup_volts", "output.low_volts"})
         if unknown:
-            raise KeyError(f"unknown parameter {unknown[0]!r}; this design has: {', '.join(sorted(p))}")
+            raise DesignError(f"{unknown[0]}: not a parameter of this design; it has {', '.join(sorted(p))}")
         p.update({k: np.asarray(v, dtype=float) for k, v in values.items()})
     return p
 
 
-def _source(fe: FrontEnd, p: Mapping[str, ArrayLike], t: ArrayLike) -> tuple[ArrayLike, ArrayLike]:
+def _source(fe: Ahead, p: Mapping[str, ArrayLike], t: ArrayLike) -> tuple[ArrayLike, ArrayLike]:
     v0, v1, r0, r1 = fe.ends(p)
     return v0 + (v1 - v0) * t, p["source.resistance"] + r0 + (r1 - r0) * t
 
@@ -100,32 +86,33 @@ def volts_for(design: Design, x: ArrayLike, values: Mapping[str, ArrayLike] | No
     The ohms include ``source.resistance``: pass them as the ``"source.resistance"`` override of
     ``network.switching_points`` to evaluate the stage at that watched value.
     """
-    fe = _front_end(design)
+    fe = front_end_of(design)
     p = _merged(design, values)
     return _source(fe, p, fe.coordinate(p, x))
 
 
-def watched_at(design: Design, volts: ArrayLike, values: Mapping[str, ArrayLike] | None = None) -> ArrayLike:
-    """The watched value at which the front end's open-circuit voltage is ``volts`` (NaN if none)."""
-    fe = _front_end(design)
+def input_at(design: Design, volts: ArrayLike, values: Mapping[str, ArrayLike] | None = None) -> ArrayLike:
+    """The input value (design's unit) at which the stage's source voltage is ``volts`` (NaN if none)."""
+    fe = front_end_of(design)
     p = _merged(design, values)
     v0, v1, _, _ = fe.ends(p)
     with np.errstate(divide="ignore", invalid="ignore"):
         return fe.watched(p, (np.asarray(volts, dtype=float) - v0) / (v1 - v0))
 
 
-def watched_range(design: Design) -> tuple[float, float]:
-    """The range the watched quantity reaches: front_end.low / high, else what maps to the rails
-    (divider, linear) or :data:`THERMISTOR_RANGE`."""
-    fe = _front_end(design)
+def input_range(design: Design) -> tuple[float, float]:
+    """The range the design's input reaches, in its unit: ``front_end.low`` / ``high`` (without a
+    front end ``source.low`` / ``high``), else what maps to the rails, or a thermistor's
+    :data:`~bandcalc.model.front_end.THERMISTOR_RANGE`."""
+    fe = front_end_of(design)
     if isinstance(fe, ThermistorFrontEnd):
         return fe.temperatures()
-    rails = sorted(float(v) for v in watched_at(design, np.array([design.supply.negative,
+    rails = sorted(float(v) for v in input_at(design, np.array([design.supply.negative,
                                                                    design.supply.positive])))
     return (rails[0] if fe.low is None else fe.low, rails[1] if fe.high is None else fe.high)
 
 
-def _root(design: Design, fe: FrontEnd, p: Mapping[str, ArrayLike], state: str) -> ArrayLike:
+def _root(design: Design, fe: Ahead, p: Mapping[str, ArrayLike], state: str) -> ArrayLike:
     """Coordinate t where the stage switches in ``state``: the zero of a Moebius function of t."""
     q = dict(p)
 
@@ -151,10 +138,10 @@ def _root(design: Design, fe: FrontEnd, p: Mapping[str, ArrayLike], state: str) 
 
 
 @dataclass(frozen=True)
-class WatchedPoints:
-    """Switching points in the watched quantity (its ``unit``) and in volts of the stage's source.
+class DesignPoints(TwoPoints):
+    """Switching points in the design's unit (``unit``) and in volts of the stage's source.
 
-    ``at_stage_upper`` is the watched value where the stage reaches its upper point (the source
+    ``at_stage_upper`` is the input value where the stage reaches its upper point (the source
     voltage rising through ``stage_upper`` volts), ``at_stage_lower`` likewise.  ``rises`` says
     whether the source voltage rises with the watched quantity; where it falls (a thermistor on
     the bottom) the stage's upper point is the *lower* watched point.  ``upper`` and ``lower``
@@ -176,33 +163,25 @@ class WatchedPoints:
     def lower(self) -> ArrayLike:
         return self.at_stage_lower if self.rises else self.at_stage_upper
 
-    @property
-    def hysteresis(self) -> ArrayLike:
-        return self.upper - self.lower
 
-    @property
-    def centre(self) -> ArrayLike:
-        return 0.5 * (self.upper + self.lower)
-
-
-def watched_points(design: Design, values: Mapping[str, ArrayLike] | None = None) -> WatchedPoints:
-    """Both switching points in the watched quantity; array overrides broadcast as in the stage model.
+def design_points(design: Design, values: Mapping[str, ArrayLike] | None = None) -> DesignPoints:
+    """Both switching points in the design's unit, with the stage's volts; overrides broadcast.
 
     Parameters
     ----------
     design : Design
-        A design with a front end.
+        Any design; without a front end its unit is the stage's input volts.
     values : mapping of parameter name to float or array, optional
-        Overrides named as in :func:`all_parameters` (stage and ``front_end.*`` parameters).
+        Overrides named as in :func:`bandcalc.model.parts.parameters` (stage and ``front_end.*``).
     """
-    fe = _front_end(design)
+    fe = front_end_of(design)
     p = _merged(design, values)
     v0, v1, _, _ = fe.ends(p)
     upper_state, lower_state = ("high", "low") if design.inverting else ("low", "high")
     t_up, t_low = _root(design, fe, p, upper_state), _root(design, fe, p, lower_state)
-    return WatchedPoints(at_stage_upper=fe.watched(p, t_up), at_stage_lower=fe.watched(p, t_low),
-                         stage_upper=v0 + (v1 - v0) * t_up, stage_lower=v0 + (v1 - v0) * t_low,
-                         rises=fe.rises, unit=fe.unit)
+    return DesignPoints(at_stage_upper=fe.watched(p, t_up), at_stage_lower=fe.watched(p, t_low),
+                        stage_upper=v0 + (v1 - v0) * t_up, stage_lower=v0 + (v1 - v0) * t_low,
+                        rises=fe.rises, unit=fe.unit)
 
 
 @dataclass(frozen=True)
@@ -217,11 +196,11 @@ class StageTargets:
 
 def stage_targets(design: Design, upper: ArrayLike, lower: ArrayLike,
                   values: Mapping[str, ArrayLike] | None = None) -> StageTargets:
-    """Turn watched targets (upper above lower, in the front end's unit) into the stage's targets.
+    """Turn targets in the design's unit (upper above lower) into the stage's targets.
 
     The resistances are the total ``source.resistance`` the stage sees at each point.
     """
-    if not _front_end(design).rises:
+    if not front_end_of(design).rises:
         upper, lower = lower, upper
     v_up, r_up = volts_for(design, upper, values)
     v_low, r_low = volts_for(design, lower, values)
@@ -243,7 +222,7 @@ def stage_design(design: Design, x: float | None = None) -> Design:
             raise DesignError("front_end: a thermistor's stage depends on the temperature; give x")
         x = 0.0
     _, ohms = volts_for(design, x)
-    ends = sorted(float(v) for v in volts_for(design, np.array(watched_range(design)))[0])
+    ends = sorted(float(v) for v in volts_for(design, np.array(input_range(design)))[0])
     return replace(design, front_end=None, source=Source(resistance=float(ohms), low=ends[0], high=ends[1]))
 
 
@@ -253,7 +232,7 @@ def front_end_power(design: Design, x: float, state: str) -> dict[str, float]:
     Keyed ``front_end.top`` / ``front_end.bottom`` (divider) or ``front_end.fixed`` /
     ``front_end.thermistor``; the stage's own draw on the front end's node is included.
     """
-    fe = _front_end(design)
+    fe = front_end_of(design)
     stage = stage_design(design, x)
     volts, total = volts_for(design, x)
     volts = float(volts)
@@ -266,7 +245,7 @@ def front_end_power(design: Design, x: float, state: str) -> dict[str, float]:
     if isinstance(fe, DividerFrontEnd):
         return {"front_end.top": (x - node) ** 2 / fe.top, "front_end.bottom": node**2 / fe.bottom}
     if isinstance(fe, ThermistorFrontEnd):
-        p = all_parameters(design)
+        p = parameters(design)
         excitation = float(fe.excitation_volts(p))
         r_t = float(fe.resistance(p, x))
         bottom = fe.position == "bottom"

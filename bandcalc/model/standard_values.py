@@ -31,7 +31,6 @@ __all__ = [
     "next_below",
     "series_of",
     "series_values",
-    "usual_tolerance",
 ]
 
 
@@ -318,22 +317,3 @@ def series_of(value: float) -> str | None:
         if math.isclose(float(nearest(key, target)), target, rel_tol=_MATCH_RTOL):
             return key
     return None
-
-
-def usual_tolerance(value: float) -> float | None:
-    """The usual tolerance of a part of this value, from the first series holding it.
-
-    Parameters
-    ----------
-    value : float
-        A resistance in ohms.
-
-    Returns
-    -------
-    float or None
-        Tolerance as a fraction (0.05 for 5 %), or None if `value` is in no series.
-        Being the coarsest series that holds the value, this is a cautious default:
-        a 4.7 kOhm part is in E3, so it gets 40 % unless the user says otherwise.
-    """
-    key = series_of(value)
-    return None if key is None else TOLERANCE[key]

@@ -18,62 +18,32 @@ from dataclasses import dataclass, field
 from typing import Any
 
 from bandcalc.errors import BandcalcError
-from bandcalc.model.standard_values import TOLERANCE, EseriesError, nearest
+from bandcalc.model.parts import TOLERANCED
 from bandcalc.model.units import UnitError, parse_quantity
 
 __all__ = [
     "DISTRIBUTIONS",
     "MAX_PERCENT",
     "NOMINAL_CELSIUS",
-    "OTHER_RESISTORS",
     "Limits",
     "PerResistor",
     "ToleranceError",
     "Tolerances",
-    "series_tolerance",
     "tolerances_from_dict",
     "tolerances_to_dict",
 ]
 
 DISTRIBUTIONS = ("normal", "uniform")
-#: Resistors outside the ``resistors`` section, named by their parameter path.
-OTHER_RESISTORS = ("reference.top", "reference.bottom", "output.pullup",
-                   "front_end.top", "front_end.bottom", "front_end.fixed")
 #: Part values are given at 25 degrees Celsius (the datasheet convention, common practice).
 NOMINAL_CELSIUS = 25.0
 #: Largest percent tolerance taken; beyond it a normal draw at 3 sigma could make a part negative.
 MAX_PERCENT = 50.0
 _ABSOLUTE_ZERO_CELSIUS = -273.15
 #: A part value that is in no series from E24 up is taken as a precision part (common practice).
-_PRECISION_PERCENT = 1.0
-_PRECISION_SERIES = ("E24", "E48", "E96", "E192")
-_MATCH_RTOL = 1e-9
 
 
 class ToleranceError(BandcalcError):
     """A tolerances section that cannot be used; the message names the key and what is allowed."""
-
-
-def series_tolerance(ohms: float) -> tuple[float, str | None]:
-    """Default tolerance (percent) of a resistor, from the series its value belongs to.
-
-    The coarsest series from E24 upward that holds the value gives the tolerance: E24 5 %,
-    E48 2 %, E96 1 %, E192 0.5 % (IEC 60063 usual tolerances, common practice).  E3 to E12 are
-    skipped: their values are all in E24, and parts are rarely bought at 10 % or worse today.
-    A value in none of these series implies a precision part: 1 % (common practice).
-
-    Returns
-    -------
-    (percent, series name or None)
-    """
-    for key in _PRECISION_SERIES:
-        try:
-            hit = math.isclose(float(nearest(key, ohms)), ohms, rel_tol=_MATCH_RTOL)
-        except EseriesError:
-            return _PRECISION_PERCENT, None
-        if hit:
-            return 100.0 * TOLERANCE[key], key
-    return _PRECISION_PERCENT, None
 
 
 def _number(value: Any, where: str, unit: str = "") -> float:
@@ -159,7 +129,8 @@ class Tolerances:
     Parameters
     ----------
     resistors : PerResistor
-        Percent, +/-; a resistor with none given takes :func:`series_tolerance` of its value.
+        Percent, +/-; a resistor with none given takes the usual tolerance of its value's series
+        (:func:`bandcalc.model.parts.series_tolerance`).
     reference : float
         Percent, +/-, of a fixed-volts reference (a divider reference follows its rail).
     supply : float
@@ -259,7 +230,7 @@ def tolerances_from_dict(data: Any, resistor_keys: Sequence[str]) -> Tolerances:
     Raises ToleranceError naming the key at fault and what is allowed.
     """
     data = _object(data, "tolerances", _KEYS)
-    names = (*resistor_keys, *OTHER_RESISTORS)
+    names = (*resistor_keys, *(k for k in TOLERANCED if k not in resistor_keys))
     kwargs: dict[str, Any] = {}
     for key, raw in data.items():
         where = f"tolerances.{key}"

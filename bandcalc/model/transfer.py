@@ -27,15 +27,18 @@ from dataclasses import dataclass
 import numpy as np
 from numpy.typing import NDArray
 
+from bandcalc.errors import BandcalcError
 from bandcalc.model.design import Design
-from bandcalc.model.network import node_voltages, parameters, switching_points
-from bandcalc.model.points import volts_for, watched_points, watched_range
+from bandcalc.model.front_end import front_end_of
+from bandcalc.model.network import TwoPoints, node_voltages
+from bandcalc.model.parts import parameters
+from bandcalc.model.points import design_points, input_range, volts_for
 
 __all__ = ["TransferCurve", "transfer_curve"]
 
 
 @dataclass(frozen=True)
-class TransferCurve:
+class TransferCurve(TwoPoints):
     """Output (volts) against input on both branches; the input in volts or the watched quantity.
 
     ``signal`` is ascending and holds each switching point twice, so a branch's jump is a
@@ -56,10 +59,6 @@ class TransferCurve:
     watched: bool = False  # True: ``signal`` is the watched quantity (battery volts, degrees C, ...)
 
     @property
-    def hysteresis(self) -> float:
-        return self.upper - self.lower
-
-    @property
     def switched_state(self) -> str:
         return "high" if self.start_state == "low" else "low"
 
@@ -69,7 +68,7 @@ class TransferCurve:
         At a switching point itself the branch jumps; use ``at_upper``/``at_lower`` there.
         """
         if branch not in ("rising", "falling"):
-            raise ValueError(f"branch: {branch!r} is not a branch; allowed: rising, falling")
+            raise BandcalcError(f"branch: {branch!r} is not a branch; allowed: rising, falling")
         return float(np.interp(signal, self.signal, getattr(self, branch)))
 
 
@@ -109,28 +108,6 @@ def _curve(signal: NDArray[np.float64], level: dict[str, NDArray[np.float64]], u
                          start_state=start, inverting=inverting, unit=unit, watched=watched)
 
 
-def _front_end_curve(design: Design, samples: int, margin: float, watched: bool) -> TransferCurve:
-    fe = design.front_end
-    assert fe is not None
-    pts = watched_points(design)
-    stage_start = "high" if design.inverting else "low"
-    x = _grid(*watched_range(design), (float(pts.upper), float(pts.lower)), samples, margin)
-    volts, ohms = volts_for(design, x)
-    p = dict(parameters(design), **{"source.resistance": ohms})
-    level = {state: np.broadcast_to(node_voltages(design, p, volts, state).output, x.shape)
-             for state in ("high", "low")}
-    if watched:
-        start = stage_start if fe.rises else ("low" if stage_start == "high" else "high")
-        return _curve(x, level, float(pts.upper), float(pts.lower), start, design.inverting, fe.unit, True)
-    # Against the stage's input: the same samples in volts, ascending; the points where the
-    # watched quantity reaches them, through the same function, so they match samples exactly.
-    volts = np.asarray(volts, dtype=float)
-    if not fe.rises:
-        volts, level = volts[::-1], {k: v[::-1] for k, v in level.items()}
-    ends = volts_for(design, np.array([float(pts.at_stage_upper), float(pts.at_stage_lower)]))[0]
-    return _curve(volts, level, float(ends[0]), float(ends[1]), stage_start, design.inverting)
-
-
 def transfer_curve(design: Design, samples: int = 201, margin: float = 0.05, *,
                    watched: bool = False) -> TransferCurve:
     """Both branches of a design's transfer curve.
@@ -139,28 +116,36 @@ def transfer_curve(design: Design, samples: int = 201, margin: float = 0.05, *,
     ----------
     design : Design
     samples : int
-        Evenly spaced inputs over the signal's range (widened to hold both switching points)
-        plus ``margin`` of that width on each side.  Each switching point is added twice.
-        With a front end the samples are spaced evenly over the watched range.
+        Evenly spaced input values over the range the input reaches (widened to hold both
+        switching points) plus ``margin`` of that width on each side.  Each switching point is
+        added twice.
     margin : float
         Fraction of the swept width added on each side.
     watched : bool
-        Against the watched quantity (needs a front end); else against the stage's input, volts.
+        Against the design's input in its unit (a front end's watched quantity); else against
+        the stage's input, volts.  Without a front end the two are the same.
 
     Returns
     -------
     TransferCurve
     """
     if samples < 2:
-        raise ValueError(f"samples: need at least 2, got {samples}")
-    if design.front_end is not None:
-        return _front_end_curve(design, samples, margin, watched)
-    if watched:
-        raise ValueError("watched: this design has no front end, so its input is the stage's own volts")
-    pts = switching_points(design)
-    upper, lower = float(pts.upper), float(pts.lower)
-    signal = _grid(*design.signal_range(), (upper, lower), samples, margin)
-    p = parameters(design)
-    level = {state: np.broadcast_to(node_voltages(design, p, signal, state).output, signal.shape)
+        raise BandcalcError(f"samples: need at least 2, got {samples}")
+    fe = front_end_of(design)
+    pts = design_points(design)
+    stage_start = "high" if design.inverting else "low"
+    x = _grid(*input_range(design), (float(pts.upper), float(pts.lower)), samples, margin)
+    volts, ohms = volts_for(design, x)
+    p = dict(parameters(design), **{"source.resistance": ohms})
+    level = {state: np.broadcast_to(node_voltages(design, p, volts, state).output, x.shape)
              for state in ("high", "low")}
-    return _curve(signal, level, upper, lower, "high" if design.inverting else "low", design.inverting)
+    if watched:
+        start = stage_start if fe.rises else ("low" if stage_start == "high" else "high")
+        return _curve(x, level, float(pts.upper), float(pts.lower), start, design.inverting, fe.unit, True)
+    # Against the stage's input: the same samples in volts, ascending; the points where the
+    # input reaches them, through the same function, so they match samples exactly.
+    volts = np.asarray(volts, dtype=float)
+    if not fe.rises:
+        volts, level = volts[::-1], {k: v[::-1] for k, v in level.items()}
+    ends = volts_for(design, np.array([float(pts.at_stage_upper), float(pts.at_stage_lower)]))[0]
+    return _curve(volts, level, float(ends[0]), float(ends[1]), stage_start, design.inverting)

@@ -24,32 +24,16 @@ import schemdraw
 import schemdraw.elements as elm
 from schemdraw.util import Point
 
-from bandcalc.model.design import Design, DividerReference, FixedReference, OpenDrain
-from bandcalc.model.front_end import DividerFrontEnd, LinearFrontEnd, ThermistorFrontEnd
+from bandcalc.model.design import Design, FixedReference, OpenDrain
+from bandcalc.model.front_end import LinearFrontEnd, ThermistorFrontEnd
+from bandcalc.model.parts import PARTS, part, resistors_of
 from bandcalc.model.units import format_code, format_si, format_value
 
-__all__ = ["DESIGNATORS", "stage_labels", "stage_svg"]
+__all__ = ["stage_labels", "stage_svg"]
 
-# Short names printed beside each part, keyed by design-file path.
-DESIGNATORS = {
-    "source.resistance": "Rsrc",
-    "resistors.input": "Rin",
-    "resistors.feedback": "Rfb",
-    "resistors.to_positive": "Rup",
-    "resistors.to_negative": "Rdn",
-    "resistors.to_ground": "Rgnd",
-    "resistors.to_reference": "Rref",
-    "reference.top": "Rtop",
-    "reference.bottom": "Rbot",
-    "output.pullup": "Rpu",
-    "front_end.top": "Rd1",
-    "front_end.bottom": "Rd2",
-    "front_end.fixed": "Rfix",
-    "front_end.resistance": "Rsen",
-}
 # Every value label the drawing can hold, in a fixed order (a placeholder's number is its index).
-_SLOTS = (*DESIGNATORS, "supply.positive", "supply.negative", "reference.volts", "output.pullup_volts",
-          "front_end.thermistor", "front_end.excitation", "front_end.sensor")
+_SLOTS = (*(p.path for p in PARTS), "supply.positive", "supply.negative", "reference.volts",
+          "output.pullup_volts", "front_end.thermistor", "front_end.excitation", "front_end.sensor")
 # Placeholders for the longer labels are longer, so the drawing leaves room for them.
 _WIDTH = {"front_end.thermistor": 14, "front_end.sensor": 14}
 _INK = "#1d2433"
@@ -67,34 +51,29 @@ def _v(volts: float) -> str:
 def stage_labels(design: Design) -> dict[str, str]:
     """The value label of every part and rail the schematic shows, keyed by design-file path."""
     vp, vn = design.supply.positive, design.supply.negative
-    ohms = {f"resistors.{k}": v for k, v in design.resistors.present().items()}
+    ohms = {part(k).path: v for k, v in resistors_of(design).items()}
     if design.source.resistance > 0:
         ohms["source.resistance"] = design.source.resistance
     labels = {"supply.positive": _v(vp), "supply.negative": _v(vn)}
     if isinstance(design.reference, FixedReference):
         labels["reference.volts"] = _v(design.reference.volts)
-    elif isinstance(design.reference, DividerReference):
-        ohms["reference.top"], ohms["reference.bottom"] = design.reference.top, design.reference.bottom
     if isinstance(design.output, OpenDrain):
-        ohms["output.pullup"] = design.output.pullup
         labels["output.pullup_volts"] = _v(vp if design.output.pullup_volts is None
                                            else design.output.pullup_volts)
     ohms.update(_front_end_labels(design, labels))
-    labels.update({path: f"{DESIGNATORS[path]} {format_code(value)}" for path, value in ohms.items()})
+    labels.update({path: f"{part(path).designator} {format_code(value)}" for path, value in ohms.items()})
     return labels
 
 
 def _front_end_labels(design: Design, labels: dict[str, str]) -> dict[str, float]:
-    """Write the front end's non-resistor labels into ``labels``; return its resistors (ohms)."""
+    """Write the front end's non-resistor labels into ``labels``; return a sensor's own resistance."""
     fe = design.front_end
-    if isinstance(fe, DividerFrontEnd):
-        return {"front_end.top": fe.top, "front_end.bottom": fe.bottom}
     if isinstance(fe, ThermistorFrontEnd):
         model = f"B {fe.beta:g} K" if fe.steinhart_hart is None else "S-H"
         labels["front_end.thermistor"] = f"NTC {format_code(fe.nominal_r25)}, {model}"
         labels["front_end.excitation"] = {"positive": _v(design.supply.positive), "reference": "REF"}.get(
             fe.excitation) or _v(float(fe.excitation))  # type: ignore[arg-type]
-        return {"front_end.fixed": fe.fixed}
+        return {}
     if isinstance(fe, LinearFrontEnd):
         per = format_value(fe.volts_per_unit, "V", 3)
         offset = f" {'+' if fe.offset >= 0 else '-'} {_v(abs(fe.offset))}" if fe.offset else ""

@@ -18,7 +18,7 @@ from bandcalc.model.design import Design, DividerReference, FixedReference, Open
 from bandcalc.model.design_file import design_to_dict
 from bandcalc.model.front_end import DividerFrontEnd, LinearFrontEnd, ThermistorFrontEnd
 from bandcalc.model.operating import Analysis, analyze
-from bandcalc.model.tolerances import series_tolerance
+from bandcalc.model.parts import part, resistors_of, tolerance_of
 from bandcalc.model.units import format_code, format_si, format_value
 
 __all__ = [
@@ -35,21 +35,6 @@ POWER_RATINGS = ((0.0625, "1/16 W"), (0.1, "1/10 W"), (0.125, "1/8 W"), (0.25, "
                  (0.5, "1/2 W"), (1.0, "1 W"), (2.0, "2 W"))
 # Choose a rating at least twice the worst dissipation (common practice derating).
 DERATING = 2.0
-
-_POSITION = {
-    "input": "signal to the {pin} pin",
-    "feedback": "output to the + pin",
-    "to_positive": "+ pin to the positive rail",
-    "to_negative": "+ pin to the negative rail",
-    "to_ground": "+ pin to ground",
-    "to_reference": "+ pin to the reference",
-    "reference.top": "reference divider, positive rail side",
-    "reference.bottom": "reference divider, negative rail side",
-    "output.pullup": "output pull-up",
-    "front_end.top": "sense divider, from the measured voltage",
-    "front_end.bottom": "sense divider, to ground",
-    "front_end.fixed": "thermistor divider, fixed resistor",
-}
 
 # Characters that can open markup anywhere in a line (GFM tables and strikethrough included);
 # < > & become entities instead, so no HTML can pass.
@@ -98,41 +83,20 @@ def _rating(watts: float) -> str:
     return "above 2 W: use a power resistor"
 
 
-def _resistor_values(d: Design) -> dict[str, float]:
-    """Every resistor of the design in ohms, keyed by its parameter name (without "resistors.")."""
-    values = dict(d.resistors.present())
-    if isinstance(d.reference, DividerReference):
-        values["reference.top"], values["reference.bottom"] = d.reference.top, d.reference.bottom
-    if isinstance(d.output, OpenDrain):
-        values["output.pullup"] = d.output.pullup
-    if d.front_end is not None:
-        values.update(d.front_end.resistors())
-    return values
-
-
-def _tolerance_text(d: Design, key: str, ohms: float) -> tuple[str, str]:
-    """(series, tolerance) of a resistor: the design's tolerances section, else its series' usual one."""
-    percent, series = series_tolerance(ohms)
-    given = d.tolerances.resistors.get(key) if d.tolerances is not None else None
-    if given is not None:
-        return series or "none", f"{given:g} %"
-    return series or "none", f"{percent:g} % (usual for {series})" if series else f"{percent:g} % (assumed)"
-
-
 def component_rows(a: Analysis) -> list[dict[str, str]]:
     """One row per part: designator, position, value, series, tolerance, power."""
     d = a.design
     rows = []
-    for i, (key, ohms) in enumerate(_resistor_values(d).items(), start=1):
-        series, tolerance = _tolerance_text(d, key, ohms)
+    for key, ohms in resistors_of(d).items():
+        row, t = part(key), tolerance_of(d, key)
         watts = a.power.get(key, 0.0)
         rows.append({
-            "designator": f"R{i}",
-            "position": _POSITION[key].format(pin="-" if d.inverting else "+"),
+            "designator": row.designator,
+            "position": row.position.format(pin="-" if d.inverting else "+"),
             "key": key,
             "value": _ohm(ohms),
-            "series": series,
-            "tolerance": tolerance,
+            "series": t.series or "none",
+            "tolerance": f"{t.percent:g} % ({t.why})",
             "power": f"{format_si(watts, 'W')} (rate {_rating(watts)})",
         })
     fe = d.front_end
@@ -164,7 +128,7 @@ def stage_in_words(d: Design) -> str:
         parts.append(f"The signal reaches the + pin through {_ohm(r.input)}; "
                      "the reference sits on the - pin.")
     parts.append(f"Feedback of {_ohm(r.feedback)} runs from the output to the + pin.")
-    legs = [f"{_POSITION[k][len('+ pin '):]} ({_ohm(getattr(r, k))})"
+    legs = [f"to {part(k).far_end} ({_ohm(getattr(r, k))})"
             for k in ("to_positive", "to_negative", "to_ground", "to_reference") if getattr(r, k) is not None]
     if legs:
         parts.append("Further legs from the + pin: " + "; ".join(legs) + ".")
@@ -208,8 +172,8 @@ def _front_end_words(d: Design) -> list[str]:
 
 def _points_rows(a: Analysis, spread) -> tuple[list[str], list[list[str]]]:
     """The switching-points table: nominal, and the spread's worst case and 99.73 % range if run."""
-    unit = a.watched_unit or "V"
-    q = lambda x: format_value(x, unit, 4)  # noqa: E731
+    w = a.points
+    q = lambda x: format_value(x, w.unit, 4)  # noqa: E731
     header = ["Quantity", "Nominal"]
     if spread is not None:
         header += ["Worst case, least", "Worst case, greatest", "0.135 % of builds", "99.865 % of builds"]
@@ -222,17 +186,13 @@ def _points_rows(a: Analysis, spread) -> tuple[list[str], list[list[str]]]:
         return out
 
     blank = [""] * (len(header) - 2)
-    if a.watched is None:
-        rows = [row("Upper switching point (rising signal)", "upper", a.upper),
-                row("Lower switching point (falling signal)", "lower", a.lower),
-                row("Hysteresis", "hysteresis", a.hysteresis),
-                ["Centre", _v(a.centre), *blank]]
-    else:
-        rows = [row("Upper switching point of the watched quantity", "upper", a.upper_watched),
-                row("Lower switching point of the watched quantity", "lower", a.lower_watched),
-                row("Hysteresis in the watched quantity", "hysteresis", a.upper_watched - a.lower_watched),
-                ["Stage upper / lower point (volts at the stage's source)",
-                 f"{_v(a.upper)} / {_v(a.lower)}", *blank]]
+    rows = [row("Upper switching point (rising input)", "upper", float(w.upper)),
+            row("Lower switching point (falling input)", "lower", float(w.lower)),
+            row("Hysteresis", "hysteresis", float(w.hysteresis)),
+            ["Centre", q(float(w.centre)), *blank]]
+    if a.design.front_end is not None:  # the points are in the watched quantity: the stage's volts too
+        rows.append(["Stage upper / lower point (volts at the stage's source)",
+                     f"{_v(a.upper)} / {_v(a.lower)}", *blank])
     rows += [["Output level reached, high", _v(a.output_high), *blank],
              ["Output level reached, low", _v(a.output_low), *blank],
              ["Largest current from the positive rail", format_si(a.positive_rail_current, "A"), *blank]]
@@ -284,22 +244,19 @@ def _signal_section(run) -> list[str]:
 
 def _fit_section(result) -> list[str]:
     """Targets, the leading candidates and the exact solution of a fit (bandcalc.fit.selection.FitResult)."""
-    unit = result.design.front_end.unit if result.design.front_end is not None else "V"
+    unit = result.design.unit
     q = lambda x: format_value(x, unit, 4)  # noqa: E731
-
-    def value(c, position: str) -> float:
-        return getattr(c.reference, position.split(".")[1]) if "." in position else c.resistors[position]
 
     lines = [f"Targets: upper {q(result.upper)}, lower {q(result.lower)}; fitted "
              f"{', '.join(result.fitted)} from {result.series}, {format_si(result.min_ohms, 'Ohm')} to "
              f"{format_si(result.max_ohms, 'Ohm')}.", ""]
     header = ["Rank", *result.fitted, "Upper", "Lower", "Worst error", "Network current"]
-    rows = [[str(i), *(format_code(value(c, p)) for p in result.fitted), q(c.upper), q(c.lower),
+    rows = [[str(i), *(format_code(c.value(p)) for p in result.fitted), q(c.upper), q(c.lower),
              format_value(c.worst_error, unit, 3), format_si(c.network_current, "A")]
             for i, c in enumerate(result.candidates, 1)]
     lines += _table(header, rows)
     if result.exact is not None:
-        exact = ", ".join(f"{p} {format_si(value(result.exact, p), 'Ohm', 4)}" for p in result.fitted)
+        exact = ", ".join(f"{p} {format_si(result.exact.value(p), 'Ohm', 4)}" for p in result.fitted)
         lines += ["", f"Exact (continuous) solution: {exact}."]
     lines += [""] + [f"- {n}" for n in (*result.notes, *result.problems)]
     return lines

@@ -12,6 +12,7 @@ import streamlit as st
 
 from bandcalc.model.design import LEG_KEYS, STAGES, Design, OpenDrain
 from bandcalc.model.front_end import POSITIONS, THERMISTOR_RANGE, ThermistorFrontEnd
+from bandcalc.model.parts import part, value_at, with_value
 from bandcalc.model.standard_values import SERIES
 from bandcalc.page import state
 from bandcalc.page.edit import (
@@ -24,7 +25,6 @@ from bandcalc.page.edit import (
     front_end_kind,
     reference_kind,
     thermistor_model,
-    value_at,
     with_excitation,
     with_front_end,
     with_legs,
@@ -32,7 +32,6 @@ from bandcalc.page.edit import (
     with_reference,
     with_stage,
     with_thermistor_model,
-    with_value,
 )
 from bandcalc.page.inputs import choice_control, quantity_field, resistor_control
 
@@ -42,8 +41,6 @@ SERIES_KEY = "page.series"
 SECTION_PREFIX = "page.section."
 _STAGE_NAMES = {"non-inverting": "Non-inverting: signal to the + pin",
                 "inverting": "Inverting: signal to the − pin"}
-_LEG_NAMES = {"to_positive": "the positive rail", "to_negative": "the negative rail",
-              "to_ground": "ground", "to_reference": "the reference"}
 _REFERENCE_NAMES = {"none": "None", "fixed": "Fixed voltage", "divider": "Divider across the rails"}
 _OUTPUT_NAMES = {"push-pull": "Push-pull", "open-drain": "Open-drain / open-collector"}
 _FRONT_END_NAMES = {"none": "Nothing: the signal drives the stage", "divider": "Sense divider from a voltage",
@@ -82,9 +79,9 @@ def _resistors(design: Design, series: str) -> None:
                          else "From the signal to the − pin")
     fitted = [k for k in LEG_KEYS if getattr(design.resistors, k) is not None]
     choice_control(st.multiselect, "Resistors from the + pin to…", "resistors.legs", fitted, _fitted_legs,
-            options=LEG_KEYS, format_func=_LEG_NAMES.get)
+            options=LEG_KEYS, format_func=lambda key: part(key).far_end)
     for key in fitted:
-        resistor_control(f"Resistor to {_LEG_NAMES[key]}", f"resistors.{key}", design, series)
+        resistor_control(part(key).name, part(key).path, design, series)
 
 
 def _reference(design: Design, series: str) -> None:

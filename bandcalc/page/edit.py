@@ -9,9 +9,7 @@ input resistor and a reference), the edit fits a stated starting value.
 from __future__ import annotations
 
 import math
-import re
 from dataclasses import replace
-from typing import Any
 
 from bandcalc.errors import DesignError
 from bandcalc.model.design import (
@@ -22,15 +20,11 @@ from bandcalc.model.design import (
     FixedReference,
     OpenDrain,
     PushPull,
+    divider_thevenin,
 )
-from bandcalc.model.front_end import (
-    KELVIN_AT_25C,
-    DividerFrontEnd,
-    LinearFrontEnd,
-    ThermistorFrontEnd,
-    steinhart_hart_resistance,
-)
+from bandcalc.model.front_end import DividerFrontEnd, LinearFrontEnd, ThermistorFrontEnd
 from bandcalc.model.standard_values import SERIES, nearest, series_values
+from bandcalc.model.thermistor import beta_between, beta_to_steinhart_hart
 
 __all__ = [
     "DECADES_BELOW",
@@ -46,7 +40,6 @@ __all__ = [
     "reference_kind",
     "slider_options",
     "thermistor_model",
-    "value_at",
     "with_excitation",
     "with_front_end",
     "with_legs",
@@ -54,7 +47,6 @@ __all__ = [
     "with_reference",
     "with_stage",
     "with_thermistor_model",
-    "with_value",
 ]
 
 # A part the user switches on starts at this value (a middle-of-the-road choice, common practice).
@@ -66,58 +58,6 @@ DECADES_BELOW, DECADES_ABOVE = 1, 2
 FRONT_END_KINDS = ("none", "divider", "thermistor", "linear")
 THERMISTOR_MODELS = ("beta", "steinhart_hart")
 EXCITATION_KINDS = ("positive", "reference", "volts")
-# A Beta is commonly stated between 25 C and 50 C on NTC data sheets (B25/50, common practice).
-_BETA_FROM_KELVIN = KELVIN_AT_25C + 25.0
-_INDEXED = re.compile(r"^(?P<name>\w+)\[(?P<index>\d)\]$")
-
-
-def _part_and_name(design: Design, path: str) -> tuple[Any, str, int | None]:
-    """The section object, the field name and, for "name[i]", the index into a tuple field."""
-    section, _, name = path.partition(".")
-    part = getattr(design, section, None)
-    indexed = _INDEXED.match(name)
-    index = int(indexed["index"]) if indexed else None
-    name = indexed["name"] if indexed else name
-    if part is None or not name or not hasattr(part, name):
-        raise DesignError(f"{path}: not a value of this design")
-    value = getattr(part, name)
-    if index is not None and not (isinstance(value, tuple) and index < len(value)):
-        raise DesignError(f"{path}: not a value of this design")
-    return part, name, index
-
-
-def value_at(design: Design, path: str) -> Any:
-    """The value at a design-file path such as "resistors.feedback", "reference.top" or
-    "front_end.steinhart_hart[1]" (one element of a list in the file)."""
-    part, name, index = _part_and_name(design, path)
-    value = getattr(part, name)
-    return value if index is None else value[index]
-
-
-def with_value(design: Design, path: str, value: Any) -> Design:
-    """The design with one value changed, validated.
-
-    Parameters
-    ----------
-    design : Design
-    path : str
-        Section and field, as in the design file: "resistors.feedback", "supply.positive",
-        "reference.volts", "reference.top", "output.pullup", "comparator.offset", ...
-    value
-        The new value in SI units (``None`` empties an optional field), or text for "name"/"notes".
-    """
-    if path in ("name", "notes"):
-        if not isinstance(value, str):
-            raise DesignError(f"{path}: must be text")
-        return replace(design, **{path: value})
-    part, name, index = _part_and_name(design, path)  # raises for a path this design does not have
-    if index is not None:
-        value = tuple(value if i == index else v for i, v in enumerate(getattr(part, name)))
-    section = path.partition(".")[0]
-    try:
-        return replace(design, **{section: replace(part, **{name: value})})
-    except TypeError as exc:
-        raise DesignError(f"{path}: {exc}") from None
 
 
 def _mid_supply(design: Design) -> float:
@@ -181,7 +121,7 @@ def with_reference(design: Design, kind: str) -> Design:
         volts = _mid_supply(design)
         if isinstance(design.reference, DividerReference):
             ref = design.reference
-            volts = design.supply.negative + design.supply.span * ref.bottom / (ref.top + ref.bottom)
+            volts = divider_thevenin(ref.top, ref.bottom, design.supply.positive, design.supply.negative)[0]
         return replace(design, reference=FixedReference(volts))
     return replace(design, reference=DividerReference(top=10e3, bottom=10e3))
 
@@ -276,15 +216,11 @@ def with_thermistor_model(design: Design, model: str) -> Design:
     if model == thermistor_model(design):
         return design
     if model == "steinhart_hart":
-        beta, r25 = float(fe.beta), float(fe.r25)  # type: ignore[arg-type]
-        coefficients = (1.0 / KELVIN_AT_25C - math.log(r25) / beta, 1.0 / beta, 0.0)
+        coefficients = beta_to_steinhart_hart(float(fe.r25), float(fe.beta))  # type: ignore[arg-type]
         new = replace(fe, r25=None, beta=None, beta_tolerance=None, steinhart_hart=coefficients)
     else:
         assert fe.steinhart_hart is not None
-        r25 = fe.nominal_r25
-        r50 = float(steinhart_hart_resistance(fe.steinhart_hart, _BETA_FROM_KELVIN))
-        beta = math.log(r25 / r50) / (1.0 / KELVIN_AT_25C - 1.0 / _BETA_FROM_KELVIN)
-        new = replace(fe, steinhart_hart=None, r25=r25, beta=beta)
+        new = replace(fe, steinhart_hart=None, r25=fe.nominal_r25, beta=beta_between(fe.steinhart_hart))
     return replace(design, front_end=new)
 
 

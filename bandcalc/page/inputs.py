@@ -20,6 +20,7 @@ from typing import Any
 import streamlit as st
 
 from bandcalc.model.design import Design
+from bandcalc.model.parts import value_at, with_value
 from bandcalc.model.standard_values import series_values
 from bandcalc.model.units import (
     SI_UNITS,
@@ -31,7 +32,7 @@ from bandcalc.model.units import (
     parse_resistance,
 )
 from bandcalc.page import state
-from bandcalc.page.edit import slider_options, value_at, with_value
+from bandcalc.page.edit import slider_options
 
 __all__ = ["PREFIXED_UNITS", "choice_control", "quantity_field", "read_value", "resistor_control", "shown",
            "value_field"]

@@ -1,27 +1,15 @@
-"""Names the page gives the parts and varied quantities, keyed as in the design file."""
+"""Names the page gives the parts and varied quantities, keyed as in the design file.
+
+Resistors take their names from the one table of parts (:data:`bandcalc.model.parts.PARTS`).
+"""
 
 from __future__ import annotations
 
-from bandcalc.outputs.schematic import DESIGNATORS
+from bandcalc.errors import DesignError
+from bandcalc.model.parts import part
 
-__all__ = ["PART_NAMES", "factor_name", "part_name"]
+__all__ = ["factor_name", "part_name"]
 
-#: Resistors by their key in ``Analysis.power`` and in the tolerances section.
-PART_NAMES = {
-    "input": "Input resistor",
-    "feedback": "Feedback resistor",
-    "to_positive": "Resistor to the positive rail",
-    "to_negative": "Resistor to the negative rail",
-    "to_ground": "Resistor to ground",
-    "to_reference": "Resistor to the reference",
-    "reference.top": "Divider, upper resistor",
-    "reference.bottom": "Divider, lower resistor",
-    "output.pullup": "Pull-up resistor",
-    "front_end.top": "Sense divider, upper resistor",
-    "front_end.bottom": "Sense divider, lower resistor",
-    "front_end.fixed": "Thermistor's fixed resistor",
-    "front_end.resistance": "Sensor output resistance",
-}
 _OTHERS = {
     "supply.positive": "Positive rail",
     "supply.negative": "Negative rail",
@@ -39,14 +27,15 @@ _OTHERS = {
 
 
 def part_name(key: str) -> str:
-    """A resistor's name with its designator on the schematic: "Feedback resistor (Rfb)"."""
-    path = key if "." in key else f"resistors.{key}"
-    name = PART_NAMES.get(key, key)
-    return f"{name} ({DESIGNATORS[path]})" if path in DESIGNATORS else name
+    """A resistor's name with its designator on the schematic: "Feedback resistor (Rfb)"; other keys
+    as they are."""
+    try:
+        row = part(key)
+    except DesignError:
+        return key
+    return f"{row.name} ({row.designator})"
 
 
 def factor_name(name: str) -> str:
     """A varied quantity's name (``bandcalc.spread.factors.Factor.name``) for people."""
-    if name.startswith("resistors."):
-        return part_name(name.removeprefix("resistors."))
-    return part_name(name) if name in PART_NAMES else _OTHERS.get(name, name)
+    return _OTHERS[name] if name in _OTHERS else part_name(name)

@@ -50,11 +50,11 @@ def watched_name(design: Design) -> str:
 
 def figure_texts(analysis: Analysis) -> list[tuple[str, str, str | None, str]]:
     """(label, value shown, the stage's volts beneath it or None, meaning) for each figure."""
-    a, w = analysis, analysis.watched
+    a, w = analysis, analysis.points
     out = []
     for label, attr, meaning in FIGURES:
         volts = format_si(getattr(a, attr), "V", 4)
-        if w is None or attr.startswith("output"):
+        if a.design.front_end is None or attr.startswith("output"):  # the stage's own volts
             out.append((label, volts, None, meaning))
             continue
         value = {"upper": w.upper, "lower": w.lower, "hysteresis": w.hysteresis, "centre": w.centre}[attr]
@@ -74,10 +74,10 @@ def render_figures(analysis: Analysis) -> None:
         column.metric(label, value, help=meaning)
         if stage:
             column.caption(stage)
-    if analysis.watched is not None:
-        w, unit = analysis.watched, analysis.watched_unit
+    if analysis.design.front_end is not None:
+        w, unit = analysis.points, analysis.design.unit
         st.caption(f"Switching points in the watched quantity ({unit}), through the front end; beneath "
-                   f"each, the stage's input in volts. The output turns {analysis.watched_rising_output} "
+                   f"each, the stage's input in volts. The output turns {analysis.rising_output} "
                    f"as the watched quantity rises through {format_value(float(w.upper), unit, 4)}.")
     for line in analysis.cautions:
         st.error(line, icon=":material/warning:")
@@ -91,8 +91,7 @@ def _axis(design: Design) -> tuple[bool, str | None]:
     """With a front end, a choice of axis for the transfer curve: (watched, axis title)."""
     if design.front_end is None:
         return False, None
-    unit = design.front_end.unit
-    names = {"watched": f"{watched_name(design)} ({unit})", "stage": "Stage input, open-circuit (V)"}
+    names = {"watched": f"{watched_name(design)} ({design.unit})", "stage": "Stage input, open-circuit (V)"}
     st.session_state.setdefault(AXIS_KEY, "watched")
     choice = st.radio("Plot against", tuple(names), key=AXIS_KEY, format_func=names.get, horizontal=True,
                       label_visibility="collapsed")

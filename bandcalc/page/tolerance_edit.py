@@ -12,14 +12,8 @@ from __future__ import annotations
 from dataclasses import replace
 
 from bandcalc.model.design import Design
-from bandcalc.model.points import all_parameters
-from bandcalc.model.tolerances import (
-    NOMINAL_CELSIUS,
-    OTHER_RESISTORS,
-    PerResistor,
-    Tolerances,
-    series_tolerance,
-)
+from bandcalc.model.parts import resistors_of, tolerance_of
+from bandcalc.model.tolerances import NOMINAL_CELSIUS, PerResistor, Tolerances
 
 __all__ = [
     "PLAIN_KEYS",
@@ -132,20 +126,11 @@ def resistor_rows(design: Design) -> list[dict[str, object]]:
     """Every resistor that can be varied: its tolerances-section name, value, the tolerance (percent)
     and temperature coefficient (ppm/K) it takes, and whether each was given or is a default."""
     tol = tolerances_of(design)
-    nominal = all_parameters(design)
-    keys = [k for k in nominal if k.startswith("resistors.")] + [k for k in OTHER_RESISTORS if k in nominal]
     rows = []
-    for key in keys:
-        name = key.removeprefix("resistors.")
-        ohms = nominal[key]
-        given = dict(tol.resistors.parts).get(name)
-        percent = tol.resistors.get(name)
-        origin = "given for this resistor" if given is not None else "given for every resistor"
-        if percent is None:
-            percent, series = series_tolerance(ohms)
-            origin = f"usual for {series}" if series else "in no series: a precision part"
-        tempco = tol.resistor_tempco.get(name)
-        rows.append({"name": name, "ohms": ohms, "percent": percent, "origin": origin,
-                     "tempco": tempco or 0.0, "own_percent": given,
+    for name, ohms in resistors_of(design).items():
+        t = tolerance_of(design, name)
+        rows.append({"name": name, "ohms": ohms, "percent": t.percent, "origin": t.why,
+                     "tempco": tol.resistor_tempco.get(name) or 0.0,
+                     "own_percent": dict(tol.resistors.parts).get(name),
                      "own_tempco": dict(tol.resistor_tempco.parts).get(name)})
     return rows

@@ -10,8 +10,8 @@ from bandcalc.demos import demo_designs
 from bandcalc.errors import DesignError
 from bandcalc.model.design import Design
 from bandcalc.model.design_file import design_from_json, design_to_json
+from bandcalc.model.parts import with_value
 from bandcalc.page import state
-from bandcalc.page.edit import with_value
 
 __all__ = ["MAX_UPLOAD_MB", "file_name", "render_design_file"]
 

@@ -22,9 +22,10 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from bandcalc.errors import BandcalcError
 from bandcalc.model.design import Design, OpenDrain
-from bandcalc.model.network import switching_points
-from bandcalc.model.points import watched_points
+from bandcalc.model.network import TwoPoints
+from bandcalc.model.points import design_points
 from bandcalc.model.validation import real
 from bandcalc.signal_check.noise import NoiseLevel, hysteresis_noise_finding, noise_level
 from bandcalc.signal_check.waveform import Waveform
@@ -37,7 +38,7 @@ __all__ = [
     "find_edges",
     "input_edges",
     "missed_transitions",
-    "design_points",
+    "run_points",
     "output_rise_time",
     "pullup_rise_time",
     "run_design",
@@ -251,7 +252,7 @@ def _high_fraction(t: np.ndarray, start_high: bool, switch_times: np.ndarray) ->
 
 
 @dataclass(frozen=True, eq=False)
-class SignalRun:
+class SignalRun(TwoPoints):
     """Result of :func:`run_stage`.
 
     Attributes
@@ -304,15 +305,6 @@ class SignalRun:
     noise: NoiseLevel
     findings: tuple[str, ...]
 
-    @property
-    def width(self) -> float:
-        """Hysteresis, upper - lower, in V."""
-        return self.upper - self.lower
-
-    @property
-    def centre(self) -> float:
-        """Centre of the switching points, in V."""
-        return 0.5 * (self.upper + self.lower)
 
     @property
     def output_high(self) -> np.ndarray:
@@ -430,32 +422,27 @@ def output_rise_time(design: Design) -> float:
     return 0.0
 
 
-def design_points(design: Design) -> tuple[float, float, bool]:
+def run_points(design: Design) -> tuple[float, float, bool]:
     """Upper and lower points and the inverting flag for a signal run of a design.
 
-    Without a front end the signal is the stage's source voltage (volts).  With one, the signal
-    is the watched quantity itself (battery volts, degrees C, kPa): the points are the watched
-    points, and where the source voltage falls as the watched quantity rises (a thermistor on
-    the bottom of its divider) the output sense flips.
+    The signal is in the design's unit (the stage's volts, or a front end's watched quantity:
+    battery volts, degrees C, kPa); where the stage's source voltage falls as it rises (a
+    thermistor on the bottom of its divider) the output sense flips.
     """
-    if design.front_end is None:
-        pts = switching_points(design)
-        return float(pts.upper), float(pts.lower), design.inverting
-    w = watched_points(design)
-    flips = not w.rises
-    return float(w.upper), float(w.lower), design.inverting != flips
+    pts = design_points(design)
+    return float(pts.upper), float(pts.lower), design.inverting != (not pts.rises)
 
 
 def run_design(design: Design, wave: Waveform, *, noise_rms: float | None = None) -> SignalRun:
-    """Run ``wave`` through a design's switching points (see :func:`design_points`).
+    """Run ``wave`` through a design's switching points (see :func:`run_points`).
 
     The points come from the full stage model; the comparator's propagation delay and, for an
     open-drain output, the pull-up rise time into the output's load capacitance are added.
     """
-    upper, lower, inverting = design_points(design)
+    upper, lower, inverting = run_points(design)
     if not upper > lower:
-        raise ValueError("signal: the design has no hysteresis (upper point not above lower, or a "
+        raise BandcalcError("signal: the design has no hysteresis (upper point not above lower, or a "
                          "point the watched quantity cannot reach); fix the stage first")
     return run_stage(wave, upper, lower, inverting=inverting, delay=design.comparator.delay,
                      rise_time=output_rise_time(design), noise_rms=noise_rms,
-                     unit=design.front_end.unit if design.front_end is not None else "V")
+                     unit=design.unit)

@@ -16,12 +16,12 @@ from bandcalc.model.design import Design
 from bandcalc.model.validation import real
 from bandcalc.signal_check.edges import (
     centre_crossings,
-    design_points,
     edge_delays,
     find_edges,
     input_edges,
     missed_transitions,
     output_rise_time,
+    run_points,
 )
 from bandcalc.signal_check.noise import noise_level
 from bandcalc.signal_check.waveform import Waveform
@@ -171,12 +171,12 @@ def hysteresis_sweep(wave: Waveform, centre: float, widths: object, *,
 
 
 def sweep_design(design: Design, wave: Waveform, widths: object | None = None) -> Sweep:
-    """Sweep the hysteresis width about the design's own centre (see ``signal.design_points``).
+    """Sweep the hysteresis width about the design's own centre (see ``edges.run_points``).
 
     Default widths: 81 steps from 0 to twice the larger of the design's hysteresis and the
     noise's peak-to-peak (6.6 x RMS, see :mod:`bandcalc.signal_check.noise`).
     """
-    upper, lower, inverting = design_points(design)
+    upper, lower, inverting = run_points(design)
     if widths is None:
         top = 2.0 * max(upper - lower, noise_level(wave).peak_to_peak, 1e-6)
         widths = np.linspace(0.0, top, 81)

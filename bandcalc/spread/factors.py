@@ -22,10 +22,10 @@ from dataclasses import dataclass
 import numpy as np
 
 from bandcalc.model.design import Design, DividerReference, FixedReference
-from bandcalc.model.front_end import front_end_tolerances
-from bandcalc.model.network import switching_points
-from bandcalc.model.points import all_parameters, watched_points
-from bandcalc.model.tolerances import NOMINAL_CELSIUS, OTHER_RESISTORS, Tolerances, series_tolerance
+from bandcalc.model.front_end import front_end_of, front_end_tolerances
+from bandcalc.model.parts import parameters, part, resistors_of, tolerance_of
+from bandcalc.model.points import design_points
+from bandcalc.model.tolerances import NOMINAL_CELSIUS, Tolerances
 from bandcalc.model.units import format_si
 
 __all__ = ["QUANTITIES", "Factor", "VariedModel", "factors"]
@@ -81,39 +81,32 @@ class Factor:
         return x
 
 
-def _resistor_factors(design: Design, tol: Tolerances, nominal: dict[str, float], dist: str,
+def _resistor_factors(design: Design, tol: Tolerances, dist: str,
                       notes: list[str]) -> tuple[list[Factor], dict[str, float]]:
-    names = [k for k in nominal if k.startswith("resistors.")] + [k for k in OTHER_RESISTORS if k in nominal]
-    short = {k: k.removeprefix("resistors.") for k in names}
+    ohms_by_key = resistors_of(design)
     given = {n for n, _ in tol.resistors.parts + tol.resistor_tempco.parts}
-    for name in sorted(given - set(short.values())):
+    for name in sorted(given - set(ohms_by_key)):
         notes.append(f"tolerances: this design has no {name} resistor; its entry is not used.")
     out, tempco = [], {}
-    for key in names:
-        ohms, percent = nominal[key], tol.resistors.get(short[key])
-        if percent is None:
-            percent, series = series_tolerance(ohms)
-            origin = f"{percent:g} %, usual for {series}" if series else f"{percent:g} %, in no series"
-        else:
-            origin = f"{percent:g} %"
-        if percent > 0:
-            out.append(Factor(key, "Ohm", ohms, ohms * (1 - percent / 100), ohms * (1 + percent / 100),
-                              dist, origin))
-        ppm = tol.resistor_tempco.get(short[key]) or 0.0
+    for key, ohms in ohms_by_key.items():
+        path, t = part(key).path, tolerance_of(design, key, tol)
+        if t.percent > 0:
+            out.append(Factor(path, "Ohm", ohms, ohms * (1 - t.percent / 100), ohms * (1 + t.percent / 100),
+                              dist, f"{t.percent:g} %, {t.why}"))
+        ppm = tol.resistor_tempco.get(key) or 0.0
         if ppm:
-            tempco[key] = ppm * 1e-6
+            tempco[path] = ppm * 1e-6
     return out, tempco
 
 
 def _model_factors(design: Design, tol: Tolerances) -> tuple[list[Factor], dict[str, float], list[str]]:
     """The varied factors, each resistor's temperature coefficient (1/K), and notes on unused entries."""
-    nominal, dist, notes = all_parameters(design), tol.distribution, []
-    out, tempco = _resistor_factors(design, tol, nominal, dist, notes)
-    if design.front_end is not None:  # the front end's own tolerances (thermistor R25, Beta)
-        for key, frac in front_end_tolerances(design.front_end).items():
-            v = nominal[key]
-            out.append(Factor(key, "Ohm" if key == "front_end.r25" else "K", v, v * (1 - frac),
-                              v * (1 + frac), dist, f"{100 * frac:g} %"))
+    nominal, dist, notes = parameters(design), tol.distribution, []
+    out, tempco = _resistor_factors(design, tol, dist, notes)
+    for key, frac in front_end_tolerances(front_end_of(design)).items():  # a thermistor's R25, Beta
+        v = nominal[key]
+        out.append(Factor(key, "Ohm" if key == "front_end.r25" else "K", v, v * (1 - frac),
+                          v * (1 + frac), dist, f"{100 * frac:g} %"))
     rails = ["supply.positive", "supply.negative", "output.pullup_volts", "output.low_volts"]
     for key in (k for k in rails if k in nominal and nominal[k] != 0 and tol.supply > 0):
         v, dv = nominal[key], abs(nominal[key]) * tol.supply / 100
@@ -174,7 +167,7 @@ class VariedModel:
             self.notes.append("No tolerances section: resistors at the usual tolerance of their series, "
                               "every other part exact, at 25 C.")
         self.tolerances = tol
-        self.nominal = all_parameters(design)
+        self.nominal = parameters(design)
         found, self.tempco, notes = _model_factors(design, tol)
         self.factors = found
         self.notes += notes
@@ -199,15 +192,9 @@ class VariedModel:
         return out
 
     def evaluate(self, x: Mapping[str, np.ndarray], n: int) -> dict[str, np.ndarray]:
-        """Upper point, lower point and hysteresis for ``n`` sets of factor values.
-
-        In volts of the signal, or in the watched quantity where the design has a front end.
-        """
+        """Upper point, lower point and hysteresis for ``n`` sets of factor values, in the design's unit."""
         with np.errstate(divide="ignore", invalid="ignore"):
-            if self.design.front_end is not None:
-                pts = watched_points(self.design, self.values(x))
-            else:
-                pts = switching_points(self.design, self.values(x))
+            pts = design_points(self.design, self.values(x))
         upper = np.broadcast_to(np.asarray(pts.upper, dtype=float), (n,))
         lower = np.broadcast_to(np.asarray(pts.lower, dtype=float), (n,))
         return {"upper": upper, "lower": lower, "hysteresis": upper - lower}

@@ -21,7 +21,7 @@ import numpy as np
 from bandcalc.errors import BandcalcError
 from bandcalc.model.design import Design
 from bandcalc.model.operating import analyze
-from bandcalc.model.points import watched_range
+from bandcalc.model.points import input_range
 from bandcalc.model.tolerances import Tolerances
 from bandcalc.model.units import format_value
 from bandcalc.spread.factors import QUANTITIES, Factor, VariedModel
@@ -388,14 +388,13 @@ class Spread:
 
     @property
     def unit(self) -> str:
-        """Unit of the points: volts, or the front end's watched quantity."""
-        return "V" if self.design.front_end is None else self.design.front_end.unit
+        """Unit of the points: the design's (volts, or a front end's watched quantity)."""
+        return self.design.unit
 
 
 def _findings(design: Design, wc: WorstCase, mc: MonteCarlo) -> list[str]:
-    unit = "V" if design.front_end is None else design.front_end.unit
-    out, v = [], (lambda x: format_value(x, unit, 4))
-    low, high = design.signal_range() if design.front_end is None else watched_range(design)
+    out, v = [], (lambda x: format_value(x, design.unit, 4))
+    low, high = input_range(design)
     if wc.upper.max > high:
         out.append(f"At its worst corner the upper point reaches {v(wc.upper.max)}, above the highest "
                    f"signal the source reaches ({v(high)}): such a build never switches on a rising signal.")

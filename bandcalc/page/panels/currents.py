@@ -29,8 +29,8 @@ def render(sheet) -> None:
     """Tables of the network just before each switch, and the worst power in each resistor."""
     a = sheet.analysis
     up, low = a.at_upper, a.at_lower
-    w = a.watched
-    if w is None:
+    w = a.points
+    if a.design.front_end is None:
         st.caption(f"At the upper point: {_at(up)}. At the lower point: {_at(low)}.")
     else:  # the stage's own points; with a falling front end its upper point is the lower watched one
         st.caption(f"At the stage's upper point: {_at(up, float(w.at_stage_upper), w.unit)}. At its lower "

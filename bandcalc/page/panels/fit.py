@@ -18,12 +18,13 @@ import streamlit as st
 from bandcalc.fit.selection import Candidate, FitResult, apply_candidate, fit
 from bandcalc.model.design import Design, DividerReference
 from bandcalc.model.design_file import design_from_json, design_to_json
+from bandcalc.model.front_end import front_end_of
+from bandcalc.model.parts import part, resistors_of, value_at
 from bandcalc.model.standard_values import SERIES
 from bandcalc.model.units import format_code, format_si, format_value, parse_quantity, parse_resistance
 from bandcalc.page import state
 from bandcalc.page.compute import guarded
 from bandcalc.page.controls import SERIES_KEY
-from bandcalc.page.edit import value_at
 
 TITLE = "Fit to target points"
 
@@ -33,27 +34,13 @@ RESULT_KEY = "page.fit_result"
 _KEPT = "page.fit.settings"  # the settings, kept while the panel's widgets are not drawn
 _WIDGET = "fit."  # widget keys: fit.upper, fit.lower, ...
 _COUNT_MAX = 10
-_NAMES = {"input": "Input", "feedback": "Feedback", "to_positive": "To + rail", "to_negative": "To − rail",
-          "to_ground": "To ground", "to_reference": "To reference", "reference.top": "Divider top",
-          "reference.bottom": "Divider bottom"}
 _LABELS = {"upper": "Upper point wanted", "lower": "Lower point wanted", "min_ohms": "Smallest resistor",
            "max_ohms": "Largest resistor"}
 
 
-def _unit(design: Design) -> str:
-    return design.front_end.unit if design.front_end is not None else "V"
-
-
-def _path(position: str) -> str:
-    return position if position.startswith("reference.") else f"resistors.{position}"
-
-
 def _holdable(design: Design) -> list[str]:
-    """Positions the fit may hold at their present value."""
-    out = list(design.resistors.present())
-    if isinstance(design.reference, DividerReference):
-        out += ["reference.top", "reference.bottom"]
-    return out
+    """Positions the fit may hold at their present value: the stage's resistors and a reference divider."""
+    return [k for k in resistors_of(design) if not k.startswith(("output.", "front_end."))]
 
 
 def _points(sheet) -> tuple[str, str]:
@@ -63,14 +50,14 @@ def _points(sheet) -> tuple[str, str]:
     some pairs of points.  The sump demo's points rounded to four digits are out of its reach in
     the allowed range and the fit adds a resistor for them; at five its own values come first.
     """
-    a, unit = sheet.analysis, _unit(sheet.design)
-    points = (a.upper, a.lower) if a.watched is None else (a.upper_watched, a.lower_watched)
-    return tuple(format_value(x, unit, 5) if x is not None and math.isfinite(x) else "" for x in points)
+    a, unit = sheet.analysis, sheet.design.unit
+    points = (float(a.points.upper), float(a.points.lower))
+    return tuple(format_value(x, unit, 5) if math.isfinite(x) else "" for x in points)
 
 
 def _defaults(sheet) -> dict:
     upper, lower = _points(sheet)
-    return {"basis": (sheet.design.name, _unit(sheet.design)), "upper": upper, "lower": lower,
+    return {"basis": (sheet.design.name, sheet.design.unit), "upper": upper, "lower": lower,
             "series": st.session_state.get(SERIES_KEY, "E24"), "min_ohms": "1k", "max_ohms": "10M",
             "count": 5, "hold": [], "add_leg": True}
 
@@ -78,7 +65,7 @@ def _defaults(sheet) -> dict:
 def _settings(sheet) -> dict:
     """The kept settings, started again for a design under another name or watched unit."""
     kept = st.session_state.get(_KEPT)
-    if kept is None or kept["basis"] != (sheet.design.name, _unit(sheet.design)):
+    if kept is None or kept["basis"] != (sheet.design.name, sheet.design.unit):
         kept = _defaults(sheet)
         for key in [k for k in st.session_state if str(k).startswith(_WIDGET)]:
             del st.session_state[key]
@@ -97,8 +84,8 @@ def _take_points(upper: str, lower: str) -> None:
 
 def _form(sheet, kept: dict) -> bool:
     """The settings; returns whether "Find values" was pressed."""
-    design, unit = sheet.design, _unit(sheet.design)
-    what = "the watched quantity, " + unit if design.front_end is not None else "volts at the signal source"
+    design, unit = sheet.design, sheet.design.unit
+    what = f"{front_end_of(design).quantity}, {unit}"
     with st.form("fit.form", border=False):
         row = st.columns(4)
         row[0].text_input(f"{_LABELS['upper']} ({unit})", key=_WIDGET + "upper",
@@ -116,7 +103,7 @@ def _form(sheet, kept: dict) -> bool:
                           help="No fitted value above this; above about 1 MΩ board leakage and bias "
                                "current start to matter (common practice)")
         row[2].multiselect("Hold at present value", _holdable(design), key=_WIDGET + "hold",
-                           format_func=lambda k: f"{_NAMES[k]} {format_code(value_at(design, _path(k)), 4)}",
+                           format_func=lambda k: f"{part(k).label} {format_code(resistors_of(design)[k], 4)}",
                            placeholder="none: all may change")
         row[3].checkbox("May add a resistor to the + pin", key=_WIDGET + "add_leg",
                         help="Where the stage as drawn cannot place both points, a resistor from the + pin "
@@ -134,7 +121,7 @@ def _form(sheet, kept: dict) -> bool:
 
 def _read(design: Design, kept: dict) -> tuple[dict, list[str]]:
     """The fit's arguments from the settings, and a message for each field that cannot be read."""
-    unit, args, wrong = _unit(design), {}, []
+    unit, args, wrong = design.unit, {}, []
     for field in ("upper", "lower"):
         text = str(kept[field]).replace("°", "").strip()
         try:
@@ -158,7 +145,7 @@ def _read(design: Design, kept: dict) -> tuple[dict, list[str]]:
         wrong.append(f"{_LABELS['min_ohms']} ({format_code(args['min_ohms'], 4)}) must be below the "
                      f"{_LABELS['max_ohms'].lower()} ({format_code(args['max_ohms'], 4)})")
     args.update(series=kept["series"], count=int(kept["count"]), add_leg=bool(kept["add_leg"]),
-                fixed=tuple((k, float(value_at(design, _path(k)))) for k in kept["hold"]))
+                fixed=tuple((k, float(value_at(design, part(k).path))) for k in kept["hold"]))
     return args, wrong
 
 
@@ -199,19 +186,15 @@ def _find(design: Design, kept: dict) -> None:
         st.session_state[RESULT_KEY] = (text, result)
 
 
-def _value(c: Candidate, position: str) -> float:
-    return float(value_at(c.design, _path(position)))
-
-
 def _in_use(design: Design, c: Candidate) -> bool:
     return c.resistors == design.resistors.present() and c.reference in (None, design.reference)
 
 
 def _table(r: FitResult, design: Design) -> dict[str, list[str]]:
-    unit = _unit(design)
+    unit = design.unit
     rows = r.candidates
     table = {"Rank": [str(i) for i in range(1, len(rows) + 1)]}
-    table.update({_NAMES[p]: [format_code(_value(c, p), 3) for c in rows] for p in r.fitted})
+    table.update({part(p).label: [format_code(c.value(p), 3) for c in rows] for p in r.fitted})
     table.update({
         "Upper": [format_value(c.upper, unit, 4) for c in rows],
         "Lower": [format_value(c.lower, unit, 4) for c in rows],
@@ -223,7 +206,7 @@ def _table(r: FitResult, design: Design) -> dict[str, list[str]]:
 
 
 def _applied(r: FitResult, rank: int, c: Candidate, unit: str) -> str:
-    values = ", ".join(f"{_NAMES[p].lower()} {format_code(_value(c, p), 3)}" for p in r.fitted)
+    values = ", ".join(f"{part(p).label.lower()} {format_code(c.value(p), 3)}" for p in r.fitted)
     return (f"Fit candidate {rank} applied: {values}; upper {format_value(c.upper, unit, 4)}, "
             f"lower {format_value(c.lower, unit, 4)}.")
 
@@ -239,8 +222,8 @@ def _results(sheet) -> None:
         st.info("The stage has changed since the last search in more than resistor values; press Find "
                 "values to search for the design as it is now.")
         return
-    unit = _unit(design)
-    fitted = ", ".join(_NAMES[p].lower() for p in r.fitted)
+    unit = design.unit
+    fitted = ", ".join(part(p).label.lower() for p in r.fitted)
     targets = f"upper {format_value(r.upper, unit, 4)}, lower {format_value(r.lower, unit, 4)}"
     span = f"{format_code(r.min_ohms, 4)} to {format_code(r.max_ohms, 4)}"
     st.markdown(f"**Found for** {targets}: {fitted} from {r.series}, {span}.")
@@ -254,7 +237,8 @@ def _results(sheet) -> None:
                              help="Put this candidate's values on the sliders"):
                     state.apply_design(apply_candidate(design, c), _applied(r, rank, c, unit))
     if r.exact is not None:
-        exact = ", ".join(f"{_NAMES[p].lower()} {format_si(_value(r.exact, p), 'Ohm', 4)}" for p in r.fitted)
+        exact = ", ".join(f"{part(p).label.lower()} {format_si(r.exact.value(p), 'Ohm', 4)}"
+                          for p in r.fitted)
         st.caption(f"Exact values, not standard: {exact} (upper {format_value(r.exact.upper, unit, 4)}, "
                    f"lower {format_value(r.exact.lower, unit, 4)}).")
     for line in r.notes:

@@ -14,12 +14,13 @@ from dataclasses import dataclass
 import streamlit as st
 
 from bandcalc.model.design import Design
+from bandcalc.model.front_end import front_end_of
 from bandcalc.model.units import format_si, format_value
 from bandcalc.outputs.plots import DISPLAY_POINTS, as_figure, signal_spec, tradeoff_spec
 from bandcalc.page import runs, state
 from bandcalc.page.compute import guarded
 from bandcalc.page.inputs import read_value
-from bandcalc.signal_check.edges import SignalRun, design_points, run_design
+from bandcalc.signal_check.edges import SignalRun, run_design, run_points
 from bandcalc.signal_check.recording import read_waveform_csv
 from bandcalc.signal_check.waveform import HUM_FREQUENCIES, SHAPES, Waveform, synthesize
 from bandcalc.signal_check.width_trade import Sweep, sweep_design
@@ -54,10 +55,6 @@ class SignalResult:
     described: str
 
 
-def _unit(design: Design) -> str:
-    return "V" if design.front_end is None else design.front_end.unit
-
-
 def _setting_changed(name: str, label: str, unit: str, optional: bool) -> None:
     key, good = _PREFIX + name, _PREFIX + name + ".ok"
     text = str(st.session_state[key]).strip()
@@ -90,7 +87,7 @@ def _value(name: str, unit: str) -> float | None:
 
 
 def _synthetic_settings(design: Design, unit: str) -> tuple:
-    upper, lower, _ = design_points(design)
+    upper, lower, _ = run_points(design)
     columns = st.columns(4)
     st.session_state.setdefault(_PREFIX + "shape", "sine")
     columns[0].selectbox("Shape", SHAPES, key=_PREFIX + "shape", format_func=_SHAPES.get)
@@ -184,7 +181,7 @@ def _figures(run: SignalRun, unit: str) -> None:
 
 def _tradeoff(sweep: Sweep, run: SignalRun, unit: str) -> None:
     st.markdown("**Hysteresis against edges and delay** (same centre, same signal)")
-    figure = as_figure(tradeoff_spec(sweep, unit, run.width), validate=False)
+    figure = as_figure(tradeoff_spec(sweep, unit, run.hysteresis), validate=False)
     st.plotly_chart(figure, key="signal.tradeoff", config={"displaylogo": False})
     if sweep.best_width is None:
         why = " (a recorded signal has none to judge by)" if sweep.clean_edge_counts is None else ""
@@ -195,15 +192,14 @@ def _tradeoff(sweep: Sweep, run: SignalRun, unit: str) -> None:
         s = lambda x: format_si(x, "s", 3)  # noqa: E731
         st.caption(f"Narrowest width with one clean edge per crossing: {v(sweep.best_width)}, mean delay "
                    f"{s(sweep.best_mean_delay)}, largest {s(sweep.best_max_delay)}. "
-                   f"This design: {v(run.width)}.")
+                   f"This design: {v(run.hysteresis)}.")
 
 
 def render(sheet) -> None:
     """Signal settings, the run, and its figures, time plot and trade-off curve."""
-    design, unit = sheet.design, _unit(sheet.design)
-    what = "the watched quantity" if design.front_end is not None else "the stage's input"
-    st.caption(f"Runs a signal in {what} ({unit}) through the design's switching points and reports every "
-               f"output edge.")
+    design, unit = sheet.design, sheet.design.unit
+    st.caption(f"Runs a signal in {front_end_of(design).quantity} ({unit}) through the design's switching "
+               "points and reports every output edge.")
     st.session_state.setdefault(_PREFIX + "source", "synthetic")
     source = st.radio("Signal", tuple(_SOURCES), key=_PREFIX + "source", format_func=_SOURCES.get,
                       horizontal=True, label_visibility="collapsed")

@@ -11,6 +11,7 @@ from __future__ import annotations
 import streamlit as st
 
 from bandcalc.model.design import Design
+from bandcalc.model.front_end import front_end_of
 from bandcalc.model.tolerances import DISTRIBUTIONS
 from bandcalc.model.units import format_si, format_value
 from bandcalc.outputs.plots import as_figure, histogram_spec, sensitivity_spec
@@ -211,11 +212,10 @@ def _results(s: Spread) -> None:
 def render(sheet) -> None:
     """Tolerance inputs, the run, and its worst case, histograms, yield and sensitivity."""
     design = sheet.design
-    unit = "V" if design.front_end is None else design.front_end.unit
+    unit = design.unit
     st.caption("How far the switching points move over part tolerances and temperature, and how often a "
                "build misses its windows. The tolerances belong to the design: they are saved with it and "
-               f"kept in the page address. Figures are in {'volts' if unit == 'V' else unit}"
-               f"{' of the watched quantity' if design.front_end is not None else ''}.")
+               f"kept in the page address. Figures are in {front_end_of(design).quantity} ({unit}).")
     _tolerance_inputs(design, unit)
     _per_resistor(design)
     if design.tolerances is not None:
