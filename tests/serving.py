@@ -22,6 +22,15 @@ def free_port() -> int:
         return s.getsockname()[1]
 
 
+def refuses(host: str, port: int) -> bool:
+    """Whether nothing accepts a connection at ``host``:``port``."""
+    try:
+        socket.create_connection((host, port), timeout=2).close()
+    except OSError:
+        return True
+    return False
+
+
 def _health(url: str) -> str | None:
     try:
         with urllib.request.urlopen(url + "_stcore/health", timeout=2) as reply:

@@ -9,7 +9,7 @@ import tomllib
 from pathlib import Path
 
 import pytest
-from serving import free_port, serving
+from serving import free_port, refuses, serving
 
 from bandcalc.cli.commands import main
 from bandcalc.cli.page_server import ADDRESS, DEFAULT_PORT, PAGE_SETTINGS, streamlit_arguments
@@ -60,14 +60,6 @@ def test_a_busy_port_is_refused_at_once(capsys):
     assert f"cannot listen on {ADDRESS} port {port}" in err and "--port N" in err
 
 
-def _refused(host: str, port: int) -> bool:
-    try:
-        socket.create_connection((host, port), timeout=2).close()
-    except OSError:
-        return True
-    return False
-
-
 def test_the_page_serves_on_loopback_only_whatever_the_working_directory_says(tmp_path):
     # A config file in the working directory and a STREAMLIT_ variable asking for every interface:
     # the command-line flags take precedence over both (Streamlit documentation, "Working with
@@ -79,7 +71,7 @@ def test_the_page_serves_on_loopback_only_whatever_the_working_directory_says(tm
     port = free_port()
     with serving([sys.executable, "-m", "bandcalc", "page", "--port", str(port)], port, tmp_path, env) as url:
         assert url == f"http://127.0.0.1:{port}/"
-        # Linux answers all of 127.0.0.0/8 on loopback: a server bound to every interface would
-        # accept 127.0.0.2 too; one bound to 127.0.0.1 refuses it.
-        assert _refused("127.0.0.2", port)
+        # Linux answers all of 127.0.0.0/8 on loopback (common practice): a server bound to every
+        # interface would accept 127.0.0.2 too; one bound to 127.0.0.1 refuses it.
+        assert refuses("127.0.0.2", port)
 
