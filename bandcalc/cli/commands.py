@@ -16,6 +16,7 @@ from collections.abc import Callable, Sequence
 from pathlib import Path
 
 from bandcalc import __version__
+from bandcalc.cli.page_server import add_page_command
 from bandcalc.fit.selection import FitResult, fit, fit_to_dict
 from bandcalc.model.design import Design
 from bandcalc.model.design_file import load_design
@@ -418,6 +419,8 @@ def _parser() -> argparse.ArgumentParser:
                    help=f"random seed; the same seed gives the same numbers (default {DEFAULT_SEED})")
     p.add_argument("--json", action="store_true", help="print JSON instead of a table")
     p.set_defaults(run=_cmd_spread)
+
+    add_page_command(sub)
     return parser
 
 

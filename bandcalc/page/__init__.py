@@ -15,4 +15,5 @@ Importing this package imports nothing; its modules import Streamlit where they 
 - ``runs``: results of the runs started by a button, kept per design and settings
 - ``panels``: one module per panel below the live view; add yours to ``panels.PANELS``
 - ``sheet``: puts the page together; ``app.py`` calls :func:`sheet.main`
+- ``entry``: the script ``bandcalc page`` gives Streamlit to run (it calls :func:`sheet.main`)
 """
