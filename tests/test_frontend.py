@@ -42,7 +42,8 @@ GREENHOUSE = ROOT / "demo_data" / "greenhouse_fan_thermostat.json"
 SOLAR = ROOT / "demo_data" / "solar_battery_disconnect.json"
 SUMP = ROOT / "demo_data" / "sump_level_switch.json"
 
-# A published 10 kOhm thermistor probe manual's Steinhart-Hart table; values as cited in our issue.
+# Steinhart-Hart coefficients and two rows of the resistance table published for a common 10 kOhm
+# NTC probe (from memory: the probe manual is not at hand to cite by name).
 PROBE = (1.129241e-3, 2.341077e-4, 8.775468e-8)
 PROBE_TABLE = [(0.0, 32650.9), (-10.0, 55303.9)]
 
@@ -66,8 +67,9 @@ def test_steinhart_hart_probe_is_10k_at_25c_and_inverse_is_exact():
 
 
 def test_beta_equation_defining_relation():
-    # The Beta model's definition (DOMAIN.md): R(T) = R25 exp(B (1/T - 1/298.15 K)), so
-    # R(T1)/R(T2) = exp(B (1/T1 - 1/T2)) for any pair, and R(25 C) = R25.
+    # The Beta model's definition (thermistor manufacturers' data sheets):
+    # R(T) = R25 exp(B (1/T - 1/298.15 K)), so R(T1)/R(T2) = exp(B (1/T1 - 1/T2)) for any pair,
+    # and R(25 C) = R25.
     r25, beta = 10e3, 3950.0
     t1, t2 = np.array([250.0, 280.0, 310.0, 360.0]), np.array([300.0, 330.0, 270.0, 240.0])
     ratio = beta_resistance(r25, beta, t1) / beta_resistance(r25, beta, t2)

@@ -136,7 +136,8 @@ def test_beta_and_steinhart_hart_describe_the_same_thermistor():
     d = with_front_end(SUMP, "thermistor")
     sh = with_thermistor_model(d, "steinhart_hart")
     assert thermistor_model(sh) == "steinhart_hart"
-    # The Beta relation R = R25 exp(B (1/T - 1/298.15 K)) (DOMAIN.md) is Steinhart-Hart with C = 0.
+    # The Beta relation R = R25 exp(B (1/T - 1/298.15 K)) (thermistor manufacturers' data sheets) is
+    # Steinhart-Hart (Steinhart & Hart, Deep-Sea Research 15, 1968) with C = 0.
     kelvin = np.linspace(250.0, 400.0, 7)
     expected = beta_resistance(10e3, 3950.0, kelvin)
     assert np.allclose(steinhart_hart_resistance(sh.front_end.steinhart_hart, kelvin), expected, rtol=1e-12)

@@ -17,7 +17,8 @@ DEMO = Path(__file__).parent.parent / "demo_data"
 
 
 def test_open_drain_design_adds_2_2_rc_and_its_delay():
-    # 10-90 % rise of an RC charge is RC ln 9 = 2.197 RC, commonly rounded to 2.2 RC (DOMAIN.md).
+    # 10-90 % rise of an RC charge is RC ln 9 = 2.197 RC (Horowitz & Hill, The Art of Electronics,
+    # 3rd ed., ch. 1), commonly rounded to 2.2 RC (common practice).
     d = load_design(DEMO / "solar_battery_disconnect.json")
     assert output_rise_time(d) == pytest.approx(2.2 * 10e3 * 1e-10)
     a = analyze(d)
@@ -25,7 +26,7 @@ def test_open_drain_design_adds_2_2_rc_and_its_delay():
     wave = synthesize("sine", a.centre, amp, f, 0.4, 200e3)
     run = run_design(d, wave)
     # Clean sine about the centre: the upper point is crossed asin((V - c)/A)/(2 pi f) after
-    # the centre crossing (DOMAIN.md), then the comparator delay and, rising, the rise time.
+    # the centre crossing (plain trigonometry), then the comparator delay and, rising, the rise time.
     lag = math.asin((a.upper - a.centre) / amp) / (2 * math.pi * f)
     rising = run.edge_delays[run.edge_directions > 0]
     # The non-inverting stage's output rises as the input goes high.
