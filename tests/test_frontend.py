@@ -9,8 +9,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 from hypothesis import HealthCheck, given, settings
-from hypothesis import strategies as st
-from test_network import designs  # the stage strategy: every stage, supply, reference and output
+from strategies import designs_with_front_ends
 
 from bandcalc.cli.commands import main
 from bandcalc.errors import DesignError
@@ -177,32 +176,6 @@ def test_thermistor_points_against_a_bracketed_root_solve():
 
     for which, x in (("upper", w.at_stage_upper), ("lower", w.at_stage_lower)):
         assert float(x) == pytest.approx(brentq(gap, -55, 150, args=(which,), xtol=1e-12), abs=1e-8)
-
-
-ohms = st.floats(1e3, 1e6).map(lambda x: float(f"{x:.4g}"))
-
-
-@st.composite
-def front_ends(draw, design):
-    kind = draw(st.sampled_from(["divider", "thermistor", "linear"]))
-    if kind == "divider":
-        return DividerFrontEnd(draw(ohms), draw(ohms))
-    if kind == "linear":
-        sign = draw(st.sampled_from([1.0, -1.0]))
-        return LinearFrontEnd(volts_per_unit=sign * draw(st.floats(1e-3, 1.0)), unit="kPa",
-                              offset=draw(st.floats(-1.0, 1.0)), resistance=draw(st.floats(0.0, 1e4)))
-    excitations = ["positive", draw(st.floats(1.0, 10.0))]
-    if isinstance(design.reference, FixedReference) and design.reference.volts > 0:
-        excitations.append("reference")
-    return ThermistorFrontEnd(fixed=draw(ohms), r25=draw(ohms), beta=draw(st.floats(2500.0, 5000.0)),
-                              position=draw(st.sampled_from(["top", "bottom"])),
-                              excitation=draw(st.sampled_from(excitations)))
-
-
-@st.composite
-def designs_with_front_ends(draw):
-    design = draw(designs())
-    return Design(**{**design.__dict__, "front_end": draw(front_ends(design))})
 
 
 @settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.too_slow])
