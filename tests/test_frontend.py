@@ -4,7 +4,6 @@ watched switching points round-tripping through the stage model, the design-file
 import copy
 import json
 import math
-from pathlib import Path
 
 import numpy as np
 import pytest
@@ -12,9 +11,10 @@ from hypothesis import HealthCheck, given, settings
 from strategies import designs_with_front_ends
 
 from bandcalc.cli.commands import main
+from bandcalc.demos import demo_paths
 from bandcalc.errors import DesignError
 from bandcalc.model.design import Design, FixedReference, OpenDrain, PushPull, Resistors, Source, Supply
-from bandcalc.model.design_file import design_from_dict, design_to_dict, load_design
+from bandcalc.model.design_file import design_from_dict, design_to_dict
 from bandcalc.model.front_end import (
     DividerFrontEnd,
     LinearFrontEnd,
@@ -36,10 +36,9 @@ from bandcalc.model.points import (
     watched_points,
 )
 
-ROOT = Path(__file__).parent.parent
-GREENHOUSE = ROOT / "demo_data" / "greenhouse_fan_thermostat.json"
-SOLAR = ROOT / "demo_data" / "solar_battery_disconnect.json"
-SUMP = ROOT / "demo_data" / "sump_level_switch.json"
+GREENHOUSE = "greenhouse_fan_thermostat"
+SOLAR = "solar_battery_disconnect"
+SUMP = "sump_level_switch"
 
 # Steinhart-Hart coefficients and two rows of the resistance table published for a common 10 kOhm
 # NTC probe (from memory: the probe manual is not at hand to cite by name).
@@ -162,12 +161,12 @@ def test_watched_thermistor_points_satisfy_the_whole_circuit_in_lcapy(position, 
 
 # --- round trips through the stage model --------------------------------------------------------
 
-def test_thermistor_points_against_a_bracketed_root_solve():
+def test_thermistor_points_against_a_bracketed_root_solve(demo):
     # An independent root finder (scipy's brentq) on the switching condition in temperature,
     # with the stage re-evaluated at each trial's Thevenin resistance.
     from scipy.optimize import brentq
 
-    design = load_design(GREENHOUSE)
+    design = demo(GREENHOUSE)
     w = watched_points(design)
 
     def gap(celsius, which):
@@ -199,8 +198,8 @@ def test_watched_points_round_trip_through_the_stage_model(design):
         assert float(watched_at(design, v)) == pytest.approx(float(x), rel=1e-9, abs=1e-9)
 
 
-def test_watched_points_broadcast_like_the_stage_model():
-    design = load_design(GREENHOUSE)
+def test_watched_points_broadcast_like_the_stage_model(demo):
+    design = demo(GREENHOUSE)
     r25 = 10e3 * np.array([0.99, 1.0, 1.01])[:, None]
     beta = 3950.0 * np.array([0.99, 1.0, 1.01])[None, :]
     vec = watched_points(design, {"front_end.r25": r25, "front_end.beta": beta})
@@ -215,8 +214,8 @@ def test_watched_points_broadcast_like_the_stage_model():
         watched_points(design, {"front_end.top": 1e3})
 
 
-def test_stage_targets_for_the_fit_are_exact():
-    design = load_design(GREENHOUSE)
+def test_stage_targets_for_the_fit_are_exact(demo):
+    design = demo(GREENHOUSE)
     w = watched_points(design)
     t = stage_targets(design, w.upper, w.lower)
     assert float(switching_points(design, {"source.resistance": t.upper_resistance}).upper) == pytest.approx(
@@ -227,8 +226,8 @@ def test_stage_targets_for_the_fit_are_exact():
     assert float(t.upper) == pytest.approx(float(w.stage_upper)) and float(t.upper) > float(t.lower)
 
 
-def test_divider_stage_design_is_the_stage_with_the_thevenin_resistance():
-    design = load_design(SOLAR)
+def test_divider_stage_design_is_the_stage_with_the_thevenin_resistance(demo):
+    design = demo(SOLAR)
     stage = stage_design(design)
     assert stage.front_end is None
     assert stage.source.resistance == pytest.approx(240e3 * 62e3 / 302e3)
@@ -238,9 +237,9 @@ def test_divider_stage_design_is_the_stage_with_the_thevenin_resistance():
     assert float(w.lower) == pytest.approx(float(pts.lower) * 302 / 62, rel=1e-12)
 
 
-def test_linear_sensor_by_hand():
+def test_linear_sensor_by_hand(demo):
     # A ratiometric-style pressure sensor on a fixed 5 V: 0.5 V + 40 mV/kPa; watched = (V - 0.5)/0.04.
-    design = Design(**{**load_design(SUMP).__dict__,
+    design = Design(**{**demo(SUMP).__dict__,
                        "front_end": LinearFrontEnd(volts_per_unit=0.04, offset=0.5, unit="kPa",
                                                    resistance=1e3),
                        "source": Source(resistance=100.0)})
@@ -253,8 +252,8 @@ def test_linear_sensor_by_hand():
 
 # --- analysis -------------------------------------------------------------------------------------
 
-def test_greenhouse_reads_in_celsius_with_the_direction_turned():
-    a = analyze(load_design(GREENHOUSE))
+def test_greenhouse_reads_in_celsius_with_the_direction_turned(demo):
+    a = analyze(demo(GREENHOUSE))
     assert a.watched_unit == "C" and a.watched_direction == "falls"
     assert a.upper_watched == pytest.approx(31.91, abs=0.01)
     assert a.lower_watched == pytest.approx(27.94, abs=0.01)
@@ -267,8 +266,8 @@ def test_greenhouse_reads_in_celsius_with_the_direction_turned():
     assert any(f.startswith(heating) for f in a.findings)
 
 
-def test_thermistor_dissipation_by_hand():
-    design = load_design(GREENHOUSE)
+def test_thermistor_dissipation_by_hand(demo):
+    design = demo(GREENHOUSE)
     # Inverting stage: the pin draws only its bias current, so the bead carries V^2/R (first principles).
     r = 10e3 * math.exp(3950 * (1 / (303.15) - 1 / 298.15))
     v = 5 * r / (r + 10e3) - 1e-9 * (r * 10e3 / (r + 10e3))
@@ -277,14 +276,14 @@ def test_thermistor_dissipation_by_hand():
     assert power["front_end.fixed"] == pytest.approx((5 - v) ** 2 / 10e3, rel=1e-12)
 
 
-def test_no_self_heating_finding_for_a_high_value_divider():
-    design = load_design(GREENHOUSE)
+def test_no_self_heating_finding_for_a_high_value_divider(demo):
+    design = demo(GREENHOUSE)
     cool = Design(**{**design.__dict__, "front_end": ThermistorFrontEnd(fixed=100e3, r25=100e3, beta=4250.0)})
     assert not any(f.startswith("Self-heating") for f in analyze(cool).findings)
 
 
-def test_latch_is_judged_in_the_watched_quantity():
-    design = load_design(SOLAR)
+def test_latch_is_judged_in_the_watched_quantity(demo):
+    design = demo(SOLAR)
     short = Design(**{**design.__dict__, "front_end": DividerFrontEnd(240e3, 62e3, low=0.0, high=12.0)})
     (latch,) = [f for f in analyze(short).findings if f.startswith("Latches")]
     assert "upper switching point" in latch
@@ -292,17 +291,17 @@ def test_latch_is_judged_in_the_watched_quantity():
     assert not any(f.startswith("Latches") for f in analyze(design).findings)
 
 
-def test_caution_when_the_front_end_watches_a_hazardous_voltage():
+def test_caution_when_the_front_end_watches_a_hazardous_voltage(demo):
     # A rectified 230 V mains bus (325 V peak) watched through a 1 MOhm / 10 kOhm divider.
     design = _stage(front_end=DividerFrontEnd(1e6, 10e3, low=0.0, high=400.0),
                     resistors=Resistors(input=10e3, feedback=1e6))
     (caution,) = analyze(design).cautions
     assert "400 V" in caution and "not a safety-rated protection" in caution and "local codes" in caution
-    assert not any(c.startswith("Hazardous") for c in analyze(load_design(SOLAR)).cautions)
+    assert not any(c.startswith("Hazardous") for c in analyze(demo(SOLAR)).cautions)
 
 
-def test_json_of_analyze_gains_watched_keys_only_with_a_front_end(capsys):
-    assert main(["analyze", str(GREENHOUSE), str(SUMP), "--json"]) == 0
+def test_json_of_analyze_gains_watched_keys_only_with_a_front_end(capsys, demo_path):
+    assert main(["analyze", demo_path(GREENHOUSE), demo_path(SUMP), "--json"]) == 0
     green, sump = json.loads(capsys.readouterr().out)
     assert green["watched_unit"] == "C"
     assert green["upper_watched"] > green["lower_watched"]
@@ -310,8 +309,8 @@ def test_json_of_analyze_gains_watched_keys_only_with_a_front_end(capsys):
     assert not {"upper_watched", "lower_watched", "watched_unit"} & set(sump)
 
 
-def test_table_shows_both_quantities(capsys):
-    assert main(["analyze", str(SOLAR)]) == 0
+def test_table_shows_both_quantities(capsys, demo_path):
+    assert main(["analyze", demo_path(SOLAR)]) == 0
     out = capsys.readouterr().out
     assert ("watched upper      12.78 V  (the stage's upper point; rising through it sets the output "
             "high)") in out
@@ -329,7 +328,7 @@ def test_unreached_point_is_null_in_json():
 
 # --- the design-file section -----------------------------------------------------------------------
 
-BASE = json.loads(GREENHOUSE.read_text())
+BASE = json.loads(demo_paths()[GREENHOUSE].read_text())  # the file as written
 
 
 def _with_front_end(front_end, **top):
@@ -351,8 +350,8 @@ def test_section_reads_and_round_trips(front_end):
     assert design_to_dict(d)["front_end"]["kind"] == front_end["kind"]
 
 
-def test_front_end_tolerances_are_fractions_keyed_like_the_parameters():
-    fe = load_design(GREENHOUSE).front_end
+def test_front_end_tolerances_are_fractions_keyed_like_the_parameters(demo):
+    fe = demo(GREENHOUSE).front_end
     assert front_end_tolerances(fe) == {"front_end.r25": 0.01, "front_end.beta": 0.01}
     assert front_end_tolerances(DividerFrontEnd(1e3, 1e3)) == {}
 
@@ -400,13 +399,13 @@ def test_source_range_is_refused_beside_a_front_end():
         design_from_dict(_with_front_end(THERM, source={"resistance": 0, "high": 5}))
 
 
-def test_files_without_a_front_end_still_read_and_write_without_one():
-    d = load_design(SUMP)
+def test_files_without_a_front_end_still_read_and_write_without_one(demo):
+    d = demo(SUMP)
     assert d.front_end is None and "front_end" not in design_to_dict(d)
     assert analyze(d).upper_watched is None and analyze(d).watched_unit is None
 
 
-def test_a_thermistor_fed_from_a_zero_volt_reference_switches_at_no_temperature():
+def test_a_thermistor_fed_from_a_zero_volt_reference_switches_at_no_temperature(demo):
     # Found by Hypothesis: with no excitation the divider's output never moves, so no temperature
     # reaches either point (first principles); the answer is "none", not a division error.
     from dataclasses import replace
@@ -414,6 +413,6 @@ def test_a_thermistor_fed_from_a_zero_volt_reference_switches_at_no_temperature(
     from bandcalc.model.design import FixedReference, Source
 
     thermistor = ThermistorFrontEnd(fixed=1e3, r25=1e3, beta=2500.0, position="top", excitation="reference")
-    d = replace(load_design(SUMP), reference=FixedReference(0.0), source=Source(), front_end=thermistor)
+    d = replace(demo(SUMP), reference=FixedReference(0.0), source=Source(), front_end=thermistor)
     w = watched_points(d)
     assert np.isnan(float(w.upper)) and np.isnan(float(w.lower))

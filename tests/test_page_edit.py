@@ -2,14 +2,13 @@
 
 import base64
 import zlib
-from pathlib import Path
 
 import numpy as np
 import pytest
 
+from bandcalc.demos import load_demo
 from bandcalc.errors import DesignError
 from bandcalc.model.design import DividerReference, FixedReference, OpenDrain, PushPull
-from bandcalc.model.design_file import load_design
 from bandcalc.model.standard_values import series_values
 from bandcalc.page.address import address_to_design, design_to_address
 from bandcalc.page.edit import (
@@ -22,14 +21,11 @@ from bandcalc.page.edit import (
     with_value,
 )
 
-DEMO_DIR = Path(__file__).parent.parent / "demo_data"
-DEMOS = sorted(DEMO_DIR.glob("*.json"))
-SUMP = load_design(DEMO_DIR / "sump_level_switch.json")
+SUMP = load_demo("sump_level_switch")  # also used at import time, in parametrize
 
 
-@pytest.mark.parametrize("path", DEMOS, ids=lambda p: p.stem)
-def test_address_round_trip(path):
-    d = load_design(path)
+def test_address_round_trip(each_demo):
+    d = each_demo
     text = design_to_address(d)
     assert address_to_design(text) == d
     assert all(c.isalnum() or c in "-_" for c in text)  # URL-safe, no padding
@@ -66,8 +62,8 @@ def test_with_value_validates_and_names_the_key():
         with_value(SUMP, "supply.negative", 6.0)
 
 
-def test_stage_switch_fits_what_the_stage_needs():
-    inverting = load_design(DEMO_DIR / "greenhouse_fan_thermostat.json")
+def test_stage_switch_fits_what_the_stage_needs(demo):
+    inverting = demo("greenhouse_fan_thermostat")
     d = with_stage(inverting, "non-inverting")
     assert d.resistors.input == 100e3
     assert d.reference == FixedReference(2.5)  # mid-supply of 0 / 5 V
@@ -216,7 +212,7 @@ def test_tolerance_entries_edit_the_design_section():
     assert with_part_tolerance(part, "resistors", "feedback", None).tolerances.resistors.parts == ()
 
 
-def test_resistor_rows_take_the_series_tolerance_unless_given():
+def test_resistor_rows_take_the_series_tolerance_unless_given(demo):
     from bandcalc.page.tolerance_edit import resistor_rows, with_part_tolerance, without_tolerances
 
     rows = {r["name"]: r for r in resistor_rows(without_tolerances(SUMP))}
@@ -225,7 +221,7 @@ def test_resistor_rows_take_the_series_tolerance_unless_given():
     assert rows["feedback"]["percent"] == 5.0
     given = {r["name"]: r for r in resistor_rows(with_part_tolerance(SUMP, "resistors", "feedback", 0.1))}
     assert (given["feedback"]["percent"], given["feedback"]["origin"]) == (0.1, "given for this resistor")
-    solar = {r["name"]: r for r in resistor_rows(load_design(DEMO_DIR / "solar_battery_disconnect.json"))}
+    solar = {r["name"]: r for r in resistor_rows(demo("solar_battery_disconnect"))}
     assert solar["front_end.top"]["percent"] == 0.1 and solar["front_end.top"]["tempco"] == 25.0
     assert solar["input"]["origin"] == "given for every resistor"
 
