@@ -7,6 +7,7 @@ on a button press, and puts a candidate on the sliders with one click.
 """
 
 import pytest
+import streamlit as st
 from page_helpers import SUMP, design_on, errors, figures, page
 from streamlit.testing.v1 import AppTest
 from test_page import expected
@@ -26,7 +27,9 @@ GREENHOUSE = load_demo("greenhouse_fan_thermostat")
 
 @pytest.fixture(autouse=True)
 def fresh_cache():
-    panel._fit_of.clear()  # st.cache_data outlives a session; each test counts its own searches
+    # st.cache_data outlives a session; each test counts its own searches (clears every
+    # st.cache_data cache, through Streamlit's public API).
+    st.cache_data.clear()
     yield
 
 
