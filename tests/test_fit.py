@@ -203,7 +203,7 @@ def test_a_point_is_moebius_in_one_resistance(design, key, a, b, c):
     x = 10.0 ** np.array([3.0, 5.0, 7.0, a, b, c])
     pts = switching_points(design, {key: x})
     for y in (pts.upper, pts.lower):
-        curve = search._Curve.through(x[:3], y[None, :3])
+        curve = search.Curve.through(x[:3], y[None, :3])
         assert curve.at(x[3:]) == pytest.approx(y[3:], abs=1e-9)
 
 
@@ -211,7 +211,7 @@ def test_a_missed_prediction_falls_back_to_the_full_enumeration(monkeypatch):
     design, upper, lower = STAGES["inverting dual supply, push-pull"]
     evaluate = evaluator(design, ["resistors.to_ground", "resistors.to_positive", "resistors.feedback"])
     grid = series_values("E6", 1e3, 10e6)
-    monkeypatch.setattr(search._Curve, "at", lambda self, x: self.y0 + 0.0 * x)  # a wrong prediction
+    monkeypatch.setattr(search.Curve, "at", lambda self, x: self.y0 + 0.0 * x)  # a wrong prediction
     found = search.search(evaluate, grid, 3, upper, lower, 3)
     assert found.evaluations == len(grid) ** 3
     assert np.array_equal(found.values, search.exhaustive(evaluate, grid, 3, upper, lower, 3).values)

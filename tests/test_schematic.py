@@ -100,11 +100,11 @@ def test_a_thermistor_on_top_from_the_reference(sump_with):
 
 
 def test_each_front_end_layout_is_drawn_once(demo):
-    from bandcalc.outputs.schematic import _template
+    from bandcalc.outputs.schematic import stage_template
     from bandcalc.page.edit import with_value
 
     d = demo("greenhouse_fan_thermostat")
     stage_svg(d)
-    before = _template.cache_info().hits
+    before = stage_template.cache_info().hits
     stage_svg(with_value(d, "front_end.fixed", 12e3))  # a new value, the same drawing
-    assert _template.cache_info().hits == before + 1
+    assert stage_template.cache_info().hits == before + 1

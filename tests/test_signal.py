@@ -245,7 +245,7 @@ def test_normal_quartile_matches_scipy():
     # The estimator divides by Phi^-1(0.75) = 0.6745 (standard normal table).
     from bandcalc.signal_check import noise
 
-    assert noise._NORMAL_UPPER_QUARTILE == pytest.approx(stats.norm.ppf(0.75), rel=1e-12)
+    assert noise.NORMAL_UPPER_QUARTILE == pytest.approx(stats.norm.ppf(0.75), rel=1e-12)
 
 
 @pytest.mark.parametrize("rms", [1e-3, 0.05])

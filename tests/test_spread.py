@@ -19,11 +19,11 @@ from bandcalc.spread import propagation as spread_module
 from bandcalc.spread.factors import QUANTITIES, Factor, factors
 from bandcalc.spread.propagation import (
     SpreadError,
-    _summary,
     monte_carlo,
     sensitivity,
     spread,
     spread_to_dict,
+    summarize,
     wilson_interval,
     worst_case,
 )
@@ -245,7 +245,7 @@ def test_progress_is_reported_per_block(monkeypatch, demo):
 
 def test_summary_matches_numpy_percentiles_and_histogram():
     values = np.random.default_rng(2).normal(3.0, 0.01, 50_001)
-    s = _summary(values, 40)
+    s = summarize(values, 40)
     expected = np.percentile(values, spread_module.PERCENTILES)
     assert list(s.percentiles.values()) == pytest.approx(expected, rel=1e-14)
     counts, edges = np.histogram(values, bins=40)
