@@ -9,13 +9,12 @@ from pathlib import Path
 import numpy as np
 from streamlit.testing.v1 import AppTest
 
-from bandcalc.model.design_file import load_design
+from bandcalc.demos import load_demo
 from bandcalc.page.address import PARAM, address_to_design, design_to_address
 
 ROOT = Path(__file__).parent.parent
 APP = str(ROOT / "app.py")
-DEMO_DIR = ROOT / "demo_data"
-SUMP = load_design(DEMO_DIR / "sump_level_switch.json")
+SUMP = load_demo("sump_level_switch")  # the page's default demo
 
 
 def page(query: dict | None = None, design=None, panel: str | None = None) -> AppTest:

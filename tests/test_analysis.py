@@ -113,7 +113,7 @@ def test_caution_on_hazardous_voltage():
 
 
 def test_protective_caution_from_the_flag_or_the_words():
-    # DOMAIN.md: a stage guarding people or property (battery protection, heater cut-off) gets
+    # Common practice: a stage guarding people or property (battery protection, heater cut-off) gets
     # the usual caution. An explicit flag wins; without it, protection words in the name or notes
     # bring the caution (erring on the side of showing it).
     words = Design(stage="inverting", supply=Supply(5.0), resistors=Resistors(to_ground=1e4, feedback=1e5),

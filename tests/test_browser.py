@@ -23,7 +23,8 @@ from urllib.parse import parse_qs, urlsplit
 
 import pytest
 
-from bandcalc.model.design_file import design_from_json, load_design
+from bandcalc.demos import load_demo
+from bandcalc.model.design_file import design_from_json
 from bandcalc.model.operating import analyze
 from bandcalc.model.parts import with_value
 from bandcalc.model.units import format_si
@@ -36,7 +37,7 @@ ROOT = Path(__file__).parent.parent
 CHROMIUM = Path("/usr/bin/chromium")
 FLAGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
          "--disable-background-networking", "--disable-component-update", "--disable-sync"]
-SUMP = load_design(ROOT / "demo_data" / "sump_level_switch.json")
+SUMP = load_demo("sump_level_switch")  # the page's default demo
 
 if not CHROMIUM.exists():
     pytest.skip("browser tests need Debian's chromium at /usr/bin/chromium (apt-get install chromium)",

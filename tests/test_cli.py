@@ -10,37 +10,37 @@ import pytest
 from bandcalc.cli.commands import main
 
 ROOT = Path(__file__).parent.parent
-SUMP = str(ROOT / "demo_data" / "sump_level_switch.json")
-PICKUP = str(ROOT / "demo_data" / "magnetic_speed_pickup.json")
 
 
-def test_table(capsys):
-    assert main(["analyze", SUMP]) == 0
+def test_table(capsys, demo_path):
+    assert main(["analyze", demo_path("sump_level_switch")]) == 0
     out = capsys.readouterr().out
     assert "Sump level switch" in out and "upper point" in out and "hysteresis" in out
 
 
-def test_json_single_and_several(capsys):
-    assert main(["analyze", SUMP, "--json"]) == 0
+def test_json_single_and_several(capsys, demo_path):
+    sump, pickup = demo_path("sump_level_switch"), demo_path("magnetic_speed_pickup")
+    assert main(["analyze", sump, "--json"]) == 0
     one = json.loads(capsys.readouterr().out)
     assert {"upper", "lower", "hysteresis", "warnings"} <= set(one)
     assert one["hysteresis"] == pytest.approx(one["upper"] - one["lower"])
-    assert main(["analyze", SUMP, PICKUP, "--json"]) == 0
+    assert main(["analyze", sump, pickup, "--json"]) == 0
     both = json.loads(capsys.readouterr().out)
     assert [b["name"] for b in both] == ["Sump level switch", "Magnetic speed pickup squarer"]
 
 
-def test_bad_file_is_named_and_the_others_still_run(tmp_path, capsys):
+def test_bad_file_is_named_and_the_others_still_run(tmp_path, capsys, demo_path):
     bad = tmp_path / "bad.json"
     bad.write_text('{"format": 1, "stage": "inverting", "supply": {"positive": 5}, '
                    '"resistors": {"feedback": "4k7x"}}')
-    assert main(["analyze", str(bad), SUMP, "--json"]) == 2
+    assert main(["analyze", str(bad), demo_path("sump_level_switch"), "--json"]) == 2
     captured = capsys.readouterr()
     assert f"{bad}: resistors.feedback: cannot read '4k7x'" in captured.err
     assert json.loads(captured.out)["name"] == "Sump level switch"
 
 
-def test_module_entry_point():
-    run = subprocess.run([sys.executable, "-m", "bandcalc", "analyze", SUMP, "--json"],
+def test_module_entry_point(demo_path):
+    sump = demo_path("sump_level_switch")
+    run = subprocess.run([sys.executable, "-m", "bandcalc", "analyze", sump, "--json"],
                          capture_output=True, text=True, cwd=ROOT, check=True)
     assert json.loads(run.stdout)["upper"] > json.loads(run.stdout)["lower"]

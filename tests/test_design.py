@@ -2,10 +2,10 @@
 
 import copy
 import json
-from pathlib import Path
 
 import pytest
 
+from bandcalc.demos import demo_designs
 from bandcalc.errors import DesignError
 from bandcalc.model.design_file import (
     design_from_dict,
@@ -15,8 +15,6 @@ from bandcalc.model.design_file import (
     load_design,
     save_design,
 )
-
-DEMOS = sorted(Path(__file__).parent.parent.joinpath("demo_data").glob("*.json"))
 
 EXAMPLE = {
     "format": 1,
@@ -40,15 +38,13 @@ def test_documented_example_reads():
 
 def test_demo_set_covers_every_stage_supply_and_output_kind():
     kinds = set()
-    for path in DEMOS:
-        d = load_design(path)
+    for d in demo_designs().values():
         kinds.add((d.stage, d.supply.negative != 0, d.output.kind))
     assert len(kinds) == 8
 
 
-@pytest.mark.parametrize("path", DEMOS, ids=lambda p: p.stem)
-def test_demo_round_trip(path, tmp_path):
-    d = load_design(path)
+def test_demo_round_trip(each_demo, tmp_path):
+    d = each_demo
     save_design(d, tmp_path / "again.json")
     assert load_design(tmp_path / "again.json") == d
     assert design_from_json(design_to_json(d)) == d

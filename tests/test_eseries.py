@@ -107,8 +107,9 @@ def _departures(name: str) -> dict[float, float]:
 
 
 def test_e24_departs_from_geometric_series_where_known():
-    # Source: the E24 exceptions listed in our domain brief (2.7 ... 8.2); the same set
-    # is found from the eseries package's E24 table, which the tables test matches.
+    # Source: IEC 60063, whose E24 values 2.7 ... 8.2 depart from the rounded geometric series
+    # (from memory); the same set is found from the eseries package's E24 table, which the
+    # tables test matches.
     departures = _departures("E24")
     assert sorted(departures) == [2.7, 3.0, 3.3, 3.6, 3.9, 4.3, 4.7, 8.2]
     # The geometric series gives 2.6 ... 4.6 and 8.3 instead (rounded 10**(i/24)).

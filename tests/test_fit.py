@@ -2,14 +2,15 @@
 
 import dataclasses
 import json
-from pathlib import Path
 
 import numpy as np
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
+from strategies import three_resistor_stages
 
 from bandcalc.cli.commands import main
+from bandcalc.demos import load_demo
 from bandcalc.fit import grid_search as search
 from bandcalc.fit.exact import solve
 from bandcalc.fit.selection import FitError, apply_candidate, fit, fit_to_dict
@@ -24,13 +25,9 @@ from bandcalc.model.design import (
     Source,
     Supply,
 )
-from bandcalc.model.design_file import load_design
 from bandcalc.model.network import switching_points
 from bandcalc.model.operating import analyze
 from bandcalc.model.standard_values import series_values
-
-ROOT = Path(__file__).parent.parent
-DEMO = ROOT / "demo_data"
 
 
 def datasheet_stage() -> Design:
@@ -73,18 +70,18 @@ def test_datasheet_procedure_e96_choice():
 # --- Every number from the model -----------------------------------------------------------------
 
 CASES = [
-    ("sump_level_switch.json", 3.1, 1.9),
-    ("solar_battery_disconnect.json", 12.7, 11.5),  # battery volts through its sense divider
-    ("rain_tank_overflow.json", 2.7, 2.3),
-    ("magnetic_speed_pickup.json", 0.3, -0.1),  # asymmetric: needs a leg to a rail
-    ("strain_overload_alarm.json", 9.0, 8.0),
-    ("motor_current_direction.json", 0.01, -0.02),  # fits the reference divider
+    ("sump_level_switch", 3.1, 1.9),
+    ("solar_battery_disconnect", 12.7, 11.5),  # battery volts through its sense divider
+    ("rain_tank_overflow", 2.7, 2.3),
+    ("magnetic_speed_pickup", 0.3, -0.1),  # asymmetric: needs a leg to a rail
+    ("strain_overload_alarm", 9.0, 8.0),
+    ("motor_current_direction", 0.01, -0.02),  # fits the reference divider
 ]
 
 
 @pytest.mark.parametrize(("name", "upper", "lower"), CASES)
-def test_every_candidate_reanalysed_gives_its_points(name, upper, lower):
-    design = load_design(DEMO / name)
+def test_every_candidate_reanalysed_gives_its_points(name, upper, lower, demo):
+    design = demo(name)
     r = fit(design, upper, lower, series="E12", count=4)
     assert len(r.candidates) == 4
     for c in (*r.candidates, r.exact):
@@ -132,8 +129,8 @@ STAGES = {
                resistors=Resistors(to_ground=1e3, to_positive=100e3, feedback=47e3),
                comparator=Comparator(offset=5e-4, bias_current=5e-8)),
         1.0, -0.5),
-    "inverting open-drain": (load_design(DEMO / "rain_tank_overflow.json"), 2.75, 2.35),
-    "inverting to a reference": (load_design(DEMO / "strain_overload_alarm.json"), 9.2, 8.3),
+    "inverting open-drain": (load_demo("rain_tank_overflow"), 2.75, 2.35),
+    "inverting to a reference": (load_demo("strain_overload_alarm"), 9.2, 8.3),
 }
 
 
@@ -158,15 +155,15 @@ def test_best_equals_exhaustive_search(stage, series):
     assert tuple(best.resistors[p] for p in r.fitted) == tuple(a.ravel()[order[0]] for a in axes)
 
 
-def test_divider_and_added_leg_equal_exhaustive_search():
+def test_divider_and_added_leg_equal_exhaustive_search(demo):
     # Four free values (input, feedback and the reference divider) on E12 over 1k-1M, and an
     # added leg on E24: both against every combination.
-    motor = load_design(DEMO / "motor_current_direction.json")
+    motor = demo("motor_current_direction")
     r = fit(motor, 0.01, -0.02, series="E12", min_ohms=1e3, max_ohms=1e6, count=3)
     assert r.fitted == ("input", "feedback", "reference.top", "reference.bottom")
     worst, _ = exhaustive_worst(r.design, r.fitted, series_values("E12", 1e3, 1e6), 0.01, -0.02)
     assert [c.worst_error for c in r.candidates] == sorted(worst)[:3]
-    sump = load_design(DEMO / "sump_level_switch.json")
+    sump = demo("sump_level_switch")
     r = fit(sump, 3.4, 2.25, series="E24", count=3)
     assert r.added_leg == "to_ground"
     worst, _ = exhaustive_worst(r.design, r.fitted, series_values("E24", 1e3, 10e6), 3.4, 2.25)
@@ -181,26 +178,8 @@ def evaluator(design, keys):
     return evaluate
 
 
-def designs():
-    """Three-resistor stages of every kind, with offset, bias and source resistance."""
-    output = st.one_of(st.builds(PushPull, st.floats(0, 1.5), st.floats(0, 1.5), st.floats(0, 100)),
-                       st.builds(OpenDrain, st.floats(1e3, 47e3)))
-    comparator = st.builds(Comparator, offset=st.floats(-5e-3, 5e-3), bias_current=st.floats(0, 2e-7))
-    non_inverting = st.builds(
-        lambda out, comp, rs, ref: Design(stage="non-inverting", supply=Supply(5.0), output=out,
-                                          reference=FixedReference(ref), comparator=comp,
-                                          source=Source(resistance=rs),
-                                          resistors=Resistors(input=1e4, feedback=1e5, to_ground=1e4)),
-        output, comparator, st.floats(0, 5e3), st.floats(0.5, 4.0))
-    inverting = st.builds(
-        lambda out, comp: Design(stage="inverting", supply=Supply(5.0), output=out, comparator=comp,
-                                 resistors=Resistors(to_positive=1e4, to_ground=1e4, feedback=1e5)),
-        output, comparator)
-    return st.one_of(non_inverting, inverting)
-
-
 @settings(max_examples=25, deadline=None)
-@given(designs(), st.floats(0.5, 4.5), st.floats(0.05, 0.8), st.sampled_from([1, 3, 8]))
+@given(three_resistor_stages(), st.floats(0.5, 4.5), st.floats(0.05, 0.8), st.sampled_from([1, 3, 8]))
 def test_search_equals_enumerating_every_combination(design, centre, width, count):
     # The search (bandcalc.fit.grid_search) must return exactly what evaluating everything returns,
     # ties (by current) included.
@@ -216,7 +195,7 @@ def test_search_equals_enumerating_every_combination(design, centre, width, coun
 
 
 @settings(max_examples=40, deadline=None)
-@given(designs(), st.sampled_from(["resistors.to_ground", "resistors.feedback"]),
+@given(three_resistor_stages(), st.sampled_from(["resistors.to_ground", "resistors.feedback"]),
        st.floats(3.0, 7.0), st.floats(3.0, 7.0), st.floats(3.0, 7.0))
 def test_a_point_is_moebius_in_one_resistance(design, key, a, b, c):
     # The fact the search stands on (first principles: each resistor is a rank-one term of the
@@ -224,7 +203,7 @@ def test_a_point_is_moebius_in_one_resistance(design, key, a, b, c):
     x = 10.0 ** np.array([3.0, 5.0, 7.0, a, b, c])
     pts = switching_points(design, {key: x})
     for y in (pts.upper, pts.lower):
-        curve = search._Curve.through(x[:3], y[None, :3])
+        curve = search.Curve.through(x[:3], y[None, :3])
         assert curve.at(x[3:]) == pytest.approx(y[3:], abs=1e-9)
 
 
@@ -232,7 +211,7 @@ def test_a_missed_prediction_falls_back_to_the_full_enumeration(monkeypatch):
     design, upper, lower = STAGES["inverting dual supply, push-pull"]
     evaluate = evaluator(design, ["resistors.to_ground", "resistors.to_positive", "resistors.feedback"])
     grid = series_values("E6", 1e3, 10e6)
-    monkeypatch.setattr(search._Curve, "at", lambda self, x: self.y0 + 0.0 * x)  # a wrong prediction
+    monkeypatch.setattr(search.Curve, "at", lambda self, x: self.y0 + 0.0 * x)  # a wrong prediction
     found = search.search(evaluate, grid, 3, upper, lower, 3)
     assert found.evaluations == len(grid) ** 3
     assert np.array_equal(found.values, search.exhaustive(evaluate, grid, 3, upper, lower, 3).values)
@@ -253,27 +232,27 @@ def test_solver_finds_the_textbook_ratio_from_any_start():
 
 # --- Added legs -------------------------------------------------------------------------------------
 
-def test_two_resistor_stage_gets_a_leg_and_says_why():
+def test_two_resistor_stage_gets_a_leg_and_says_why(demo):
     # A fixed 2.5 V reference with input and feedback only: the hysteresis fixes their ratio, so
     # the points sit where that reference puts them (common practice).  Points above that place
     # need the + pin pulled down: a leg to ground.
-    r = fit(load_design(DEMO / "sump_level_switch.json"), 3.4, 2.25)
+    r = fit(demo("sump_level_switch"), 3.4, 2.25)
     assert r.added_leg == "to_ground" and "to_ground" in r.fitted and not r.problems
     assert any("needs a reference of 2.761 V, where it has 2.5 V" in n and "to ground" in n for n in r.notes)
 
 
-def test_symmetric_dual_supply_stage_asked_for_asymmetric_points():
+def test_symmetric_dual_supply_stage_asked_for_asymmetric_points(demo):
     # +/-12 V, leg to ground and feedback only: the points sit symmetrically about about 0 V.
     # Moving them up needs the + pin pulled towards the positive rail.
-    r = fit(load_design(DEMO / "magnetic_speed_pickup.json"), 0.3, -0.1)
+    r = fit(demo("magnetic_speed_pickup"), 0.3, -0.1)
     assert r.added_leg == "to_positive"
     assert r.candidates[0].design.resistors.to_positive is not None
 
 
-def test_leg_with_no_leverage_is_not_chosen():
+def test_leg_with_no_leverage_is_not_chosen(demo):
     # +/-12 V non-inverting stage with a 0 V reference: a leg to ground meets the + pin at its own
     # switching potential and could move the points only through the comparator's offset.
-    r = fit(load_design(DEMO / "tacho_generator_squarer.json"), 0.38, -0.11)
+    r = fit(demo("tacho_generator_squarer"), 0.38, -0.11)
     assert r.added_leg == "to_negative"
 
 
@@ -285,16 +264,16 @@ def test_leg_with_no_leverage_is_not_chosen():
     (5.5, 2.0, r"the upper point 5.5 V is above the highest signal the stage can see \(5 V\)"),
     (3.0, -0.5, r"the lower point -500 mV is below the lowest signal the stage can see \(0 V\)"),
 ])
-def test_impossible_targets_are_refused_plainly(upper, lower, message):
+def test_impossible_targets_are_refused_plainly(upper, lower, message, demo):
     with pytest.raises(FitError, match=message):
-        fit(load_design(DEMO / "sump_level_switch.json"), upper, lower)
+        fit(demo("sump_level_switch"), upper, lower)
 
 
-def test_hysteresis_wider_than_the_output_swing():
+def test_hysteresis_wider_than_the_output_swing(demo):
     # Inverting stage: the + pin sees only a fraction of the output swing (0.02 V to 4.98 V).
     with pytest.raises(FitError, match=r"hysteresis of 4\.96 V is wider than the output swing allows.*"
                                        r"20 mV to 4\.98 V.*non-inverting stage"):
-        stage = dataclasses.replace(load_design(DEMO / "greenhouse_fan_thermostat.json"), front_end=None)
+        stage = dataclasses.replace(demo("greenhouse_fan_thermostat"), front_end=None)
         fit(stage, 4.98, 0.02)
 
 
@@ -324,18 +303,16 @@ def test_reference_beyond_the_rail():
     ({"fixed": {"feedback": "4k7x"}}, r"fixed\.feedback: cannot read '4k7x'"),
     ({"fixed": {"feedback": 1e5, "input": 1e4}}, "nothing to fit"),
 ])
-def test_bad_settings_name_the_setting(kwargs, message):
+def test_bad_settings_name_the_setting(kwargs, message, demo):
     with pytest.raises(FitError, match=message):
-        fit(load_design(DEMO / "sump_level_switch.json"), 3.1, 1.9, **kwargs)
+        fit(demo("sump_level_switch"), 3.1, 1.9, **kwargs)
 
 
 # --- Command line ----------------------------------------------------------------------------------
 
-SUMP = str(DEMO / "sump_level_switch.json")
-
-
-def test_cli_json_shape(capsys):
-    assert main(["fit", SUMP, "--upper", "3.1", "--lower", "1900m", "--series", "E24", "--count", "3",
+def test_cli_json_shape(capsys, demo_path):
+    sump = demo_path("sump_level_switch")
+    assert main(["fit", sump, "--upper", "3.1", "--lower", "1900m", "--series", "E24", "--count", "3",
                  "--json"]) == 0
     out = json.loads(capsys.readouterr().out)
     assert len(out["candidates"]) == 3 and out["exact"]["upper"] == pytest.approx(3.1)
@@ -347,18 +324,19 @@ def test_cli_json_shape(capsys):
     assert worst == sorted(worst)
 
 
-def test_cli_divider_candidate_carries_the_reference(capsys):
-    motor = str(DEMO / "motor_current_direction.json")
+def test_cli_divider_candidate_carries_the_reference(capsys, demo_path):
+    motor = demo_path("motor_current_direction")
     assert main(["fit", motor, "--upper", "10m", "--lower=-20m", "--series", "E12", "--max-ohms", "1M",
                  "--count", "1", "--json"]) == 0
     out = json.loads(capsys.readouterr().out)
     assert set(out["candidates"][0]["reference"]["divider"]) == {"top", "bottom"}
 
 
-def test_cli_table_and_code(capsys):
+def test_cli_table_and_code(capsys, demo, demo_path):
     # The sump stage's own points: with feedback held at 39k the input resistor is 10k.
-    a = analyze(load_design(SUMP))
-    assert main(["fit", SUMP, "--upper", repr(a.upper), "--lower", repr(a.lower), "--hold", "feedback=39k",
+    sump = demo_path("sump_level_switch")
+    a = analyze(demo("sump_level_switch"))
+    assert main(["fit", sump, "--upper", repr(a.upper), "--lower", repr(a.lower), "--hold", "feedback=39k",
                  "--code"]) == 0
     out = capsys.readouterr().out.splitlines()
     assert "Held as given: feedback 39 kOhm." in out[4]
@@ -366,10 +344,11 @@ def test_cli_table_and_code(capsys):
     assert out[6].split()[:2] == ["1", "10k"]  # first candidate, in the IEC 60062 code
 
 
-def test_cli_refuses_clearly(capsys):
-    assert main(["fit", SUMP, "--upper", "2", "--lower", "3"]) == 2
+def test_cli_refuses_clearly(capsys, demo_path):
+    sump = demo_path("sump_level_switch")
+    assert main(["fit", sump, "--upper", "2", "--lower", "3"]) == 2
     assert "must be above the lower point" in capsys.readouterr().err
-    assert main(["fit", SUMP, "--upper", "3", "--lower", "2", "--hold", "feedback"]) == 2
+    assert main(["fit", sump, "--upper", "3", "--lower", "2", "--hold", "feedback"]) == 2
     assert "--hold: write KEY=R" in capsys.readouterr().err
 
 
@@ -393,13 +372,13 @@ def _exhaustive_watched(design, params, grid, upper, lower):
 
 
 @pytest.mark.parametrize(("name", "upper", "lower"), [
-    ("solar_battery_disconnect.json", 12.8, 11.6),   # divider: the mapping to the stage is exact
-    ("greenhouse_fan_thermostat.json", 32.0, 28.0),  # thermistor: source resistance moves with T
+    ("solar_battery_disconnect", 12.8, 11.6),   # divider: the mapping to the stage is exact
+    ("greenhouse_fan_thermostat", 32.0, 28.0),  # thermistor: source resistance moves with T
 ])
-def test_watched_targets_best_equals_exhaustive_search(name, upper, lower):
+def test_watched_targets_best_equals_exhaustive_search(name, upper, lower, demo):
     from bandcalc.model.standard_values import series_values
 
-    design = load_design(DEMO / name)
+    design = demo(name)
     r = fit(design, upper, lower, series="E12", count=3, add_leg=False)
     best = r.candidates[0]
     a = analyze(best.design)

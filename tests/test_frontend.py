@@ -4,18 +4,17 @@ watched switching points round-tripping through the stage model, the design-file
 import copy
 import json
 import math
-from pathlib import Path
 
 import numpy as np
 import pytest
 from hypothesis import HealthCheck, given, settings
-from hypothesis import strategies as st
-from test_network import designs  # the stage strategy: every stage, supply, reference and output
+from strategies import designs_with_front_ends
 
 from bandcalc.cli.commands import main
+from bandcalc.demos import demo_paths
 from bandcalc.errors import DesignError
 from bandcalc.model.design import Design, FixedReference, OpenDrain, PushPull, Resistors, Source, Supply
-from bandcalc.model.design_file import design_from_dict, design_to_dict, load_design
+from bandcalc.model.design_file import design_from_dict, design_to_dict
 from bandcalc.model.front_end import (
     DividerFrontEnd,
     LinearFrontEnd,
@@ -37,12 +36,12 @@ from bandcalc.model.points import (
     volts_for,
 )
 
-ROOT = Path(__file__).parent.parent
-GREENHOUSE = ROOT / "demo_data" / "greenhouse_fan_thermostat.json"
-SOLAR = ROOT / "demo_data" / "solar_battery_disconnect.json"
-SUMP = ROOT / "demo_data" / "sump_level_switch.json"
+GREENHOUSE = "greenhouse_fan_thermostat"
+SOLAR = "solar_battery_disconnect"
+SUMP = "sump_level_switch"
 
-# A published 10 kOhm thermistor probe manual's Steinhart-Hart table; values as cited in our issue.
+# Steinhart-Hart coefficients and two rows of the resistance table published for a common 10 kOhm
+# NTC probe (from memory: the probe manual is not at hand to cite by name).
 PROBE = (1.129241e-3, 2.341077e-4, 8.775468e-8)
 PROBE_TABLE = [(0.0, 32650.9), (-10.0, 55303.9)]
 
@@ -66,8 +65,9 @@ def test_steinhart_hart_probe_is_10k_at_25c_and_inverse_is_exact():
 
 
 def test_beta_equation_defining_relation():
-    # The Beta model's definition (DOMAIN.md): R(T) = R25 exp(B (1/T - 1/298.15 K)), so
-    # R(T1)/R(T2) = exp(B (1/T1 - 1/T2)) for any pair, and R(25 C) = R25.
+    # The Beta model's definition (thermistor manufacturers' data sheets):
+    # R(T) = R25 exp(B (1/T - 1/298.15 K)), so R(T1)/R(T2) = exp(B (1/T1 - 1/T2)) for any pair,
+    # and R(25 C) = R25.
     r25, beta = 10e3, 3950.0
     t1, t2 = np.array([250.0, 280.0, 310.0, 360.0]), np.array([300.0, 330.0, 270.0, 240.0])
     ratio = beta_resistance(r25, beta, t1) / beta_resistance(r25, beta, t2)
@@ -161,12 +161,12 @@ def test_watched_thermistor_points_satisfy_the_whole_circuit_in_lcapy(position, 
 
 # --- round trips through the stage model --------------------------------------------------------
 
-def test_thermistor_points_against_a_bracketed_root_solve():
+def test_thermistor_points_against_a_bracketed_root_solve(demo):
     # An independent root finder (scipy's brentq) on the switching condition in temperature,
     # with the stage re-evaluated at each trial's Thevenin resistance.
     from scipy.optimize import brentq
 
-    design = load_design(GREENHOUSE)
+    design = demo(GREENHOUSE)
     w = design_points(design)
 
     def gap(celsius, which):
@@ -175,32 +175,6 @@ def test_thermistor_points_against_a_bracketed_root_solve():
 
     for which, x in (("upper", w.at_stage_upper), ("lower", w.at_stage_lower)):
         assert float(x) == pytest.approx(brentq(gap, -55, 150, args=(which,), xtol=1e-12), abs=1e-8)
-
-
-ohms = st.floats(1e3, 1e6).map(lambda x: float(f"{x:.4g}"))
-
-
-@st.composite
-def front_ends(draw, design):
-    kind = draw(st.sampled_from(["divider", "thermistor", "linear"]))
-    if kind == "divider":
-        return DividerFrontEnd(draw(ohms), draw(ohms))
-    if kind == "linear":
-        sign = draw(st.sampled_from([1.0, -1.0]))
-        return LinearFrontEnd(volts_per_unit=sign * draw(st.floats(1e-3, 1.0)), unit="kPa",
-                              offset=draw(st.floats(-1.0, 1.0)), resistance=draw(st.floats(0.0, 1e4)))
-    excitations = ["positive", draw(st.floats(1.0, 10.0))]
-    if isinstance(design.reference, FixedReference) and design.reference.volts > 0:
-        excitations.append("reference")
-    return ThermistorFrontEnd(fixed=draw(ohms), r25=draw(ohms), beta=draw(st.floats(2500.0, 5000.0)),
-                              position=draw(st.sampled_from(["top", "bottom"])),
-                              excitation=draw(st.sampled_from(excitations)))
-
-
-@st.composite
-def designs_with_front_ends(draw):
-    design = draw(designs())
-    return Design(**{**design.__dict__, "front_end": draw(front_ends(design))})
 
 
 @settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.too_slow])
@@ -224,8 +198,8 @@ def test_watched_points_round_trip_through_the_stage_model(design):
         assert float(input_at(design, v)) == pytest.approx(float(x), rel=1e-9, abs=1e-9)
 
 
-def test_watched_points_broadcast_like_the_stage_model():
-    design = load_design(GREENHOUSE)
+def test_watched_points_broadcast_like_the_stage_model(demo):
+    design = demo(GREENHOUSE)
     r25 = 10e3 * np.array([0.99, 1.0, 1.01])[:, None]
     beta = 3950.0 * np.array([0.99, 1.0, 1.01])[None, :]
     vec = design_points(design, {"front_end.r25": r25, "front_end.beta": beta})
@@ -240,8 +214,8 @@ def test_watched_points_broadcast_like_the_stage_model():
         design_points(design, {"front_end.top": 1e3})
 
 
-def test_stage_targets_for_the_fit_are_exact():
-    design = load_design(GREENHOUSE)
+def test_stage_targets_for_the_fit_are_exact(demo):
+    design = demo(GREENHOUSE)
     w = design_points(design)
     t = stage_targets(design, w.upper, w.lower)
     assert float(switching_points(design, {"source.resistance": t.upper_resistance}).upper) == pytest.approx(
@@ -252,8 +226,8 @@ def test_stage_targets_for_the_fit_are_exact():
     assert float(t.upper) == pytest.approx(float(w.stage_upper)) and float(t.upper) > float(t.lower)
 
 
-def test_divider_stage_design_is_the_stage_with_the_thevenin_resistance():
-    design = load_design(SOLAR)
+def test_divider_stage_design_is_the_stage_with_the_thevenin_resistance(demo):
+    design = demo(SOLAR)
     stage = stage_design(design)
     assert stage.front_end is None
     assert stage.source.resistance == pytest.approx(240e3 * 62e3 / 302e3)
@@ -263,9 +237,9 @@ def test_divider_stage_design_is_the_stage_with_the_thevenin_resistance():
     assert float(w.lower) == pytest.approx(float(pts.lower) * 302 / 62, rel=1e-12)
 
 
-def test_linear_sensor_by_hand():
+def test_linear_sensor_by_hand(demo):
     # A ratiometric-style pressure sensor on a fixed 5 V: 0.5 V + 40 mV/kPa; watched = (V - 0.5)/0.04.
-    design = Design(**{**load_design(SUMP).__dict__,
+    design = Design(**{**demo(SUMP).__dict__,
                        "front_end": LinearFrontEnd(volts_per_unit=0.04, offset=0.5, unit="kPa",
                                                    resistance=1e3),
                        "source": Source(resistance=100.0)})
@@ -278,8 +252,8 @@ def test_linear_sensor_by_hand():
 
 # --- analysis -------------------------------------------------------------------------------------
 
-def test_greenhouse_reads_in_celsius_with_the_direction_turned():
-    a = analyze(load_design(GREENHOUSE))
+def test_greenhouse_reads_in_celsius_with_the_direction_turned(demo):
+    a = analyze(demo(GREENHOUSE))
     assert a.points.unit == "C" and not a.points.rises
     assert float(a.points.upper) == pytest.approx(31.91, abs=0.01)
     assert float(a.points.lower) == pytest.approx(27.94, abs=0.01)
@@ -292,8 +266,8 @@ def test_greenhouse_reads_in_celsius_with_the_direction_turned():
     assert any(f.startswith(heating) for f in a.findings)
 
 
-def test_thermistor_dissipation_by_hand():
-    design = load_design(GREENHOUSE)
+def test_thermistor_dissipation_by_hand(demo):
+    design = demo(GREENHOUSE)
     # Inverting stage: the pin draws only its bias current, so the bead carries V^2/R (first principles).
     r = 10e3 * math.exp(3950 * (1 / (303.15) - 1 / 298.15))
     v = 5 * r / (r + 10e3) - 1e-9 * (r * 10e3 / (r + 10e3))
@@ -302,14 +276,14 @@ def test_thermistor_dissipation_by_hand():
     assert power["front_end.fixed"] == pytest.approx((5 - v) ** 2 / 10e3, rel=1e-12)
 
 
-def test_no_self_heating_finding_for_a_high_value_divider():
-    design = load_design(GREENHOUSE)
+def test_no_self_heating_finding_for_a_high_value_divider(demo):
+    design = demo(GREENHOUSE)
     cool = Design(**{**design.__dict__, "front_end": ThermistorFrontEnd(fixed=100e3, r25=100e3, beta=4250.0)})
     assert not any(f.startswith("Self-heating") for f in analyze(cool).findings)
 
 
-def test_latch_is_judged_in_the_watched_quantity():
-    design = load_design(SOLAR)
+def test_latch_is_judged_in_the_watched_quantity(demo):
+    design = demo(SOLAR)
     short = Design(**{**design.__dict__, "front_end": DividerFrontEnd(240e3, 62e3, low=0.0, high=12.0)})
     (latch,) = [f for f in analyze(short).findings if f.startswith("Latches")]
     assert "upper switching point" in latch
@@ -317,17 +291,17 @@ def test_latch_is_judged_in_the_watched_quantity():
     assert not any(f.startswith("Latches") for f in analyze(design).findings)
 
 
-def test_caution_when_the_front_end_watches_a_hazardous_voltage():
+def test_caution_when_the_front_end_watches_a_hazardous_voltage(demo):
     # A rectified 230 V mains bus (325 V peak) watched through a 1 MOhm / 10 kOhm divider.
     design = _stage(front_end=DividerFrontEnd(1e6, 10e3, low=0.0, high=400.0),
                     resistors=Resistors(input=10e3, feedback=1e6))
     (caution,) = analyze(design).cautions
     assert "400 V" in caution and "not a safety-rated protection" in caution and "local codes" in caution
-    assert not any(c.startswith("Hazardous") for c in analyze(load_design(SOLAR)).cautions)
+    assert not any(c.startswith("Hazardous") for c in analyze(demo(SOLAR)).cautions)
 
 
-def test_json_of_analyze_gains_watched_keys_only_with_a_front_end(capsys):
-    assert main(["analyze", str(GREENHOUSE), str(SUMP), "--json"]) == 0
+def test_json_of_analyze_gains_watched_keys_only_with_a_front_end(capsys, demo_path):
+    assert main(["analyze", demo_path(GREENHOUSE), demo_path(SUMP), "--json"]) == 0
     green, sump = json.loads(capsys.readouterr().out)
     assert green["watched_unit"] == "C"
     assert green["upper_watched"] > green["lower_watched"]
@@ -335,8 +309,8 @@ def test_json_of_analyze_gains_watched_keys_only_with_a_front_end(capsys):
     assert not {"upper_watched", "lower_watched", "watched_unit"} & set(sump)
 
 
-def test_table_shows_both_quantities(capsys):
-    assert main(["analyze", str(SOLAR)]) == 0
+def test_table_shows_both_quantities(capsys, demo_path):
+    assert main(["analyze", demo_path(SOLAR)]) == 0
     out = capsys.readouterr().out
     assert ("watched upper      12.78 V  (the stage's upper point; rising through it sets the output "
             "high)") in out
@@ -354,7 +328,7 @@ def test_unreached_point_is_null_in_json():
 
 # --- the design-file section -----------------------------------------------------------------------
 
-BASE = json.loads(GREENHOUSE.read_text())
+BASE = json.loads(demo_paths()[GREENHOUSE].read_text())  # the file as written
 
 
 def _with_front_end(front_end, **top):
@@ -376,8 +350,8 @@ def test_section_reads_and_round_trips(front_end):
     assert design_to_dict(d)["front_end"]["kind"] == front_end["kind"]
 
 
-def test_front_end_tolerances_are_fractions_keyed_like_the_parameters():
-    fe = load_design(GREENHOUSE).front_end
+def test_front_end_tolerances_are_fractions_keyed_like_the_parameters(demo):
+    fe = demo(GREENHOUSE).front_end
     assert front_end_tolerances(fe) == {"front_end.r25": 0.01, "front_end.beta": 0.01}
     assert front_end_tolerances(DividerFrontEnd(1e3, 1e3)) == {}
 
@@ -425,13 +399,13 @@ def test_source_range_is_refused_beside_a_front_end():
         design_from_dict(_with_front_end(THERM, source={"resistance": 0, "high": 5}))
 
 
-def test_files_without_a_front_end_still_read_and_write_without_one():
-    d = load_design(SUMP)
+def test_files_without_a_front_end_still_read_and_write_without_one(demo):
+    d = demo(SUMP)
     assert d.front_end is None and "front_end" not in design_to_dict(d)
     assert d.unit == "V" and analyze(d).points.unit == "V"
 
 
-def test_a_thermistor_fed_from_a_zero_volt_reference_switches_at_no_temperature():
+def test_a_thermistor_fed_from_a_zero_volt_reference_switches_at_no_temperature(demo):
     # Found by Hypothesis: with no excitation the divider's output never moves, so no temperature
     # reaches either point (first principles); the answer is "none", not a division error.
     from dataclasses import replace
@@ -439,6 +413,6 @@ def test_a_thermistor_fed_from_a_zero_volt_reference_switches_at_no_temperature(
     from bandcalc.model.design import FixedReference, Source
 
     thermistor = ThermistorFrontEnd(fixed=1e3, r25=1e3, beta=2500.0, position="top", excitation="reference")
-    d = replace(load_design(SUMP), reference=FixedReference(0.0), source=Source(), front_end=thermistor)
+    d = replace(demo(SUMP), reference=FixedReference(0.0), source=Source(), front_end=thermistor)
     w = design_points(d)
     assert np.isnan(float(w.upper)) and np.isnan(float(w.lower))

@@ -6,6 +6,7 @@ import numpy as np
 import pytest
 from hypothesis import HealthCheck, assume, given, settings
 from hypothesis import strategies as st
+from strategies import designs
 
 from bandcalc.errors import DesignError
 from bandcalc.model.design import (
@@ -114,34 +115,6 @@ def test_open_drain_high_level_is_loaded_by_feedback():
 
 
 # --- Independent solver: lcapy on random designs of every kind --------------------------------
-
-ohms = st.floats(1e3, 1e6).map(lambda x: float(f"{x:.4g}"))
-
-
-@st.composite
-def designs(draw):
-    dual = draw(st.booleans())
-    vp = draw(st.floats(3.0, 15.0))
-    vn = -draw(st.floats(3.0, 15.0)) if dual else 0.0
-    stage = draw(st.sampled_from(["non-inverting", "inverting"]))
-    use_divider = draw(st.booleans())
-    reference = (DividerReference(draw(ohms), draw(ohms)) if use_divider
-                 else FixedReference(draw(st.floats(vn + 0.5, vp - 0.5))))
-    legs = {k: draw(st.none() | ohms) for k in ("to_positive", "to_negative", "to_ground", "to_reference")}
-    inp = draw(ohms) if stage == "non-inverting" else draw(st.none() | ohms)
-    res = Resistors(feedback=draw(st.floats(1e4, 1e7)), input=inp, **legs)
-    if draw(st.booleans()):
-        output = OpenDrain(pullup=draw(ohms) / 100, pullup_volts=draw(st.none() | st.floats(2.0, 15.0)),
-                           low_volts=draw(st.none() | st.just(0.0)))
-        if output.pullup_volts is not None and output.pullup_volts <= (vn if output.low_volts is None else 0):
-            output = OpenDrain(pullup=output.pullup)
-    else:
-        output = PushPull(draw(st.floats(0, 1.5)), draw(st.floats(0, 1.5)), draw(st.floats(0, 500)))
-    comp = Comparator(offset=draw(st.floats(-5e-3, 5e-3)), bias_current=draw(st.floats(0, 1e-6)))
-    src = Source(resistance=draw(st.floats(0, 1e4)))
-    return Design(stage=stage, supply=Supply(vp, vn), resistors=res, output=output, reference=reference,
-                  comparator=comp, source=src)
-
 
 @settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(designs())

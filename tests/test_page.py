@@ -8,10 +8,10 @@ import base64
 
 import numpy as np
 import pytest
-from page_helpers import ROOT, SUMP, chart, design_on, errors, figures, numbers, page
+from page_helpers import SUMP, chart, design_on, errors, figures, numbers, page
 from streamlit.testing.v1 import AppTest
 
-from bandcalc.model.design_file import design_to_json, load_design
+from bandcalc.model.design_file import design_to_json
 from bandcalc.model.operating import analyze
 from bandcalc.model.parts import with_value
 from bandcalc.model.units import format_si
@@ -31,7 +31,7 @@ def test_default_page_shows_the_sump_demo():
     at = page()
     assert not at.exception and not errors(at)
     assert figures(at) == expected(SUMP)
-    assert figures(at)["Upper switching point"] == "3.136 V"  # analyze() of demo_data/sump_level_switch.json
+    assert figures(at)["Upper switching point"] == "3.136 V"  # analyze() of the sump demo
     assert at.title[0].value == "Sump level switch"
     assert design_on(at) == SUMP
 
@@ -142,8 +142,8 @@ def test_a_bad_design_file_keeps_the_current_design():
     assert "stage: 'sideways' is not a stage kind" in errors(at)[0]
 
 
-def test_a_good_design_file_replaces_the_design():
-    other = load_design(ROOT / "demo_data" / "magnetic_speed_pickup.json")
+def test_a_good_design_file_replaces_the_design(demo):
+    other = demo("magnetic_speed_pickup")
     at = page()
     at.file_uploader[0].set_value(("pickup.json", design_to_json(other).encode(), "application/json")).run()
     assert not errors(at)
@@ -158,10 +158,10 @@ def test_save_offers_the_design_file():
     assert button.proto.label == "Save the design file"
 
 
-def test_demo_chooser_opens_a_demo():
+def test_demo_chooser_opens_a_demo(demo):
     at = page()
     at.selectbox(key="page.demo").set_value("magnetic_speed_pickup").run()
-    pickup = load_design(ROOT / "demo_data" / "magnetic_speed_pickup.json")
+    pickup = demo("magnetic_speed_pickup")
     assert figures(at) == expected(pickup)
     assert design_on(at) == pickup
 
@@ -206,8 +206,8 @@ def test_series_choice_changes_the_slider_steps():
 
 
 @pytest.mark.parametrize("stem", ["sump_level_switch", "strain_overload_alarm"])
-def test_findings_and_cautions_are_shown(stem):
-    design = load_design(ROOT / "demo_data" / f"{stem}.json")
+def test_findings_and_cautions_are_shown(stem, demo):
+    design = demo(stem)
     hazardous = with_value(design, "source.high", 60.0)  # a watched voltage above 50 V
     at = page({PARAM: design_to_address(hazardous)})
     assert any(e.value.startswith("Hazardous voltage") for e in at.error)

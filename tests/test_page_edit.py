@@ -2,27 +2,23 @@
 
 import base64
 import zlib
-from pathlib import Path
 
 import numpy as np
 import pytest
 
+from bandcalc.demos import load_demo
 from bandcalc.errors import DesignError
 from bandcalc.model.design import DividerReference, FixedReference, OpenDrain, PushPull
-from bandcalc.model.design_file import load_design
 from bandcalc.model.parts import value_at, with_value
 from bandcalc.model.standard_values import series_values
 from bandcalc.page.address import address_to_design, design_to_address
 from bandcalc.page.edit import slider_options, with_legs, with_output, with_reference, with_stage
 
-DEMO_DIR = Path(__file__).parent.parent / "demo_data"
-DEMOS = sorted(DEMO_DIR.glob("*.json"))
-SUMP = load_design(DEMO_DIR / "sump_level_switch.json")
+SUMP = load_demo("sump_level_switch")  # also used at import time, in parametrize
 
 
-@pytest.mark.parametrize("path", DEMOS, ids=lambda p: p.stem)
-def test_address_round_trip(path):
-    d = load_design(path)
+def test_address_round_trip(each_demo):
+    d = each_demo
     text = design_to_address(d)
     assert address_to_design(text) == d
     assert all(c.isalnum() or c in "-_" for c in text)  # URL-safe, no padding
@@ -59,8 +55,8 @@ def test_with_value_validates_and_names_the_key():
         with_value(SUMP, "supply.negative", 6.0)
 
 
-def test_stage_switch_fits_what_the_stage_needs():
-    inverting = load_design(DEMO_DIR / "greenhouse_fan_thermostat.json")
+def test_stage_switch_fits_what_the_stage_needs(demo):
+    inverting = demo("greenhouse_fan_thermostat")
     d = with_stage(inverting, "non-inverting")
     assert d.resistors.input == 100e3
     assert d.reference == FixedReference(2.5)  # mid-supply of 0 / 5 V
@@ -129,7 +125,8 @@ def test_beta_and_steinhart_hart_describe_the_same_thermistor():
     d = with_front_end(SUMP, "thermistor")
     sh = with_thermistor_model(d, "steinhart_hart")
     assert thermistor_model(sh) == "steinhart_hart"
-    # The Beta relation R = R25 exp(B (1/T - 1/298.15 K)) (DOMAIN.md) is Steinhart-Hart with C = 0.
+    # The Beta relation R = R25 exp(B (1/T - 1/298.15 K)) (thermistor manufacturers' data sheets) is
+    # Steinhart-Hart (Steinhart & Hart, Deep-Sea Research 15, 1968) with C = 0.
     kelvin = np.linspace(250.0, 400.0, 7)
     expected = beta_resistance(10e3, 3950.0, kelvin)
     assert np.allclose(steinhart_hart_resistance(sh.front_end.steinhart_hart, kelvin), expected, rtol=1e-12)
@@ -208,7 +205,7 @@ def test_tolerance_entries_edit_the_design_section():
     assert with_part_tolerance(part, "resistors", "feedback", None).tolerances.resistors.parts == ()
 
 
-def test_resistor_rows_take_the_series_tolerance_unless_given():
+def test_resistor_rows_take_the_series_tolerance_unless_given(demo):
     from bandcalc.page.tolerance_edit import resistor_rows, with_part_tolerance, without_tolerances
 
     rows = {r["name"]: r for r in resistor_rows(without_tolerances(SUMP))}
@@ -217,7 +214,7 @@ def test_resistor_rows_take_the_series_tolerance_unless_given():
     assert rows["feedback"]["percent"] == 5.0
     given = {r["name"]: r for r in resistor_rows(with_part_tolerance(SUMP, "resistors", "feedback", 0.1))}
     assert (given["feedback"]["percent"], given["feedback"]["origin"]) == (0.1, "given for this resistor")
-    solar = {r["name"]: r for r in resistor_rows(load_design(DEMO_DIR / "solar_battery_disconnect.json"))}
+    solar = {r["name"]: r for r in resistor_rows(demo("solar_battery_disconnect"))}
     assert solar["front_end.top"]["percent"] == 0.1 and solar["front_end.top"]["tempco"] == 25.0
     assert solar["input"]["origin"] == "given for every resistor"
 

@@ -6,28 +6,30 @@ checks against evaluating every combination, and whose model is checked against 
 on a button press, and puts a candidate on the sliders with one click.
 """
 
-from pathlib import Path
-
 import pytest
+import streamlit as st
+from page_helpers import SUMP, design_on, errors, figures, page
 from streamlit.testing.v1 import AppTest
-from test_page import SUMP, design_on, errors, expected, figures, page
+from test_page import expected
 
+from bandcalc.demos import load_demo
 from bandcalc.fit.selection import apply_candidate, fit
 from bandcalc.model.design import Resistors
-from bandcalc.model.design_file import design_to_json, load_design
+from bandcalc.model.design_file import design_to_json
 from bandcalc.model.operating import analyze
 from bandcalc.model.parts import with_value
 from bandcalc.model.units import format_code, format_si, format_value
 from bandcalc.page.address import PARAM, design_to_address
 from bandcalc.page.panels import fit as panel
 
-ROOT = Path(__file__).parent.parent
-GREENHOUSE = load_design(ROOT / "demo_data" / "greenhouse_fan_thermostat.json")
+GREENHOUSE = load_demo("greenhouse_fan_thermostat")
 
 
 @pytest.fixture(autouse=True)
 def fresh_cache():
-    panel._fit_of.clear()  # st.cache_data outlives a session; each test counts its own searches
+    # st.cache_data outlives a session; each test counts its own searches (clears every
+    # st.cache_data cache, through Streamlit's public API).
+    st.cache_data.clear()
     yield
 
 
@@ -233,11 +235,11 @@ def test_latest_fit_holds_for_the_design_while_only_resistor_values_change():
     def script():
         import streamlit as st
 
-        from bandcalc.model.design_file import load_design
+        from bandcalc.demos import load_demo
         from bandcalc.model.parts import with_value
         from bandcalc.page.panels.fit import latest_fit
 
-        design = load_design(st.session_state["path"])
+        design = load_demo(st.session_state["demo"])
         st.session_state["held"] = [
             latest_fit(design) is not None,
             latest_fit(with_value(design, "resistors.feedback", 1e6)) is not None,
@@ -245,7 +247,7 @@ def test_latest_fit_holds_for_the_design_while_only_resistor_values_change():
         ]
 
     at = AppTest.from_function(script)
-    at.session_state["path"] = str(ROOT / "demo_data" / "sump_level_switch.json")
+    at.session_state["demo"] = "sump_level_switch"
     at.session_state[panel.RESULT_KEY] = (design_to_json(SUMP), fit(SUMP, 3.1, 1.9))
     at.run()
     assert at.session_state["held"] == [True, True, False]

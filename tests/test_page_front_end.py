@@ -6,15 +6,15 @@ is whether the page shows and edits them faithfully."""
 import base64
 
 import pytest
-from page_helpers import DEMO_DIR, SUMP, captions, chart, design_on, errors, figures, numbers, page
+from page_helpers import SUMP, captions, chart, design_on, errors, figures, numbers, page
 
-from bandcalc.model.design_file import load_design
+from bandcalc.demos import load_demo
 from bandcalc.model.front_end import DividerFrontEnd, LinearFrontEnd, ThermistorFrontEnd
 from bandcalc.model.operating import analyze
 from bandcalc.model.units import format_code, format_si, format_value
 
-SOLAR = load_design(DEMO_DIR / "solar_battery_disconnect.json")
-GREENHOUSE = load_design(DEMO_DIR / "greenhouse_fan_thermostat.json")
+SOLAR = load_demo("solar_battery_disconnect")
+GREENHOUSE = load_demo("greenhouse_fan_thermostat")
 SECTION = "page.section.front_end"
 
 

@@ -7,7 +7,6 @@ them with the settings shown and shows their results faithfully."""
 import numpy as np
 import pytest
 from page_helpers import (
-    DEMO_DIR,
     SUMP,
     button,
     captions,
@@ -21,7 +20,7 @@ from page_helpers import (
     trace,
 )
 
-from bandcalc.model.design_file import load_design
+from bandcalc.demos import load_demo
 from bandcalc.model.units import format_si, format_value
 from bandcalc.outputs.summary import design_summary
 from bandcalc.page.names import factor_name
@@ -32,8 +31,8 @@ from bandcalc.signal_check.waveform import synthesize
 from bandcalc.signal_check.width_trade import sweep_design
 from bandcalc.spread.propagation import spread
 
-SOLAR = load_design(DEMO_DIR / "solar_battery_disconnect.json")
-GREENHOUSE = load_design(DEMO_DIR / "greenhouse_fan_thermostat.json")
+SOLAR = load_demo("solar_battery_disconnect")
+GREENHOUSE = load_demo("greenhouse_fan_thermostat")
 QUANTITIES = ("upper", "lower", "hysteresis")
 
 

@@ -1,29 +1,21 @@
 """The transfer-curve figure: valid Plotly, both branches, both points labelled, the band shaded."""
 
-from pathlib import Path
-
 import plotly.graph_objects as go
-import pytest
 
-from bandcalc.model.design_file import load_design
 from bandcalc.model.transfer import transfer_curve
 from bandcalc.model.units import format_si
 from bandcalc.outputs.plots import PALETTE, transfer_figure, transfer_spec
 
-DEMO_DIR = Path(__file__).parent.parent / "demo_data"
-DEMOS = sorted(DEMO_DIR.glob("*.json"))
 
-
-@pytest.mark.parametrize("path", DEMOS, ids=lambda p: p.stem)
-def test_spec_passes_plotlys_schema(path):
+def test_spec_passes_plotlys_schema(each_demo):
     # Plotly's own validators (the page skips them for speed, so they run here).
-    spec = transfer_spec(transfer_curve(load_design(path)), title="t")
+    spec = transfer_spec(transfer_curve(each_demo), title="t")
     fig = go.Figure(spec)
     assert [t.name for t in fig.data] == ["Rising input", "Falling input", "Switching points"]
 
 
-def test_points_band_and_labels():
-    c = transfer_curve(load_design(DEMO_DIR / "sump_level_switch.json"))
+def test_points_band_and_labels(demo):
+    c = transfer_curve(demo("sump_level_switch"))
     fig = transfer_figure(c)
     rising, falling, points = fig.data
     assert list(rising.x) == list(c.signal) and list(rising.y) == list(c.rising)
@@ -41,22 +33,22 @@ def test_points_band_and_labels():
     assert rising.line.color == PALETTE["rising"] and falling.line.color == PALETTE["falling"]
 
 
-def test_view_centres_on_a_narrow_band():
+def test_view_centres_on_a_narrow_band(demo):
     # Motor-current flag: a 33 mV band on a +/-5 V signal; the first view shows the band.
-    c = transfer_curve(load_design(DEMO_DIR / "motor_current_direction.json"))
+    c = transfer_curve(demo("motor_current_direction"))
     lo, hi = transfer_figure(c).layout.xaxis.range
     assert lo <= c.lower and hi >= c.upper
     assert hi - lo < 10 * c.hysteresis
 
 
-def test_fast_figure_matches_validated_one():
-    c = transfer_curve(load_design(DEMO_DIR / "greenhouse_fan_thermostat.json"))
+def test_fast_figure_matches_validated_one(demo):
+    c = transfer_curve(demo("greenhouse_fan_thermostat"))
     assert transfer_figure(c, validate=False).to_dict() == transfer_figure(c).to_dict()
 
 
 # --- spread and signal figures ------------------------------------------------------------------
 
-def test_spread_and_signal_specs_pass_plotlys_schema():
+def test_spread_and_signal_specs_pass_plotlys_schema(demo):
     import numpy as np
 
     from bandcalc.outputs.plots import histogram_spec, sensitivity_spec, signal_spec, tradeoff_spec
@@ -65,7 +57,7 @@ def test_spread_and_signal_specs_pass_plotlys_schema():
     from bandcalc.signal_check.width_trade import sweep_design
     from bandcalc.spread.propagation import spread
 
-    d = load_design(DEMO_DIR / "solar_battery_disconnect.json")
+    d = demo("solar_battery_disconnect")
     s = spread(d, samples=1000)
     y = s.monte_carlo.build_yield
     wc = s.worst_case

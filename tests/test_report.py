@@ -1,14 +1,12 @@
 """The design summary: content, valid CommonMark, escaping and the embedded design."""
 
 import datetime as dt
-from pathlib import Path
 
 import pytest
 from markdown_it import MarkdownIt
 
 from bandcalc.cli.commands import main
 from bandcalc.model.design import Design, FixedReference, Resistors, Source, Supply
-from bandcalc.model.design_file import load_design
 from bandcalc.model.network import switching_points
 from bandcalc.model.operating import analyze
 from bandcalc.model.units import format_code, format_si, format_value
@@ -16,7 +14,6 @@ from bandcalc.outputs.summary import design_from_summary, design_summary, escape
 from bandcalc.signal_check.edges import run_design
 from bandcalc.signal_check.waveform import synthesize
 
-DEMOS = sorted((Path(__file__).parent.parent / "demo_data").glob("*.json"))
 # markdown-it-py (PyPI) in its "commonmark" preset is a CommonMark-conformant parser; the
 # summary also uses GitHub-style tables, so GFM enables that one extension on top.
 COMMONMARK = MarkdownIt("commonmark")
@@ -31,9 +28,8 @@ def _headings(tokens):
     return [tokens[i + 1].content for i, t in enumerate(tokens) if t.type == "heading_open"]
 
 
-@pytest.mark.parametrize("path", DEMOS, ids=lambda p: p.stem)
-def test_summary_content_for_each_demo(path):
-    d = load_design(path)
+def test_summary_content_for_each_demo(each_demo):
+    d = each_demo
     a = analyze(d)
     text = design_summary(d, today=dt.date(2026, 12, 1))
     headings = _headings(_tokens(text))
@@ -55,9 +51,8 @@ def test_summary_content_for_each_demo(path):
         assert "| TH1 | NTC thermistor, bottom of its divider |" in text
 
 
-@pytest.mark.parametrize("path", DEMOS, ids=lambda p: p.stem)
-def test_embedded_design_rebuilds_the_same_switching_points(path):
-    d = load_design(path)
+def test_embedded_design_rebuilds_the_same_switching_points(each_demo):
+    d = each_demo
     again = design_from_summary(design_summary(d))
     assert again == d
     p, q = switching_points(d), switching_points(again)
@@ -105,9 +100,9 @@ def test_escape_text_keeps_plain_words():
     assert escape_text("<b>") == "&lt;b&gt;"
 
 
-def test_summary_is_commonmark_without_extensions():
+def test_summary_is_commonmark_without_extensions(demo):
     # Also parses under the strict CommonMark preset (tables then read as paragraphs).
-    text = design_summary(load_design(DEMOS[0]))
+    text = design_summary(demo("greenhouse_fan_thermostat"))
     assert any(t.type == "fence" and t.info == "json" for t in COMMONMARK.parse(text))
 
 
@@ -118,24 +113,24 @@ def test_caution_section_for_hazardous_voltage():
     assert "## Cautions" in text and "local codes and licensed practice" in text
 
 
-def test_signal_section():
-    d = load_design(DEMOS[0])
+def test_signal_section(demo):
+    d = demo("greenhouse_fan_thermostat")
     a = analyze(d)
     run = run_design(d, synthesize("sine", a.centre, a.hysteresis, 50, 0.1, 50e3, noise_rms=0.01, seed=1))
     text = design_summary(d, type("Inputs", (), {"signal": run, "spread": None, "fit": None})())
     assert "## Noise and delay" in text and f"| Output edges | {run.edge_count} |" in text
 
 
-def test_report_command_writes_file(tmp_path):
+def test_report_command_writes_file(tmp_path, demo, demo_path):
     out = tmp_path / "summary.md"
-    assert main(["report", str(DEMOS[0]), "-o", str(out)]) == 0
-    assert design_from_summary(out.read_text()) == load_design(DEMOS[0])
+    assert main(["report", demo_path("greenhouse_fan_thermostat"), "-o", str(out)]) == 0
+    assert design_from_summary(out.read_text()) == demo("greenhouse_fan_thermostat")
 
 
-def test_spread_section_and_columns():
+def test_spread_section_and_columns(demo):
     from bandcalc.spread.propagation import spread
 
-    d = load_design(DEMOS[0].parent / "sump_level_switch.json")
+    d = demo("sump_level_switch")
     s = spread(d, samples=5_000)
     text = design_summary(d, type("Inputs", (), {"spread": s, "signal": None, "fit": None})())
     assert "## Spread over tolerances and temperature" in text
@@ -145,15 +140,15 @@ def test_spread_section_and_columns():
     assert "Yield against the limits" in text
 
 
-def test_report_command_with_spread(capsys):
-    assert main(["report", str(DEMOS[0]), "--spread", "--samples", "2000"]) == 0
+def test_report_command_with_spread(capsys, demo_path):
+    assert main(["report", demo_path("greenhouse_fan_thermostat"), "--spread", "--samples", "2000"]) == 0
     assert "## Spread over tolerances and temperature" in capsys.readouterr().out
 
 
-def test_fit_section():
+def test_fit_section(demo):
     from bandcalc.fit.selection import fit
 
-    d = load_design(DEMOS[0].parent / "greenhouse_fan_thermostat.json")
+    d = demo("greenhouse_fan_thermostat")
     r = fit(d, 32.0, 28.0, count=3)
     text = design_summary(d, type("Inputs", (), {"spread": None, "signal": None, "fit": r})())
     assert "## Standard values fitted to the targets" in text

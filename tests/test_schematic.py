@@ -1,14 +1,11 @@
 """The stage schematic: well-formed SVG, every part with its value in the IEC 60062 code."""
 
 import xml.etree.ElementTree as ET
-from pathlib import Path
 
 import pytest
 
-from bandcalc.model.design_file import load_design
+from bandcalc.model.parts import with_value
 from bandcalc.outputs.schematic import stage_svg
-
-DEMO_DIR = Path(__file__).parent.parent / "demo_data"
 
 
 def texts(svg: str) -> list[str]:
@@ -27,33 +24,32 @@ def texts(svg: str) -> list[str]:
     ("strain_overload_alarm", ["Rref 100k", "Rup 100k", "Rfb 200k", "Rpu 4k7", "REF", "-15 V"]),
     ("solar_battery_disconnect", ["Rin 1k", "Rfb 1M", "Rpu 10k", "2.495 V", "Rd1 240k", "Rd2 62k", "IN"]),
 ])
-def test_svg_names_every_part_with_its_value(stem, expected):
-    svg = stage_svg(load_design(DEMO_DIR / f"{stem}.json"))
+def test_svg_names_every_part_with_its_value(stem, expected, demo):
+    svg = stage_svg(demo(stem))
     assert svg.startswith("<svg")
     found = texts(svg)
     for label in expected:
         assert label in found
 
 
-def test_push_pull_has_no_pullup_and_inverting_no_reference():
-    found = texts(stage_svg(load_design(DEMO_DIR / "greenhouse_fan_thermostat.json")))
+def test_push_pull_has_no_pullup_and_inverting_no_reference(demo):
+    found = texts(stage_svg(demo("greenhouse_fan_thermostat")))
     assert not any(t.startswith("Rpu") for t in found)
     assert "REF" not in found
 
 
-def test_a_reference_leg_in_a_non_inverting_stage_names_the_shared_reference():
+def test_a_reference_leg_in_a_non_inverting_stage_names_the_shared_reference(demo):
     from bandcalc.page.edit import with_legs
 
-    d = with_legs(load_design(DEMO_DIR / "sump_level_switch.json"), {"to_reference"})
+    d = with_legs(demo("sump_level_switch"), {"to_reference"})
     found = texts(stage_svg(d))
     assert "Rref 100k" in found and found.count("REF") == 2  # the reference and the leg's far end
 
 
-def test_values_change_the_labels_only():
-    from bandcalc.model.parts import with_value
+def test_values_change_the_labels_only(demo):
     from bandcalc.outputs.schematic import stage_labels
 
-    d = load_design(DEMO_DIR / "sump_level_switch.json")
+    d = demo("sump_level_switch")
     moved = with_value(d, "resistors.feedback", 47e3)
     a, b = stage_svg(d), stage_svg(moved)
     assert "Rfb 47k" in texts(b) and "Rfb 39k" not in texts(b)
@@ -68,42 +64,47 @@ def positions(svg: str) -> dict[str, float]:
             if t.get("x") is not None}
 
 
-def test_the_front_end_sits_ahead_of_the_input_resistor():
-    found = positions(stage_svg(load_design(DEMO_DIR / "solar_battery_disconnect.json")))
+def test_the_front_end_sits_ahead_of_the_input_resistor(demo):
+    found = positions(stage_svg(demo("solar_battery_disconnect")))
     assert found["IN"] < found["Rd1 240k"] < found["Rin 1k"]
 
 
-def _with_front_end(front_end: dict):
+@pytest.fixture
+def sump_with(demo):
+    """``sump_with(front_end)`` -> the sump demo with that front-end section and a 100 ohm source."""
     from bandcalc.model.design_file import design_from_dict, design_to_dict
 
-    data = design_to_dict(load_design(DEMO_DIR / "sump_level_switch.json"))
-    return design_from_dict({**data, "source": {"resistance": 100}, "front_end": front_end})
+    data = design_to_dict(demo("sump_level_switch"))
+
+    def design(front_end: dict):
+        return design_from_dict({**data, "source": {"resistance": 100}, "front_end": front_end})
+    return design
 
 
-def test_a_linear_sensor_is_drawn_with_its_law_and_output_resistance():
-    svg = stage_svg(_with_front_end({"kind": "linear", "volts_per_unit": 0.04, "offset": 0.5, "unit": "kPa",
-                                     "resistance": "1k"}))
+def test_a_linear_sensor_is_drawn_with_its_law_and_output_resistance(sump_with):
+    svg = stage_svg(sump_with({"kind": "linear", "volts_per_unit": 0.04, "offset": 0.5, "unit": "kPa",
+                               "resistance": "1k"}))
     found = texts(svg)
     assert "40 mV/kPa + 500 mV" in found and "Rsen 1k" in found
     assert "IN" not in found  # the sensor is the input
-    bare = texts(stage_svg(_with_front_end({"kind": "linear", "volts_per_unit": 0.01, "unit": "C"})))
+    bare = texts(stage_svg(sump_with({"kind": "linear", "volts_per_unit": 0.01, "unit": "C"})))
     assert "10 mV/C" in bare and not any(t.startswith("Rsen") for t in bare)
 
 
-def test_a_thermistor_on_top_from_the_reference():
-    found = texts(stage_svg(_with_front_end({
+def test_a_thermistor_on_top_from_the_reference(sump_with):
+    found = texts(stage_svg(sump_with({
         "kind": "thermistor", "steinhart_hart": [1.129241e-3, 2.341077e-4, 8.775468e-8], "fixed": "10k",
         "position": "top", "excitation": "reference"})))
     # Steinhart-Hart coefficients of a 10 kOhm probe: its resistance at 25 C rounds to 10k.
     assert "NTC 10k, S-H" in found and "Rfix 10k" in found and found.count("REF") == 2
 
 
-def test_each_front_end_layout_is_drawn_once():
+def test_each_front_end_layout_is_drawn_once(demo):
     from bandcalc.model.parts import with_value
-    from bandcalc.outputs.schematic import _template
+    from bandcalc.outputs.schematic import stage_template
 
-    d = load_design(DEMO_DIR / "greenhouse_fan_thermostat.json")
+    d = demo("greenhouse_fan_thermostat")
     stage_svg(d)
-    before = _template.cache_info().hits
+    before = stage_template.cache_info().hits
     stage_svg(with_value(d, "front_end.fixed", 12e3))  # a new value, the same drawing
-    assert _template.cache_info().hits == before + 1
+    assert stage_template.cache_info().hits == before + 1

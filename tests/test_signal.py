@@ -86,7 +86,8 @@ def test_run_arguments_are_checked(key, value):
 
 def test_rc_rise_time_is_2_2_rc():
     # 10-90 % of an RC step response is RC ln(0.9/0.1) = 2.197 RC (first-order step
-    # response, any circuits textbook); 2.2 RC is the usual rounding (DOMAIN.md).
+    # response: Horowitz & Hill, The Art of Electronics, 3rd ed., ch. 1); 2.2 RC is the usual
+    # rounding (common practice).
     assert pullup_rise_time(4.7e3, 50e-12) == pytest.approx(2.2 * 4.7e3 * 50e-12)
     assert pullup_rise_time(4.7e3, 50e-12) == pytest.approx(math.log(9) * 4.7e3 * 50e-12,
                                                             rel=2e-3)
@@ -96,8 +97,8 @@ def test_rc_rise_time_is_2_2_rc():
 
 @pytest.mark.parametrize("inverting", [False, True])
 def test_clean_sine_delay_is_asin_over_omega(inverting):
-    # Output edge lags the centre crossing by asin((V_point - c) / A) / (2 pi f) (DOMAIN.md:
-    # the sine reaches c + A sin(2 pi f t)). Propagation delay on every edge, 2.2 R C on
+    # Output edge lags the centre crossing by asin((V_point - c) / A) / (2 pi f) (plain
+    # trigonometry: the sine reaches c + A sin(2 pi f t)). Propagation delay on every edge, 2.2 R C on
     # rising output edges only.
     a, c, f = 0.5, 1.2, 1e3
     upper, lower = 1.35, 1.05
@@ -244,7 +245,7 @@ def test_normal_quartile_matches_scipy():
     # The estimator divides by Phi^-1(0.75) = 0.6745 (standard normal table).
     from bandcalc.signal_check import noise
 
-    assert noise._NORMAL_UPPER_QUARTILE == pytest.approx(stats.norm.ppf(0.75), rel=1e-12)
+    assert noise.NORMAL_UPPER_QUARTILE == pytest.approx(stats.norm.ppf(0.75), rel=1e-12)
 
 
 @pytest.mark.parametrize("rms", [1e-3, 0.05])

@@ -2,30 +2,27 @@
 
 import json
 import math
-from pathlib import Path
 
 import pytest
 
 from bandcalc.cli.commands import main
-from bandcalc.model.design_file import load_design
 from bandcalc.model.operating import analyze
 from bandcalc.signal_check.edges import output_rise_time, run_design
 from bandcalc.signal_check.waveform import synthesize
 from bandcalc.signal_check.width_trade import sweep_design
 
-DEMO = Path(__file__).parent.parent / "demo_data"
 
-
-def test_open_drain_design_adds_2_2_rc_and_its_delay():
-    # 10-90 % rise of an RC charge is RC ln 9 = 2.197 RC, commonly rounded to 2.2 RC (DOMAIN.md).
-    d = load_design(DEMO / "solar_battery_disconnect.json")
+def test_open_drain_design_adds_2_2_rc_and_its_delay(demo):
+    # 10-90 % rise of an RC charge is RC ln 9 = 2.197 RC (Horowitz & Hill, The Art of Electronics,
+    # 3rd ed., ch. 1), commonly rounded to 2.2 RC (common practice).
+    d = demo("solar_battery_disconnect")
     assert output_rise_time(d) == pytest.approx(2.2 * 10e3 * 1e-10)
     a = analyze(d)
     f, amp = 5.0, 1.0
     wave = synthesize("sine", a.centre, amp, f, 0.4, 200e3)
     run = run_design(d, wave)
     # Clean sine about the centre: the upper point is crossed asin((V - c)/A)/(2 pi f) after
-    # the centre crossing (DOMAIN.md), then the comparator delay and, rising, the rise time.
+    # the centre crossing (plain trigonometry), then the comparator delay and, rising, the rise time.
     lag = math.asin((a.upper - a.centre) / amp) / (2 * math.pi * f)
     rising = run.edge_delays[run.edge_directions > 0]
     # The non-inverting stage's output rises as the input goes high.
@@ -33,12 +30,12 @@ def test_open_drain_design_adds_2_2_rc_and_its_delay():
     assert rising == pytest.approx(expected, abs=2e-6)
 
 
-def test_push_pull_design_has_no_rise_time():
-    assert output_rise_time(load_design(DEMO / "sump_level_switch.json")) == 0.0
+def test_push_pull_design_has_no_rise_time(demo):
+    assert output_rise_time(demo("sump_level_switch")) == 0.0
 
 
-def test_sweep_about_the_design_centre_finds_a_clean_width():
-    d = load_design(DEMO / "sump_level_switch.json")
+def test_sweep_about_the_design_centre_finds_a_clean_width(demo):
+    d = demo("sump_level_switch")
     a = analyze(d)
     wave = synthesize("sine", a.centre, 1.5, 20.0, 0.25, 50e3, noise_rms=0.02, seed=4)
     sweep = sweep_design(d, wave)
@@ -47,8 +44,8 @@ def test_sweep_about_the_design_centre_finds_a_clean_width():
     assert sweep.best_width is not None and sweep.best_width <= 6.6 * 0.02 + sweep.widths[1]
 
 
-def test_signal_command_json(capsys):
-    path = str(DEMO / "magnetic_speed_pickup.json")
+def test_signal_command_json(capsys, demo_path):
+    path = demo_path("magnetic_speed_pickup")
     assert main(["signal", path, "--noise", "0.01", "--sweep", "--json", "--seed", "3"]) == 0
     out = json.loads(capsys.readouterr().out)
     assert out["edges"] == len(out["edge_times"]) and out["edges"] > 0
@@ -56,32 +53,32 @@ def test_signal_command_json(capsys):
     assert "best_width" in out["sweep"]
 
 
-def test_signal_command_bad_csv_names_file_and_line(tmp_path, capsys):
+def test_signal_command_bad_csv_names_file_and_line(tmp_path, capsys, demo_path):
     bad = tmp_path / "wave.csv"
     bad.write_text("t,v\n0,1\n0.1,abc\n")
-    assert main(["signal", str(DEMO / "sump_level_switch.json"), "--csv", str(bad)]) == 2
+    assert main(["signal", demo_path("sump_level_switch"), "--csv", str(bad)]) == 2
     err = capsys.readouterr().err
     assert "wave.csv" in err and "line 3" in err
 
 
-def test_signal_command_reads_a_recorded_csv(tmp_path, capsys):
+def test_signal_command_reads_a_recorded_csv(tmp_path, capsys, demo_path):
     wave = tmp_path / "w.csv"
     rows = [f"{i * 1e-3};{'4,5' if (i // 100) % 2 else '0,5'}" for i in range(1000)]
     wave.write_text("time;volts\n" + "\n".join(rows) + "\n")
-    assert main(["signal", str(DEMO / "sump_level_switch.json"), "--csv", str(wave), "--json"]) == 0
+    assert main(["signal", demo_path("sump_level_switch"), "--csv", str(wave), "--json"]) == 0
     assert json.loads(capsys.readouterr().out)["edges"] == 9
 
 
-def test_front_end_design_runs_in_the_watched_quantity(capsys):
+def test_front_end_design_runs_in_the_watched_quantity(capsys, demo, demo_path):
     # A thermistor on the bottom of its divider: the source voltage falls as temperature rises,
     # so the inverting stage reads as non-inverting in degrees C (warmer -> output high).
-    d = load_design(DEMO / "greenhouse_fan_thermostat.json")
+    d = demo("greenhouse_fan_thermostat")
     a = analyze(d)
     wave = synthesize("sine", a.points.centre, 6.0, 0.01, 200.0, 50.0)
     run = run_design(d, wave)
     assert (run.upper, run.lower) == pytest.approx((float(a.points.upper), float(a.points.lower)))
     assert not run.inverting
     assert " C " in run.findings[0] and " V " not in run.findings[0]
-    assert main(["signal", str(DEMO / "greenhouse_fan_thermostat.json"), "--json", "--frequency", "0.01",
+    assert main(["signal", demo_path("greenhouse_fan_thermostat"), "--json", "--frequency", "0.01",
                  "--duration", "200", "--rate", "50"]) == 0
     assert json.loads(capsys.readouterr().out)["unit"] == "C"

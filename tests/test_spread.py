@@ -12,7 +12,6 @@ import pytest
 from scipy import stats
 
 from bandcalc.cli.commands import main
-from bandcalc.model.design_file import load_design
 from bandcalc.model.network import switching_points
 from bandcalc.model.parts import parameters
 from bandcalc.model.points import design_points
@@ -21,19 +20,17 @@ from bandcalc.spread import propagation as spread_module
 from bandcalc.spread.factors import QUANTITIES, Factor, factors
 from bandcalc.spread.propagation import (
     SpreadError,
-    _summary,
     monte_carlo,
     sensitivity,
     spread,
     spread_to_dict,
+    summarize,
     wilson_interval,
     worst_case,
 )
 
-DEMO = Path(__file__).parent.parent / "demo_data"
-DEMOS = sorted(DEMO.glob("*.json"))
-SUMP = DEMO / "sump_level_switch.json"
-SOLAR = DEMO / "solar_battery_disconnect.json"
+SUMP = "sump_level_switch"
+SOLAR = "solar_battery_disconnect"
 
 PLAIN = Tolerances(resistors=PerResistor(1.0), reference=0.5, supply=5.0, offset=0.004, bias_current=1e-7)
 HOT = dataclasses.replace(PLAIN, temperature=(-20.0, 70.0),
@@ -41,13 +38,9 @@ HOT = dataclasses.replace(PLAIN, temperature=(-20.0, 70.0),
                           reference_drift=50.0, offset_drift=5e-6)
 
 
-OWN = object()
-
-
-def demo(path, tolerances=OWN):
-    """A demo design with its own tolerances section, or with the one given (None: without)."""
-    d = load_design(path)
-    return d if tolerances is OWN else dataclasses.replace(d, tolerances=tolerances)
+def with_tolerances(design, tolerances):
+    """The design with the tolerances section given (None: without one)."""
+    return dataclasses.replace(design, tolerances=tolerances)
 
 
 def points_of(design, values):
@@ -92,9 +85,8 @@ def brute_force(design, bounds):
 
 # --- worst case ---------------------------------------------------------------------------------
 
-@pytest.mark.parametrize("path", DEMOS, ids=lambda p: p.stem)
-def test_worst_case_equals_brute_force_over_all_corners(path):
-    design = demo(path, PLAIN)
+def test_worst_case_equals_brute_force_over_all_corners(each_demo):
+    design = with_tolerances(each_demo, PLAIN)
     expected = brute_force(design, plain_bounds(design, PLAIN))
     wc = worst_case(design)
     for q in QUANTITIES:
@@ -106,8 +98,8 @@ def test_worst_case_equals_brute_force_over_all_corners(path):
     assert wc.method == "every corner of the box"
 
 
-def test_worst_case_by_series_defaults_without_a_tolerances_section():
-    design = demo(SUMP, None)
+def test_worst_case_by_series_defaults_without_a_tolerances_section(demo):
+    design = with_tolerances(demo(SUMP), None)
     # 10 kOhm and 39 kOhm are E24 values: 5 % each (the usual E24 tolerance).
     expected = brute_force(design, {"resistors.input": (9.5e3, 10.5e3),
                                     "resistors.feedback": (37.05e3, 40.95e3)})
@@ -116,13 +108,13 @@ def test_worst_case_by_series_defaults_without_a_tolerances_section():
     assert (wc.hysteresis.min, wc.hysteresis.max) == pytest.approx(expected["hysteresis"], rel=1e-12)
 
 
-def test_worst_case_over_temperature_equals_brute_force_and_a_fine_temperature_grid():
+def test_worst_case_over_temperature_equals_brute_force_and_a_fine_temperature_grid(demo):
     # Non-inverting stage: input and feedback resistors with their own tempcos, a fixed reference
     # with drift, the offset with drift. Written out here from the documented model.
-    design = demo(SUMP, Tolerances(resistors=PerResistor(1.0), reference=0.5, offset=0.004,
-                                   temperature=(-40.0, 85.0),
-                                   resistor_tempco=PerResistor(200.0, (("feedback", -50.0),)),
-                                   reference_drift=30.0, offset_drift=1e-5))
+    tol = Tolerances(resistors=PerResistor(1.0), reference=0.5, offset=0.004, temperature=(-40.0, 85.0),
+                     resistor_tempco=PerResistor(200.0, (("feedback", -50.0),)),
+                     reference_drift=30.0, offset_drift=1e-5)
+    design = with_tolerances(demo(SUMP), tol)
     p = parameters(design)
 
     def at(r_in, r_f, ref, off, ref_drift, off_drift, t):
@@ -153,9 +145,8 @@ def points_of_array(design, values):
     return {"upper": p.upper, "lower": p.lower, "hysteresis": p.upper - p.lower}
 
 
-@pytest.mark.parametrize("path", DEMOS, ids=lambda p: p.stem)
-def test_corner_search_from_derivative_signs_equals_every_corner(path):
-    design = demo(path, HOT)
+def test_corner_search_from_derivative_signs_equals_every_corner(each_demo):
+    design = with_tolerances(each_demo, HOT)
     every = worst_case(design)
     searched = worst_case(design, exhaustive_limit=0)
     assert searched.method.startswith("corner from the signs")
@@ -201,13 +192,12 @@ def first_order(design, bounds, sigma_per_bound):
 
 
 @pytest.mark.parametrize("distribution, sigma_per_bound", [("normal", 1 / 3), ("uniform", 1 / math.sqrt(3))])
-@pytest.mark.parametrize("path", [SOLAR, DEMO / "rain_tank_overflow.json",
-                                  DEMO / "motor_current_direction.json"], ids=lambda p: p.stem)
-def test_monte_carlo_agrees_with_first_order_propagation_for_small_tolerances(path, distribution,
-                                                                             sigma_per_bound):
+@pytest.mark.parametrize("stem", [SOLAR, "rain_tank_overflow", "motor_current_direction"])
+def test_monte_carlo_agrees_with_first_order_propagation_for_small_tolerances(stem, distribution,
+                                                                             sigma_per_bound, demo):
     tol = Tolerances(resistors=PerResistor(0.1), reference=0.1, supply=0.1, offset=1e-4, bias_current=1e-9,
                      distribution=distribution)
-    design = demo(path, tol)
+    design = with_tolerances(demo(stem), tol)
     nominal, std = first_order(design, plain_bounds(design, tol), sigma_per_bound)
     n = 200_000
     mc = monte_carlo(design, samples=n, seed=3)
@@ -221,11 +211,11 @@ def test_monte_carlo_agrees_with_first_order_propagation_for_small_tolerances(pa
         assert se.std[q] == pytest.approx(std[q], rel=1e-5)
 
 
-def test_one_linear_factor_fills_its_worst_case_range_as_the_normal_table_says():
+def test_one_linear_factor_fills_its_worst_case_range_as_the_normal_table_says(demo):
     # Only the reference varies, and the upper point is linear in it: the fraction of builds inside
     # the worst-case range is P(|Z| <= 3), and inside mean +/- 2 sigma it is P(|Z| <= 2)
     # (normal-distribution tables; scipy.stats.norm).
-    design = demo(SUMP, Tolerances(resistors=PerResistor(0.0), reference=1.0))
+    design = with_tolerances(demo(SUMP), Tolerances(resistors=PerResistor(0.0), reference=1.0))
     wc = worst_case(design)
     half = 0.5 * (wc.upper.max - wc.upper.min)
     for window, k in (((wc.upper.min, wc.upper.max), 3), ((wc.nominal["upper"] - half * 2 / 3,
@@ -237,7 +227,7 @@ def test_one_linear_factor_fills_its_worst_case_range_as_the_normal_table_says()
         assert y.low < y.fraction < y.high
 
 
-def test_same_seed_same_numbers_whatever_the_block_size(monkeypatch):
+def test_same_seed_same_numbers_whatever_the_block_size(monkeypatch, demo):
     design = demo(SOLAR)
     first = spread_to_dict(spread(design, samples=20_000, seed=5))
     assert spread_to_dict(spread(design, samples=20_000, seed=5)) == first
@@ -247,7 +237,7 @@ def test_same_seed_same_numbers_whatever_the_block_size(monkeypatch):
     assert other["monte_carlo"]["upper"]["mean"] != first["monte_carlo"]["upper"]["mean"]
 
 
-def test_progress_is_reported_per_block(monkeypatch):
+def test_progress_is_reported_per_block(monkeypatch, demo):
     monkeypatch.setattr(spread_module, "CHUNK", 4_000)
     calls = []
     monte_carlo(demo(SUMP), samples=10_000, progress=lambda done, total: calls.append((done, total)))
@@ -256,7 +246,7 @@ def test_progress_is_reported_per_block(monkeypatch):
 
 def test_summary_matches_numpy_percentiles_and_histogram():
     values = np.random.default_rng(2).normal(3.0, 0.01, 50_001)
-    s = _summary(values, 40)
+    s = summarize(values, 40)
     expected = np.percentile(values, spread_module.PERCENTILES)
     assert list(s.percentiles.values()) == pytest.approx(expected, rel=1e-14)
     counts, edges = np.histogram(values, bins=40)
@@ -264,7 +254,7 @@ def test_summary_matches_numpy_percentiles_and_histogram():
     assert s.std == pytest.approx(np.std(values, ddof=1)) and s.mean == pytest.approx(np.mean(values))
 
 
-def test_yield_counts_builds_inside_every_window():
+def test_yield_counts_builds_inside_every_window(demo):
     design = demo(SUMP)
     mc = monte_carlo(design, samples=50_000, seed=1)
     y = mc.build_yield
@@ -289,19 +279,19 @@ def test_wilson_interval_published_example():
 
 
 @pytest.mark.parametrize("samples", [5, 10_000_001, 2.5, True])
-def test_bad_sample_counts_are_refused(samples):
+def test_bad_sample_counts_are_refused(samples, demo):
     with pytest.raises(SpreadError, match="samples: must be a whole number from 10 to 10,000,000"):
         monte_carlo(demo(SUMP), samples=samples)
 
 
-def test_bad_seed_is_refused():
+def test_bad_seed_is_refused(demo):
     with pytest.raises(SpreadError, match="seed: must be a whole number, 0 or more"):
         monte_carlo(demo(SUMP), seed=-1)
 
 
 # --- sensitivity --------------------------------------------------------------------------------
 
-def test_sensitivity_shares_are_ranked_and_sum_to_one():
+def test_sensitivity_shares_are_ranked_and_sum_to_one(demo):
     se = sensitivity(demo(SOLAR))
     for q in QUANTITIES:
         shares = [s.share for s in getattr(se, q)]
@@ -311,15 +301,16 @@ def test_sensitivity_shares_are_ranked_and_sum_to_one():
     assert se.upper[0].factor == "reference.volts"
 
 
-def test_sensitivity_of_the_basic_stage_by_hand():
+def test_sensitivity_of_the_basic_stage_by_hand(demo):
     # Non-inverting stage with an ideal output swinging 0 V to 5 V, reference V: the upper point is
     # V (1 + Rin/Rf) (the output is low, at 0 V). d/dV = 1 + Rin/Rf, d/dRin = V/Rf, d/dRf = -V Rin/Rf^2.
-    design = dataclasses.replace(demo(SUMP, Tolerances(resistors=PerResistor(1.0), reference=0.5)),
-                                 output=dataclasses.replace(load_design(SUMP).output, high_drop=0.0,
+    sump = demo(SUMP)
+    design = dataclasses.replace(with_tolerances(sump, Tolerances(resistors=PerResistor(1.0), reference=0.5)),
+                                 output=dataclasses.replace(sump.output, high_drop=0.0,
                                                             low_drop=0.0, resistance=0.0),
-                                 comparator=dataclasses.replace(load_design(SUMP).comparator, offset=0.0,
+                                 comparator=dataclasses.replace(sump.comparator, offset=0.0,
                                                                 bias_current=0.0),
-                                 source=dataclasses.replace(load_design(SUMP).source, resistance=0.0))
+                                 source=dataclasses.replace(sump.source, resistance=0.0))
     v, r_in, r_f = 2.5, 10e3, 39e3
     contributions = {"reference.volts": (1 + r_in / r_f) * v * 0.005 / 3,
                      "resistors.input": v / r_f * r_in * 0.01 / 3,
@@ -334,24 +325,25 @@ def test_sensitivity_of_the_basic_stage_by_hand():
 
 # --- notes and the whole ------------------------------------------------------------------------
 
-def test_notes_on_defaults_and_unused_entries():
-    assert any("No tolerances section" in n for n in spread(demo(SUMP, None), samples=1_000).notes)
+def test_notes_on_defaults_and_unused_entries(demo):
+    bare = with_tolerances(demo(SUMP), None)
+    assert any("No tolerances section" in n for n in spread(bare, samples=1_000).notes)
     tol = Tolerances(resistors=PerResistor(1.0, (("to_ground", 0.1),)), reference=0.5,
                      resistor_tempco=PerResistor(100.0))
-    notes = spread(demo(DEMO / "motor_current_direction.json", tol), samples=1_000).notes
+    notes = spread(with_tolerances(demo("motor_current_direction"), tol), samples=1_000).notes
     assert any("no to_ground resistor" in n for n in notes)
     assert any("tolerances.reference is for a fixed reference" in n for n in notes)
     assert any("no temperature range" in n for n in notes)
 
 
-def test_a_corner_beyond_the_signal_range_is_reported():
-    design = demo(SUMP, Tolerances(resistors=PerResistor(5.0)))
+def test_a_corner_beyond_the_signal_range_is_reported(demo):
+    design = with_tolerances(demo(SUMP), Tolerances(resistors=PerResistor(5.0)))
     design = dataclasses.replace(design, source=dataclasses.replace(design.source, high=3.15))
     notes = spread(design, samples=1_000).notes
     assert any("never switches on a rising signal" in n for n in notes)
 
 
-def test_factors_list_what_varies():
+def test_factors_list_what_varies(demo):
     names = [f.name for f in factors(demo(SOLAR))]
     assert names[:5] == ["resistors.input", "resistors.feedback", "output.pullup", "front_end.top",
                          "front_end.bottom"]
@@ -360,7 +352,7 @@ def test_factors_list_what_varies():
     assert "supply.negative" not in names
 
 
-def test_hazard_caution_is_carried_into_the_spread():
+def test_hazard_caution_is_carried_into_the_spread(demo):
     design = demo(SOLAR)
     design = dataclasses.replace(design, front_end=dataclasses.replace(design.front_end, high=60.0))
     assert any("Hazardous voltage" in c for c in spread(design, samples=1_000).cautions)
@@ -368,8 +360,8 @@ def test_hazard_caution_is_carried_into_the_spread():
 
 # --- command line -------------------------------------------------------------------------------
 
-def test_cli_json_keys(capsys):
-    assert main(["spread", str(SUMP), "--samples", "20000", "--seed", "4", "--json"]) == 0
+def test_cli_json_keys(capsys, demo_path):
+    assert main(["spread", demo_path(SUMP), "--samples", "20000", "--seed", "4", "--json"]) == 0
     out = json.loads(capsys.readouterr().out)
     for q in QUANTITIES:
         assert out["worst_case"][q]["min"] <= out["nominal"][q] <= out["worst_case"][q]["max"]
@@ -379,30 +371,30 @@ def test_cli_json_keys(capsys):
     assert out["sensitivity"]["upper"][0]["factor"] == "reference.volts"
 
 
-def test_cli_table(capsys):
-    assert main(["spread", str(SOLAR), "--samples", "1000"]) == 0
+def test_cli_table(capsys, demo_path):
+    assert main(["spread", demo_path(SOLAR), "--samples", "1000"]) == 0
     out = capsys.readouterr().out
     for text in ("worst-case min", "std deviation", "yield:", "worst corners", "largest shares"):
         assert text in out
 
 
-def test_cli_bad_samples_and_bad_file(tmp_path, capsys):
+def test_cli_bad_samples_and_bad_file(tmp_path, capsys, demo_path):
     with pytest.raises(SystemExit) as exit_:
-        main(["spread", str(SUMP), "--samples", "lots"])
+        main(["spread", demo_path(SUMP), "--samples", "lots"])
     assert exit_.value.code == 2
     assert "--samples: must be a whole number from 10 to 10,000,000" in capsys.readouterr().err
     bad = tmp_path / "bad.json"
-    data = json.loads(SUMP.read_text())
+    data = json.loads(Path(demo_path(SUMP)).read_text())
     data["tolerances"]["supply"] = 80
     bad.write_text(json.dumps(data))
-    assert main(["spread", str(bad), str(SUMP), "--samples", "1000", "--json"]) == 2
+    assert main(["spread", str(bad), demo_path(SUMP), "--samples", "1000", "--json"]) == 2
     captured = capsys.readouterr()
     assert f"{bad}: tolerances.supply: must be from 0 to 50 percent" in captured.err
     assert json.loads(captured.out)["name"] == "Sump level switch"
 
 
-def test_a_design_with_nothing_varied_gives_its_nominal_points_everywhere():
-    design = demo(SUMP, Tolerances(resistors=PerResistor(0.0)))
+def test_a_design_with_nothing_varied_gives_its_nominal_points_everywhere(demo):
+    design = with_tolerances(demo(SUMP), Tolerances(resistors=PerResistor(0.0)))
     s = spread(design, samples=1_000)
     assert s.factors == ()
     for q in QUANTITIES:
@@ -414,10 +406,10 @@ def test_a_design_with_nothing_varied_gives_its_nominal_points_everywhere():
         assert s.sensitivity.std[q] == 0 and getattr(s.sensitivity, q) == ()
 
 
-def test_thermistor_front_end_tolerances_are_varied_in_the_watched_quantity():
+def test_thermistor_front_end_tolerances_are_varied_in_the_watched_quantity(demo):
     # The greenhouse demo watches temperature through an NTC: its R25 and Beta tolerances are
     # factors and the worst case equals brute force over every corner, in degrees C.
-    d = load_design(DEMO / "greenhouse_fan_thermostat.json")
+    d = demo("greenhouse_fan_thermostat")
     fe = dataclasses.replace(d.front_end, r25_tolerance=1.0, beta_tolerance=1.0)
     design = dataclasses.replace(d, front_end=fe, tolerances=PLAIN)
     names = [f.name for f in factors(design)]

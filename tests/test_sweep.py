@@ -13,7 +13,7 @@ from bandcalc.signal_check.width_trade import MAX_WIDTHS, hysteresis_sweep
 
 def test_clean_sine_delays_follow_asin():
     # Points c +/- w/2 on a sine of amplitude A: every edge lags the centre crossing by
-    # asin(w / (2 A)) / (2 pi f) (DOMAIN.md), plus the propagation delay.
+    # asin(w / (2 A)) / (2 pi f) (plain trigonometry), plus the propagation delay.
     a, f, tpd = 1.0, 100.0, 1e-6
     widths = np.array([0.0, 0.2, 0.5, 1.0, 1.9])
     wave = synthesize("sine", 0.5, a, f, 0.05, 1e6)

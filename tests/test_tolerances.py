@@ -95,7 +95,8 @@ def test_errors_are_value_errors_when_built_in_code():
         Limits(hysteresis=(2.0, 1.0))
 
 
-# Usual tolerances per series (DOMAIN.md, common practice): E24 5 %, E48 2 %, E96 1 %, E192 0.5 %.
+# Usual tolerances per series (common practice; IEC 60063 pairs each series with a tolerance, from
+# memory): E24 5 %, E48 2 %, E96 1 %, E192 0.5 %.
 @pytest.mark.parametrize("ohms, percent, series", [
     (4700.0, 5.0, "E24"),      # also in E3; we start at E24 on purpose
     (10e3, 5.0, "E24"),

@@ -1,20 +1,14 @@
 """The transfer curve's branches against a published example, an independent solver and invariants."""
 
-from pathlib import Path
-
 import numpy as np
 import pytest
 import sympy
 from circuit_reference import netlist
 
 from bandcalc.model.design import Design, FixedReference, PushPull, Resistors, Supply
-from bandcalc.model.design_file import load_design
 from bandcalc.model.operating import analyze
 from bandcalc.model.points import stage_design
 from bandcalc.model.transfer import transfer_curve
-
-DEMO_DIR = Path(__file__).parent.parent / "demo_data"
-DEMOS = sorted(DEMO_DIR.glob("*.json"))
 
 
 def branch_at(curve, branch, x):
@@ -53,9 +47,8 @@ def test_textbook_stage_band():
     assert c.hysteresis == pytest.approx(2.5)
 
 
-@pytest.mark.parametrize("path", DEMOS, ids=lambda p: p.stem)
-def test_each_point_appears_twice_with_a_vertical_jump(path):
-    d = load_design(path)
+def test_each_point_appears_twice_with_a_vertical_jump(each_demo):
+    d = each_demo
     c = transfer_curve(d)
     assert np.all(np.diff(c.signal) >= 0)
     for point, branch, (before, after) in ((c.upper, c.rising, c.at_upper), (c.lower, c.falling, c.at_lower)):
@@ -69,9 +62,8 @@ def test_each_point_appears_twice_with_a_vertical_jump(path):
             assert (last, first) == pytest.approx((before, after))
 
 
-@pytest.mark.parametrize("path", DEMOS, ids=lambda p: p.stem)
-def test_jump_levels_are_the_levels_analysis_reports(path):
-    d = load_design(path)
+def test_jump_levels_are_the_levels_analysis_reports(each_demo):
+    d = each_demo
     a, c = analyze(d), transfer_curve(d)
     # Just before each switch the output is at the level analysis reports for that point.
     assert c.at_upper[0] == pytest.approx(a.at_upper.output, abs=1e-12)
@@ -80,10 +72,10 @@ def test_jump_levels_are_the_levels_analysis_reports(path):
 
 
 @pytest.mark.parametrize("stem", ["rain_tank_overflow", "sump_level_switch"])
-def test_branch_levels_against_lcapy(stem):
+def test_branch_levels_against_lcapy(stem, demo):
     # lcapy (PyPI, independent linear circuit solver; netlist in tests/circuit_reference.py):
     # the loaded output node's voltage at an input inside the band, in each output state.
-    d = load_design(Path(__file__).parent.parent / "demo_data" / f"{stem}.json")
+    d = demo(stem)
     c = transfer_curve(d)
     x = 0.5 * (c.upper + c.lower)
     from lcapy import Circuit
@@ -95,19 +87,19 @@ def test_branch_levels_against_lcapy(stem):
         assert c.level_at(branch, x) == pytest.approx(expected, rel=1e-9, abs=1e-12)
 
 
-def test_sweep_covers_the_signal_range_and_both_points():
-    d = load_design(DEMO_DIR / "rain_tank_overflow.json")
+def test_sweep_covers_the_signal_range_and_both_points(demo):
+    d = demo("rain_tank_overflow")
     c = transfer_curve(d)
     low, high = d.signal_range()
     assert c.signal[0] < low and c.signal[-1] > high
     assert c.signal[0] < c.lower < c.upper < c.signal[-1]
 
 
-def test_with_a_divider_ahead_the_stage_sees_its_thevenin_equivalent():
+def test_with_a_divider_ahead_the_stage_sees_its_thevenin_equivalent(demo):
     # The solar demo watches 0 to 16 V of battery through 240k / 62k: the stage's input runs over
     # 16 V x 62 / 302 = 3.285 V (divider ratio), and the curve is the stage with the divider's
     # Thevenin resistance in series (bandcalc.model.points.stage_design folds it in the same way).
-    d = load_design(DEMO_DIR / "solar_battery_disconnect.json")
+    d = demo("solar_battery_disconnect")
     a, c = analyze(d), transfer_curve(d)
     assert c.signal[0] < 0 and c.signal[-1] > 16 * 62 / 302
     assert (c.upper, c.lower) == pytest.approx((a.upper, a.lower), rel=1e-12)
@@ -119,8 +111,8 @@ def test_with_a_divider_ahead_the_stage_sees_its_thevenin_equivalent():
     assert (c.unit, c.watched) == ("V", False)
 
 
-def test_against_the_watched_quantity():
-    d = load_design(DEMO_DIR / "solar_battery_disconnect.json")
+def test_against_the_watched_quantity(demo):
+    d = demo("solar_battery_disconnect")
     a, c = analyze(d), transfer_curve(d, watched=True)
     assert (c.unit, c.watched) == ("V", True)
     assert (c.upper, c.lower) == pytest.approx((float(a.points.upper), float(a.points.lower)), rel=1e-12)
@@ -128,17 +120,17 @@ def test_against_the_watched_quantity():
     # Each watched point maps to the stage's point through the divider ratio 62 / 302.
     assert c.upper * 62 / 302 == pytest.approx(a.upper, rel=1e-9)
     # Without a front end the design's input is the stage's own volts: both axes are the same.
-    sump = load_design(DEMO_DIR / "sump_level_switch.json")
+    sump = demo("sump_level_switch")
     same, stage = transfer_curve(sump, watched=True), transfer_curve(sump)
     assert np.array_equal(same.signal, stage.signal)
     assert (same.upper, same.lower) == (stage.upper, stage.lower)
 
 
-def test_a_thermistor_at_the_bottom_switches_the_other_way_round():
+def test_a_thermistor_at_the_bottom_switches_the_other_way_round(demo):
     # Greenhouse demo: NTC at the bottom, inverting stage.  As it warms the stage's input falls, so
     # the warming branch starts where the stage has switched (output low: fan off) and turns the
     # fan on (output high) at the upper watched point; the stage's own curve is the usual one.
-    d = load_design(DEMO_DIR / "greenhouse_fan_thermostat.json")
+    d = demo("greenhouse_fan_thermostat")
     a = analyze(d)
     warm = transfer_curve(d, watched=True)
     assert warm.unit == "C" and warm.start_state == "low"
@@ -151,8 +143,8 @@ def test_a_thermistor_at_the_bottom_switches_the_other_way_round():
     assert (stage.upper, stage.lower) == pytest.approx((a.upper, a.lower), rel=1e-9)
 
 
-def test_bad_arguments_are_named():
-    d = load_design(DEMOS[0])
+def test_bad_arguments_are_named(demo):
+    d = demo("greenhouse_fan_thermostat")
     with pytest.raises(ValueError, match="samples"):
         transfer_curve(d, samples=1)
     with pytest.raises(ValueError, match="branch"):

@@ -134,7 +134,7 @@ def large_file(rows: int) -> tuple[bytes, np.ndarray]:
 def test_many_pieces_read_like_numpy_loadtxt():
     # numpy.loadtxt is the independent reader for the same numbers (decimal point).
     raw, _ = large_file(200_000)
-    assert len(raw) > 3 * wavefile._CHUNK_BYTES
+    assert len(raw) > 3 * wavefile.CHUNK_BYTES
     w = read_waveform_csv(raw)
     ref = np.loadtxt(io.BytesIO(raw.replace(b",", b".")), delimiter=";", skiprows=1)
     np.testing.assert_array_equal(w.t, ref[:, 0])

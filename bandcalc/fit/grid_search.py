@@ -34,6 +34,7 @@ import numpy as np
 
 __all__ = [
     "ERROR_STEP",
+    "Curve",
     "Evaluate",
     "Found",
     "exhaustive",
@@ -133,7 +134,7 @@ def exhaustive(evaluate: Evaluate, grid: np.ndarray, k: int, upper: float, lower
 # --- One resistor free: a Moebius function through three samples ------------------------------
 
 @dataclass(frozen=True)
-class _Curve:
+class Curve:
     """Moebius functions of one resistance through samples at x0 < x1 < x2 (cross-ratio form).
 
     Arrays hold one entry per curve; each curve is monotonic between and beyond its samples.
@@ -150,7 +151,7 @@ class _Curve:
     high: np.ndarray
 
     @classmethod
-    def through(cls, xs: np.ndarray, y: np.ndarray) -> _Curve:
+    def through(cls, xs: np.ndarray, y: np.ndarray) -> Curve:
         """Curves through samples ``y`` of shape (..., 3) taken at the three resistances ``xs``."""
         y0 = y[..., 0]
         d2 = y[..., 2] - y0
@@ -164,9 +165,9 @@ class _Curve:
         return cls(*(float(v) for v in xs), y0, ratio * d2, d2, flat,
                    np.minimum(np.minimum(y0, y1), y2) - floor, np.maximum(np.maximum(y0, y1), y2) + floor)
 
-    def take(self, rows: np.ndarray) -> _Curve:
+    def take(self, rows: np.ndarray) -> Curve:
         """The curves of the given rows."""
-        return _Curve(self.x0, self.x1, self.x2, *(a[rows] for a in (self.y0, self.d1, self.d2, self.flat,
+        return Curve(self.x0, self.x1, self.x2, *(a[rows] for a in (self.y0, self.d1, self.d2, self.flat,
                                                                      self.low, self.high)))
 
     @property
@@ -241,9 +242,9 @@ class _Branching:
         self.samples = np.empty((0, 2, 3, 3))  # per outer combination: (u, l) x last sample x mid sample
         self.along_mid = self._along_mid()
 
-    def _along_mid(self) -> tuple[_Curve, _Curve]:
+    def _along_mid(self) -> tuple[Curve, Curve]:
         """Curves of both points along the middle resistor, per sampled outer combination and last sample."""
-        return tuple(_Curve.through(self.xs, self.samples[:, i]) for i in (0, 1))
+        return tuple(Curve.through(self.xs, self.samples[:, i]) for i in (0, 1))
 
     def _rows(self, outer: np.ndarray) -> np.ndarray:
         """Cache rows for outer index rows (m, k - 2), sampling the model for new ones."""
@@ -264,13 +265,13 @@ class _Branching:
             self.along_mid = self._along_mid()
         return np.searchsorted(self.keys, keys)
 
-    def curves(self, index: np.ndarray) -> tuple[_Curve, _Curve]:
+    def curves(self, index: np.ndarray) -> tuple[Curve, Curve]:
         """Curves of both points along the last resistor at combinations ``index`` (m, k - 1)."""
         rows = self._rows(index[:, :-1])
         x = self.grid[index[:, -1]][:, None]
-        return tuple(_Curve.through(self.xs, c.take(rows).at(x)) for c in self.along_mid)
+        return tuple(Curve.through(self.xs, c.take(rows).at(x)) for c in self.along_mid)
 
-    def alive(self, ends: list[tuple[_Curve, _Curve]], bound: float) -> np.ndarray:
+    def alive(self, ends: list[tuple[Curve, Curve]], bound: float) -> np.ndarray:
         """Whether some last value may bring both points within ``bound``, given the boxes' corners."""
         n = len(self.grid)
         gaps = []
@@ -331,7 +332,7 @@ class _Branching:
             lo, hi = np.concatenate([lo, lo2]), np.concatenate([hi1, hi])
         return True
 
-    def _runs(self, index: np.ndarray, curves: tuple[_Curve, _Curve], bound: float, margin: float) -> bool:
+    def _runs(self, index: np.ndarray, curves: tuple[Curve, Curve], bound: float, margin: float) -> bool:
         """Evaluate each combination's run of last values within bound; False if a prediction missed."""
         (cu, cl), (up, down) = curves, self.pool.targets
         fu, lu = cu.band(self.grid, up - bound, up + bound)

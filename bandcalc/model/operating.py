@@ -42,8 +42,8 @@ LEAKAGE_OHMS = 1e6
 PULLUP_RATIO = 0.1
 # Small chip resistors (0603) are commonly rated 0.1 W (common practice; check the part).
 POWER_LIMIT = 0.1
-# Voltages above about 50 V call for the usual cautions (common practice; extra-low-voltage limits
-# in IEC 61140 are 50 V a.c. / 120 V d.c. ripple-free, from memory: 50 V is the conservative figure).
+# Voltages above about 50 V call for the usual cautions (extra-low-voltage limits of IEC 61140 and
+# IEC 60364-4-41, from memory: 50 V a.c. / 120 V ripple-free d.c.; 50 V is the conservative figure).
 HAZARD_VOLTS = 50.0
 
 
@@ -260,8 +260,8 @@ def _cautions(design: Design, points: DesignPoints) -> list[str]:
 
 _DEFER = ("bandcalc is a design aid, not a safety-rated protection; follow local codes and licensed "
           "practice, and use certified protective parts where a standard requires them.")
-# Words that mark a stage guarding people or property when the design does not say (battery
-# protection, heater cut-off: common practice); matching errs on the side of showing the caution.
+# Words that mark a stage guarding people or property when the design does not say (common
+# practice: battery protection, heater cut-off); matching errs on the side of showing the caution.
 PROTECTIVE_WORDS = ("protect", "disconnect", "cut-off", "cutoff", "cut off", "overvoltage",
                     "over-voltage", "undervoltage", "under-voltage", "overtemperature",
                     "over-temperature", "overcurrent", "over-current", "overload", "heater", "battery",

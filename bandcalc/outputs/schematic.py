@@ -11,7 +11,7 @@ excitation, or the sensor as a controlled source behind its output resistance.  
 written in the IEC 60062 code ("4k7", "1M5") and volts with SI prefixes.
 
 The drawing depends only on which parts are fitted, so it is made once per topology with a
-placeholder in every value label (:func:`_template`, cached) and the values are written in
+placeholder in every value label (:func:`stage_template`, cached) and the values are written in
 afterwards: a slider move costs a text substitution, not a new drawing.
 """
 
@@ -29,7 +29,7 @@ from bandcalc.model.front_end import LinearFrontEnd, ThermistorFrontEnd
 from bandcalc.model.parts import PARTS, part, resistors_of
 from bandcalc.model.units import format_code, format_si, format_value
 
-__all__ = ["stage_labels", "stage_svg"]
+__all__ = ["stage_labels", "stage_svg", "stage_template"]
 
 # Every value label the drawing can hold, in a fixed order (a placeholder's number is its index).
 _SLOTS = (*(p.path for p in PARTS), "supply.positive", "supply.negative", "reference.volts",
@@ -181,7 +181,7 @@ def _legs(d: schemdraw.Drawing, stage: str, slots: frozenset[str], node: Point) 
 
 
 @lru_cache(maxsize=64)
-def _template(stage: str, slots: frozenset[str], layout: str = "") -> str:
+def stage_template(stage: str, slots: frozenset[str], layout: str = "") -> str:
     """The SVG of one topology (``layout``: the front end's, see :func:`_layout`) with a placeholder
     in each value label."""
     d = schemdraw.Drawing(canvas="svg", show=False)
@@ -232,7 +232,7 @@ def stage_svg(design: Design) -> str:
         A complete ``<svg>`` document (text drawn as SVG text, so values are searchable).
     """
     labels = stage_labels(design)
-    svg = _template(design.stage, frozenset(labels), _layout(design))
+    svg = stage_template(design.stage, frozenset(labels), _layout(design))
     for path, text in labels.items():
         svg = svg.replace(_slot(path), escape(text))
     return svg

@@ -17,6 +17,7 @@ from bandcalc.model.validation import real
 from bandcalc.signal_check.waveform import Waveform
 
 __all__ = [
+    "NORMAL_UPPER_QUARTILE",
     "PEAK_TO_PEAK_PER_RMS",
     "NoiseLevel",
     "estimate_noise_rms",
@@ -27,7 +28,7 @@ __all__ = [
 PEAK_TO_PEAK_PER_RMS = 6.6
 """Peak-to-peak noise per volt RMS (common practice: 6 to 6.6)."""
 
-_NORMAL_UPPER_QUARTILE = 0.6744897501960817
+NORMAL_UPPER_QUARTILE = 0.6744897501960817
 """Phi^-1(0.75), the standard normal upper quartile (standard normal table)."""
 
 
@@ -57,7 +58,7 @@ def estimate_noise_rms(v: np.ndarray) -> float:
         Estimated noise RMS, in V.
     """
     d = np.abs(np.diff(np.asarray(v, dtype=np.float64)))
-    return float(np.median(d) / (_NORMAL_UPPER_QUARTILE * np.sqrt(2.0)))
+    return float(np.median(d) / (NORMAL_UPPER_QUARTILE * np.sqrt(2.0)))
 
 
 @dataclass(frozen=True)

@@ -31,7 +31,7 @@ import pandas as pd
 from bandcalc.errors import BandcalcError
 from bandcalc.signal_check.waveform import MAX_SAMPLES, Waveform
 
-__all__ = ["MAX_BYTES", "MAX_HEADER_LINES", "MAX_ROWS", "WaveformError", "read_waveform_csv"]
+__all__ = ["CHUNK_BYTES", "MAX_BYTES", "MAX_HEADER_LINES", "MAX_ROWS", "WaveformError", "read_waveform_csv"]
 
 MAX_ROWS = MAX_SAMPLES
 """Most data rows a file may hold."""
@@ -43,7 +43,7 @@ MAX_HEADER_LINES = 100
 """Most non-numeric lines allowed before the first data row."""
 
 _SNIFF_BYTES = 65_536
-_CHUNK_BYTES = 1 << 20  # pandas reads the file in pieces; a bad piece is read line by line
+CHUNK_BYTES = 1 << 20  # pandas reads the file in pieces; a bad piece is read line by line
 _DELIMITERS = {"\t": "tab", ";": "semicolon", ",": "comma"}
 _COLUMNS = ("time", "volts")
 _NUMBER = re.compile(r"[+-]?(?:\d+(?:[.,]\d*)?|[.,]\d+)(?:[eE][+-]?\d+)?")
@@ -221,9 +221,9 @@ def _fast(chunk: bytes, layout: _Layout, previous: float,
 
 
 def _chunks(data: bytes, start: int):
-    """Byte ranges of about ``_CHUNK_BYTES`` from ``start``, each ending after a line."""
+    """Byte ranges of about ``CHUNK_BYTES`` from ``start``, each ending after a line."""
     while start < len(data):
-        end = data.find(b"\n", start + _CHUNK_BYTES)
+        end = data.find(b"\n", start + CHUNK_BYTES)
         end = len(data) if end < 0 else end + 1
         yield start, end
         start = end

@@ -47,6 +47,7 @@ __all__ = [
     "sensitivity",
     "spread",
     "spread_to_dict",
+    "summarize",
     "wilson_interval",
     "worst_case",
 ]
@@ -236,7 +237,9 @@ def wilson_interval(passed: int, n: int, z: float = Z95) -> tuple[float, float]:
     return max(0.0, centre - half), min(1.0, centre + half)
 
 
-def _summary(values: np.ndarray, bins: int) -> Summary:
+def summarize(values: np.ndarray, bins: int) -> Summary:
+    """Statistics of the finite ``values``: mean, standard deviation, extremes, the PERCENTILES
+    (linear interpolation) and a histogram of ``bins`` equal bins from the least to the greatest."""
     finite = np.isfinite(values)
     ordered = np.sort(values if finite.all() else values[finite])
     n = ordered.size
@@ -300,7 +303,7 @@ def _monte_carlo(model: VariedModel, samples: int, seed: int, progress: Callable
     invalid = int(samples - np.count_nonzero(np.isfinite(sampled["hysteresis"])))
     return MonteCarlo(samples=samples, seed=int(seed), invalid=invalid,
                       build_yield=_yield(sampled, windows) if windows else None,
-                      **{q: _summary(sampled[q], bins) for q in QUANTITIES})
+                      **{q: summarize(sampled[q], bins) for q in QUANTITIES})
 
 
 def monte_carlo(design: Design, tolerances: Tolerances | None = None, *, samples: int = DEFAULT_SAMPLES,

@@ -1,0 +1,98 @@
+"""Hypothesis strategies the tests share: stage designs of every kind, front ends, resistances.
+
+Import them from here (tests/ is on sys.path through conftest): ``from strategies import designs``.
+"""
+
+from __future__ import annotations
+
+from hypothesis import strategies as st
+
+from bandcalc.model.design import (
+    Comparator,
+    Design,
+    DividerReference,
+    FixedReference,
+    OpenDrain,
+    PushPull,
+    Resistors,
+    Source,
+    Supply,
+)
+from bandcalc.model.front_end import DividerFrontEnd, LinearFrontEnd, ThermistorFrontEnd
+
+__all__ = ["designs", "designs_with_front_ends", "front_ends", "ohms", "three_resistor_stages"]
+
+# Resistances from 1 kOhm to 1 MOhm, rounded to four significant figures as a part value is written.
+ohms = st.floats(1e3, 1e6).map(lambda x: float(f"{x:.4g}"))
+
+
+@st.composite
+def designs(draw):
+    """Stages of every kind: single or dual supply, either stage, a fixed or divider reference, any
+    set of legs on the + pin, an open-drain or push-pull output, offset, bias and source resistance."""
+    dual = draw(st.booleans())
+    vp = draw(st.floats(3.0, 15.0))
+    vn = -draw(st.floats(3.0, 15.0)) if dual else 0.0
+    stage = draw(st.sampled_from(["non-inverting", "inverting"]))
+    use_divider = draw(st.booleans())
+    reference = (DividerReference(draw(ohms), draw(ohms)) if use_divider
+                 else FixedReference(draw(st.floats(vn + 0.5, vp - 0.5))))
+    legs = {k: draw(st.none() | ohms) for k in ("to_positive", "to_negative", "to_ground", "to_reference")}
+    inp = draw(ohms) if stage == "non-inverting" else draw(st.none() | ohms)
+    res = Resistors(feedback=draw(st.floats(1e4, 1e7)), input=inp, **legs)
+    if draw(st.booleans()):
+        output = OpenDrain(pullup=draw(ohms) / 100, pullup_volts=draw(st.none() | st.floats(2.0, 15.0)),
+                           low_volts=draw(st.none() | st.just(0.0)))
+        if output.pullup_volts is not None and output.pullup_volts <= (vn if output.low_volts is None else 0):
+            output = OpenDrain(pullup=output.pullup)
+    else:
+        output = PushPull(draw(st.floats(0, 1.5)), draw(st.floats(0, 1.5)), draw(st.floats(0, 500)))
+    comp = Comparator(offset=draw(st.floats(-5e-3, 5e-3)), bias_current=draw(st.floats(0, 1e-6)))
+    src = Source(resistance=draw(st.floats(0, 1e4)))
+    return Design(stage=stage, supply=Supply(vp, vn), resistors=res, output=output, reference=reference,
+                  comparator=comp, source=src)
+
+
+@st.composite
+def front_ends(draw, design):
+    """A divider, thermistor or linear-sensor front end for ``design`` (a thermistor excited from
+    the reference only where the design has a positive fixed reference)."""
+    kind = draw(st.sampled_from(["divider", "thermistor", "linear"]))
+    if kind == "divider":
+        return DividerFrontEnd(draw(ohms), draw(ohms))
+    if kind == "linear":
+        sign = draw(st.sampled_from([1.0, -1.0]))
+        return LinearFrontEnd(volts_per_unit=sign * draw(st.floats(1e-3, 1.0)), unit="kPa",
+                              offset=draw(st.floats(-1.0, 1.0)), resistance=draw(st.floats(0.0, 1e4)))
+    excitations = ["positive", draw(st.floats(1.0, 10.0))]
+    if isinstance(design.reference, FixedReference) and design.reference.volts > 0:
+        excitations.append("reference")
+    return ThermistorFrontEnd(fixed=draw(ohms), r25=draw(ohms), beta=draw(st.floats(2500.0, 5000.0)),
+                              position=draw(st.sampled_from(["top", "bottom"])),
+                              excitation=draw(st.sampled_from(excitations)))
+
+
+@st.composite
+def designs_with_front_ends(draw):
+    """A stage from :func:`designs` with a front end from :func:`front_ends`."""
+    design = draw(designs())
+    return Design(**{**design.__dict__, "front_end": draw(front_ends(design))})
+
+
+def three_resistor_stages():
+    """Three-resistor stages of either kind on 5 V (resistor values fixed), with any output,
+    offset, bias and, non-inverting, source resistance."""
+    output = st.one_of(st.builds(PushPull, st.floats(0, 1.5), st.floats(0, 1.5), st.floats(0, 100)),
+                       st.builds(OpenDrain, st.floats(1e3, 47e3)))
+    comparator = st.builds(Comparator, offset=st.floats(-5e-3, 5e-3), bias_current=st.floats(0, 2e-7))
+    non_inverting = st.builds(
+        lambda out, comp, rs, ref: Design(stage="non-inverting", supply=Supply(5.0), output=out,
+                                          reference=FixedReference(ref), comparator=comp,
+                                          source=Source(resistance=rs),
+                                          resistors=Resistors(input=1e4, feedback=1e5, to_ground=1e4)),
+        output, comparator, st.floats(0, 5e3), st.floats(0.5, 4.0))
+    inverting = st.builds(
+        lambda out, comp: Design(stage="inverting", supply=Supply(5.0), output=out, comparator=comp,
+                                 resistors=Resistors(to_positive=1e4, to_ground=1e4, feedback=1e5)),
+        output, comparator)
+    return st.one_of(non_inverting, inverting)
