@@ -17,6 +17,7 @@ from pathlib import Path
 
 from bandcalc import __version__
 from bandcalc.cli.page_server import add_page_command
+from bandcalc.errors import BandcalcError
 from bandcalc.fit.selection import FitResult, fit, fit_to_dict
 from bandcalc.model.design import Design
 from bandcalc.model.design_file import load_design
@@ -332,7 +333,7 @@ def _cmd_fit(args: argparse.Namespace) -> int:
         for item in args.hold:
             key, sep, text = item.partition("=")
             if not sep:
-                raise ValueError(f"--hold: write KEY=R, e.g. feedback=1M2; got {item!r}")
+                raise BandcalcError(f"--hold: write KEY=R, e.g. feedback=1M2; got {item!r}")
             fixed[key.strip()] = parse_resistance(text, f"--hold {key.strip()}")
     except ValueError as exc:
         print(f"bandcalc: {exc}", file=sys.stderr)

@@ -9,7 +9,7 @@ Importing this package imports nothing; its modules import Streamlit where they 
 - ``compute``: cached, guarded calls into the package
 - ``inputs``: the resistor control (slider + typed value), typed values in any unit, selections
 - ``controls``: the sidebar that edits the stage and its front end
-- ``design_file``: demo designs, open and save a design file
+- ``whole_design``: the demo chooser, name and notes, opening and saving the design file
 - ``results``: what is always in view: figures, findings, transfer curve, schematic
 - ``names``: names of parts and varied quantities for people
 - ``runs``: results of the runs started by a button, kept per design and settings

@@ -19,6 +19,7 @@ from typing import Any
 
 import streamlit as st
 
+from bandcalc.errors import BandcalcError
 from bandcalc.model.design import Design
 from bandcalc.model.parts import value_at, with_value
 from bandcalc.model.standard_values import series_values
@@ -132,7 +133,7 @@ def _entered(key: str, label: str, where: str, unit: str, optional: bool,
     try:
         if not text:
             if not optional:
-                raise ValueError(f"{what}: needs a value")
+                raise BandcalcError(f"{what}: needs a value")
             value = None
         else:
             value = read_value(text, unit, what)

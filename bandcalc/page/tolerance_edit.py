@@ -11,6 +11,7 @@ from __future__ import annotations
 
 from dataclasses import replace
 
+from bandcalc.errors import BandcalcError
 from bandcalc.model.design import Design
 from bandcalc.model.parts import resistors_of, tolerance_of
 from bandcalc.model.tolerances import NOMINAL_CELSIUS, PerResistor, Tolerances
@@ -55,7 +56,7 @@ def without_tolerances(design: Design) -> Design:
 
 def _key(key: str, allowed: tuple[str, ...]) -> None:
     if key not in allowed:
-        raise ValueError(f"tolerances.{key}: unknown key; allowed: {', '.join(allowed)}")
+        raise BandcalcError(f"tolerances.{key}: unknown key; allowed: {', '.join(allowed)}")
 
 
 def tolerance_value(design: Design, key: str) -> float | None:

@@ -68,7 +68,7 @@ def _points(upper: float, lower: float) -> tuple[float, float]:
     upper = real("upper", upper, unit="V")
     lower = real("lower", lower, unit="V")
     if upper < lower:
-        raise ValueError(
+        raise BandcalcError(
             f"upper ({upper:g} V) must be at or above lower ({lower:g} V); "
             "a stage with hysteresis needs upper > lower"
         )
@@ -156,7 +156,7 @@ def centre_crossings(wave: Waveform, centre: float) -> tuple[np.ndarray, np.ndar
     comparator at the centre fed the noise-free signal.
     """
     if wave.clean is None:
-        raise ValueError("the centre crossings need the noise-free signal (wave.clean)")
+        raise BandcalcError("the centre crossings need the noise-free signal (wave.clean)")
     ideal = find_edges(wave.t, wave.clean, centre, centre)
     return ideal.switch_times, ideal.direction
 

@@ -12,6 +12,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from bandcalc.errors import BandcalcError
 from bandcalc.model.validation import choice, real, whole
 
 __all__ = ["HUM_FREQUENCIES", "MAX_SAMPLES", "SHAPES", "Waveform", "synthesize"]
@@ -31,17 +32,17 @@ def _trace(name: str, values: object, n: int | None = None) -> np.ndarray:
     try:
         a = np.asarray(values, dtype=np.float64)
     except (TypeError, ValueError) as exc:
-        raise ValueError(f"{name} must be an array of numbers: {exc}") from None
+        raise BandcalcError(f"{name} must be an array of numbers: {exc}") from None
     if a.ndim != 1:
-        raise ValueError(f"{name} must be one-dimensional, got shape {a.shape}")
+        raise BandcalcError(f"{name} must be one-dimensional, got shape {a.shape}")
     if n is None and not 2 <= a.size <= MAX_SAMPLES:
-        raise ValueError(f"{name} must hold 2 to {MAX_SAMPLES:,} samples, got {a.size:,}")
+        raise BandcalcError(f"{name} must hold 2 to {MAX_SAMPLES:,} samples, got {a.size:,}")
     if n is not None and a.size != n:
-        raise ValueError(f"{name} must hold as many samples as t ({n:,}), got {a.size:,}")
+        raise BandcalcError(f"{name} must hold as many samples as t ({n:,}), got {a.size:,}")
     bad = ~np.isfinite(a)
     if bad.any():
         i = int(np.argmax(bad))
-        raise ValueError(f"{name}[{i}] is {float(a[i])!r}; every sample must be a finite number")
+        raise BandcalcError(f"{name}[{i}] is {float(a[i])!r}; every sample must be a finite number")
     view = a.view()
     view.flags.writeable = False
     return view
@@ -73,7 +74,7 @@ class Waveform:
         later = t[1:] > t[:-1]
         if not later.all():
             i = int(np.argmin(later)) + 1
-            raise ValueError(
+            raise BandcalcError(
                 f"t must increase strictly: t[{i}] = {t[i]:g} s is not after "
                 f"t[{i - 1}] = {t[i - 1]:g} s"
             )
@@ -158,12 +159,12 @@ def synthesize(shape: str, offset: float, amplitude: float, frequency: float,
         seed = whole("seed", seed)
     nyquist = sample_rate / 2.0
     if shape != "ramp" and frequency >= nyquist:
-        raise ValueError(
+        raise BandcalcError(
             f"frequency must be below sample_rate / 2 = {nyquist:g} Hz (Nyquist), "
             f"got {frequency:g} Hz"
         )
     if hum_amplitude > 0.0 and hum_frequency >= nyquist:
-        raise ValueError(
+        raise BandcalcError(
             f"hum_frequency {hum_frequency:g} Hz needs sample_rate above "
             f"{2 * hum_frequency:g} Hz, got {sample_rate:g} Hz"
         )
@@ -174,12 +175,12 @@ def synthesize(shape: str, offset: float, amplitude: float, frequency: float,
     else:
         n = int(np.floor(product * (1.0 + 1e-12))) + 1
     if n > MAX_SAMPLES:
-        raise ValueError(
+        raise BandcalcError(
             f"duration x sample_rate gives more than {MAX_SAMPLES:,} samples; "
             "shorten the duration or lower the sample rate"
         )
     if n < 2:
-        raise ValueError(
+        raise BandcalcError(
             f"duration x sample_rate gives {n} sample; at least 2 are needed "
             "(lengthen the duration or raise the sample rate)"
         )

@@ -12,6 +12,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from bandcalc.errors import BandcalcError
 from bandcalc.model.design import Design
 from bandcalc.model.validation import real
 from bandcalc.signal_check.edges import (
@@ -108,12 +109,12 @@ def _widths(widths: object) -> np.ndarray:
     try:
         w = np.array(widths, dtype=np.float64)  # a copy: the result must not change later
     except (TypeError, ValueError) as exc:
-        raise ValueError(f"widths must be numbers in V: {exc}") from None
+        raise BandcalcError(f"widths must be numbers in V: {exc}") from None
     if w.ndim != 1 or not 1 <= w.size <= MAX_WIDTHS:
-        raise ValueError(f"widths must be a list of 1 to {MAX_WIDTHS} values, got shape "
+        raise BandcalcError(f"widths must be a list of 1 to {MAX_WIDTHS} values, got shape "
                          f"{w.shape}")
     if not np.isfinite(w).all() or (w < 0).any():
-        raise ValueError("widths must be finite and at least 0 V")
+        raise BandcalcError("widths must be finite and at least 0 V")
     return w
 
 

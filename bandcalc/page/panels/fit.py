@@ -15,6 +15,7 @@ from dataclasses import replace
 
 import streamlit as st
 
+from bandcalc.errors import BandcalcError
 from bandcalc.fit.selection import Candidate, FitResult, apply_candidate, fit
 from bandcalc.model.design import Design, DividerReference
 from bandcalc.model.design_file import design_from_json, design_to_json
@@ -126,7 +127,7 @@ def _read(design: Design, kept: dict) -> tuple[dict, list[str]]:
         text = str(kept[field]).replace("°", "").strip()
         try:
             if not text:
-                raise ValueError(f"{_LABELS[field]}: needs a value in {unit}")
+                raise BandcalcError(f"{_LABELS[field]}: needs a value in {unit}")
             args[field] = parse_quantity(text, unit, _LABELS[field])
         except ValueError as exc:
             wrong.append(str(exc))
@@ -134,7 +135,7 @@ def _read(design: Design, kept: dict) -> tuple[dict, list[str]]:
         try:
             args[field] = parse_resistance(str(kept[field]), _LABELS[field])
             if args[field] <= 0:
-                raise ValueError(f"{_LABELS[field]}: must be above zero ohms, got {kept[field]!r}")
+                raise BandcalcError(f"{_LABELS[field]}: must be above zero ohms, got {kept[field]!r}")
         except ValueError as exc:
             wrong.append(str(exc))
     if "upper" in args and "lower" in args and args["upper"] <= args["lower"]:

@@ -13,6 +13,7 @@ from dataclasses import dataclass
 
 import streamlit as st
 
+from bandcalc.errors import BandcalcError
 from bandcalc.model.design import Design
 from bandcalc.model.front_end import front_end_of
 from bandcalc.model.units import format_si, format_value
@@ -62,7 +63,7 @@ def _setting_changed(name: str, label: str, unit: str, optional: bool) -> None:
         if text:
             read_value(text, unit, label)
         elif not optional:
-            raise ValueError(f"{label}: needs a value")
+            raise BandcalcError(f"{label}: needs a value")
     except ValueError as exc:
         kept = st.session_state.get(good, SETTINGS[name][2])
         state.say("error", f"{exc}. The signal check keeps {kept or 'a blank'}.")
