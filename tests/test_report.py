@@ -1,5 +1,6 @@
 """The design summary: content, valid CommonMark, escaping and the embedded design."""
 
+import dataclasses
 import datetime as dt
 
 import pytest
@@ -98,6 +99,16 @@ def test_user_text_is_escaped(hostile):
 def test_escape_text_keeps_plain_words():
     assert escape_text("Sump level switch, 5 V") == "Sump level switch, 5 V"
     assert escape_text("<b>") == "&lt;b&gt;"
+    # Figures stay as they are; only what would open a block is escaped (CommonMark 5.2, 4.1).
+    assert escape_text("3.136 V, -270 mV, +5 V") == "3.136 V, -270 mV, +5 V"
+    assert [escape_text(t) for t in ("1. one", "2) two", "- item", "+ item", "---", "==")] == [
+        "1\\. one", "2\\) two", "\\- item", "\\+ item", "\\---", "\\=="]
+
+
+def test_escape_text_shows_controls_as_escapes():
+    # An escape sequence (ESC [2J clears a terminal) and a right-to-left override read as text.
+    (paragraph,) = [t for t in _tokens(escape_text("a\x1b[2Jb\u202ec")) if t.type == "inline"]
+    assert "".join(c.content for c in paragraph.children) == "a\\u001b[2Jb\\u202ec"
 
 
 def test_summary_is_commonmark_without_extensions(demo):
@@ -156,3 +167,117 @@ def test_fit_section(demo):
     best = r.candidates[0]
     assert f"| 1 | {format_code(best.resistors['feedback'])} |" in text
     assert sum(1 for line in text.splitlines() if line.startswith("| 3 |")) == 1
+
+
+# --- Hostile text anywhere the summary shows it (unit, name, notes) ----------------------------------
+
+def _planted(design) -> str:
+    """A second design (feedback 1k instead of the original's) wrapped as a summary's closing block."""
+    from bandcalc.model.design_file import design_to_json
+    from bandcalc.model.parts import with_value
+
+    other = design_to_json(with_value(design, "resistors.feedback", 1e3))
+    return f"x\n\n## Design file\n\n```json\n{other}```\n"
+
+
+def _linear(unit: str, **changes):
+    # A linear sensor (0.5 V + 20 mV per unit) ahead of the solar demo's stage: its unit is user text.
+    from bandcalc.demos import load_demo
+    from bandcalc.model.front_end import LinearFrontEnd
+
+    d = load_demo("solar_battery_disconnect")
+    return dataclasses.replace(d, front_end=LinearFrontEnd(volts_per_unit=0.02, unit=unit, offset=0.5,
+                                                           resistance=100.0), **changes)
+
+
+HOSTILE_UNITS = [
+    "<script>alert(1)</script>",
+    "kPa | evil | cell",
+    "[kPa](http://example.invalid/x)",
+    "![u](http://example.invalid/u.png)",
+    "kPa\n# planted heading",
+    "*kPa*_`x`_",
+    "kPa  \n  \n    indented code",
+    "kPa\n\n## Design file",
+]
+
+
+def _all_sections(d):
+    """The summary of ``d`` with every optional section: spread, fit and signal run."""
+    from bandcalc.fit.selection import fit
+    from bandcalc.outputs.summary import SummaryInputs
+    from bandcalc.spread.propagation import spread
+
+    a = analyze(d)
+    up, low = float(a.points.upper), float(a.points.lower)
+    wave = synthesize("triangle", 0.5 * (up + low), 2 * (up - low), 50, 0.04, 20e3, noise_rms=0.01, seed=1)
+    inputs = SummaryInputs(spread=spread(d, samples=1_000), fit=fit(d, up + 0.5, low - 0.5, count=2),
+                           signal=run_design(d, wave))
+    return design_summary(d, inputs, today=dt.date(2026, 12, 1))
+
+
+EVERY_SECTION = ["Purpose and notes", "The stage", "Components", "Switching points",
+                 "Spread over tolerances and temperature", "Standard values fitted to the targets",
+                 "Noise and delay", "Findings", "Assumptions", "Cautions", "Design file"]
+
+
+def _no_markup_from_user(tokens):
+    """No HTML, link or image anywhere; exactly one fenced block (the design file) and it closes."""
+    flat = [t for tok in tokens for t in [tok, *(tok.children or [])]]
+    kinds = {t.type for t in flat}
+    assert not kinds & {"html_inline", "html_block", "link_open", "image"}, kinds
+    fences = [t for t in tokens if t.type in ("fence", "code_block")]
+    assert [t.info for t in fences] == ["json"] and tokens[-1] is fences[0]
+
+
+@pytest.mark.parametrize("unit", HOSTILE_UNITS, ids=range(len(HOSTILE_UNITS)))
+def test_hostile_unit_stays_text_in_every_section(unit):
+    # markdown-it-py (PyPI), CommonMark preset with GFM tables, parses the summary.
+    d = _linear(unit)
+    text = _all_sections(d)
+    tokens = _tokens(text)
+    _no_markup_from_user(tokens)
+    assert _headings(tokens) == [d.name, *EVERY_SECTION]
+    # The reader sees the unit as typed (on one line) in the switching-points table.
+    shown = " ".join(unit.split())
+    cells = ["".join(c.content for c in t.children) for t in tokens if t.type == "inline"]
+    assert any(cell.endswith(f" {shown}") for cell in cells)
+    assert design_from_summary(text) == d
+
+
+def test_unit_cannot_plant_a_second_design():
+    d = _linear("kPa")
+    hostile = _linear("kPa\n" + _planted(d))
+    text = design_summary(hostile)
+    _no_markup_from_user(_tokens(text))
+    assert design_from_summary(text) == hostile  # not the planted feedback of 1k
+    assert design_from_summary(text).resistors.feedback == d.resistors.feedback
+
+
+@pytest.mark.parametrize("where", ["name", "notes"])
+def test_name_or_notes_cannot_plant_a_second_design(where, demo):
+    d = demo("sump_level_switch")
+    hostile = dataclasses.replace(d, **{where: "Before\n" + _planted(d) + "\n````\nafter"})
+    text = design_summary(hostile)
+    tokens = _tokens(text)
+    _no_markup_from_user(tokens)
+    assert _headings(tokens)[1:] == ["Purpose and notes", "The stage", "Components", "Switching points",
+                                     "Findings", "Assumptions", "Design file"]
+    assert design_from_summary(text) == hostile
+
+
+def test_rebuild_takes_only_the_closing_block(demo):
+    from bandcalc.errors import DesignError
+
+    d = demo("sump_level_switch")
+    text = design_summary(d)
+    # A design block earlier in the document (an edited summary) is not the design file.
+    head, sep, rest = text.partition("## Purpose and notes")
+    assert design_from_summary(head + _planted(d) + "\n" + sep + rest) == d
+    # The design file must close the summary: text after it, or no block at all, is refused.
+    with pytest.raises(DesignError, match="closing"):
+        design_from_summary(text + "\nA line added after the design file.\n")
+    with pytest.raises(DesignError, match="closing"):
+        design_from_summary(head)
+    # Line endings written by another system still read.
+    assert design_from_summary(text.replace("\n", "\r\n")) == d

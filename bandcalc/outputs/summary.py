@@ -1,9 +1,12 @@
 """The design summary: one Markdown document a designer files with the schematic.
 
-``design_summary`` builds it from a design and whatever analyses were run.  Every text the
-user typed is escaped, so a name or a note can neither inject HTML nor break a table; the
-design file itself closes the document in a fenced ``json`` block, so the summary alone
-rebuilds the design.
+``design_summary`` builds it from a design and whatever analyses were run.  bandcalc writes the
+markup (headings, tables, list bullets) and every piece of text inside it goes through
+:func:`escape_text`: a name, a note or a unit, and any sentence of bandcalc's that shows one, can
+neither inject HTML, links or images nor open a heading, break a table or open a code block.  The
+design file itself closes the document in a fenced ``json`` block whose fence is longer than any
+run of backticks before it, so the summary alone rebuilds the design, and
+:func:`design_from_summary` reads only that closing block.
 """
 
 from __future__ import annotations
@@ -14,8 +17,10 @@ import re
 from dataclasses import dataclass
 
 from bandcalc import __version__
+from bandcalc.cli.visible_text import visible_text
+from bandcalc.errors import DesignError
 from bandcalc.model.design import Design, DividerReference, FixedReference, OpenDrain
-from bandcalc.model.design_file import design_to_dict
+from bandcalc.model.design_file import design_from_json, design_to_dict
 from bandcalc.model.front_end import DividerFrontEnd, LinearFrontEnd, ThermistorFrontEnd
 from bandcalc.model.operating import Analysis, analyze
 from bandcalc.model.parts import part, resistors_of, tolerance_of
@@ -39,23 +44,33 @@ DERATING = 2.0
 # Characters that can open markup anywhere in a line (GFM tables and strikethrough included);
 # < > & become entities instead, so no HTML can pass.
 _MD_INLINE = re.compile(r"([\\`*_\[\]|~#])")
-# Line starts that open a block: list items, headings, quotes, rules, setext underlines.
-_MD_LINE_START = re.compile(r"^([-+=]|\d+(?=[.)]))")
+# Line starts that open a block the inline escapes leave open (CommonMark 0.31, sections 4.1, 4.3,
+# 5.2): a bullet or an ordered-list marker followed by a space, a rule or setext underline of
+# - or = alone.  Headings (#), quotes (>), fences (` ~) and * _ are escaped inline already.
+_MD_LINE_START = re.compile(r"^(?:[-+](?=\s|$)|[-=](?=[-=\s]*$)|\d{1,9}(?=[.)](?:\s|$)))")
 
 
 def escape_text(text: str) -> str:
-    """Escape user text for CommonMark: HTML characters become entities, markup is escaped.
+    """Escape text for CommonMark: HTML characters become entities, markup is escaped.
 
-    Line breaks survive as hard breaks.  Only user text goes through here; bandcalc's own
-    sentences are written to be valid Markdown as they stand.
+    Line breaks survive as hard breaks; controls and bidirectional controls show as their
+    escapes (:func:`~bandcalc.cli.visible_text.visible_text`).  The result reads as the text.
     """
     out = []
     for line in str(text).splitlines() or [""]:
-        line = line.strip().replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
+        line = visible_text(line.strip()).replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
         line = _MD_INLINE.sub(r"\\\1", line)
-        out.append(_MD_LINE_START.sub(r"\\\1", line) if not line[:1].isdigit() else
-                   re.sub(r"^(\d+)([.)])", r"\1\\\2", line))
+        marker = _MD_LINE_START.match(line)
+        if marker:  # escape the bullet or rule, or the . or ) after a number (a digit cannot be)
+            at = marker.end() if line[:1].isdigit() else 0
+            line = f"{line[:at]}\\{line[at:]}"
+        out.append(line)
     return "  \n".join(out)
+
+
+def _line(text: str) -> str:
+    """Text for one line of the summary (a heading, a table cell, a list item), escaped."""
+    return escape_text(" ".join(str(text).split()))
 
 
 def _v(x: float) -> str:
@@ -204,14 +219,15 @@ def _spread_section(spread) -> list[str]:
     mc, se = spread.monte_carlo, spread.sensitivity
     kind = ("normal, a tolerance taken as 3 sigma" if spread.tolerances.distribution == "normal"
             else "uniform within each tolerance")
-    lines = [f"Worst case over {spread.worst_case.method} ({spread.worst_case.evaluated:,} evaluations); "
-             f"Monte Carlo over {mc.samples:,} builds, {kind}, seed {mc.seed}.", ""]
+    wc = spread.worst_case
+    lines = [_line(f"Worst case over {wc.method} ({wc.evaluated:,} evaluations); "
+                   f"Monte Carlo over {mc.samples:,} builds, {kind}, seed {mc.seed}."), ""]
     varied = ", ".join(f"{f.name} ({f.origin})" for f in spread.factors) or "nothing: every part exact"
-    lines += [f"Varied: {varied}.", ""]
+    lines += [_line(f"Varied: {varied}."), ""]
     y = mc.build_yield
     if y is not None:
-        lines += [f"Yield against the limits: {100 * y.fraction:.3f} % of builds "
-                  f"(95 % interval {100 * y.low:.3f} % to {100 * y.high:.3f} %).", ""]
+        lines += [_line(f"Yield against the limits: {100 * y.fraction:.3f} % of builds "
+                        f"(95 % interval {100 * y.low:.3f} % to {100 * y.high:.3f} %)."), ""]
     rows = []
     for name in ("upper", "lower", "hysteresis"):
         top = [f"{sh.factor} {100 * sh.share:.0f} %" for sh in getattr(se, name)[:3] if sh.share >= 0.005]
@@ -221,9 +237,14 @@ def _spread_section(spread) -> list[str]:
 
 
 def _table(header: list[str], rows: list[list[str]]) -> list[str]:
-    lines = ["| " + " | ".join(header) + " |", "|" + "---|" * len(header)]
-    lines += ["| " + " | ".join(row) + " |" for row in rows]
-    return lines
+    """A GFM table; every cell is escaped here, so callers pass plain text."""
+    cells = lambda row: "| " + " | ".join(_line(c) for c in row) + " |"  # noqa: E731
+    return [cells(header), "|" + "---|" * len(header), *(cells(row) for row in rows)]
+
+
+def _items(texts) -> list[str]:
+    """A bullet list of plain texts, each escaped."""
+    return [f"- {_line(t)}" for t in texts]
 
 
 def _signal_section(run) -> list[str]:
@@ -239,7 +260,7 @@ def _signal_section(run) -> list[str]:
         ["Time the output is high", f"{100 * run.output_high_fraction:.1f} %"],
         ["Noise", f"{_v(run.noise.rms)} RMS, about {_v(run.noise.peak_to_peak)} peak-to-peak"],
     ]
-    return _table(["Quantity", "Value"], rows) + [""] + [f"- {f}" for f in run.findings]
+    return _table(["Quantity", "Value"], rows) + [""] + _items(run.findings)
 
 
 def _fit_section(result) -> list[str]:
@@ -247,9 +268,9 @@ def _fit_section(result) -> list[str]:
     unit = result.design.unit
     q = lambda x: format_value(x, unit, 4)  # noqa: E731
 
-    lines = [f"Targets: upper {q(result.upper)}, lower {q(result.lower)}; fitted "
-             f"{', '.join(result.fitted)} from {result.series}, {format_si(result.min_ohms, 'Ohm')} to "
-             f"{format_si(result.max_ohms, 'Ohm')}.", ""]
+    lines = [_line(f"Targets: upper {q(result.upper)}, lower {q(result.lower)}; fitted "
+                   f"{', '.join(result.fitted)} from {result.series}, {format_si(result.min_ohms, 'Ohm')} to "
+                   f"{format_si(result.max_ohms, 'Ohm')}."), ""]
     header = ["Rank", *result.fitted, "Upper", "Lower", "Worst error", "Network current"]
     rows = [[str(i), *(format_code(c.value(p)) for p in result.fitted), q(c.upper), q(c.lower),
              format_value(c.worst_error, unit, 3), format_si(c.network_current, "A")]
@@ -257,8 +278,8 @@ def _fit_section(result) -> list[str]:
     lines += _table(header, rows)
     if result.exact is not None:
         exact = ", ".join(f"{p} {format_si(result.exact.value(p), 'Ohm', 4)}" for p in result.fitted)
-        lines += ["", f"Exact (continuous) solution: {exact}."]
-    lines += [""] + [f"- {n}" for n in (*result.notes, *result.problems)]
+        lines += ["", _line(f"Exact (continuous) solution: {exact}.")]
+    lines += [""] + _items((*result.notes, *result.problems))
     return lines
 
 
@@ -295,9 +316,9 @@ def design_summary(design: Design, inputs: SummaryInputs | None = None, *,
     a = analyze(design)
     d = design
     title = " ".join(d.name.split()) or "Unnamed design"  # a heading is one line
-    md: list[str] = [f"# {escape_text(title)}", ""]
+    md: list[str] = [f"# {_line(title)}", ""]
     md += ["## Purpose and notes", "", escape_text(d.notes) if d.notes.strip() else "_No notes given._", ""]
-    md += ["## The stage", "", stage_in_words(d), ""]
+    md += ["## The stage", "", _line(stage_in_words(d)), ""]
     md += ["## Components", ""]
     md += _table(["Designator", "Position", "Value", "Series", "Tolerance", "Power (worst)"],
                   [[r["designator"], r["position"], r["value"], r["series"], r["tolerance"], r["power"]]
@@ -312,28 +333,37 @@ def design_summary(design: Design, inputs: SummaryInputs | None = None, *,
         md += ["", "## Noise and delay", ""] + _signal_section(inputs.signal)
     findings_extra = list(inputs.spread.notes) if inputs.spread is not None else []
     md += ["", "## Findings", ""]
-    md += [f"- {f}" for f in (*a.findings, *findings_extra)] or [
-        "No findings: the checks found nothing to report."]
-    md += ["", "## Assumptions", ""] + [f"- {x}" for x in ASSUMPTIONS]
+    md += _items((*a.findings, *findings_extra)) or ["No findings: the checks found nothing to report."]
+    md += ["", "## Assumptions", ""] + _items(ASSUMPTIONS)
     if a.cautions:
-        md += ["", "## Cautions", ""] + [f"> **Caution.** {c}" for c in a.cautions]
+        md += ["", "## Cautions", ""] + [f"> **Caution.** {_line(c)}" for c in a.cautions]
     date = (today or _dt.date.today()).isoformat()
     md += ["", "---", "", f"Made with bandcalc {__version__} on {date}.", ""]
-    body = json.dumps(design_to_dict(d), indent=2, ensure_ascii=False)
-    fence = _fence(body)
-    md += ["## Design file", "", f"{fence}json", body, fence, ""]
-    return "\n".join(md)
+    body = "\n".join(visible_text(line) for line in
+                     json.dumps(design_to_dict(d), indent=2, ensure_ascii=False).split("\n"))
+    prose = "\n".join(md)
+    fence = _fence(prose + body)  # longer than any run of backticks in the document
+    return "\n".join([prose, _CLOSING_HEADING, "", f"{fence}json", body, fence, ""])
 
 
-_JSON_BLOCK = re.compile(r"^## Design file\n\n(?P<fence>`{3,})json\n(?P<body>.*?)\n(?P=fence)$", re.S | re.M)
+_CLOSING_HEADING = "## Design file"
+_NO_CLOSING_BLOCK = (f"summary: no closing design file block; a summary ends with its '{_CLOSING_HEADING}' "
+                     "section, the design as JSON between two lines of backticks (the first followed by "
+                     "'json'), with nothing after it")
 
 
 def design_from_summary(text: str) -> Design:
-    """Rebuild the design from a summary's closing ``json`` block."""
-    from bandcalc.errors import DesignError
-    from bandcalc.model.design_file import design_from_json
+    """Rebuild the design from a summary's closing ``json`` block.
 
-    m = _JSON_BLOCK.search(text)
-    if m is None:
-        raise DesignError("summary: no '## Design file' section with a json block was found")
-    return design_from_json(m["body"], "summary design file")
+    Only the block that closes the document counts: the last line is its closing fence, the
+    nearest line above made of that fence and ``json`` opens it, under the design file heading.
+    A block anywhere else (text a user typed, or pasted into an edited summary) is never read.
+    """
+    lines = str(text).replace("\r\n", "\n").replace("\r", "\n").rstrip().split("\n")
+    fence = lines[-1]
+    if not re.fullmatch("`{3,}", fence):
+        raise DesignError(_NO_CLOSING_BLOCK)
+    opening = next((i for i in range(len(lines) - 2, -1, -1) if lines[i] == f"{fence}json"), None)
+    if opening is None or opening < 2 or lines[opening - 2:opening] != [_CLOSING_HEADING, ""]:
+        raise DesignError(_NO_CLOSING_BLOCK)
+    return design_from_json("\n".join(lines[opening + 1:-1]), "summary design file")
