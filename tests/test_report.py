@@ -126,10 +126,14 @@ def test_caution_section_for_hazardous_voltage():
 
 def test_signal_section(demo):
     d = demo("greenhouse_fan_thermostat")
-    a = analyze(d)
-    run = run_design(d, synthesize("sine", a.centre, a.hysteresis, 50, 0.1, 50e3, noise_rms=0.01, seed=1))
+    w = analyze(d).points  # the signal is in the design's unit, degrees C here
+    wave = synthesize("sine", float(w.centre), float(w.hysteresis), 50, 0.1, 50e3, noise_rms=0.05, seed=1)
+    run = run_design(d, wave)
     text = design_summary(d, type("Inputs", (), {"signal": run, "spread": None, "fit": None})())
     assert "## Noise and delay" in text and f"| Output edges | {run.edge_count} |" in text
+    # The noise is in the signal's unit too, not in volts.
+    c = lambda x: format_value(x, "C", 4)  # noqa: E731
+    assert f"| Noise | {c(run.noise.rms)} RMS, about {c(run.noise.peak_to_peak)} peak-to-peak |" in text
 
 
 def test_report_command_writes_file(tmp_path, demo, demo_path):

@@ -247,9 +247,10 @@ def _items(texts) -> list[str]:
     return [f"- {_line(t)}" for t in texts]
 
 
-def _signal_section(run) -> list[str]:
-    """Table and findings of a signal run (bandcalc.signal_check.edges.SignalRun)."""
+def _signal_section(run, unit: str) -> list[str]:
+    """Table and findings of a signal run (bandcalc.signal_check.edges.SignalRun) in ``unit``."""
     t = lambda x: format_si(x, "s")  # noqa: E731
+    q = lambda x: format_value(x, unit, 4)  # noqa: E731
     clean = "not known (recorded signal)" if run.clean_edge_count is None else str(run.clean_edge_count)
     rows = [
         ["Signal", f"{len(run.wave)} samples over {t(run.wave.duration)}"],
@@ -258,7 +259,7 @@ def _signal_section(run) -> list[str]:
         ["Edge delay after the centre crossing, mean / max",
          "not known" if run.delay_mean is None else f"{t(run.delay_mean)} / {t(run.delay_max)}"],
         ["Time the output is high", f"{100 * run.output_high_fraction:.1f} %"],
-        ["Noise", f"{_v(run.noise.rms)} RMS, about {_v(run.noise.peak_to_peak)} peak-to-peak"],
+        ["Noise", f"{q(run.noise.rms)} RMS, about {q(run.noise.peak_to_peak)} peak-to-peak"],
     ]
     return _table(["Quantity", "Value"], rows) + [""] + _items(run.findings)
 
@@ -330,7 +331,7 @@ def design_summary(design: Design, inputs: SummaryInputs | None = None, *,
     if inputs.fit is not None:
         md += ["", "## Standard values fitted to the targets", ""] + _fit_section(inputs.fit)
     if inputs.signal is not None:
-        md += ["", "## Noise and delay", ""] + _signal_section(inputs.signal)
+        md += ["", "## Noise and delay", ""] + _signal_section(inputs.signal, d.unit)
     findings_extra = list(inputs.spread.notes) if inputs.spread is not None else []
     md += ["", "## Findings", ""]
     md += _items((*a.findings, *findings_extra)) or ["No findings: the checks found nothing to report."]
