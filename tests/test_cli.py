@@ -18,6 +18,14 @@ def test_table(capsys, demo_path):
     assert "Sump level switch" in out and "upper point" in out and "hysteresis" in out
 
 
+def test_table_writes_micro_as_mu(capsys, demo_path):
+    # People read the tables: micro is µ (SI Brochure, 9th edition, Table 7), never a plain u.
+    assert main(["analyze", demo_path("greenhouse_fan_thermostat")]) == 0
+    out = capsys.readouterr().out
+    assert "19.1 µA" in out and "622 µW" in out
+    assert " uA" not in out and " uW" not in out
+
+
 def test_json_single_and_several(capsys, demo_path):
     sump, pickup = demo_path("sump_level_switch"), demo_path("magnetic_speed_pickup")
     assert main(["analyze", sump, "--json"]) == 0

@@ -262,7 +262,7 @@ def test_greenhouse_reads_in_celsius_with_the_direction_turned(demo):
     assert a.lower == pytest.approx(5 * r / (r + 10e3), abs=1e-9)
     # The fan (output high) comes on as the temperature rises through the upper watched point.
     assert a.rising_output == "high"
-    heating = "Self-heating: at its switching points the thermistor dissipates up to 622 uW (at 27.94 C)"
+    heating = "Self-heating: at its switching points the thermistor dissipates up to 622 µW (at 27.94 C)"
     assert any(f.startswith(heating) for f in a.findings)
 
 

@@ -59,6 +59,31 @@ def test_format_si(value, unit, text):
     assert format_si(value, unit) == text
 
 
+# The SI prefix micro is written µ (SI Brochure, 9th edition, Table 7); bandcalc writes the MICRO
+# SIGN U+00B5, which Latin-1, Windows-1252 and the old DOS code page 437 all hold (from memory).
+MICRO = "\u00b5"
+
+
+@pytest.mark.parametrize(("value", "unit", "text"), [
+    (1.2e-6, "A", "1.2 µA"), (622e-6, "W", "622 µW"), (-2.7e-6, "s", "-2.7 µs"), (1e-6, "V", "1 µV"),
+])
+def test_micro_is_written_mu_for_people(value, unit, text):
+    assert format_si(value, unit) == text and MICRO in text
+
+
+def test_micro_in_ascii_where_only_ascii_will_do():
+    assert format_si(1.2e-6, "A", micro="u") == "1.2 uA"
+    with pytest.raises(UnitError, match="micro: write"):
+        format_si(1.2e-6, "A", micro="mu")
+
+
+@pytest.mark.parametrize("value", [4.7e-6, 1.23456e-5, 2e-7, 999.9e-6])
+def test_what_is_written_reads_back(value):
+    # The page writes values in its boxes with format_si and reads what the user leaves there.
+    assert parse_quantity(format_si(value, "A", 6), "A") == pytest.approx(value, rel=1e-12)
+    assert parse_quantity(format_si(value, "A", 6, micro="u"), "A") == pytest.approx(value, rel=1e-12)
+
+
 @pytest.mark.parametrize(("ohms", "code"), [
     (4700, "4k7"), (2.2, "2R2"), (1.5e6, "1M5"), (0.47, "R47"), (470, "470R"), (10e3, "10k"),
     (8660, "8k66"), (1e6, "1M"),

@@ -13,6 +13,7 @@ import re
 from bandcalc.errors import BandcalcError
 
 __all__ = [
+    "MICRO",
     "UnitError",
     "format_code",
     "format_ohms",
@@ -114,7 +115,11 @@ def _is_ohm_unit(unit: str) -> bool:
     return unit in ("",) + _OHM_UNITS
 
 
-_SI_STEPS = ((12, "T"), (9, "G"), (6, "M"), (3, "k"), (0, ""), (-3, "m"), (-6, "u"),
+#: The prefix micro as people read it (SI Brochure, 9th edition, Table 7): the MICRO SIGN U+00B5.
+MICRO = "\u00b5"
+_MICROS = (MICRO, "u")
+
+_SI_STEPS = ((12, "T"), (9, "G"), (6, "M"), (3, "k"), (0, ""), (-3, "m"), (-6, MICRO),
              (-9, "n"), (-12, "p"))
 
 
@@ -127,11 +132,15 @@ def _plain(value: float, digits: int) -> str:
     return text or "0"
 
 
-def format_si(value: float, unit: str, digits: int = 3) -> str:
+def format_si(value: float, unit: str, digits: int = 3, *, micro: str = MICRO) -> str:
     """Format a value with an SI prefix and `digits` significant figures: "4.7 kOhm", "50 mV".
 
-    Trailing zeros are dropped; zero prints as "0 V"; NaN and infinities print as words.
+    Micro is written "µ" ("1.2 µA"), or with ``micro="u"`` in plain ASCII ("1.2 uA") for text
+    only a program reads; :func:`parse_quantity` reads either.  Trailing zeros are dropped; zero
+    prints as "0 V"; NaN and infinities print as words.
     """
+    if micro not in _MICROS:
+        raise UnitError(f"micro: write {MICRO!r} or 'u', got {micro!r}")
     value = float(value)
     if math.isnan(value):
         return f"n/a {unit}".strip()
@@ -143,6 +152,7 @@ def format_si(value: float, unit: str, digits: int = 3) -> str:
     exponent, prefix = next(((e, p) for e, p in _SI_STEPS if mag >= 10.0**e), _SI_STEPS[-1])
     scaled = _round(mag / 10.0**exponent, digits)
     sign = "-" if value < 0 else ""
+    prefix = micro if prefix == MICRO else prefix
     return f"{sign}{_plain(scaled, digits)} {prefix}{unit}".rstrip()
 
 
