@@ -7,6 +7,7 @@ from bandcalc.model.units import (
     format_code,
     format_ohms,
     format_si,
+    format_value,
     parse_quantity,
     parse_resistance,
 )
@@ -101,3 +102,26 @@ def test_format_code_round_trips(ohms, code):
 def test_format_ohms_either_way(ohms, si, code):
     assert format_ohms(ohms) == si
     assert format_ohms(ohms, code=True) == code
+
+
+@pytest.mark.parametrize("unit", ["V", "s", "Ohm", "C", "kPa", ""])
+def test_a_value_that_does_not_exist_prints_without_a_unit(unit):
+    assert format_si(float("nan"), unit) == "n/a"
+    assert format_value(float("nan"), unit) == "n/a"
+
+
+@pytest.mark.parametrize(("value", "unit", "text"), [
+    # Beyond the prefixes (pico to tera) a figure goes to E notation, never to "0 pV" or 300 digits.
+    (1e-300, "V", "1e-300 V"), (-2.5e-16, "A", "-2.5e-16 A"), (3.2e20, "Ohm", "3.2e+20 Ohm"),
+    (2.5e-13, "A", "0.25 pA"), (999e12, "V", "999 TV"),
+])
+def test_format_si_beyond_the_prefixes(value, unit, text):
+    assert format_si(value, unit) == text
+
+
+@pytest.mark.parametrize(("value", "text"), [
+    (2.499e300, "2.499e+300 kPa"), (-1.5e16, "-1.5e+16 kPa"), (3e-13, "3e-13 kPa"),
+    (31.91, "31.91 kPa"), (0.0012346, "0.001235 kPa"), (123456789, "123500000 kPa"),
+])
+def test_format_value_beyond_plain_figures(value, text):
+    assert format_value(value, "kPa", 4) == text

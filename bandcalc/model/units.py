@@ -132,20 +132,38 @@ def _plain(value: float, digits: int) -> str:
     return text or "0"
 
 
+# Magnitudes written with a prefix (0.1 p to 999 T) or as a plain figure; anything beyond is
+# written in E notation ("1e-300 V"), never as "0 pV" or a figure of 300 digits.
+_PREFIXED_SPAN = (1e-13, 1e15)
+_PLAIN_SPAN = (1e-9, 1e15)
+
+
+def _beyond(value: float, unit: str, digits: int, span: tuple[float, float]) -> str | None:
+    """The text of a value no prefix or plain figure reads well: none, infinite, or out of ``span``."""
+    if math.isnan(value):
+        return "n/a"  # no unit: there is no value to have one
+    if math.isinf(value):
+        return f"{'+' if value > 0 else '-'}inf {unit}".strip()
+    mag = _round(abs(value), digits)
+    if mag and not span[0] <= mag < span[1]:
+        return f"{value:.{digits}g} {unit}".strip()
+    return None
+
+
 def format_si(value: float, unit: str, digits: int = 3, *, micro: str = MICRO) -> str:
     """Format a value with an SI prefix and `digits` significant figures: "4.7 kOhm", "50 mV".
 
     Micro is written "µ" ("1.2 µA"), or with ``micro="u"`` in plain ASCII ("1.2 uA") for text
     only a program reads; :func:`parse_quantity` reads either.  Trailing zeros are dropped; zero
-    prints as "0 V"; NaN and infinities print as words.
+    prints as "0 V"; NaN prints as "n/a" and infinities as "+inf V"; magnitudes beyond the
+    prefixes pico to tera in E notation ("1e-300 V").
     """
     if micro not in _MICROS:
         raise UnitError(f"micro: write {MICRO!r} or 'u', got {micro!r}")
     value = float(value)
-    if math.isnan(value):
-        return f"n/a {unit}".strip()
-    if math.isinf(value):
-        return ("+" if value > 0 else "-") + f"inf {unit}".strip()
+    special = _beyond(value, unit, digits, _PREFIXED_SPAN)
+    if special is not None:
+        return special
     mag = _round(abs(value), digits)
     if mag == 0:
         return f"0 {unit}".strip()
@@ -161,12 +179,16 @@ SI_UNITS = ("V", "A", "Ohm", "s", "F", "W", "Hz")
 
 
 def format_value(value: float, unit: str, digits: int = 4) -> str:
-    """A value for people: SI prefixes for SI units ("2.95 V"), plain figures otherwise ("32.01 C")."""
+    """A value for people: SI prefixes for SI units ("2.95 V"), plain figures otherwise ("32.01 C").
+
+    NaN prints as "n/a"; magnitudes a plain figure cannot show well in E notation ("2.5e+300 kPa").
+    """
     value = float(value)
     if unit in SI_UNITS:
         return format_si(value, unit, digits)
-    if not math.isfinite(value):
-        return "n/a" if math.isnan(value) else f"{'+' if value > 0 else '-'}inf {unit}"
+    special = _beyond(value, unit, digits, _PLAIN_SPAN)
+    if special is not None:
+        return special
     return f"{_plain(_round(value, digits), max(digits, 12))} {unit}".strip()
 
 
