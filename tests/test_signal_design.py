@@ -82,3 +82,31 @@ def test_front_end_design_runs_in_the_watched_quantity(capsys, demo, demo_path):
     assert main(["signal", demo_path("greenhouse_fan_thermostat"), "--json", "--frequency", "0.01",
                  "--duration", "200", "--rate", "50"]) == 0
     assert json.loads(capsys.readouterr().out)["unit"] == "C"
+
+
+def _strict_json(text):
+    """json.loads that refuses NaN and Infinity, which are not JSON (RFC 8259, section 6)."""
+    def refuse(name):
+        raise AssertionError(f"{name} in JSON output")
+    return json.loads(text, parse_constant=refuse)
+
+
+def test_recorded_signal_table_says_what_is_not_known(tmp_path, capsys, demo_path):
+    wave = tmp_path / "w.csv"
+    wave.write_text("time,volts\n" + "\n".join(f"{i * 1e-3},{4.5 if (i // 100) % 2 else 0.5}"
+                                               for i in range(1000)) + "\n")
+    assert main(["signal", demo_path("sump_level_switch"), "--csv", str(wave), "--sweep"]) == 0
+    out = capsys.readouterr().out
+    assert "None" not in out
+    assert "(noise-free signal: not known, a recorded signal has none)" in out
+
+
+def test_a_time_that_does_not_exist_is_not_printed_with_a_unit(capsys, demo_path):
+    # A signal that never reaches the points: no edges, so no delay at any width of the sweep.
+    args = ["signal", demo_path("sump_level_switch"), "--offset", "0", "--amplitude", "0.01", "--sweep"]
+    assert main(args) == 0
+    out = capsys.readouterr().out
+    assert "n/a s" not in out and "nan" not in out.lower()
+    assert main([*args, "--json"]) == 0
+    sweep = _strict_json(capsys.readouterr().out)["sweep"]
+    assert sweep["best_mean_delay"] is None and sweep["best_max_delay"] is None

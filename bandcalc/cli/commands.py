@@ -142,8 +142,9 @@ def _signal_dict(run, sweep, unit: str) -> dict:
 def _signal_table(path: str, d: dict) -> str:
     v = lambda x: format_value(x, d["unit"])  # noqa: E731
     s = lambda x: "n/a" if x is None else format_si(x, "s")  # noqa: E731
+    clean = "not known, a recorded signal has none" if d["clean_edges"] is None else d["clean_edges"]
     rows = [("points", f"{v(d['upper'])} / {v(d['lower'])}"),
-            ("edges", f"{d['edges']} (noise-free signal: {d['clean_edges']})"),
+            ("edges", f"{d['edges']} (noise-free signal: {clean})"),
             ("delay mean / max", f"{s(d['delay_mean'])} / {s(d['delay_max'])}"),
             ("output high", f"{100 * d['output_high_fraction']:.1f} % of the time"),
             ("noise", f"{v(d['noise_rms'])} RMS, about {v(d['noise_peak_to_peak'])} peak-to-peak")]
