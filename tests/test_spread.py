@@ -378,6 +378,16 @@ def test_cli_table(capsys, demo_path):
         assert text in out
 
 
+def test_cli_table_writes_kelvin_without_a_prefix(capsys, demo_path):
+    # Beta is in kelvin and reads as data sheets print it, 3950 K (never "3.95 kK"); the offset
+    # drift in µV/K keeps its prefix.
+    assert main(["spread", demo_path("greenhouse_fan_thermostat"), "--samples", "1000"]) == 0
+    out = capsys.readouterr().out
+    assert "front_end.beta 3910 K to 3990 K (1 %)" in out and "kK" not in out
+    assert main(["spread", demo_path(SOLAR), "--samples", "1000"]) == 0
+    assert "comparator.offset_drift -7 µV/K to 7 µV/K" in capsys.readouterr().out
+
+
 def test_cli_bad_samples_and_bad_file(tmp_path, capsys, demo_path):
     with pytest.raises(SystemExit) as exit_:
         main(["spread", demo_path(SUMP), "--samples", "lots"])

@@ -125,3 +125,12 @@ def test_format_si_beyond_the_prefixes(value, unit, text):
 ])
 def test_format_value_beyond_plain_figures(value, text):
     assert format_value(value, "kPa", 4) == text
+
+
+@pytest.mark.parametrize(("value", "unit", "text"), [
+    # Kelvin (a thermistor's Beta) and degrees take no prefix; volts per kelvin and watts per
+    # kelvin (drift, dissipation constant) do, as data sheets write them (common practice).
+    (3950.0, "K", "3950 K"), (25.0, "C", "25 C"), (7e-6, "V/K", "7 µV/K"), (1.5e-3, "W/K", "1.5 mW/K"),
+])
+def test_which_units_take_a_prefix(value, unit, text):
+    assert format_value(value, unit) == text

@@ -213,7 +213,7 @@ def _factor_value(f: Factor, value: float) -> str:
         return f"{value:g} C"
     if f.unit == "ppm/K":
         return f"{value:+g} ppm/K"
-    return format_si(value, f.unit, 4)
+    return format_value(value, f.unit, 4)  # kelvin (Beta) plain, volts and amps with a prefix
 
 
 def _window(quantity: str, low: float, high: float, unit: str) -> str:

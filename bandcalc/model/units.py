@@ -14,6 +14,8 @@ from bandcalc.errors import BandcalcError
 
 __all__ = [
     "MICRO",
+    "PREFIXED_UNITS",
+    "SI_UNITS",
     "UnitError",
     "format_code",
     "format_ohms",
@@ -174,17 +176,20 @@ def format_si(value: float, unit: str, digits: int = 3, *, micro: str = MICRO) -
     return f"{sign}{_plain(scaled, digits)} {prefix}{unit}".rstrip()
 
 
-# Units that take SI prefixes; any other unit (C, kPa, %) prints as a plain figure.
+#: SI units that the parser reads after a prefix ("100 nA").
 SI_UNITS = ("V", "A", "Ohm", "s", "F", "W", "Hz")
+#: Units written with an SI prefix ("10 mV", "1.5 mW/K"); any other unit (K, C, kPa, %) prints as
+#: a plain figure ("3950 K", "32.01 C").
+PREFIXED_UNITS = (*SI_UNITS, "W/K", "V/K")
 
 
 def format_value(value: float, unit: str, digits: int = 4) -> str:
-    """A value for people: SI prefixes for SI units ("2.95 V"), plain figures otherwise ("32.01 C").
+    """A value for people: prefixed in :data:`PREFIXED_UNITS` ("2.95 V"), else plain ("3950 K").
 
     NaN prints as "n/a"; magnitudes a plain figure cannot show well in E notation ("2.5e+300 kPa").
     """
     value = float(value)
-    if unit in SI_UNITS:
+    if unit in PREFIXED_UNITS:
         return format_si(value, unit, digits)
     special = _beyond(value, unit, digits, _PLAIN_SPAN)
     if special is not None:
