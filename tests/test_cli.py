@@ -52,3 +52,17 @@ def test_module_entry_point(demo_path):
     run = subprocess.run([sys.executable, "-m", "bandcalc", "analyze", sump, "--json"],
                          capture_output=True, text=True, cwd=ROOT, check=True)
     assert json.loads(run.stdout)["upper"] > json.loads(run.stdout)["lower"]
+
+
+@pytest.mark.parametrize(("command", "option"), [("spread", "--seed"), ("report", "--seed"),
+                                                 ("spread", "--samples")])
+@pytest.mark.parametrize("text", ["²", "٣x", "-1", "1e3"])
+def test_option_messages_name_the_option_and_never_a_private_name(command, option, text, capsys, demo_path):
+    # "²" counts as a digit to str.isdigit() but int() refuses it; argparse then named the
+    # function that read the option ("invalid _seed value").
+    with pytest.raises(SystemExit) as exit_:
+        main([command, demo_path("sump_level_switch"), option, text])
+    assert exit_.value.code == 2
+    err = capsys.readouterr().err
+    assert f"argument {option}: must be a whole number" in err and repr(text) in err
+    assert "invalid" not in err and " _" not in err

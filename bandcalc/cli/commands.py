@@ -281,7 +281,9 @@ def _samples(text: str) -> int:
 
 
 def _seed(text: str) -> int:
-    if not text.isdigit():
+    # Digits 0-9 only: str.isdigit() also passes "²", which int() refuses, and argparse would
+    # then name this function in its message.
+    if not (text.isascii() and text.isdigit()):
         raise argparse.ArgumentTypeError(f"must be a whole number, 0 or more, got {text!r}")
     return int(text)
 
