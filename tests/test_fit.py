@@ -269,6 +269,24 @@ def test_impossible_targets_are_refused_plainly(upper, lower, message, demo):
         fit(demo("sump_level_switch"), upper, lower)
 
 
+@pytest.mark.parametrize(("stem", "upper", "lower", "message"), [
+    # The greenhouse thermistor watches -10 C to 50 C, the solar divider 0 V to 16 V of battery.
+    ("greenhouse_fan_thermostat", 300.0, 200.0,
+     r"the upper point 300 C is above the highest value the front end watches \(50 C\); a rising "
+     r"input would never reach it \(set front_end\.high if it goes higher\)"),
+    ("greenhouse_fan_thermostat", 30.0, -30.0,
+     r"the lower point -30 C is below the lowest value the front end watches \(-10 C\); a falling "
+     r"input would never reach it \(set front_end\.low if it goes lower\)"),
+    ("solar_battery_disconnect", 30.0, 20.0, r"above the highest value the front end watches \(16 V\)"),
+])
+def test_targets_beyond_the_watched_range_name_the_front_end_key(stem, upper, lower, message, demo):
+    # The key to change is the front end's, in the watched quantity; the stage's own source
+    # range (source.low / source.high) is not something a front-end design lets the user set.
+    with pytest.raises(FitError, match=message) as refused:
+        fit(demo(stem), upper, lower)
+    assert "source." not in str(refused.value)
+
+
 def test_hysteresis_wider_than_the_output_swing(demo):
     # Inverting stage: the + pin sees only a fraction of the output swing (0.02 V to 4.98 V).
     with pytest.raises(FitError, match=r"hysteresis of 4\.96 V is wider than the output swing allows.*"

@@ -32,7 +32,7 @@ from bandcalc.model.design import (
 )
 from bandcalc.model.network import Points, switching_points
 from bandcalc.model.parts import parameters, part, value_at, with_values
-from bandcalc.model.points import design_points, stage_design, stage_targets
+from bandcalc.model.points import design_points, input_range, stage_design, stage_targets
 from bandcalc.model.standard_values import EseriesError, series_values
 from bandcalc.model.units import UnitError, format_si, format_value, parse_resistance
 
@@ -215,18 +215,26 @@ def _check_order(upper: float, lower: float, unit: str) -> None:
                        "point, a falling one at the lower")
 
 
-def _check_targets(design: Design, upper: float, lower: float) -> None:
-    """The stage's own targets (volts at its source) against what the stage can see and do."""
-    _check_order(upper, lower, "V")
-    low, high = design.signal_range()
+def _check_range(design: Design, upper: float, lower: float) -> None:
+    """Targets in the design's unit against the range its input reaches, naming the key that sets
+    it: ``front_end.low`` / ``high`` with a front end, ``source.low`` / ``high`` without one."""
+    low, high = input_range(design)
+    q = lambda x: format_value(x, design.unit, 4)  # noqa: E731
+    if design.front_end is None:
+        key, reach, signal, it = "source", "signal the stage can see", "signal", "the signal"
+    else:
+        key, reach, signal, it = "front_end", "value the front end watches", "input", "it"
     if upper > high:
-        raise FitError(f"the upper point {_volts(upper)} is above the highest signal the stage can see "
-                       f"({_volts(high)}); a rising signal would never reach it (set source.high if the "
-                       "signal goes higher)")
+        raise FitError(f"the upper point {q(upper)} is above the highest {reach} ({q(high)}); a rising "
+                       f"{signal} would never reach it (set {key}.high if {it} goes higher)")
     if lower < low:
-        raise FitError(f"the lower point {_volts(lower)} is below the lowest signal the stage can see "
-                       f"({_volts(low)}); a falling signal would never reach it (set source.low if the "
-                       "signal goes lower)")
+        raise FitError(f"the lower point {q(lower)} is below the lowest {reach} ({q(low)}); a falling "
+                       f"{signal} would never reach it (set {key}.low if {it} goes lower)")
+
+
+def _check_targets(design: Design, upper: float, lower: float) -> None:
+    """The stage's own targets (volts at its source) against what the stage can do."""
+    _check_order(upper, lower, "V")
     if design.inverting:
         out_high, out_low = _output_levels(design)
         if upper - lower >= out_high - out_low:
@@ -501,6 +509,7 @@ def _fit_through_input(design: Design, upper: float, lower: float, count: int, s
     """
     unit = design.unit
     _check_order(upper, lower, unit)
+    _check_range(design, upper, lower)
     try:
         t = stage_targets(design, upper, lower)
         stage = stage_design(design, 0.5 * (upper + lower))
