@@ -2,6 +2,7 @@
 watched switching points round-tripping through the stage model, the design-file section and the CLI."""
 
 import copy
+import dataclasses
 import json
 import math
 
@@ -324,6 +325,38 @@ def test_unreached_point_is_null_in_json():
     data = analysis_to_dict(analyze(design))
     assert data["upper_watched"] is None and data["lower_watched"] is None
     assert any("no value the input reaches switches the stage" in f for f in data["warnings"])
+
+
+@pytest.mark.parametrize(("change", "named"), [
+    # 5.15 K: the Beta model's resistance overflows a float (exp(3950 (1/5.15 - 1/298.15)), by hand).
+    ({"low": -268.0}, "at -268 C (front_end.low)"),
+    # A Beta of 1.3e7 K overflows already at -10 C, the greenhouse's own lowest temperature.
+    ({"beta": 1.3e7}, "at -10 C (front_end.low)"),
+    # Without a range of its own the thermistor's default one applies; the message says so.
+    ({"beta": 1.3e7, "low": None}, "at -55 C (the default lowest value; set front_end.low"),
+])
+def test_a_range_the_front_end_cannot_reach_is_named_by_its_own_key(change, named, demo):
+    d = demo(GREENHOUSE)
+    bad = dataclasses.replace(d, front_end=dataclasses.replace(d.front_end, **change))
+    with pytest.raises(DesignError) as refused:
+        analyze(bad)
+    assert named in str(refused.value)
+    assert "source." not in str(refused.value)  # a key the user never wrote
+
+
+def test_a_sensor_whose_output_cannot_move_is_named_as_the_front_end(demo):
+    # 0.5 V + 1e-300 V per kPa: in floating point the output never leaves 0.5 V. The message
+    # says so in the front end's terms, not "source.resistance: ... nan" or "source: low must be
+    # below high" (keys the user never wrote).
+    d = demo(SOLAR)
+    flat = LinearFrontEnd(volts_per_unit=1e-300, unit="kPa", offset=0.5, low=0.0, high=16.0)
+    with pytest.raises(DesignError, match=r"front_end: its output is 0\.5 V at both 0 and 16 kPa") as refused:
+        analyze(dataclasses.replace(d, front_end=flat))
+    assert "source." not in str(refused.value)
+    # Without a range of its own, no finite pressure reaches a rail: the message names the key to give.
+    with pytest.raises(DesignError, match=r"front_end\.low: not given, and no finite value") as refused:
+        analyze(dataclasses.replace(d, front_end=dataclasses.replace(flat, low=None, high=None)))
+    assert "source." not in str(refused.value)
 
 
 # --- the design-file section -----------------------------------------------------------------------
