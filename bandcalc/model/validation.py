@@ -65,7 +65,7 @@ def _describe(low: float | None, high: float | None, low_open: bool, high_open: 
         return f"{'greater than' if low_open else 'at least'} {low:g}{u}"
     if high is not None:
         return f"{'less than' if high_open else 'at most'} {high:g}{u}"
-    return "a finite number"
+    return ""
 
 
 def real(name: str, value: object, *, low: float | None = None, high: float | None = None,
@@ -84,12 +84,13 @@ def real(name: str, value: object, *, low: float | None = None, high: float | No
         Unit shown with the bounds, e.g. ``"Hz"``.
     """
     allowed = _describe(low, high, low_open, high_open, unit)
+    bounds = f" {allowed}" if allowed else ""
     if isinstance(value, bool) or not isinstance(value, Real):
         # Not TypeError: every bad input of bandcalc is a BandcalcError (a ValueError).
-        raise BandcalcError(f"{name} must be a number {allowed}, got {value!r}")  # noqa: TRY004
+        raise BandcalcError(f"{name} must be a number{bounds}, got {value!r}")  # noqa: TRY004
     x = float(value)
     if not math.isfinite(x):
-        raise BandcalcError(f"{name} must be a finite number {allowed}, got {x!r}")
+        raise BandcalcError(f"{name} must be a finite number{bounds}, got {x!r}")
     too_low = low is not None and (x <= low if low_open else x < low)
     too_high = high is not None and (x >= high if high_open else x > high)
     if too_low or too_high:
