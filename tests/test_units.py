@@ -134,3 +134,12 @@ def test_format_value_beyond_plain_figures(value, text):
 ])
 def test_which_units_take_a_prefix(value, unit, text):
     assert format_value(value, unit) == text
+
+
+@pytest.mark.parametrize(("value", "unit", "text"), [
+    # -0.0 comes out of sums and products (0 * -1); people read "0", never "-0".
+    (-0.0, "kPa", "0 kPa"), (-0.0, "C", "0 C"), (-0.0, "V", "0 V"),
+    (-0.00001, "kPa", "-0.00001 kPa"), (-0.00001, "V", "-10 µV"),
+])
+def test_zero_has_no_sign(value, unit, text):
+    assert format_value(value, unit) == text

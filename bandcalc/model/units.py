@@ -131,7 +131,7 @@ def _round(value: float, digits: int) -> float:
 
 def _plain(value: float, digits: int) -> str:
     text = f"{value:.{digits}f}".rstrip("0").rstrip(".")
-    return text or "0"
+    return "0" if text in ("", "-0") else text  # no "-0" from -0.0
 
 
 # Magnitudes written with a prefix (0.1 p to 999 T) or as a plain figure; anything beyond is
