@@ -66,3 +66,31 @@ def test_option_messages_name_the_option_and_never_a_private_name(command, optio
     err = capsys.readouterr().err
     assert f"argument {option}: must be a whole number" in err and repr(text) in err
     assert "invalid" not in err and " _" not in err
+
+
+# Terminal controls a hostile name, unit or file name may carry: ESC [2J clears the screen,
+# ESC ] 0 ; ... BEL sets the window title, CSI (0x9b) is the one-byte C1 form of ESC [ (ECMA-48),
+# U+202E turns the rest of the line right to left (Unicode bidirectional algorithm).
+HIDDEN = "\x1b[2J\x1b]0;title\x07\x9b31m\u202e"
+
+
+def _hostile_file(tmp_path, demo_path):
+    data = json.loads(Path(demo_path("solar_battery_disconnect")).read_text())
+    data["name"] = f"Pump {HIDDEN}"
+    data["front_end"] = {"kind": "linear", "volts_per_unit": 0.02, "offset": 0.5, "resistance": 100,
+                         "unit": f"kPa{HIDDEN}", "low": 0, "high": 200}
+    data.pop("tolerances")
+    path = tmp_path / f"design{HIDDEN}.json"
+    path.write_text(json.dumps(data))
+    return str(path)
+
+
+@pytest.mark.parametrize("command", [["analyze"], ["spread", "--samples", "1000"],
+                                     ["fit", "--upper", "100.5", "--lower", "99", "--count", "2"],
+                                     ["signal", "--sweep"], ["report"]])
+def test_tables_show_terminal_controls_as_escapes(command, tmp_path, capsys, demo_path):
+    path = _hostile_file(tmp_path, demo_path)
+    assert main([command[0], path, *command[1:]]) == 0
+    out = capsys.readouterr().out
+    assert not set(out) & {"\x1b", "\x07", "\x9b", "\u202e"}, "a control character reached the terminal"
+    assert "\\u001b" in out and "\\u202e" in out  # shown, so the reader sees what is there

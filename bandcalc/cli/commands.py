@@ -17,6 +17,7 @@ from pathlib import Path
 
 from bandcalc import __version__
 from bandcalc.cli.page_server import add_page_command
+from bandcalc.cli.visible_text import visible_text
 from bandcalc.errors import BandcalcError
 from bandcalc.fit.selection import FitResult, fit, fit_to_dict
 from bandcalc.model.design import Design
@@ -61,18 +62,31 @@ def _analysis_table(path: str, a: Analysis) -> str:
     ]
     if a.design.front_end is not None:  # the points in the watched quantity, above the stage's volts
         rows[1:1] = _watched_rows(a)
-    lines = [f"{a.design.name or '(unnamed design)'}  [{path}]"]
+    lines = [_heading(a.design, path)]
     lines += [f"  {k:<18} {val}" for k, val in rows]
-    for title, items in (("findings", a.findings), ("cautions", a.cautions)):
+    lines += _listed((("findings", a.findings), ("cautions", a.cautions)))
+    return "\n".join(lines)
+
+
+def _heading(design: Design, path: str) -> str:
+    """A table's first line: the design's name and its file, as text (user text: visible_text)."""
+    return f"{visible_text(design.name) or '(unnamed design)'}  [{visible_text(path)}]"
+
+
+def _listed(sections, form: Callable[[str], str] = lambda text: f"    - {text}") -> list[str]:
+    """Titled lists (findings, cautions, notes); their texts may quote a name or a unit, so each
+    goes through visible_text."""
+    lines: list[str] = []
+    for title, items in sections:
         if items:
             lines.append(f"  {title}:")
-            lines += [f"    - {item}" for item in items]
-    return "\n".join(lines)
+            lines += [form(visible_text(item)) for item in items]
+    return lines
 
 
 def _watched_rows(a: Analysis) -> list[tuple[str, str]]:
     """The points in the watched quantity, each with the volts point it comes from."""
-    w, unit = a.points, a.design.unit
+    w, unit = a.points, visible_text(a.design.unit)
     stage_up, stage_low = ("upper", "lower") if w.rises else ("lower", "upper")
     rising = a.rising_output
     falling = "low" if rising == "high" else "high"
@@ -140,7 +154,8 @@ def _signal_dict(run, sweep, unit: str) -> dict:
 
 
 def _signal_table(path: str, d: dict) -> str:
-    v = lambda x: format_value(x, d["unit"])  # noqa: E731
+    unit = visible_text(d["unit"])
+    v = lambda x: format_value(x, unit)  # noqa: E731
     s = lambda x: "n/a" if x is None else format_si(x, "s")  # noqa: E731
     clean = "not known, a recorded signal has none" if d["clean_edges"] is None else d["clean_edges"]
     rows = [("points", f"{v(d['upper'])} / {v(d['lower'])}"),
@@ -149,13 +164,13 @@ def _signal_table(path: str, d: dict) -> str:
             ("output high", f"{100 * d['output_high_fraction']:.1f} % of the time"),
             ("noise", f"{v(d['noise_rms'])} RMS, about {v(d['noise_peak_to_peak'])} peak-to-peak")]
     if d["unit"] != "V":
-        rows.insert(0, ("signal", f"the watched quantity, in {d['unit']}"))
+        rows.insert(0, ("signal", f"the watched quantity, in {unit}"))
     if "sweep" in d:
         best = d["sweep"]["best_width"]
         rows.append(("narrowest clean width", "none in the sweep" if best is None else
                      f"{v(best)} (mean delay {s(d['sweep']['best_mean_delay'])})"))
-    lines = [f"signal check  [{path}]"] + [f"  {k:<22} {val}" for k, val in rows]
-    lines += ["  findings:"] + [f"    - {f}" for f in d["findings"]]
+    lines = [f"signal check  [{visible_text(path)}]"] + [f"  {k:<22} {val}" for k, val in rows]
+    lines += _listed([("findings", d["findings"])])
     return "\n".join(lines)
 
 
@@ -228,11 +243,12 @@ def _short(name: str) -> str:
 
 
 def _spread_table(path: str, s: Spread) -> str:
-    v = lambda x: format_value(x, s.unit, 4)  # noqa: E731
+    unit = visible_text(s.unit)
+    v = lambda x: format_value(x, unit, 4)  # noqa: E731
     wc, mc, se = s.worst_case, s.monte_carlo, s.sensitivity
     wrap = lambda text: textwrap.fill(text, 100, initial_indent="    ", subsequent_indent="      ")  # noqa: E731
     by_name = {f.name: f for f in s.factors}
-    lines = [f"{s.design.name or '(unnamed design)'}  [{path}]", "  varied:"]
+    lines = [_heading(s.design, path), "  varied:"]
     lines += [wrap(f"{_short(f.name)} {_factor_value(f, f.low)} to {_factor_value(f, f.high)} ({f.origin})")
               for f in s.factors] or ["    nothing: every part is exact"]
     rows = [("nominal", wc.nominal), ("worst-case min", {q: getattr(wc, q).min for q in QUANTITIES}),
@@ -248,7 +264,7 @@ def _spread_table(path: str, s: Spread) -> str:
     lines += [f"  {label:<18} " + " ".join(f"{v(vals[q]):>12}" for q in QUANTITIES) for label, vals in rows]
     y = mc.build_yield
     if y is not None:
-        windows = ", ".join(_window(q, lo, hi, s.unit) for q, (lo, hi) in y.windows.items())
+        windows = ", ".join(_window(q, lo, hi, unit) for q, (lo, hi) in y.windows.items())
         lines.append(wrap(f"yield: {100 * y.fraction:.3f} % of builds inside {windows} "
                           f"(95 % interval {100 * y.low:.3f} % to {100 * y.high:.3f} %)")[2:])
     lines.append(f"  worst corners ({wc.method}):")
@@ -262,10 +278,7 @@ def _spread_table(path: str, s: Spread) -> str:
         top = [f"{_short(sh.factor)} {100 * sh.share:.0f} %" for sh in getattr(se, q)[:4]
                if sh.share >= 0.005]
         lines.append(wrap(f"{q}: {', '.join(top) or 'none'}"))
-    for title, items in (("notes", s.notes), ("cautions", s.cautions)):
-        if items:
-            lines.append(f"  {title}:")
-            lines += [wrap(f"- {item}") for item in items]
+    lines += _listed((("notes", s.notes), ("cautions", s.cautions)), lambda text: wrap(f"- {text}"))
     return "\n".join(lines)
 
 
@@ -303,7 +316,7 @@ def _cmd_spread(args: argparse.Namespace) -> int:
 
 
 def _fit_table(path: str, r: FitResult, code: bool) -> str:
-    unit = r.design.unit
+    unit = visible_text(r.design.unit)
     v = lambda x: format_value(x, unit, 4)  # noqa: E731
     ohms = lambda x: format_ohms(x, code)  # noqa: E731
 
@@ -312,14 +325,11 @@ def _fit_table(path: str, r: FitResult, code: bool) -> str:
              format_value(c.worst_error, unit, 3), format_si(c.network_current, "A")]
             for i, c in enumerate(r.candidates, 1)]
     widths = [max(len(row[j]) for row in [head, *rows]) for j in range(len(head))]
-    lines = [f"{r.design.name or '(unnamed design)'}  [{path}]",
+    lines = [_heading(r.design, path),
              f"  targets   upper {v(r.upper)}, lower {v(r.lower)}",
              f"  fitting   {', '.join(r.fitted)} from {r.series}, {format_ohms(r.min_ohms, code)} to "
              f"{format_ohms(r.max_ohms, code)}"]
-    for title, items in (("cannot meet the targets exactly", r.problems), ("notes", r.notes)):
-        if items:
-            lines.append(f"  {title}:")
-            lines += [f"    - {item}" for item in items]
+    lines += _listed((("cannot meet the targets exactly", r.problems), ("notes", r.notes)))
     lines += ["  " + "  ".join(cell.ljust(w) for cell, w in zip(row, widths, strict=True)).rstrip()
               for row in [head, *rows]]
     if r.exact is not None:
