@@ -2,6 +2,7 @@
 
 import json
 import math
+import re
 
 import pytest
 
@@ -110,3 +111,27 @@ def test_a_time_that_does_not_exist_is_not_printed_with_a_unit(capsys, demo_path
     assert main([*args, "--json"]) == 0
     sweep = _strict_json(capsys.readouterr().out)["sweep"]
     assert sweep["best_mean_delay"] is None and sweep["best_max_delay"] is None
+
+
+@pytest.mark.parametrize(("options", "message"), [
+    (["--frequency", "0"], "--frequency must be greater than 0 Hz, got 0"),
+    (["--rate", "10"], r"--frequency must be below --rate / 2 = 5 Hz \(Nyquist\), got 50 Hz"),
+    (["--noise", "-1"], "--noise must be at least 0 V, got -1"),
+    (["--hum", "0.1", "--rate", "90", "--frequency", "1"], "--hum-frequency 50 Hz needs --rate above 100 Hz"),
+    (["--seed", "-1"], "--seed must be a whole number of at least 0, got -1"),
+    (["--duration", "100", "--rate", "1e6"], "--duration x --rate gives more than 10,000,000 samples"),
+    (["--offset", "nan"], "--offset must be a finite number, got nan"),
+])
+def test_signal_options_are_named_as_typed(options, message, capsys, demo_path):
+    # The messages name the options the user typed (--rate), not the function's arguments
+    # (sample_rate) the user never wrote.
+    assert main(["signal", demo_path("sump_level_switch"), *options]) == 2
+    err = capsys.readouterr().err
+    assert re.search(message, err), err
+    assert not re.search(r"(?<!-)\b(sample_rate|noise_rms|hum_amplitude|hum_frequency)\b", err)
+
+
+def test_signal_options_of_a_front_end_design_are_in_its_unit(capsys, demo_path):
+    # The greenhouse signal runs in degrees C, so its noise does too.
+    assert main(["signal", demo_path("greenhouse_fan_thermostat"), "--noise", "-1"]) == 2
+    assert "--noise must be at least 0 C, got -1" in capsys.readouterr().err

@@ -126,6 +126,13 @@ def _print_results(results: list, status: int, as_json: bool) -> int:
     return status
 
 
+# synthesize's settings by the options that set them, so its messages name what the user typed.
+_SIGNAL_OPTIONS = {"shape": "--shape", "offset": "--offset", "amplitude": "--amplitude",
+                   "frequency": "--frequency", "duration": "--duration", "sample_rate": "--rate",
+                   "noise_rms": "--noise", "hum_amplitude": "--hum", "hum_frequency": "--hum-frequency",
+                   "seed": "--seed"}
+
+
 def _synthetic(args: argparse.Namespace, design: Design):
     """The synthetic signal of the options; offset and amplitude default to the design's band."""
     upper, lower, _ = run_points(design)
@@ -133,7 +140,7 @@ def _synthetic(args: argparse.Namespace, design: Design):
     amplitude = upper - lower if args.amplitude is None else args.amplitude
     return synthesize(args.shape, offset, amplitude, args.frequency, args.duration, args.rate,
                       noise_rms=args.noise, hum_amplitude=args.hum, hum_frequency=args.hum_frequency,
-                      seed=args.seed)
+                      seed=args.seed, names=_SIGNAL_OPTIONS, unit=design.unit)
 
 
 def _signal_dict(run, sweep, unit: str) -> dict:
@@ -402,13 +409,15 @@ def _parser() -> argparse.ArgumentParser:
     p.add_argument("file", metavar="FILE", help="design file (JSON)")
     p.add_argument("--csv", metavar="WAVE.csv", help="recorded signal: time (s) and volts columns")
     p.add_argument("--shape", default="sine", choices=["sine", "triangle", "ramp", "steps"])
-    p.add_argument("--offset", type=float, default=None, help="V (default: the design's centre)")
-    p.add_argument("--amplitude", type=float, default=None, help="V (default: the design's hysteresis)")
+    p.add_argument("--offset", type=float, default=None,
+                   help="in the design's unit, V or the watched quantity's (default: the design's centre)")
+    p.add_argument("--amplitude", type=float, default=None,
+                   help="in the design's unit (default: the design's hysteresis)")
     p.add_argument("--frequency", type=float, default=50.0, help="Hz")
     p.add_argument("--duration", type=float, default=0.1, help="s")
     p.add_argument("--rate", type=float, default=100e3, help="samples per second")
-    p.add_argument("--noise", type=float, default=0.0, help="Gaussian noise, V RMS")
-    p.add_argument("--hum", type=float, default=0.0, help="mains hum amplitude, V")
+    p.add_argument("--noise", type=float, default=0.0, help="Gaussian noise, RMS, in the design's unit")
+    p.add_argument("--hum", type=float, default=0.0, help="mains hum amplitude (peak), in the design's unit")
     p.add_argument("--hum-frequency", type=float, default=50.0, choices=[50.0, 60.0])
     p.add_argument("--seed", type=int, default=1, help="noise generator seed (runs repeat)")
     p.add_argument("--sweep", action="store_true", help="also sweep the hysteresis width")
