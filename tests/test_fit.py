@@ -2,6 +2,7 @@
 
 import dataclasses
 import json
+import re
 
 import numpy as np
 import pytest
@@ -327,6 +328,22 @@ def test_bad_settings_name_the_setting(kwargs, message, demo):
 
 
 # --- Command line ----------------------------------------------------------------------------------
+
+@pytest.mark.parametrize(("options", "message"), [
+    (["--series", "E25"], "--series: unknown series 'E25'; allowed: E3"),
+    (["--min-ohms", "1M", "--max-ohms", "1k"], r"--min-ohms \(1 MOhm\) must be below --max-ohms \(1 kOhm\)"),
+    (["--min-ohms", "1.01k", "--max-ohms", "1.05k", "--series", "E6"], "--series: no E6 value lies between"),
+    (["--count", "0"], "--count: must be a whole number of 1 or more, got 0"),
+    (["--hold", "pullup=1k"], "--hold pullup: not a resistor of this design; allowed: input, feedback"),
+    (["--hold", "feedback=-1k"], "--hold feedback: must be greater than zero"),
+])
+def test_cli_messages_name_the_options_typed(options, message, capsys, demo_path):
+    # The user typed --min-ohms and --hold, never the function's min_ohms or fixed.
+    assert main(["fit", demo_path("sump_level_switch"), "--upper", "3.1", "--lower", "1.9", *options]) == 2
+    err = capsys.readouterr().err
+    assert re.search(message, err), err
+    assert not re.search(r"(?<!-)\b(min_ohms|max_ohms|fixed)\b", err)
+
 
 def test_cli_json_shape(capsys, demo_path):
     sump = demo_path("sump_level_switch")

@@ -345,6 +345,11 @@ def _fit_table(path: str, r: FitResult, code: bool) -> str:
     return "\n".join(lines)
 
 
+# fit's settings by the options that set them, so its messages name what the user typed.
+_FIT_OPTIONS = {"series": "--series", "min_ohms": "--min-ohms", "max_ohms": "--max-ohms", "count": "--count",
+                "fixed": "--hold "}
+
+
 def _cmd_fit(args: argparse.Namespace) -> int:
     try:
         low_ohms = parse_resistance(args.min_ohms, "--min-ohms")
@@ -364,7 +369,7 @@ def _cmd_fit(args: argparse.Namespace) -> int:
         upper = parse_quantity(args.upper, unit, "--upper")
         lower = parse_quantity(args.lower, unit, "--lower")
         return fit(design, upper, lower, series=args.series, min_ohms=low_ohms, max_ohms=high_ohms,
-                   count=args.count, fixed=fixed, add_leg=not args.no_extra_leg)
+                   count=args.count, fixed=fixed, add_leg=not args.no_extra_leg, names=_FIT_OPTIONS)
 
     results, status = _for_each_file([args.file], work)
     if not results:

@@ -182,18 +182,20 @@ def _is_number(value: object) -> bool:
     return isinstance(value, (int, float)) and not isinstance(value, bool) and math.isfinite(value)
 
 
-def _grid(series: str, min_ohms: float, max_ohms: float) -> np.ndarray:
+def _grid(series: str, min_ohms: float, max_ohms: float, named: Mapping[str, str]) -> np.ndarray:
     for key, value in (("min_ohms", min_ohms), ("max_ohms", max_ohms)):
         if not _is_number(value) or value <= 0:
-            raise FitError(f"{key}: must be a positive number of ohms, got {value!r}")
+            raise FitError(f"{named[key]}: must be a positive number of ohms, got {value!r}")
     if min_ohms >= max_ohms:
-        raise FitError(f"min_ohms ({_ohms(min_ohms)}) must be below max_ohms ({_ohms(max_ohms)})")
+        raise FitError(f"{named['min_ohms']} ({_ohms(min_ohms)}) must be below {named['max_ohms']} "
+                       f"({_ohms(max_ohms)})")
     try:
         grid = series_values(series, min_ohms, max_ohms)
     except EseriesError as exc:
-        raise FitError(f"series: {exc}") from None
+        raise FitError(f"{named['series']}: {exc}") from None
     if not len(grid):
-        raise FitError(f"series: no {series} value lies between {_ohms(min_ohms)} and {_ohms(max_ohms)}")
+        raise FitError(f"{named['series']}: no {series} value lies between {_ohms(min_ohms)} and "
+                       f"{_ohms(max_ohms)}")
     return grid
 
 
@@ -244,20 +246,21 @@ def _check_targets(design: Design, upper: float, lower: float) -> None:
                            "output swing (higher rails or pull-up supply)")
 
 
-def _held(design: Design, fixed: Mapping[str, float | str]) -> dict[str, float]:
+def _held(design: Design, fixed: Mapping[str, float | str], named: Mapping[str, str]) -> dict[str, float]:
     """Held values by parameter name; keys may be positions ("feedback") or paths ("resistors.feedback")."""
     allowed = _positions(design) + (["input"] if design.inverting and design.resistors.input else [])
     out = {}
     for key, value in fixed.items():
         position = str(key).removeprefix("resistors.")
+        where = f"{named['fixed']}{key}"
         if position not in allowed:
-            raise FitError(f"fixed.{key}: not a resistor of this design; allowed: {', '.join(allowed)}")
+            raise FitError(f"{where}: not a resistor of this design; allowed: {', '.join(allowed)}")
         try:
-            ohms = parse_resistance(value, f"fixed.{key}")
+            ohms = parse_resistance(value, where)
         except UnitError as exc:
             raise FitError(str(exc)) from None
         if ohms <= 0:
-            raise FitError(f"fixed.{key}: must be greater than zero, got {value!r}")
+            raise FitError(f"{where}: must be greater than zero, got {value!r}")
         out[part(position).path] = ohms
     return out
 
@@ -394,7 +397,7 @@ def _offset_gain(design: Design, params: list[str], values: np.ndarray) -> float
 
 def fit(design: Design, upper: float, lower: float, *, series: str = "E24", min_ohms: float = 1e3,
         max_ohms: float = 10e6, count: int = 5, fixed: Mapping[str, float | str] | None = None,
-        add_leg: bool = True) -> FitResult:
+        add_leg: bool = True, names: Mapping[str, str] | None = None) -> FitResult:
     """Standard resistor values that place the switching points at ``upper`` and ``lower``.
 
     Targets are in the design's unit: volts of the signal's open-circuit voltage or, for a design
@@ -418,6 +421,10 @@ def fit(design: Design, upper: float, lower: float, *, series: str = "E24", min_
     add_leg : bool
         Allow the fit to add a leg from the + pin to ground, a rail or the reference when the
         stage as drawn cannot place both points.
+    names : mapping, optional
+        What the caller's user calls a setting, for the messages: ``series``, ``min_ohms``,
+        ``max_ohms``, ``count``, and ``fixed`` the words before a held resistor's key (the
+        command line passes ``{"min_ohms": "--min-ohms", "fixed": "--hold ", ...}``).
 
     Returns
     -------
@@ -432,18 +439,22 @@ def fit(design: Design, upper: float, lower: float, *, series: str = "E24", min_
         Settings that cannot be used, or targets no resistor values can meet; the message says
         why and what would make them possible.
     """
+    named = {"series": "series", "min_ohms": "min_ohms", "max_ohms": "max_ohms", "count": "count",
+             "fixed": "fixed."} | dict(names or {})
     if not isinstance(count, int) or isinstance(count, bool) or count < 1:
-        raise FitError(f"count: must be a whole number of 1 or more, got {count!r}")
-    settings = dict(series=series, min_ohms=min_ohms, max_ohms=max_ohms, fixed=fixed, add_leg=add_leg)
+        raise FitError(f"{named['count']}: must be a whole number of 1 or more, got {count!r}")
+    settings = dict(series=series, min_ohms=min_ohms, max_ohms=max_ohms, fixed=fixed, add_leg=add_leg,
+                    named=named)
     return _fit_through_input(design, upper, lower, count, settings)
 
 
 def _fit_stage(design: Design, upper: float, lower: float, count: int, *, series: str, min_ohms: float,
-               max_ohms: float, fixed: Mapping[str, float | str] | None, add_leg: bool) -> FitResult:
+               max_ohms: float, fixed: Mapping[str, float | str] | None, add_leg: bool,
+               named: Mapping[str, str]) -> FitResult:
     """The fit of a stage without a front end (targets in volts at its signal source)."""
-    grid = _grid(series, min_ohms, max_ohms)
+    grid = _grid(series, min_ohms, max_ohms, named)
     _check_targets(design, upper, lower)
-    held = _held(design, fixed or {})
+    held = _held(design, fixed or {}, named)
     base = with_values(design, held)
     targets, bounds = (float(upper), float(lower)), (float(min_ohms), float(max_ohms))
     params = [part(p).path for p in _positions(base) if part(p).path not in held]
