@@ -4,9 +4,12 @@ import dataclasses
 import datetime as dt
 
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from markdown_it import MarkdownIt
 
 from bandcalc.cli.commands import main
+from bandcalc.cli.visible_text import visible_text
 from bandcalc.model.design import Design, FixedReference, Resistors, Source, Supply
 from bandcalc.model.network import switching_points
 from bandcalc.model.operating import analyze
@@ -285,3 +288,21 @@ def test_rebuild_takes_only_the_closing_block(demo):
         design_from_summary(head)
     # Line endings written by another system still read.
     assert design_from_summary(text.replace("\n", "\r\n")) == d
+
+
+# Characters that open Markdown constructs, drawn often, among any others.
+MARKUP = st.sampled_from([*"-+=*_#>`~<&[]()!|\\:. \t\n\r123a", "1. ", "- ", "```", "    ", "\x1b", "\u202e"])
+
+
+@settings(deadline=None)
+@given(st.lists(MARKUP | st.characters(), max_size=60).map("".join))
+def test_any_text_escapes_to_plain_paragraphs_that_read_as_typed(text):
+    # Whatever is typed, markdown-it-py (CommonMark preset with GFM tables) finds only
+    # paragraphs of plain text, and that text is what was typed: each line without its outer
+    # whitespace, controls shown as escapes.
+    tokens = _tokens(escape_text(text))
+    assert {t.type for t in tokens} <= {"paragraph_open", "inline", "paragraph_close"}
+    children = [c for t in tokens if t.type == "inline" for c in t.children]
+    assert {c.type for c in children} <= {"text", "softbreak", "hardbreak"}
+    shown = "".join(c.content for c in children if c.type == "text")
+    assert shown == "".join(visible_text(line.strip()) for line in text.splitlines())
