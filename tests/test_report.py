@@ -306,3 +306,12 @@ def test_any_text_escapes_to_plain_paragraphs_that_read_as_typed(text):
     assert {c.type for c in children} <= {"text", "softbreak", "hardbreak"}
     shown = "".join(c.content for c in children if c.type == "text")
     assert shown == "".join(visible_text(line.strip()) for line in text.splitlines())
+
+
+def test_a_lone_surrogate_is_shown_and_the_summary_still_writes(tmp_path, demo):
+    # "\ud800" is half a UTF-16 pair: no UTF-8 file can hold it raw (Unicode 15, section 3.9).
+    d = dataclasses.replace(demo("sump_level_switch"), name="Pump \ud800", notes="a \udfff b")
+    text = design_summary(d)
+    (tmp_path / "summary.md").write_text(text, encoding="utf-8")
+    assert "# Pump \\\\ud800" in text
+    assert design_from_summary((tmp_path / "summary.md").read_text(encoding="utf-8")) == d
