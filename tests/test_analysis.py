@@ -13,7 +13,7 @@ from bandcalc.model.design import (
     Source,
     Supply,
 )
-from bandcalc.model.operating import analyze
+from bandcalc.model.operating import analyze, is_protective
 
 TEXTBOOK = Design(stage="non-inverting", supply=Supply(5.0), reference=FixedReference(2.5),
                   resistors=Resistors(input=1e3, feedback=2e3))
@@ -125,3 +125,25 @@ def test_protective_caution_from_the_flag_or_the_words():
     flagged = Design(**{**TEXTBOOK.__dict__, "protective": True})
     assert any(c.startswith("Protective function") for c in analyze(flagged).cautions)
     assert analyze(TEXTBOOK).cautions == ()
+
+
+def _named(name: str, notes: str = "") -> Design:
+    return Design(stage="inverting", supply=Supply(5.0), resistors=Resistors(to_ground=1e4, feedback=1e5),
+                  name=name, notes=notes)
+
+
+def test_protective_words_match_whole_words_only():
+    # "strip", "tripod" and "alarmingly" hold a protective word inside another word; none of them
+    # says the stage guards anything, so none brings the caution.
+    for text in ("LED strip dimmer", "Tripod level sensor", "Gasket press counter", "Leakproof"):
+        assert not is_protective(_named(text)), text
+    for text in ("Overcurrent trip", "Pump trips at 3 V", "Battery protection", "Heater cut-off"):
+        assert is_protective(_named(text)), text
+
+
+def test_protective_words_cover_the_usual_guards():
+    # Common practice: stages that guard people or property by their usual names.
+    for text in ("Overheat shutdown", "Smoke detector", "Gas sensor", "Water leak sensor",
+                 "Emergency stop", "Door interlock", "Ground fault detector", "Earth-fault relay",
+                 "Li-ion overdischarge", "over-discharge cut"):
+        assert is_protective(_named("Stage", text)), text

@@ -8,6 +8,7 @@ are reported in the design's unit (:attr:`Analysis.points`) as well as in the st
 from __future__ import annotations
 
 import math
+import re
 from dataclasses import dataclass, replace
 
 from bandcalc.model.design import Design, DividerReference, OpenDrain
@@ -261,19 +262,29 @@ def _cautions(design: Design, points: DesignPoints) -> list[str]:
 _DEFER = ("bandcalc is a design aid, not a safety-rated protection; follow local codes and licensed "
           "practice, and use certified protective parts where a standard requires them.")
 # Words that mark a stage guarding people or property when the design does not say (common
-# practice: battery protection, heater cut-off); matching errs on the side of showing the caution.
-PROTECTIVE_WORDS = ("protect", "disconnect", "cut-off", "cutoff", "cut off", "overvoltage",
-                    "over-voltage", "undervoltage", "under-voltage", "overtemperature",
-                    "over-temperature", "overcurrent", "over-current", "overload", "heater", "battery",
-                    "charger", "mains", "safety", "alarm", "trip")
+# practice: battery protection, heater cut-off, leak and gas alarms); matching errs on the side of
+# showing the caution, but only whole words count ("strip" does not hold "trip"). Hyphens and
+# spaces are alike ("cut-off" is "cut off"); a plural or -ed / -ing form of a word counts too.
+PROTECTIVE_WORDS = ("protect", "protection", "protective", "protector", "disconnect", "cut off",
+                    "cutoff", "overvoltage", "over voltage", "undervoltage", "under voltage",
+                    "overtemperature", "over temperature", "overheat", "over heat", "overcurrent",
+                    "over current", "overload", "over load", "overdischarge", "over discharge",
+                    "deep discharge", "short circuit", "heater", "battery", "batteries", "charger",
+                    "mains", "safety", "alarm", "trip", "tripped", "tripping", "shutdown", "shut down",
+                    "smoke", "gas", "leak", "leakage", "flood", "fire", "flame", "emergency",
+                    "interlock", "ground fault", "earth fault", "carbon monoxide", "brownout",
+                    "brown out", "watchdog", "fuse", "guard")
+_PROTECTIVE = re.compile(r"\b(?:" + "|".join(re.escape(w).replace(r"\ ", " ") for w in PROTECTIVE_WORDS)
+                         + r")(?:s|es|ed|d|ing)?\b")
 
 
 def is_protective(design: Design) -> bool:
-    """Whether the stage guards people or property: the design's ``protective`` flag, else its words."""
+    """Whether the stage guards people or property: the design's ``protective`` flag, else its words
+    (:data:`PROTECTIVE_WORDS`, whole words of the name and notes)."""
     if design.protective is not None:
         return design.protective
-    text = f"{design.name} {design.notes}".lower()
-    return any(word in text for word in PROTECTIVE_WORDS)
+    text = " ".join(re.sub(r"[-_/]", " ", f"{design.name} {design.notes}".lower()).split())
+    return _PROTECTIVE.search(text) is not None
 
 
 def _stage_at(design: Design, x: float, which: str) -> Design:
