@@ -2,8 +2,8 @@
 
 Every resistor on the + pin is a leg to a potential: the signal (non-inverting stage), the
 output (feedback), a rail, ground or the reference.  Where the far end of a leg is itself a
-node with a resistance of its own (the output behind its pull-up or output resistance, a
-reference divider), that node is replaced by its Thevenin equivalent, so the + pin is solved
+node with a resistance of its own (the output behind its pull-up or output resistance, and any
+load it drives; a reference divider), that node is replaced by its Thevenin equivalent, so the + pin is solved
 by Millman's theorem with the current drawn by the pin:
 
     V+ = (sum(V_k / R_k) - I_bias) / sum(1 / R_k)
@@ -40,8 +40,8 @@ ArrayLike = float | np.ndarray
 STATES = ("high", "low")
 
 
-def _driver(design: Design, p: Mapping[str, ArrayLike], state: str) -> tuple[ArrayLike, ArrayLike]:
-    """Thevenin equivalent (volts, ohms) of the output node, without the feedback leg."""
+def _output_stage(design: Design, p: Mapping[str, ArrayLike], state: str) -> tuple[ArrayLike, ArrayLike]:
+    """Thevenin equivalent (volts, ohms) of the output stage alone in one state."""
     if isinstance(design.output, OpenDrain):
         if state == "high":
             return p.get("output.pullup_volts", p["supply.positive"]), p["output.pullup"]
@@ -49,6 +49,20 @@ def _driver(design: Design, p: Mapping[str, ArrayLike], state: str) -> tuple[Arr
     if state == "high":
         return p["supply.positive"] - p["output.high_drop"], p["output.resistance"]
     return p["supply.negative"] + p["output.low_drop"], p["output.resistance"]
+
+
+def _driver(design: Design, p: Mapping[str, ArrayLike], state: str) -> tuple[ArrayLike, ArrayLike]:
+    """Thevenin equivalent (volts, ohms) of the output node, without the feedback leg.
+
+    A load (``load.resistance`` to ``load.volts``) is a second Thevenin source on the node, in
+    parallel with the output stage: V = (V_o R_L + V_L R_o) / (R_o + R_L), R = R_o R_L / (R_o + R_L),
+    which also holds for a stiff output (R_o = 0: the load changes nothing).
+    """
+    volts, ohms = _output_stage(design, p, state)
+    if "load.resistance" not in p:
+        return volts, ohms
+    r_load, v_load = p["load.resistance"], p["load.volts"]
+    return (volts * r_load + v_load * ohms) / (ohms + r_load), ohms * r_load / (ohms + r_load)
 
 
 def _reference(design: Design, p: Mapping[str, ArrayLike]) -> tuple[ArrayLike, ArrayLike]:
