@@ -71,6 +71,16 @@ def output_at(design: Design, state: str, signal: float) -> float:
     return float(out.subs({s: sympy.Rational(repr(signal)) for s in out.free_symbols if s.name == "vs"}))
 
 
+def pin_resistances(design: Design, state: str) -> tuple[float, float]:
+    """Resistance (ohms) the network presents to the + pin and to the - pin, every source at rest
+    (lcapy's impedance between the node and ground)."""
+    from lcapy import Circuit
+
+    text, minus = netlist(design, state)
+    cct = Circuit(text)
+    return tuple(float(cct.impedance(node, 0).sympy) for node in ("p", minus))  # type: ignore[return-value]
+
+
 def switching_point(design: Design, state: str) -> float:
     """The signal (open-circuit volts) where V+ - V- = offset with the output in ``state``."""
     from lcapy import Circuit

@@ -21,7 +21,7 @@ from bandcalc.model.design import (
     Source,
     Supply,
 )
-from bandcalc.model.network import switching_points
+from bandcalc.model.network import pin_resistances, switching_points
 from bandcalc.model.parts import parameters
 
 
@@ -233,3 +233,18 @@ def test_load_pulls_an_open_drain_high_level_down_by_hand():
     stiff = Design(**{**loaded.__dict__, "output": PushPull()})
     assert float(switching_points(stiff).upper) == pytest.approx(float(switching_points(
         Design(**{**stiff.__dict__, "load": None})).upper), abs=1e-12)
+
+
+@settings(max_examples=25, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(designs_with_loads())
+def test_pin_resistances_agree_with_lcapy(design):
+    # lcapy (PyPI): the impedance between each pin's node and ground with every source at rest is
+    # the resistance a clamp at that pin works against (the clamp current of the range checks).
+    pytest.importorskip("lcapy")
+    from circuit_reference import pin_resistances as reference
+
+    for state in ("high", "low"):
+        plus, minus = pin_resistances(design, parameters(design), state)
+        want_plus, want_minus = reference(design, state)
+        assert float(plus) == pytest.approx(want_plus, rel=1e-9, abs=1e-9)
+        assert float(minus) == pytest.approx(want_minus, rel=1e-9, abs=1e-9)

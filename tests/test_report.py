@@ -6,7 +6,16 @@ import pytest
 from markdown_it import MarkdownIt
 
 from bandcalc.cli.commands import main
-from bandcalc.model.design import Design, FixedReference, Resistors, Source, Supply
+from bandcalc.model.design import (
+    Design,
+    DividerReference,
+    FixedReference,
+    Load,
+    OpenDrain,
+    Resistors,
+    Source,
+    Supply,
+)
 from bandcalc.model.network import switching_points
 from bandcalc.model.operating import analyze
 from bandcalc.model.units import format_code, format_si, format_value
@@ -156,3 +165,29 @@ def test_fit_section(demo):
     best = r.candidates[0]
     assert f"| 1 | {format_code(best.resistors['feedback'])} |" in text
     assert sum(1 for line in text.splitlines() if line.startswith("| 3 |")) == 1
+
+
+def test_power_rating_in_the_table_and_the_findings_derate_the_same_way():
+    # By hand: a 600 / 600 Ohm divider on 12 V dissipates 60 mW in each half; derated twice (common
+    # practice) that needs 120 mW, more than the 100 mW of the default 0603 size.  The component
+    # table and the findings say the same; before, the table asked for a 1/8 W rating while the
+    # findings, comparing 60 mW with 0.1 W, said nothing.
+    d = Design(stage="non-inverting", supply=Supply(12.0), reference=DividerReference(600.0, 600.0),
+               resistors=Resistors(input=10e3, feedback=100e3))
+    text = design_summary(d)
+    (row,) = [line for line in text.splitlines() if line.startswith("| Rtop |")]
+    assert f"{format_si(0.06, 'W')}, needs {format_si(0.12, 'W')}" in row and "too small" in row
+    findings = text.split("## Findings")[1].split("##")[0]
+    said = f"Power: the divider, upper resistor (reference.top, Rtop) dissipates up to {format_si(0.06, 'W')}"
+    assert said in findings
+
+
+def test_the_load_and_the_receiving_logic_are_described():
+    d = Design(stage="inverting", supply=Supply(5.0), output=OpenDrain(pullup=10e3),
+               resistors=Resistors(to_positive=100e3, to_ground=100e3, feedback=1e6),
+               load=Load(resistance=10e3, volts=0.0, logic_low_max=0.8, logic_high_min=3.5))
+    text = design_summary(d)
+    stage = text.split("## The stage")[1].split("##")[0]
+    assert "drives a load of 10 kOhm (10k) to 0 V" in stage and "reads below 800 mV as low" in stage
+    assert "Logic levels: the output's high level falls to" in text
+    assert "- Note: Power-up: the input can rest between" in text

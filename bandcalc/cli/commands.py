@@ -63,7 +63,7 @@ def _analysis_table(path: str, a: Analysis) -> str:
         rows[1:1] = _watched_rows(a)
     lines = [f"{a.design.name or '(unnamed design)'}  [{path}]"]
     lines += [f"  {k:<18} {val}" for k, val in rows]
-    for title, items in (("findings", a.findings), ("cautions", a.cautions)):
+    for title, items in (("findings", a.warnings), ("cautions", a.cautions)):
         if items:
             lines.append(f"  {title}:")
             lines += [f"    - {item}" for item in items]
