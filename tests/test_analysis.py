@@ -309,6 +309,34 @@ def test_working_voltage_and_series_count_worked_by_hand():
     assert not _of(rated, "working_voltage") and not _of(rated, "power")
 
 
+@pytest.mark.parametrize("stage", list(CLEAN))
+def test_working_voltage_and_power_fire_on_either_stage(stage):
+    # The 400 V sense divider ahead of either clean stage: its 2 MOhm top resistor sees between
+    # 396 V (the node unloaded, by hand as above) and 400 V, whatever the stage draws from the
+    # node: six 0603 parts in series; the stage's own resistors are fine.
+    d = Design(**{**CLEAN[stage].__dict__, "source": Source(),
+                  "front_end": DividerFrontEnd(top=2e6, bottom=20e3, high=400.0)})
+    (f,) = _of(d, "working_voltage")
+    assert f.values["part"] == "front_end.top" and f.values["in_series"] == 6
+    assert 396.0 <= f.values["volts"] <= 400.0
+    assert [p.values["part"] for p in _of(d, "power")] == ["front_end.top"]
+    assert not _of(CLEAN[stage], "working_voltage") and not _of(CLEAN[stage], "power")
+
+
+def test_power_is_judged_over_the_range_not_at_a_point_the_input_never_reaches():
+    # Behind the 400 V divider the textbook stage would switch up at about 2.9 kV, far beyond the
+    # range: the input never gets there, so it may sit low over the whole range.  By hand (Millman
+    # at the divider's node): at 400 V with the output low the node sees 2 MOhm to 400 V, 20 kOhm
+    # to ground and the 1k input + 2k feedback to 0 V, so it sits at 0.5211 V and the top
+    # resistor takes 399.48 V: 79.8 mW, not the 4.1 W it would take at 2.9 kV.  Before, the
+    # switching points counted wherever they lay.
+    d = Design(**{**TEXTBOOK.__dict__, "front_end": DividerFrontEnd(top=2e6, bottom=20e3, high=400.0)})
+    a = analyze(d)
+    assert any(f.kind == "latches" for f in a.findings)
+    node = (400 / 2e6) / (1 / 2e6 + 1 / 20e3 + 1 / 3e3)
+    assert a.power["front_end.top"] == pytest.approx((400 - node) ** 2 / 2e6, rel=1e-9)
+
+
 def test_high_voltage_brings_the_creepage_and_clearance_caution():
     cautions = analyze(_mains_sense()).cautions
     assert any("Creepage and clearance" in c and "IEC 60664-1" in c and "licensed practice" in c

@@ -326,10 +326,12 @@ def _stage_at(design: Design, x: float, which: str) -> Design:
 
 def _power(design: Design, w: DesignPoints) -> dict[str, float]:
     """Worst power in each part, a front end's own included, over the input's range and at both
-    points (a front end's resistance, and so the stage's, may move with the input)."""
+    points where the input reaches them (a front end's resistance, and so the stage's, may move
+    with the input)."""
     worst: dict[str, float] = {}
-    xs = [*input_range(design), *(float(x) for x in (w.at_stage_upper, w.at_stage_lower))]
-    for x in (x for x in xs if not math.isnan(x)):
+    low, high = input_range(design)
+    xs = [low, high, *(float(x) for x in (w.at_stage_upper, w.at_stage_lower))]
+    for x in (x for x in xs if low <= x <= high):
         parts = [_worst_power(stage_design(design, x))]
         parts += [front_end_power(design, x, state) for state in ("high", "low")]
         for part in parts:
