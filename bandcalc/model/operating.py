@@ -29,6 +29,7 @@ from bandcalc.model.points import (
 )
 from bandcalc.model.range_checks import range_findings, rating_findings, rest_band
 from bandcalc.model.units import format_si, format_value
+from bandcalc.model.units import format_volts as _v
 
 __all__ = [
     "HAZARD_VOLTS",
@@ -49,10 +50,6 @@ PULLUP_RATIO = 0.1
 # Voltages above about 50 V call for the usual cautions (extra-low-voltage limits of IEC 61140 and
 # IEC 60364-4-41, from memory: 50 V a.c. / 120 V ripple-free d.c.; 50 V is the conservative figure).
 HAZARD_VOLTS = 50.0
-
-
-def _v(x: float) -> str:
-    return format_si(x, "V", 4)
 
 
 def branch_currents(design: Design, nodes: Nodes, signal: float, state: str) -> dict[str, float]:

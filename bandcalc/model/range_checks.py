@@ -35,6 +35,7 @@ from bandcalc.model.parts import parameters, part, resistors_of
 from bandcalc.model.points import DesignPoints, input_range, stage_design, volts_for
 from bandcalc.model.ratings import power_needed, rating_of, series_count, size_for
 from bandcalc.model.units import format_si, format_value
+from bandcalc.model.units import format_volts as _v
 
 __all__ = ["INPUT_CURRENT_LIMIT", "RAIL_MARGIN", "Sample", "range_findings", "rating_findings", "rest_band",
            "samples"]
@@ -99,10 +100,6 @@ def samples(design: Design, points: DesignPoints) -> list[Sample]:
             out.append(Sample(x, name if state == arriving else None, state, float(nodes.plus),
                               float(nodes.minus), float(nodes.output), float(r_plus), float(r_minus)))
     return out
-
-
-def _v(x: float) -> str:
-    return format_si(x, "V", 4)
 
 
 class _Where:

@@ -18,6 +18,7 @@ __all__ = [
     "format_ohms",
     "format_si",
     "format_value",
+    "format_volts",
     "parse_quantity",
     "parse_resistance",
 ]
@@ -144,6 +145,11 @@ def format_si(value: float, unit: str, digits: int = 3) -> str:
     scaled = _round(mag / 10.0**exponent, digits)
     sign = "-" if value < 0 else ""
     return f"{sign}{_plain(scaled, digits)} {prefix}{unit}".rstrip()
+
+
+def format_volts(volts: float) -> str:
+    """A voltage as findings and summaries write it: four significant figures, "2.949 V"."""
+    return format_si(volts, "V", 4)
 
 
 # Units that take SI prefixes; any other unit (C, kPa, %) prints as a plain figure.
