@@ -205,33 +205,32 @@ def _differential(design: Design, found: list[Sample], where: _Where) -> list[Fi
                     {"volts": diff, "limit": limit, "at": s.at, "unit": where.unit})]
 
 
+# Per output state: how a level misses, what the receiving input does with the threshold, the
+# load's key for it, and what helps.
+_LEVELS = {
+    "high": ("falls to", "below", "needs to read a high", "logic_high_min",
+             "A stronger pull-up, a lighter load or a buffer raises it."),
+    "low": ("rises to", "above", "still reads as low", "logic_low_max",
+            "An output that sinks closer to its rail, a lighter load or a buffer lowers it."),
+}
+
+
 def _logic_levels(design: Design, found: list[Sample], where: _Where) -> list[Finding]:
+    """Each output level at its worst over the range against the receiving input's threshold."""
     load = design.load
-    if load is None:
-        return []
-    out = []
-    highs = [s for s in found if s.state == "high"]
-    lows = [s for s in found if s.state == "low"]
-    if load.logic_high_min is not None and highs:
-        s = min(highs, key=lambda s: s.output)
-        margin = s.output - load.logic_high_min
+    out: list[Finding] = []
+    for state, (moves, side, reads, key, helps) in _LEVELS.items():
+        threshold = None if load is None else getattr(load, key)
+        reached = [s for s in found if s.state == state]
+        if threshold is None or not reached:
+            continue
+        s = (min if state == "high" else max)(reached, key=lambda x: x.output)
+        margin = s.output - threshold if state == "high" else threshold - s.output
         if margin < 0:
             out.append(Finding("logic_levels", (
-                f"Logic levels: the output's high level falls to {_v(s.output)} {where(s)}, below the "
-                f"{_v(load.logic_high_min)} the receiving input needs to read a high (load.logic_high_min): "
-                f"short by {_v(-margin)}. A stronger pull-up, a lighter load or a buffer raises it."),
-                {"output_state": "high", "volts": s.output, "threshold": load.logic_high_min,
-                 "margin": margin, "at": s.at, "unit": where.unit}))
-    if load.logic_low_max is not None and lows:
-        s = max(lows, key=lambda s: s.output)
-        margin = load.logic_low_max - s.output
-        if margin < 0:
-            out.append(Finding("logic_levels", (
-                f"Logic levels: the output's low level rises to {_v(s.output)} {where(s)}, above the "
-                f"{_v(load.logic_low_max)} the receiving input still reads as low (load.logic_low_max): "
-                f"short by {_v(-margin)}. An output that sinks closer to its rail, a lighter load or a "
-                f"buffer lowers it."),
-                {"output_state": "low", "volts": s.output, "threshold": load.logic_low_max, "margin": margin,
+                f"Logic levels: the output's {state} level {moves} {_v(s.output)} {where(s)}, {side} the "
+                f"{_v(threshold)} the receiving input {reads} (load.{key}): short by {_v(-margin)}. {helps}"),
+                {"output_state": state, "volts": s.output, "threshold": threshold, "margin": margin,
                  "at": s.at, "unit": where.unit}))
     return out
 
