@@ -12,6 +12,7 @@ from bandcalc.model.design import (
     Design,
     DividerReference,
     FixedReference,
+    Load,
     OpenDrain,
     PushPull,
     Resistors,
@@ -20,7 +21,8 @@ from bandcalc.model.design import (
 )
 from bandcalc.model.front_end import DividerFrontEnd, LinearFrontEnd, ThermistorFrontEnd
 
-__all__ = ["designs", "designs_with_front_ends", "front_ends", "ohms", "three_resistor_stages"]
+__all__ = ["designs", "designs_with_front_ends", "designs_with_loads", "front_ends", "ohms",
+           "three_resistor_stages"]
 
 # Resistances from 1 kOhm to 1 MOhm, rounded to four significant figures as a part value is written.
 ohms = st.floats(1e3, 1e6).map(lambda x: float(f"{x:.4g}"))
@@ -77,6 +79,16 @@ def designs_with_front_ends(draw):
     """A stage from :func:`designs` with a front end from :func:`front_ends`."""
     design = draw(designs())
     return Design(**{**design.__dict__, "front_end": draw(front_ends(design))})
+
+
+@st.composite
+def designs_with_loads(draw):
+    """A stage from :func:`designs` whose output drives a resistive load (100 Ohm to 1 MOhm) to a
+    voltage between the rails or beyond them."""
+    design = draw(designs())
+    vn, vp = design.supply.negative, design.supply.positive
+    load = Load(resistance=draw(st.floats(100.0, 1e6)), volts=draw(st.floats(vn - 5.0, vp + 5.0)))
+    return Design(**{**design.__dict__, "load": load})
 
 
 def three_resistor_stages():

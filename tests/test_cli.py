@@ -94,3 +94,43 @@ def test_tables_show_terminal_controls_as_escapes(command, tmp_path, capsys, dem
     out = capsys.readouterr().out
     assert not set(out) & {"\x1b", "\x07", "\x9b", "\u202e"}, "a control character reached the terminal"
     assert "\\u001b" in out and "\\u202e" in out  # shown, so the reader sees what is there
+
+
+def _strict(text: str):
+    """json.loads that refuses NaN and Infinity (strict JSON)."""
+    def refuse(name):
+        raise ValueError(f"not strict JSON: {name}")
+    return json.loads(text, parse_constant=refuse)
+
+
+def test_json_findings_beside_the_warnings(tmp_path, capsys):
+    # The - pin of a 5 V comparator fed through 10 kOhm from a signal reaching 12 V: by hand,
+    # (12 - 5) V / 10 kOhm = 0.7 mA through its clamp.
+    path = tmp_path / "over.json"
+    path.write_text(json.dumps({
+        "format": 1, "stage": "inverting", "supply": {"positive": 5},
+        "resistors": {"input": "10k", "to_positive": "100k", "to_ground": "100k", "feedback": "1M"},
+        "source": {"high": 12}, "load": {"resistance": "1k", "logic_high_min": 4.9},
+        "output": {"kind": "push-pull", "resistance": 100},
+        "comparator": {"input_current_limit": "5m"}}))
+    assert main(["analyze", str(path), "--json"]) == 0
+    out = _strict(capsys.readouterr().out)
+    kinds = [f["kind"] for f in out["findings"]]
+    assert "input_beyond_rail" in kinds and "logic_levels" in kinds
+    assert all(isinstance(f["message"], str) for f in out["findings"])
+    assert out["warnings"] == [f["message"] for f in out["findings"]]
+    (clamp,) = [f for f in out["findings"] if f["kind"] == "input_beyond_rail"]
+    assert clamp["clamp_current"] == pytest.approx(0.7e-3) and clamp["current_limit"] == 5e-3
+    assert out["protective"] is False
+
+
+def test_json_is_strict_where_a_number_does_not_exist(tmp_path, capsys):
+    # A reference beyond the rail: nothing limits the clamp current, which is null, not Infinity.
+    path = tmp_path / "ref.json"
+    path.write_text(json.dumps({
+        "format": 1, "stage": "non-inverting", "supply": {"positive": 5}, "reference": {"volts": 6},
+        "resistors": {"input": "1k", "feedback": "10k"}, "source": {"high": 20}}))
+    assert main(["analyze", str(path), "--json"]) == 0
+    out = _strict(capsys.readouterr().out)
+    (clamp,) = [f for f in out["findings"] if f["kind"] == "input_beyond_rail" and f["pin"] == "-"]
+    assert clamp["clamp_current"] is None

@@ -264,7 +264,7 @@ def test_greenhouse_reads_in_celsius_with_the_direction_turned(demo):
     # The fan (output high) comes on as the temperature rises through the upper watched point.
     assert a.rising_output == "high"
     heating = "Self-heating: at its switching points the thermistor dissipates up to 622 µW (at 27.94 C)"
-    assert any(f.startswith(heating) for f in a.findings)
+    assert any(f.startswith(heating) for f in a.warnings)
 
 
 def test_thermistor_dissipation_by_hand(demo):
@@ -280,23 +280,24 @@ def test_thermistor_dissipation_by_hand(demo):
 def test_no_self_heating_finding_for_a_high_value_divider(demo):
     design = demo(GREENHOUSE)
     cool = Design(**{**design.__dict__, "front_end": ThermistorFrontEnd(fixed=100e3, r25=100e3, beta=4250.0)})
-    assert not any(f.startswith("Self-heating") for f in analyze(cool).findings)
+    assert not any(f.startswith("Self-heating") for f in analyze(cool).warnings)
 
 
 def test_latch_is_judged_in_the_watched_quantity(demo):
     design = demo(SOLAR)
     short = Design(**{**design.__dict__, "front_end": DividerFrontEnd(240e3, 62e3, low=0.0, high=12.0)})
-    (latch,) = [f for f in analyze(short).findings if f.startswith("Latches")]
+    (latch,) = [f for f in analyze(short).warnings if f.startswith("Latches")]
     assert "upper switching point" in latch
     assert "12.78 V (2.623 V at the stage) is above the highest value the input reaches (12 V)" in latch
-    assert not any(f.startswith("Latches") for f in analyze(design).findings)
+    assert not any(f.startswith("Latches") for f in analyze(design).warnings)
 
 
 def test_caution_when_the_front_end_watches_a_hazardous_voltage(demo):
     # A rectified 230 V mains bus (325 V peak) watched through a 1 MOhm / 10 kOhm divider.
     design = _stage(front_end=DividerFrontEnd(1e6, 10e3, low=0.0, high=400.0),
                     resistors=Resistors(input=10e3, feedback=1e6))
-    (caution,) = analyze(design).cautions
+    caution, spacing = analyze(design).cautions
+    assert "IEC 60664-1" in spacing and "400 V" in spacing
     assert "400 V" in caution and "not a safety-rated protection" in caution and "local codes" in caution
     assert not any(c.startswith("Hazardous") for c in analyze(demo(SOLAR)).cautions)
 

@@ -1,16 +1,21 @@
 """The design summary: content, valid CommonMark, escaping and the embedded design."""
 
-import dataclasses
 import datetime as dt
 
 import pytest
-from hypothesis import given, settings
-from hypothesis import strategies as st
 from markdown_it import MarkdownIt
 
 from bandcalc.cli.commands import main
-from bandcalc.cli.visible_text import visible_text
-from bandcalc.model.design import Design, FixedReference, Resistors, Source, Supply
+from bandcalc.model.design import (
+    Design,
+    DividerReference,
+    FixedReference,
+    Load,
+    OpenDrain,
+    Resistors,
+    Source,
+    Supply,
+)
 from bandcalc.model.network import switching_points
 from bandcalc.model.operating import analyze
 from bandcalc.model.units import format_code, format_si, format_value
@@ -176,142 +181,27 @@ def test_fit_section(demo):
     assert sum(1 for line in text.splitlines() if line.startswith("| 3 |")) == 1
 
 
-# --- Hostile text anywhere the summary shows it (unit, name, notes) ----------------------------------
-
-def _planted(design) -> str:
-    """A second design (feedback 1k instead of the original's) wrapped as a summary's closing block."""
-    from bandcalc.model.design_file import design_to_json
-    from bandcalc.model.parts import with_value
-
-    other = design_to_json(with_value(design, "resistors.feedback", 1e3))
-    return f"x\n\n## Design file\n\n```json\n{other}```\n"
-
-
-def _linear(unit: str, **changes):
-    # A linear sensor (0.5 V + 20 mV per unit) ahead of the solar demo's stage: its unit is user text.
-    from bandcalc.demos import load_demo
-    from bandcalc.model.front_end import LinearFrontEnd
-
-    d = load_demo("solar_battery_disconnect")
-    return dataclasses.replace(d, front_end=LinearFrontEnd(volts_per_unit=0.02, unit=unit, offset=0.5,
-                                                           resistance=100.0), **changes)
-
-
-HOSTILE_UNITS = [
-    "<script>alert(1)</script>",
-    "kPa | evil | cell",
-    "[kPa](http://example.invalid/x)",
-    "![u](http://example.invalid/u.png)",
-    "kPa\n# planted heading",
-    "*kPa*_`x`_",
-    "kPa  \n  \n    indented code",
-    "kPa\n\n## Design file",
-]
-
-
-def _all_sections(d):
-    """The summary of ``d`` with every optional section: spread, fit and signal run."""
-    from bandcalc.fit.selection import fit
-    from bandcalc.outputs.summary import SummaryInputs
-    from bandcalc.spread.propagation import spread
-
-    a = analyze(d)
-    up, low = float(a.points.upper), float(a.points.lower)
-    wave = synthesize("triangle", 0.5 * (up + low), 2 * (up - low), 50, 0.04, 20e3, noise_rms=0.01, seed=1)
-    inputs = SummaryInputs(spread=spread(d, samples=1_000), fit=fit(d, up + 0.5, low - 0.5, count=2),
-                           signal=run_design(d, wave))
-    return design_summary(d, inputs, today=dt.date(2026, 12, 1))
-
-
-EVERY_SECTION = ["Purpose and notes", "The stage", "Components", "Switching points",
-                 "Spread over tolerances and temperature", "Standard values fitted to the targets",
-                 "Noise and delay", "Findings", "Assumptions", "Cautions", "Design file"]
-
-
-def _no_markup_from_user(tokens):
-    """No HTML, link or image anywhere; exactly one fenced block (the design file) and it closes."""
-    flat = [t for tok in tokens for t in [tok, *(tok.children or [])]]
-    kinds = {t.type for t in flat}
-    assert not kinds & {"html_inline", "html_block", "link_open", "image"}, kinds
-    fences = [t for t in tokens if t.type in ("fence", "code_block")]
-    assert [t.info for t in fences] == ["json"] and tokens[-1] is fences[0]
-
-
-@pytest.mark.parametrize("unit", HOSTILE_UNITS, ids=range(len(HOSTILE_UNITS)))
-def test_hostile_unit_stays_text_in_every_section(unit):
-    # markdown-it-py (PyPI), CommonMark preset with GFM tables, parses the summary.
-    d = _linear(unit)
-    text = _all_sections(d)
-    tokens = _tokens(text)
-    _no_markup_from_user(tokens)
-    assert _headings(tokens) == [d.name, *EVERY_SECTION]
-    # The reader sees the unit as typed (on one line) in the switching-points table.
-    shown = " ".join(unit.split())
-    cells = ["".join(c.content for c in t.children) for t in tokens if t.type == "inline"]
-    assert any(cell.endswith(f" {shown}") for cell in cells)
-    assert design_from_summary(text) == d
-
-
-def test_unit_cannot_plant_a_second_design():
-    d = _linear("kPa")
-    hostile = _linear("kPa\n" + _planted(d))
-    text = design_summary(hostile)
-    _no_markup_from_user(_tokens(text))
-    assert design_from_summary(text) == hostile  # not the planted feedback of 1k
-    assert design_from_summary(text).resistors.feedback == d.resistors.feedback
-
-
-@pytest.mark.parametrize("where", ["name", "notes"])
-def test_name_or_notes_cannot_plant_a_second_design(where, demo):
-    d = demo("sump_level_switch")
-    hostile = dataclasses.replace(d, **{where: "Before\n" + _planted(d) + "\n````\nafter"})
-    text = design_summary(hostile)
-    tokens = _tokens(text)
-    _no_markup_from_user(tokens)
-    assert _headings(tokens)[1:] == ["Purpose and notes", "The stage", "Components", "Switching points",
-                                     "Findings", "Assumptions", "Design file"]
-    assert design_from_summary(text) == hostile
-
-
-def test_rebuild_takes_only_the_closing_block(demo):
-    from bandcalc.errors import DesignError
-
-    d = demo("sump_level_switch")
+def test_power_rating_in_the_table_and_the_findings_derate_the_same_way():
+    # By hand: a 600 / 600 Ohm divider on 12 V dissipates 60 mW in each half; derated twice (common
+    # practice) that needs 120 mW, more than the 100 mW of the default 0603 size.  The component
+    # table and the findings say the same; before, the table asked for a 1/8 W rating while the
+    # findings, comparing 60 mW with 0.1 W, said nothing.
+    d = Design(stage="non-inverting", supply=Supply(12.0), reference=DividerReference(600.0, 600.0),
+               resistors=Resistors(input=10e3, feedback=100e3))
     text = design_summary(d)
-    # A design block earlier in the document (an edited summary) is not the design file.
-    head, sep, rest = text.partition("## Purpose and notes")
-    assert design_from_summary(head + _planted(d) + "\n" + sep + rest) == d
-    # The design file must close the summary: text after it, or no block at all, is refused.
-    with pytest.raises(DesignError, match="closing"):
-        design_from_summary(text + "\nA line added after the design file.\n")
-    with pytest.raises(DesignError, match="closing"):
-        design_from_summary(head)
-    # Line endings written by another system still read.
-    assert design_from_summary(text.replace("\n", "\r\n")) == d
+    (row,) = [line for line in text.splitlines() if line.startswith("| Rtop |")]
+    assert f"{format_si(0.06, 'W')}, needs {format_si(0.12, 'W')}" in row and "too small" in row
+    findings = text.split("## Findings")[1].split("##")[0]
+    said = f"Power: the divider, upper resistor (reference.top, Rtop) dissipates up to {format_si(0.06, 'W')}"
+    assert said in findings
 
 
-# Characters that open Markdown constructs, drawn often, among any others.
-MARKUP = st.sampled_from([*"-+=*_#>`~<&[]()!|\\:. \t\n\r123a", "1. ", "- ", "```", "    ", "\x1b", "\u202e"])
-
-
-@settings(deadline=None)
-@given(st.lists(MARKUP | st.characters(), max_size=60).map("".join))
-def test_any_text_escapes_to_plain_paragraphs_that_read_as_typed(text):
-    # Whatever is typed, markdown-it-py (CommonMark preset with GFM tables) finds only
-    # paragraphs of plain text, and that text is what was typed: each line without its outer
-    # whitespace, controls shown as escapes.
-    tokens = _tokens(escape_text(text))
-    assert {t.type for t in tokens} <= {"paragraph_open", "inline", "paragraph_close"}
-    children = [c for t in tokens if t.type == "inline" for c in t.children]
-    assert {c.type for c in children} <= {"text", "softbreak", "hardbreak"}
-    shown = "".join(c.content for c in children if c.type == "text")
-    assert shown == "".join(visible_text(line.strip()) for line in text.splitlines())
-
-
-def test_a_lone_surrogate_is_shown_and_the_summary_still_writes(tmp_path, demo):
-    # "\ud800" is half a UTF-16 pair: no UTF-8 file can hold it raw (Unicode 15, section 3.9).
-    d = dataclasses.replace(demo("sump_level_switch"), name="Pump \ud800", notes="a \udfff b")
+def test_the_load_and_the_receiving_logic_are_described():
+    d = Design(stage="inverting", supply=Supply(5.0), output=OpenDrain(pullup=10e3),
+               resistors=Resistors(to_positive=100e3, to_ground=100e3, feedback=1e6),
+               load=Load(resistance=10e3, volts=0.0, logic_low_max=0.8, logic_high_min=3.5))
     text = design_summary(d)
-    (tmp_path / "summary.md").write_text(text, encoding="utf-8")
-    assert "# Pump \\\\ud800" in text
-    assert design_from_summary((tmp_path / "summary.md").read_text(encoding="utf-8")) == d
+    stage = text.split("## The stage")[1].split("##")[0]
+    assert "drives a load of 10 kOhm (10k) to 0 V" in stage and "reads below 800 mV as low" in stage
+    assert "Logic levels: the output's high level falls to" in text
+    assert "- Note: Power-up: the input can rest between" in text

@@ -64,7 +64,7 @@ def _analysis_table(path: str, a: Analysis) -> str:
         rows[1:1] = _watched_rows(a)
     lines = [_heading(a.design, path)]
     lines += [f"  {k:<18} {val}" for k, val in rows]
-    lines += _listed((("findings", a.findings), ("cautions", a.cautions)))
+    lines += _listed((("findings", a.warnings), ("cautions", a.cautions)))
     return "\n".join(lines)
 
 

@@ -16,6 +16,7 @@ from bandcalc.model.validation import finite, not_negative, positive
 
 if TYPE_CHECKING:
     from bandcalc.model.front_end import FrontEnd
+    from bandcalc.model.ratings import Ratings
     from bandcalc.model.tolerances import Tolerances
 
 __all__ = [
@@ -28,6 +29,7 @@ __all__ = [
     "DesignError",
     "DividerReference",
     "FixedReference",
+    "Load",
     "OpenDrain",
     "PushPull",
     "Resistors",
@@ -151,10 +153,42 @@ class OpenDrain:
 
 
 @dataclass(frozen=True)
+class Load:
+    """What the output drives: a DC load and the receiving input's logic thresholds.
+
+    ``resistance`` (ohms) runs from the output to ``volts`` (default 0 V, ground); it is part of the
+    network, so it moves the output levels and with them the switching points.  ``logic_low_max``
+    is the highest voltage the receiving input still reads as low, ``logic_high_min`` the lowest it
+    reads as high (its data sheet's input thresholds).  Each is optional.
+    """
+
+    resistance: float | None = None
+    volts: float = 0.0
+    logic_low_max: float | None = None
+    logic_high_min: float | None = None
+
+    def __post_init__(self) -> None:
+        if self.resistance is not None:
+            positive(self.resistance, "load.resistance")
+        finite(self.volts, "load.volts")
+        for key in ("logic_low_max", "logic_high_min"):
+            if getattr(self, key) is not None:
+                finite(getattr(self, key), f"load.{key}")
+        if (self.logic_low_max is not None and self.logic_high_min is not None
+                and self.logic_low_max >= self.logic_high_min):
+            raise DesignError(f"load: logic_low_max ({self.logic_low_max} V) must be below "
+                              f"logic_high_min ({self.logic_high_min} V)")
+
+
+@dataclass(frozen=True)
 class Comparator:
-    """The comparator's input errors, optional common-mode input range and propagation delay.
+    """The comparator's input errors, its input limits and propagation delay.
 
     The stage switches where V+ - V- = offset; ``bias_current`` flows into each input pin.
+    ``common_mode_low`` / ``common_mode_high`` bound the input voltage range over which the part
+    works as specified; ``input_current_limit`` (A) is the most its input protection may carry
+    (None: :data:`bandcalc.model.range_checks.INPUT_CURRENT_LIMIT`); ``differential_max`` (V) the
+    largest difference between the pins it takes (None: not checked).
     """
 
     offset: float = 0.0
@@ -162,11 +196,16 @@ class Comparator:
     common_mode_low: float | None = None
     common_mode_high: float | None = None
     delay: float = 0.0
+    input_current_limit: float | None = None
+    differential_max: float | None = None
 
     def __post_init__(self) -> None:
         finite(self.offset, "comparator.offset")
         finite(self.bias_current, "comparator.bias_current")
         not_negative(self.delay, "comparator.delay")
+        for key in ("input_current_limit", "differential_max"):
+            if getattr(self, key) is not None:
+                positive(getattr(self, key), f"comparator.{key}")
         for key in ("common_mode_low", "common_mode_high"):
             if getattr(self, key) is not None:
                 finite(getattr(self, key), f"comparator.{key}")
@@ -211,6 +250,8 @@ class Design:
     notes: str = ""
     tolerances: Tolerances | None = None  # spread of the parts; None: see bandcalc.spread.propagation
     protective: bool | None = None  # guards people or property; None: judged from name and notes
+    load: Load | None = None  # what the output drives; None: nothing but the network
+    ratings: Ratings | None = None  # resistor ratings (bandcalc.model.ratings); None: the default size
 
     def __post_init__(self) -> None:
         if self.stage not in STAGES:

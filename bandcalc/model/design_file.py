@@ -20,6 +20,7 @@ from bandcalc.model.design import (
     Design,
     DividerReference,
     FixedReference,
+    Load,
     OpenDrain,
     PushPull,
     Resistors,
@@ -27,6 +28,7 @@ from bandcalc.model.design import (
     Supply,
 )
 from bandcalc.model.front_end import front_end_from_dict
+from bandcalc.model.ratings import ratings_from_dict, ratings_to_dict
 from bandcalc.model.tolerances import ToleranceError, Tolerances, tolerances_from_dict, tolerances_to_dict
 from bandcalc.model.units import UnitError, parse_quantity, parse_resistance
 from bandcalc.model.validation import section
@@ -41,11 +43,12 @@ __all__ = [
 ]
 
 _TOP_KEYS = ("format", "name", "notes", "stage", "supply", "reference", "resistors", "output",
-             "comparator", "source", "tolerances", "front_end", "protective")
+             "comparator", "source", "tolerances", "front_end", "protective", "load", "ratings")
 _UNITS = {"volts": "V", "offset": "V", "bias_current": "A", "delay": "s", "load_capacitance": "F",
           "high_drop": "V", "low_drop": "V", "pullup_volts": "V", "low_volts": "V",
           "positive": "V", "negative": "V", "common_mode_low": "V", "common_mode_high": "V",
-          "low": "V", "high": "V"}
+          "low": "V", "high": "V", "logic_low_max": "V", "logic_high_min": "V",
+          "input_current_limit": "A", "differential_max": "V"}
 _OHM_KEYS = {"resistance", "pullup", "top", "bottom", *RESISTOR_KEYS}
 
 
@@ -129,6 +132,8 @@ def design_from_dict(data: Any) -> Design:
         notes=data.get("notes", ""),
         protective=data.get("protective"),
         tolerances=_tolerances_from(data.get("tolerances")),
+        load=None if data.get("load") is None else _plain_section(Load, data["load"], "load"),
+        ratings=None if data.get("ratings") is None else ratings_from_dict(data["ratings"]),
     )
 
 
@@ -161,6 +166,10 @@ def design_to_dict(design: Design) -> dict:
         out["tolerances"] = tolerances_to_dict(design.tolerances)
     if design.front_end is not None:
         out["front_end"] = design.front_end.to_dict()
+    if design.load is not None:
+        out["load"] = _dropping_none(design.load)
+    if design.ratings is not None:
+        out["ratings"] = ratings_to_dict(design.ratings)
     return out
 
 

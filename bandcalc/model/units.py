@@ -21,6 +21,7 @@ __all__ = [
     "format_ohms",
     "format_si",
     "format_value",
+    "format_volts",
     "parse_quantity",
     "parse_resistance",
 ]
@@ -174,6 +175,11 @@ def format_si(value: float, unit: str, digits: int = 3, *, micro: str = MICRO) -
     sign = "-" if value < 0 else ""
     prefix = micro if prefix == MICRO else prefix
     return f"{sign}{_plain(scaled, digits)} {prefix}{unit}".rstrip()
+
+
+def format_volts(volts: float) -> str:
+    """A voltage as findings and summaries write it: four significant figures, "2.949 V"."""
+    return format_si(volts, "V", 4)
 
 
 #: SI units that the parser reads after a prefix ("100 nA").

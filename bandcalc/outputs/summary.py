@@ -24,6 +24,7 @@ from bandcalc.model.design_file import design_from_json, design_to_dict
 from bandcalc.model.front_end import DividerFrontEnd, LinearFrontEnd, ThermistorFrontEnd
 from bandcalc.model.operating import Analysis, analyze
 from bandcalc.model.parts import part, resistors_of, tolerance_of
+from bandcalc.model.ratings import power_needed, rating_of, series_count, size_for
 from bandcalc.model.units import format_code, format_si, format_value
 
 __all__ = [
@@ -34,12 +35,6 @@ __all__ = [
     "escape_text",
     "stage_in_words",
 ]
-
-# Standard power ratings of common resistor packages (W), smallest first (common practice).
-POWER_RATINGS = ((0.0625, "1/16 W"), (0.1, "1/10 W"), (0.125, "1/8 W"), (0.25, "1/4 W"),
-                 (0.5, "1/2 W"), (1.0, "1 W"), (2.0, "2 W"))
-# Choose a rating at least twice the worst dissipation (common practice derating).
-DERATING = 2.0
 
 # Characters that can open markup anywhere in a line (GFM tables and strikethrough included);
 # < > & become entities instead, so no HTML can pass.
@@ -90,21 +85,35 @@ class SummaryInputs:
     signal: object | None = None
 
 
-def _rating(watts: float) -> str:
-    need = watts * DERATING
-    for watts_rated, label in POWER_RATINGS:
-        if watts_rated >= need:
-            return label
-    return "above 2 W: use a power resistor"
+def _power_cell(watts: float, volts: float, design: Design, key: str) -> str:
+    """Worst power, what it needs derated, and whether the part's rating takes it (the findings'
+    rule, :func:`bandcalc.model.ratings.power_needed`)."""
+    rating, needed = rating_of(design, key), power_needed(watts)
+    held = f"{format_si(rating.watts, 'W')} as {rating.size}" if rating.size else format_si(rating.watts, "W")
+    if needed <= rating.watts:
+        return f"{format_si(watts, 'W')}, needs {format_si(needed, 'W')} ({held}: enough)"
+    bigger = size_for(volts, watts)
+    return (f"{format_si(watts, 'W')}, needs {format_si(needed, 'W')} ({held}: too small; "
+            f"{f'a {bigger} takes it' if bigger else 'use a power resistor'})")
+
+
+def _voltage_cell(volts: float, design: Design, key: str) -> str:
+    """Worst voltage across the part against its working voltage, and how many in series would do."""
+    rating = rating_of(design, key)
+    text = f"{_v(volts)} (rated {_v(rating.volts)})"
+    if volts > rating.volts:
+        text += f": too high, {series_count(volts, rating.volts)} in series"
+    return text
 
 
 def component_rows(a: Analysis) -> list[dict[str, str]]:
-    """One row per part: designator, position, value, series, tolerance, power."""
+    """One row per part: designator, position, value, series, tolerance, power and voltage."""
     d = a.design
     rows = []
     for key, ohms in resistors_of(d).items():
         row, t = part(key), tolerance_of(d, key)
         watts = a.power.get(key, 0.0)
+        volts = (watts * ohms) ** 0.5
         rows.append({
             "designator": row.designator,
             "position": row.position.format(pin="-" if d.inverting else "+"),
@@ -112,7 +121,8 @@ def component_rows(a: Analysis) -> list[dict[str, str]]:
             "value": _ohm(ohms),
             "series": t.series or "none",
             "tolerance": f"{t.percent:g} % ({t.why})",
-            "power": f"{format_si(watts, 'W')} (rate {_rating(watts)})",
+            "power": _power_cell(watts, volts, d, key),
+            "voltage": _voltage_cell(volts, d, key),
         })
     fe = d.front_end
     if isinstance(fe, ThermistorFrontEnd):
@@ -124,8 +134,9 @@ def component_rows(a: Analysis) -> list[dict[str, str]]:
             "designator": "TH1", "position": f"NTC thermistor, {fe.position} of its divider",
             "key": "front_end.thermistor", "value": f"{format_si(fe.nominal_r25, 'Ohm')} at 25 C, {model}",
             "series": "n/a", "tolerance": ", ".join(t for t in tol if t) or "not given",
-            "power": "see the self-heating finding" if any("Self-heating" in f for f in a.findings)
+            "power": "see the self-heating finding" if any(f.kind == "self_heating" for f in a.findings)
             else "negligible self-heating",
+            "voltage": "n/a",
         })
     return rows
 
@@ -161,12 +172,27 @@ def stage_in_words(d: Design) -> str:
         parts.append(f"Push-pull output, {_v(out.high_drop)} below the positive rail when high, "
                      f"{_v(out.low_drop)} above the negative rail when low, "
                      f"{format_si(out.resistance, 'Ohm')} output resistance.")
-    parts += _front_end_words(d)
+    parts += _front_end_words(d) + _load_words(d)
     c = d.comparator
     parts.append(f"Comparator: offset {_v(c.offset)}, bias current {format_si(c.bias_current, 'A')} "
                  f"into each pin, propagation delay {format_si(c.delay, 's')}; "
                  f"source resistance {format_si(d.source.resistance, 'Ohm')}.")
     return " ".join(parts)
+
+
+def _load_words(d: Design) -> list[str]:
+    load = d.load
+    if load is None:
+        return []
+    out = []
+    if load.resistance is not None:
+        out.append(f"The output drives a load of {_ohm(load.resistance)} to {_v(load.volts)}, solved with "
+                   f"the network (it moves the output levels and the points).")
+    reads = [f"reads below {_v(load.logic_low_max)} as low" if load.logic_low_max is not None else "",
+             f"needs {_v(load.logic_high_min)} for a high" if load.logic_high_min is not None else ""]
+    if any(reads):
+        out.append(f"The receiving input {' and '.join(r for r in reads if r)}.")
+    return out
 
 
 def _front_end_words(d: Design) -> list[str]:
@@ -296,8 +322,16 @@ ASSUMPTIONS = (
     "pull-up for an open-drain output high and an ideal sink at the low level.",
     "Switching points are in volts of the signal source's open-circuit voltage, or in the watched "
     "quantity where a front end is given (the stage then sees the front end's Thevenin equivalent).",
-    "Resistor power is the largest over the signal's range in either output state (conservative); "
-    "ratings are chosen at twice that (common practice).",
+    "Resistor power and voltage are the largest over the signal's range in either output state "
+    "(conservative); a part is rated for at least twice its power (common practice) and for its "
+    "voltage as it is; sizes stand for typical data-sheet figures (from memory) unless the design gives "
+    "the part's own.",
+    "Pins, the difference between them and the output levels are checked over the whole range the input "
+    "reaches, at its ends and at the switching points, where their extremes lie (each node voltage is "
+    "monotonic in the input within one output state).",
+    "A pin driven past a rail is taken as held at the rail by its input clamp, the diode's drop "
+    "neglected (the clamp current is then a little overstated), each pin on its own; within 0.3 V of a "
+    "rail it counts as at the rail.",
 )
 
 
@@ -321,9 +355,10 @@ def design_summary(design: Design, inputs: SummaryInputs | None = None, *,
     md += ["## Purpose and notes", "", escape_text(d.notes) if d.notes.strip() else "_No notes given._", ""]
     md += ["## The stage", "", _line(stage_in_words(d)), ""]
     md += ["## Components", ""]
-    md += _table(["Designator", "Position", "Value", "Series", "Tolerance", "Power (worst)"],
-                  [[r["designator"], r["position"], r["value"], r["series"], r["tolerance"], r["power"]]
-                  for r in component_rows(a)])
+    md += _table(["Designator", "Position", "Value", "Series", "Tolerance", "Power (worst)",
+                  "Voltage (worst)"],
+                  [[r["designator"], r["position"], r["value"], r["series"], r["tolerance"], r["power"],
+                    r["voltage"]] for r in component_rows(a)])
     md += ["", "## Switching points", ""]
     md += _table(*_points_rows(a, inputs.spread))
     if inputs.spread is not None:
@@ -334,7 +369,8 @@ def design_summary(design: Design, inputs: SummaryInputs | None = None, *,
         md += ["", "## Noise and delay", ""] + _signal_section(inputs.signal, d.unit)
     findings_extra = list(inputs.spread.notes) if inputs.spread is not None else []
     md += ["", "## Findings", ""]
-    md += _items((*a.findings, *findings_extra)) or ["No findings: the checks found nothing to report."]
+    said = [f"{'Note: ' if f.level == 'note' else ''}{f.message}" for f in a.findings]
+    md += _items((*said, *findings_extra)) or ["No findings: the checks found nothing to report."]
     md += ["", "## Assumptions", ""] + _items(ASSUMPTIONS)
     if a.cautions:
         md += ["", "## Cautions", ""] + [f"> **Caution.** {_line(c)}" for c in a.cautions]
