@@ -87,7 +87,7 @@ def _hostile_file(tmp_path, demo_path):
 
 @pytest.mark.parametrize("command", [["analyze"], ["spread", "--samples", "1000"],
                                      ["fit", "--upper", "100.5", "--lower", "99", "--count", "2"],
-                                     ["signal", "--sweep"], ["report"]])
+                                     ["signal", "--sweep"], ["report"], ["netlist"]])
 def test_tables_show_terminal_controls_as_escapes(command, tmp_path, capsys, demo_path):
     path = _hostile_file(tmp_path, demo_path)
     assert main([command[0], path, *command[1:]]) == 0
@@ -134,3 +134,49 @@ def test_json_is_strict_where_a_number_does_not_exist(tmp_path, capsys):
     out = _strict(capsys.readouterr().out)
     (clamp,) = [f for f in out["findings"] if f["kind"] == "input_beyond_rail" and f["pin"] == "-"]
     assert clamp["clamp_current"] is None
+
+
+# --- netlist -------------------------------------------------------------------------------------
+
+def test_netlist_prints_without_o_and_writes_with_it(tmp_path, capsys, demo_path):
+    from bandcalc.demos import load_demo
+    from bandcalc.outputs.netlist import netlist
+
+    sump = demo_path("sump_level_switch")
+    assert main(["netlist", sump]) == 0
+    printed = capsys.readouterr().out
+    assert printed == netlist(load_demo("sump_level_switch"))
+    out = tmp_path / "sump.cir"
+    assert main(["netlist", sump, "-o", str(out)]) == 0
+    assert capsys.readouterr().out == "" and out.read_text(encoding="utf-8") == printed
+
+
+def test_netlist_signal_bench_takes_the_signal_options_and_a_recording(tmp_path, capsys, demo_path):
+    sump = demo_path("sump_level_switch")
+    assert main(["netlist", sump, "--bench", "signal", "--duration", "0.04", "--amplitude", "1.5"]) == 0
+    # Two periods of 50 Hz from the centre, where the run starts input-high: down, up, down.
+    assert capsys.readouterr().out.count(".meas tran edge_") == 3
+    wave = tmp_path / "w.csv"
+    rows = [f"{i * 1e-3};{'4,5' if (i // 100) % 2 else '0,5'}" for i in range(1000)]
+    wave.write_text("time;volts\n" + "\n".join(rows) + "\n")
+    assert main(["netlist", sump, "--bench", "signal", "--csv", str(wave)]) == 0
+    text = capsys.readouterr().out
+    assert text.count(".meas tran edge_") == 9 and "1,000 samples" in text
+
+
+@pytest.mark.parametrize("option", [["--csv", "w.csv"], ["--frequency", "10"], ["--hum-frequency", "60"]])
+def test_netlist_signal_options_need_the_signal_bench(option, capsys, demo_path):
+    assert main(["netlist", demo_path("sump_level_switch"), *option]) == 2
+    said = f"bandcalc: {option[0]}: describes the signal of --bench signal"
+    assert capsys.readouterr().err.startswith(said)
+
+
+def test_netlist_refusals_name_what_is_wrong(tmp_path, capsys, demo_path):
+    sump = demo_path("sump_level_switch")
+    assert main(["netlist", sump, "--bench", "signal", "--duration", "1"]) == 2
+    assert "the signal has 100,001 samples, the netlist takes at most 20,000" in capsys.readouterr().err
+    assert main(["netlist", sump, "-o", str(tmp_path / "none" / "x.cir")]) == 2
+    assert "x.cir: cannot write the netlist (No such file or directory)" in capsys.readouterr().err
+    with pytest.raises(SystemExit):
+        main(["netlist", sump, "--bench", "wobble"])
+    assert "invalid choice: 'wobble' (choose from 'sweep', 'signal')" in capsys.readouterr().err

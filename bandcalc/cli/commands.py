@@ -24,8 +24,9 @@ from bandcalc.model.design import Design
 from bandcalc.model.design_file import load_design
 from bandcalc.model.operating import Analysis, analysis_to_dict, analyze
 from bandcalc.model.units import format_ohms, format_si, format_value, parse_quantity, parse_resistance
+from bandcalc.outputs.netlist import BENCHES, netlist
 from bandcalc.signal_check.edges import run_design, run_points
-from bandcalc.signal_check.waveform import synthesize
+from bandcalc.signal_check.waveform import Waveform, synthesize
 from bandcalc.signal_check.width_trade import sweep_design
 from bandcalc.spread.factors import QUANTITIES, Factor
 from bandcalc.spread.propagation import (
@@ -181,18 +182,26 @@ def _signal_table(path: str, d: dict) -> str:
     return "\n".join(lines)
 
 
-def _cmd_signal(args: argparse.Namespace) -> int:
+def _recording(path: str | None) -> tuple[Waveform | None, int]:
+    """The recorded signal of ``--csv`` (None without one) and a status: a file that cannot be read is
+    named on stderr, with the status for bad input."""
+    if not path:
+        return None, 0
     from bandcalc.signal_check.recording import (
         read_waveform_csv,  # pandas: imported only when a command needs it
     )
 
-    recorded = None
-    if args.csv:
-        try:
-            recorded = read_waveform_csv(args.csv)
-        except ValueError as exc:
-            print(f"bandcalc: {args.csv}: {exc}", file=sys.stderr)
-            return EXIT_BAD_INPUT
+    try:
+        return read_waveform_csv(path), 0
+    except ValueError as exc:
+        print(f"bandcalc: {path}: {exc}", file=sys.stderr)
+        return None, EXIT_BAD_INPUT
+
+
+def _cmd_signal(args: argparse.Namespace) -> int:
+    recorded, status = _recording(args.csv)
+    if status:
+        return status
 
     def work(path: str, design: Design) -> object:
         wave = recorded if recorded is not None else _synthetic(args, design)
@@ -211,17 +220,51 @@ def _cmd_report(args: argparse.Namespace) -> int:
         return design_summary(design, SummaryInputs(spread=run))
 
     results, status = _for_each_file([args.file], work)
-    if not results:
+    return _write_or_print(results[0], args.output, "the summary") if results else status
+
+
+def _write_or_print(text: str, output: str | None, what: str) -> int:
+    """Write ``text`` to the file ``output`` (UTF-8), or print it without one; the status."""
+    if not output:
+        print(text, end="")
+        return 0
+    try:
+        Path(output).write_text(text, encoding="utf-8")
+    except OSError as exc:
+        print(f"bandcalc: {output}: cannot write {what} ({exc.strerror})", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    return 0
+
+
+def _signal_defaults() -> dict:
+    """The signal options and their defaults, by attribute name."""
+    parser = argparse.ArgumentParser(add_help=False)
+    _add_signal_options(parser)
+    return vars(parser.parse_args([]))
+
+
+def _cmd_netlist(args: argparse.Namespace) -> int:
+    typed = [key for key in _signal_defaults() if hasattr(args, key)]  # the netlist's are suppressed
+    if args.bench == "sweep" and typed:
+        print(f"bandcalc: --{typed[0].replace('_', '-')}: describes the signal of --bench signal; the sweep "
+              "bench (the default) drives its own slow triangle", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    for key, value in _signal_defaults().items():
+        if not hasattr(args, key):
+            setattr(args, key, value)
+    recorded, status = _recording(args.csv)
+    if status:
         return status
-    if args.output:
-        try:
-            Path(args.output).write_text(results[0], encoding="utf-8")
-        except OSError as exc:
-            print(f"bandcalc: {args.output}: cannot write the summary ({exc.strerror})", file=sys.stderr)
-            return EXIT_BAD_INPUT
-    else:
-        print(results[0], end="")
-    return status
+
+    def work(path: str, design: Design) -> str:
+        if args.bench == "sweep":
+            return netlist(design)
+        return netlist(design, recorded if recorded is not None else _synthetic(args, design))
+
+    results, status = _for_each_file([args.file], work)
+    return _write_or_print(results[0], args.output, "the netlist") if results else status
+
+
 def _cmd_analyze(args: argparse.Namespace) -> int:
     def work(path: str, design: Design) -> object:
         a = analyze(design)
@@ -412,19 +455,7 @@ def _parser() -> argparse.ArgumentParser:
 
     p = sub.add_parser("signal", help="run a recorded or synthetic signal through a design")
     p.add_argument("file", metavar="FILE", help="design file (JSON)")
-    p.add_argument("--csv", metavar="WAVE.csv", help="recorded signal: time (s) and volts columns")
-    p.add_argument("--shape", default="sine", choices=["sine", "triangle", "ramp", "steps"])
-    p.add_argument("--offset", type=float, default=None,
-                   help="in the design's unit, V or the watched quantity's (default: the design's centre)")
-    p.add_argument("--amplitude", type=float, default=None,
-                   help="in the design's unit (default: the design's hysteresis)")
-    p.add_argument("--frequency", type=float, default=50.0, help="Hz")
-    p.add_argument("--duration", type=float, default=0.1, help="s")
-    p.add_argument("--rate", type=float, default=100e3, help="samples per second")
-    p.add_argument("--noise", type=float, default=0.0, help="Gaussian noise, RMS, in the design's unit")
-    p.add_argument("--hum", type=float, default=0.0, help="mains hum amplitude (peak), in the design's unit")
-    p.add_argument("--hum-frequency", type=float, default=50.0, choices=[50.0, 60.0])
-    p.add_argument("--seed", type=int, default=1, help="noise generator seed (runs repeat)")
+    _add_signal_options(p)
     p.add_argument("--sweep", action="store_true", help="also sweep the hysteresis width")
     p.add_argument("--json", action="store_true", help="print JSON instead of a table")
     p.set_defaults(run=_cmd_signal)
@@ -448,8 +479,39 @@ def _parser() -> argparse.ArgumentParser:
     p.add_argument("--json", action="store_true", help="print JSON instead of a table")
     p.set_defaults(run=_cmd_spread)
 
+    p = sub.add_parser("netlist", help="write the stage as a SPICE netlist with a bench that measures it")
+    p.add_argument("file", metavar="FILE", help="design file (JSON)")
+    p.add_argument("-o", "--output", metavar="OUT.cir", help="write to this file instead of printing")
+    p.add_argument("--bench", choices=BENCHES, default="sweep",
+                   help="sweep: a slow triangle over the input's range, printing the points (default); "
+                        "signal: the signal check's signal, printing each output edge's time")
+    _add_signal_options(p, typed_only=True)
+    p.set_defaults(run=_cmd_netlist)
+
     add_page_command(sub)
     return parser
+
+
+def _add_signal_options(p: argparse.ArgumentParser, typed_only: bool = False) -> None:
+    """The options that describe a signal: a recording, or a synthetic one.  With ``typed_only`` an
+    option the user does not type leaves no attribute, so the command can tell which were typed."""
+    default = (lambda value: argparse.SUPPRESS) if typed_only else (lambda value: value)
+    p.add_argument("--csv", metavar="WAVE.csv", default=default(None),
+                   help="recorded signal: time (s) and volts columns")
+    p.add_argument("--shape", default=default("sine"), choices=["sine", "triangle", "ramp", "steps"])
+    p.add_argument("--offset", type=float, default=default(None),
+                   help="in the design's unit, V or the watched quantity's (default: the design's centre)")
+    p.add_argument("--amplitude", type=float, default=default(None),
+                   help="in the design's unit (default: the design's hysteresis)")
+    p.add_argument("--frequency", type=float, default=default(50.0), help="Hz")
+    p.add_argument("--duration", type=float, default=default(0.1), help="s")
+    p.add_argument("--rate", type=float, default=default(100e3), help="samples per second")
+    p.add_argument("--noise", type=float, default=default(0.0),
+                   help="Gaussian noise, RMS, in the design's unit")
+    p.add_argument("--hum", type=float, default=default(0.0),
+                   help="mains hum amplitude (peak), in the design's unit")
+    p.add_argument("--hum-frequency", type=float, default=default(50.0), choices=[50.0, 60.0])
+    p.add_argument("--seed", type=int, default=default(1), help="noise generator seed (runs repeat)")
 
 
 def main(argv: Sequence[str] | None = None) -> int:
