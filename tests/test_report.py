@@ -205,3 +205,12 @@ def test_the_load_and_the_receiving_logic_are_described():
     assert "drives a load of 10 kOhm (10k) to 0 V" in stage and "reads below 800 mV as low" in stage
     assert "Logic levels: the output's high level falls to" in text
     assert "- Note: Power-up: the input can rest between" in text
+
+
+def test_the_summary_says_where_the_netlist_comes_from(demo):
+    # The netlist is offered beside the summary on the page and by `netlist` on the command line;
+    # the summary says so, with what its comparator model leaves out.
+    text = design_summary(demo("sump_level_switch"))
+    assert "Checking in a circuit simulator" in _headings(_tokens(text))
+    assert "python -m bandcalc netlist FILE -o stage.cir" in text and "ngspice -b stage.cir" in text
+    assert "no propagation delay" in text

@@ -335,6 +335,15 @@ ASSUMPTIONS = (
 )
 
 
+NETLIST_NOTE = (
+    "The stage as a SPICE netlist (classic SPICE3 syntax), with a bench that sweeps the input slowly "
+    "up and back and measures both points: python -m bandcalc netlist FILE -o stage.cir, then "
+    "ngspice -b stage.cir prints upper and lower (and the watched points with a front end); on the page, "
+    "download it beside this summary. Its resistors carry the designators above; its comparator has the "
+    "offset, bias current and output levels given and no propagation delay, slew limit or recovery time."
+)
+
+
 def design_summary(design: Design, inputs: SummaryInputs | None = None, *,
                    today: _dt.date | None = None) -> str:
     """The design summary as CommonMark text.
@@ -372,6 +381,7 @@ def design_summary(design: Design, inputs: SummaryInputs | None = None, *,
     said = [f"{'Note: ' if f.level == 'note' else ''}{f.message}" for f in a.findings]
     md += _items((*said, *findings_extra)) or ["No findings: the checks found nothing to report."]
     md += ["", "## Assumptions", ""] + _items(ASSUMPTIONS)
+    md += ["", "## Checking in a circuit simulator", "", _line(NETLIST_NOTE)]
     if a.cautions:
         md += ["", "## Cautions", ""] + [f"> **Caution.** {_line(c)}" for c in a.cautions]
     date = (today or _dt.date.today()).isoformat()
