@@ -2,11 +2,11 @@
 
 Starts ``streamlit run app.py`` on a free port on 127.0.0.1, then loads the page, moves a
 resistor slider with the keyboard, checks that the switching-point figures and the chart
-change, saves the design file, downloads the design summary (Markdown) and reads it back, and
-reloads to find the same design in the address.  A second test edits a tolerance in the spread
-panel (which reruns on its own, as a fragment) and runs the spread.  Skipped,
-with the reason, where /usr/bin/chromium or Playwright is absent; browsers are never
-downloaded.
+change, saves the design file, downloads the design summary (Markdown) and reads it back,
+downloads the netlist beside it, and reloads to find the same design in the address.  A second
+test edits a tolerance in the spread panel (which reruns on its own, as a fragment) and runs the
+spread.  Skipped, with the reason, where /usr/bin/chromium or Playwright is absent; browsers are
+never downloaded.
 """
 
 from __future__ import annotations
@@ -28,6 +28,7 @@ from bandcalc.model.design_file import design_from_json
 from bandcalc.model.operating import analyze
 from bandcalc.model.parts import with_value
 from bandcalc.model.units import format_si
+from bandcalc.outputs.netlist import netlist
 from bandcalc.outputs.summary import design_from_summary
 from bandcalc.page.address import PARAM, address_to_design
 
@@ -174,6 +175,14 @@ def test_slider_by_keyboard_save_and_reload(server, browser, tmp_path):
     text = summary.read_text(encoding="utf-8")
     assert text.startswith("# Sump level switch\n") and moved[0] in text
     assert design_from_summary(text) == with_value(SUMP, "resistors.feedback", 43e3)
+
+    # The netlist beside it: named after the design, the sweep bench of the design on the page.
+    with page.expect_download() as download:
+        page.get_by_role("button", name="Download the netlist").click()
+    assert download.value.suggested_filename == "sump-level-switch.cir"
+    spice = tmp_path / "stage.cir"
+    download.value.save_as(spice)
+    assert spice.read_text(encoding="utf-8") == netlist(with_value(SUMP, "resistors.feedback", 43e3))
 
     # Reload: the address brings back the same design.
     page.reload()

@@ -22,6 +22,7 @@ from page_helpers import (
 
 from bandcalc.demos import load_demo
 from bandcalc.model.units import format_si, format_value
+from bandcalc.outputs.netlist import netlist
 from bandcalc.outputs.summary import design_summary
 from bandcalc.page.names import factor_name
 from bandcalc.page.panels import spread as spread_panel
@@ -257,6 +258,15 @@ def test_summary_preview_and_download():
     assert download.proto.url.endswith(".md")
     assert any(c.startswith("Run the spread or the signal check of this design to include them") for c in
                captions(at))
+
+
+def test_netlist_download_beside_the_summary():
+    from bandcalc.page.compute import netlist_of
+
+    at = page(panel="Summary")
+    (download,) = [b for b in at.get("download_button") if b.proto.label == "Download the netlist"]
+    assert "ngspice -b prints upper and lower" in download.proto.help
+    assert netlist_of(SUMP) == netlist(SUMP)  # what the button offers: the sweep bench
 
 
 def test_summary_includes_the_runs_of_this_design(monkeypatch):

@@ -17,10 +17,11 @@ from bandcalc.model.design import Design
 from bandcalc.model.design_file import design_to_json
 from bandcalc.model.operating import Analysis, analyze
 from bandcalc.model.transfer import transfer_curve
+from bandcalc.outputs.netlist import netlist
 from bandcalc.outputs.plots import as_figure, transfer_spec
 from bandcalc.outputs.schematic import stage_svg
 
-__all__ = ["analysis_of", "guarded", "schematic_of", "transfer_figure_of"]
+__all__ = ["analysis_of", "guarded", "netlist_of", "schematic_of", "transfer_figure_of"]
 
 log = logging.getLogger("bandcalc.page")
 T = TypeVar("T")
@@ -62,3 +63,8 @@ def transfer_figure_of(design: Design, watched: bool = False, x_title: str | Non
 @st.cache_data(max_entries=256, show_spinner=False, hash_funcs=_BY_JSON)
 def schematic_of(design: Design) -> str:
     return stage_svg(design)
+
+
+@st.cache_data(max_entries=64, show_spinner=False, hash_funcs=_BY_JSON)
+def netlist_of(design: Design) -> str:
+    return netlist(design)

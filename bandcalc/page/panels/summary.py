@@ -1,9 +1,10 @@
-"""Panel: the design summary (Markdown), previewed and offered for download.
+"""Panel: the design summary (Markdown), previewed and offered for download, with the netlist beside it.
 
 The summary includes whatever the session has run for the current design: the spread and the
 signal check (:mod:`bandcalc.page.runs`), and the fit that still holds for it
 (:func:`bandcalc.page.panels.fit.latest_fit`, which keeps it after one of its candidates is
-applied).  Saving and opening the design file stay in the sidebar.
+applied).  The stage's SPICE netlist (:mod:`bandcalc.outputs.netlist`, the sweep bench) is offered
+beside it.  Saving and opening the design file stay in the sidebar.
 """
 
 from __future__ import annotations
@@ -12,6 +13,7 @@ import streamlit as st
 
 from bandcalc.outputs.summary import SummaryInputs, design_summary
 from bandcalc.page import runs
+from bandcalc.page.compute import guarded, netlist_of
 from bandcalc.page.panels.fit import latest_fit
 from bandcalc.page.whole_design import file_name
 
@@ -36,16 +38,22 @@ def summary_inputs(design) -> tuple[SummaryInputs, list[str]]:
 
 
 def render(sheet) -> None:
-    """Download button and preview of the summary."""
+    """Download buttons (the summary, the netlist) and a preview of the summary."""
     design = sheet.design
     inputs, included = summary_inputs(design)
     text = design_summary(design, inputs)
-    left, right = st.columns([3, 1], vertical_alignment="center")
+    left, middle, right = st.columns([2, 1, 1], vertical_alignment="center")
     left.caption(("Includes " + " and ".join(included) + " of this design." if included else
                   "Run the spread or the signal check of this design to include them.")
                  + " Save or open the design file in the sidebar; the summary's last section is that file.")
-    right.download_button("Download the summary", data=text, file_name=file_name(design, ".md"),
-                          mime="text/markdown", on_click="ignore", icon=":material/download:",
-                          width="stretch", help="The summary as a Markdown file")
+    middle.download_button("Download the summary", data=text, file_name=file_name(design, ".md"),
+                           mime="text/markdown", on_click="ignore", icon=":material/download:",
+                           width="stretch", help="The summary as a Markdown file")
+    spice = guarded("The netlist", netlist_of, design)
+    if spice is not None:
+        right.download_button("Download the netlist", data=spice, file_name=file_name(design, ".cir"),
+                              mime="text/plain", on_click="ignore", icon=":material/download:",
+                              width="stretch", help="The stage as a SPICE netlist with a bench that "
+                                                    "measures both points: ngspice -b prints upper and lower")
     with st.container(border=True):
         st.markdown(text)
