@@ -30,8 +30,9 @@ SUMP = load_demo("sump_level_switch")
 SUMP_ALL_LEGS = with_values(SUMP, {"resistors.to_ground": 100e3, "resistors.to_positive": 100e3,
                                    "resistors.to_negative": 1e6})
 # The same with a divider reference and two legs: six free values.
-SUMP_DIVIDER = dataclasses.replace(with_values(SUMP, {"resistors.to_ground": 100e3, "resistors.to_positive": 100e3}),
-                                   reference=DividerReference(10e3, 10e3))
+SUMP_DIVIDER = dataclasses.replace(
+    with_values(SUMP, {"resistors.to_ground": 100e3, "resistors.to_positive": 100e3}),
+    reference=DividerReference(10e3, 10e3))
 # A runaway (minutes) is far beyond this; a fit that answers or refuses takes a few seconds.
 RUNNER_LIMIT = 60
 
@@ -67,7 +68,7 @@ def test_a_very_wide_range_answers_within_the_budget(tmp_path, series, high):
     run = run_fit(tmp_path, SUMP, "--upper", "3", "--lower", "2", "--series", series, "--min-ohms", "1",
                   "--max-ohms", high, "--json")
     assert run.returncode == 0, run.stderr
-    (out,) = strict(run.stdout)
+    out = strict(run.stdout)
     assert 0 < out["checked"] <= grid_search.BUDGET
     assert out["candidates"]
     if not out["proven"]:
@@ -99,8 +100,8 @@ def test_refusal_comes_before_any_search_and_says_what_would_help(no_search):
     message = str(refused.value)
     # 97 E24 values from 1 kOhm to 10 MOhm; every combination of four of the five is 97**4.
     assert message.startswith("too many combinations to search: 5 free values (input, feedback, "
-                              "to_positive, to_negative and to_ground), each one of 97 E24 values from 1 kOhm "
-                              "to 10 MOhm")
+                              "to_positive, to_negative and to_ground), each one of 97 E24 values from "
+                              "1 kOhm to 10 MOhm")
     assert f"about {97 ** 4:,} combinations" in message
     assert f"its limit of {grid_search.BUDGET:,}" in message
     # Within ten times the limit: E12's 49 values over the range (49**4 = 5,764,801), or one value
@@ -121,7 +122,8 @@ def test_an_added_leg_that_makes_the_search_too_large_is_refused_before_searchin
 
 def test_count_outside_its_range_is_refused():
     for count in (0, MAX_COUNT + 1, 10**9):
-        with pytest.raises(FitError, match=f"count: must be a whole number from 1 to {MAX_COUNT}, got {count}"):
+        refused = f"count: must be a whole number from 1 to {MAX_COUNT}, got {count}$"
+        with pytest.raises(FitError, match=refused):
             fit(SUMP, 3.1, 1.9, count=count)
     assert len(fit(SUMP, 3.1, 1.9, count=MAX_COUNT, series="E6").candidates) == MAX_COUNT
 
@@ -171,6 +173,30 @@ def test_a_missed_prediction_beyond_the_budget_keeps_what_was_found(monkeypatch)
     assert not found.proven and found.checked <= 100_000 and len(found.values) == 3
 
 
+def test_a_missed_prediction_beyond_the_full_enumeration_searches_again_with_a_wider_margin():
+    # Over 18 decades the predictions from three samples miss the model by more than a quarter of
+    # the margin (rounding); evaluating all 55**3 combinations is beyond this budget, so the search
+    # runs again with a wider margin, and must still equal evaluating everything.
+    design = with_values(SUMP, {"resistors.to_positive": 1e6})
+    keys = ["resistors.feedback", "resistors.input", "resistors.to_positive"]
+    evaluate = selection._evaluator(design, keys)
+    grid = series_values("E3", 1e-3, 1e15)
+    found = grid_search.search(evaluate, grid, 3, 3.0, 2.0, 5, budget=len(grid) ** 3 - 1)
+    every = grid_search.exhaustive(evaluate, grid, 3, 3.0, 2.0, 5)
+    assert found.proven and found.checked < len(grid) ** 3
+    assert np.array_equal(found.values, every.values)
+
+
+def test_seeds_are_evaluated_first_and_leave_a_finished_search_unchanged():
+    _, evaluate, grid = four_free("E6")
+    seeds = grid[np.random.default_rng(1).integers(0, len(grid), (40, 4))]
+    found = grid_search.search(evaluate, grid, 4, 3.0, 2.0, 5, seeds=seeds)
+    assert found.proven
+    assert np.array_equal(found.values, grid_search.exhaustive(evaluate, grid, 4, 3.0, 2.0, 5).values)
+    first = grid_search.search(evaluate, grid, 4, 3.0, 2.0, 40, seeds=seeds, budget=40)
+    assert not first.proven and {tuple(v) for v in first.values} == {tuple(v) for v in seeds}
+
+
 def test_progress_reports_the_share_of_the_budget_and_can_stop_the_search():
     _, evaluate, grid = four_free("E12")
     seen = []
@@ -211,9 +237,12 @@ def test_a_fit_stopped_at_its_budget_says_so_in_every_output():
 
 
 def test_a_fit_whose_budget_ends_before_any_candidate_is_refused():
-    design, _, _ = four_free()
-    with pytest.raises(FitError, match="the search reached its limit of 10 combinations checked before"):
-        fit(design, 3.0, 2.0, series="E12", budget=10)
+    # One free value (feedback held) over 1,153 E96 values: within ten times a budget of 200, but
+    # its one block of evaluations is beyond it.
+    points = switching_points(SUMP)
+    with pytest.raises(FitError, match="the search reached its limit of 200 combinations checked before"):
+        fit(SUMP, float(points.upper), float(points.lower), series="E96", min_ohms=1, max_ohms=1e12,
+            fixed={"feedback": 39e3}, budget=200)
 
 
 def test_fit_progress_comes_from_the_search():

@@ -18,7 +18,7 @@ from pathlib import Path
 from bandcalc import __version__
 from bandcalc.cli.page_server import add_page_command
 from bandcalc.errors import BandcalcError
-from bandcalc.fit.selection import FitResult, fit, fit_to_dict
+from bandcalc.fit.selection import MAX_COUNT, FitResult, fit, fit_to_dict
 from bandcalc.model.design import Design
 from bandcalc.model.design_file import load_design
 from bandcalc.model.operating import Analysis, analysis_to_dict, analyze
@@ -313,7 +313,8 @@ def _fit_table(path: str, r: FitResult, code: bool) -> str:
              f"  targets   upper {v(r.upper)}, lower {v(r.lower)}",
              f"  fitting   {', '.join(r.fitted)} from {r.series}, {format_ohms(r.min_ohms, code)} to "
              f"{format_ohms(r.max_ohms, code)}"]
-    for title, items in (("cannot meet the targets exactly", r.problems), ("notes", r.notes)):
+    for title, items in (("cannot meet the targets exactly", r.problems),
+                         ("not proven the best", (r.stopped,) if r.stopped else ()), ("notes", r.notes)):
         if items:
             lines.append(f"  {title}:")
             lines += [f"    - {item}" for item in items]
@@ -323,6 +324,14 @@ def _fit_table(path: str, r: FitResult, code: bool) -> str:
         exact = ", ".join(f"{p} {format_ohms(r.exact.value(p), code, 4)}" for p in r.fitted)
         lines.append(f"  exact     {exact}")
     return "\n".join(lines)
+
+
+def _count(text: str) -> int:
+    """--count: candidates to list, refused at once outside 1 to MAX_COUNT."""
+    count = int(text) if text.isascii() and text.isdigit() and len(text) <= 6 else 0
+    if not 1 <= count <= MAX_COUNT:
+        raise argparse.ArgumentTypeError(f"must be a whole number from 1 to {MAX_COUNT}, got {text!r}")
+    return count
 
 
 def _cmd_fit(args: argparse.Namespace) -> int:
@@ -376,7 +385,8 @@ def _parser() -> argparse.ArgumentParser:
     p.add_argument("--series", default="E24", help="IEC 60063 series, E3 to E192 (default E24)")
     p.add_argument("--min-ohms", default="1k", metavar="R", help="smallest value allowed (default 1k)")
     p.add_argument("--max-ohms", default="10M", metavar="R", help="largest value allowed (default 10M)")
-    p.add_argument("--count", type=int, default=5, metavar="N", help="candidates to list (default 5)")
+    p.add_argument("--count", type=_count, default=5, metavar="N",
+                   help=f"candidates to list, 1 to {MAX_COUNT} (default 5)")
     p.add_argument("--hold", action="append", default=[], metavar="KEY=R",
                    help="hold a resistor at a value, e.g. feedback=1M2 (repeat for more)")
     p.add_argument("--no-extra-leg", action="store_true",
