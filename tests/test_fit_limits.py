@@ -250,3 +250,15 @@ def test_fit_progress_comes_from_the_search():
     seen = []
     fit(design, 3.0, 2.0, series="E12", progress=lambda done, total: seen.append(done))
     assert seen and seen == sorted(seen)
+
+
+def test_the_summary_says_a_stopped_search_is_not_proven():
+    from bandcalc.outputs.summary import SummaryInputs, design_summary
+
+    design, _, _ = four_free()
+    r = fit(design, 3.0, 2.0, series="E12", budget=100_000)
+    assert r.stopped
+    text = design_summary(design, SummaryInputs(fit=r))
+    assert f"- Not proven the best: {r.stopped}" in text
+    proven = design_summary(design, SummaryInputs(fit=fit(design, 3.0, 2.0, series="E12")))
+    assert "Not proven the best" not in proven

@@ -258,7 +258,8 @@ def _fit_section(result) -> list[str]:
     if result.exact is not None:
         exact = ", ".join(f"{p} {format_si(result.exact.value(p), 'Ohm', 4)}" for p in result.fitted)
         lines += ["", f"Exact (continuous) solution: {exact}."]
-    lines += [""] + [f"- {n}" for n in (*result.notes, *result.problems)]
+    stopped = (f"Not proven the best: {result.stopped}",) if result.stopped else ()
+    lines += [""] + [f"- {n}" for n in (*stopped, *result.notes, *result.problems)]
     return lines
 
 
