@@ -46,6 +46,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from bandcalc.errors import BandcalcError
+
 __all__ = [
     "BUDGET",
     "ERROR_STEP",
@@ -99,8 +101,9 @@ def search_size(n: int, k: int) -> int:
     return n ** max(k - 1, 1)
 
 
-class _OutOfBudget(Exception):
-    """The next step would take the search past its budget."""
+class _OutOfBudget(BandcalcError):
+    """The next step would take the search past its budget; caught in the search, which then
+    returns the best found, not proven (a BandcalcError like every error class of the package)."""
 
 
 class _Budget:
@@ -115,7 +118,7 @@ class _Budget:
     def fits(self, count: int) -> None:
         """Raise _OutOfBudget where ``count`` more checks would not fit."""
         if count > self.left():
-            raise _OutOfBudget
+            raise _OutOfBudget(f"the search reached its limit of {self.limit:,} combinations checked")
 
     def spend(self, count: int) -> None:
         """Count ``count`` checks about to be made, or raise _OutOfBudget where they do not fit."""
