@@ -526,10 +526,11 @@ def _fit_stage(design: Design, upper: float, lower: float, count: int, *, series
                 problems.append(f"A resistor from the + pin to {part(options[0][0]).far_end} would make it "
                                 "possible; the fit adds one unless told not to.")
             problems.append("The candidates are the closest the stage comes.")
-    # Search with the resistors the points are most sensitive to outermost (much faster; the
-    # answer does not depend on the order), and report in the design's own order.
     if added:
         _check_size(params, grid, series, bounds, budget, added)
+    # Search with the resistors the points are most sensitive to outermost (much faster; the
+    # answer does not depend on the order), and report in the design's own order; the standard
+    # values around the exact solution first.
     start = solution if solution is not None else _starts(base, params, bounds)[0]
     order = _search_order(base, params, start)
     found = search(_evaluator(base, [params[i] for i in order]), grid, len(params), *targets, count,

@@ -208,7 +208,7 @@ def _find(design: Design, kept: dict) -> None:
     if wrong:
         return
     text = design_to_json(design)
-    result = st.session_state.get(_DONE, {}).get((text, *sorted(args.items())))
+    result = st.session_state.get(_DONE, {}).get(_done_key(text, args))
     if result is not None:
         _keep(text, args, result)
         return
@@ -216,10 +216,14 @@ def _find(design: Design, kept: dict) -> None:
     st.rerun(scope="app")  # the search runs in the full run, where Stop can end it
 
 
+def _done_key(text: str, args: dict) -> tuple:
+    return (text, *sorted(args.items()))
+
+
 def _keep(text: str, args: dict, result: FitResult) -> None:
     """The result shown, and kept for the session (the latest last, at most _DONE_KEPT)."""
     done = st.session_state.setdefault(_DONE, {})
-    key = (text, *sorted(args.items()))
+    key = _done_key(text, args)
     done.pop(key, None)
     done[key] = result
     for old in list(done)[:-_DONE_KEPT]:
