@@ -19,7 +19,7 @@ from bandcalc import __version__
 from bandcalc.cli.page_server import add_page_command
 from bandcalc.cli.visible_text import visible_text
 from bandcalc.errors import BandcalcError
-from bandcalc.fit.selection import FitResult, fit, fit_to_dict
+from bandcalc.fit.selection import MAX_COUNT, FitResult, fit, fit_to_dict
 from bandcalc.model.design import Design
 from bandcalc.model.design_file import load_design
 from bandcalc.model.operating import Analysis, analysis_to_dict, analyze
@@ -336,7 +336,8 @@ def _fit_table(path: str, r: FitResult, code: bool) -> str:
              f"  targets   upper {v(r.upper)}, lower {v(r.lower)}",
              f"  fitting   {', '.join(r.fitted)} from {r.series}, {format_ohms(r.min_ohms, code)} to "
              f"{format_ohms(r.max_ohms, code)}"]
-    lines += _listed((("cannot meet the targets exactly", r.problems), ("notes", r.notes)))
+    lines += _listed((("cannot meet the targets exactly", r.problems),
+                      ("not proven the best", (r.stopped,) if r.stopped else ()), ("notes", r.notes)))
     lines += ["  " + "  ".join(cell.ljust(w) for cell, w in zip(row, widths, strict=True)).rstrip()
               for row in [head, *rows]]
     if r.exact is not None:
@@ -348,6 +349,14 @@ def _fit_table(path: str, r: FitResult, code: bool) -> str:
 # fit's settings by the options that set them, so its messages name what the user typed.
 _FIT_OPTIONS = {"series": "--series", "min_ohms": "--min-ohms", "max_ohms": "--max-ohms", "count": "--count",
                 "fixed": "--hold "}
+
+
+def _count(text: str) -> int:
+    """--count: candidates to list, refused at once outside 1 to MAX_COUNT."""
+    count = int(text) if text.isascii() and text.isdigit() and len(text) <= 6 else 0
+    if not 1 <= count <= MAX_COUNT:
+        raise argparse.ArgumentTypeError(f"must be a whole number from 1 to {MAX_COUNT}, got {text!r}")
+    return count
 
 
 def _cmd_fit(args: argparse.Namespace) -> int:
@@ -401,7 +410,8 @@ def _parser() -> argparse.ArgumentParser:
     p.add_argument("--series", default="E24", help="IEC 60063 series, E3 to E192 (default E24)")
     p.add_argument("--min-ohms", default="1k", metavar="R", help="smallest value allowed (default 1k)")
     p.add_argument("--max-ohms", default="10M", metavar="R", help="largest value allowed (default 10M)")
-    p.add_argument("--count", type=int, default=5, metavar="N", help="candidates to list (default 5)")
+    p.add_argument("--count", type=_count, default=5, metavar="N",
+                   help=f"candidates to list, 1 to {MAX_COUNT} (default 5)")
     p.add_argument("--hold", action="append", default=[], metavar="KEY=R",
                    help="hold a resistor at a value, e.g. feedback=1M2 (repeat for more)")
     p.add_argument("--no-extra-leg", action="store_true",
