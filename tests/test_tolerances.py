@@ -121,3 +121,32 @@ def test_series_tolerance_agrees_with_the_eseries_package(ohms):
             break
     else:
         pytest.fail(f"{ohms} ohm is in no series from E24 up")
+
+
+# --- tolerances that would take a part where none goes --------------------------------------------
+
+@pytest.mark.parametrize("section, message", [
+    # No electronic part works at 1e300 C; beyond about 500 C nothing of a circuit board survives
+    # (common practice: high-temperature parts are rated to about 200 to 225 C).
+    ({"temperature": [0, 1e300]}, r"tolerances\.temperature: must be from -273\.15 to 500 degrees C"),
+    # A tempco of -10,000 ppm/K takes a resistor to 1 - 0.01 x (125 - 25) = 0 at 125 C.
+    ({"temperature": [-40, 125], "resistor_tempco": -10000},
+     r"tolerances\.resistor_tempco: -10000 ppm/K over -40 to 125 C takes a resistor to 0 % of its value at "
+     r"125 C"),
+    ({"temperature": [-40, 125], "resistor_tempco": {"default": 50, "feedback": 20000}},
+     r"tolerances\.resistor_tempco\.feedback: must be from -10000 to 10000 ppm/K"),
+    ({"temperature": [-200, 125], "resistor_tempco": {"default": 50, "feedback": 5000}},
+     r"tolerances\.resistor_tempco\.feedback: 5000 ppm/K over -200 to 125 C takes a resistor to -12\.5 %"),
+    ({"temperature": [-40, 400], "reference_drift": 9000},
+     r"tolerances\.reference_drift: 9000 ppm/K over -40 to 400 C takes the reference to -237\.5 %"),
+    ({"bias_current": 1e3}, r"tolerances\.bias_current: must be from 0 to 1 A"),
+    ({"offset": 1e300}, r"tolerances\.offset: must be from 0 to 100000 V"),
+    ({"offset_drift": 1e300}, r"tolerances\.offset_drift: must be from 0 to 1 V/K"),
+    ({"reference": None, "supply": 2}, None),  # null leaves a value out, as elsewhere in the file
+])
+def test_tolerances_no_part_follows_are_refused_naming_the_key(section, message):
+    if message is None:
+        assert design_from_dict(with_tolerances(section)).tolerances.reference == 0.0
+        return
+    with pytest.raises(DesignError, match=message):
+        design_from_dict(with_tolerances(section))
