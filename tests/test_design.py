@@ -94,7 +94,7 @@ BAD = [
     ("output", {"kind": "open-drain"}, "output.pullup: missing"),
     ("output", {"kind": "push-pull", "pullup": 1000}, "output.pullup: unknown key"),
     ("comparator.bias", 1e-9, "comparator.bias: unknown key"),
-    ("comparator.delay", -1e-6, "comparator.delay: must be zero or more"),
+    ("comparator.delay", -1e-6, "comparator.delay: must be from 0 s to 1 s"),
     ("source.resistance", -1, "source.resistance: must be zero or more"),
     ("format", 2, "format: 2 is not a design file format this version reads; allowed: 1"),
     ("name", 5, "name: must be text"),
@@ -225,7 +225,7 @@ def test_a_key_given_twice_is_refused_naming_it():
 @pytest.mark.parametrize(("where", "text"), [
     ("name", '"name": "\\ud800"'),
     ("notes", '"notes": "ok \\udfff"'),
-    ("design", '"\\ud800": 1'),
+    ("design \\(a key\\)", '"\\ud800": 1'),
 ])
 def test_a_lone_surrogate_is_refused_naming_the_key(where, text):
     # The Unicode Standard (D76, D91): a surrogate code point alone is no character and has no UTF-8

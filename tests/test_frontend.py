@@ -430,7 +430,7 @@ SH_ONLY = {k: v for k, v in GREENHOUSE_FE.items() if k not in ("r25", "beta", "b
     [1.129241e-3, 2.341077e4, 8.775468e-8],  # B likewise
 ])
 def test_steinhart_hart_typos_are_refused_naming_the_coefficients(coefficients):
-    with pytest.raises(DesignError, match=r"front_end\.steinhart_hart: these coefficients give .* at 25 C"):
+    with pytest.raises(DesignError, match=r"front_end\.steinhart_hart: these coefficients give "):
         design_from_dict(_with_front_end({**SH_ONLY, "steinhart_hart": coefficients}))
 
 

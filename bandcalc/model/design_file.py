@@ -1,18 +1,26 @@
 """The design file: a :class:`~bandcalc.model.design.Design` read from and written to JSON.
 
 The file mirrors the design's classes section by section, values in SI units; resistances may
-be written in the IEC 60062 code ("4k7") or with SI prefixes ("4.7k").  Errors name the key at
-fault and what is allowed.
+be written in the IEC 60062 code ("4k7") or with SI prefixes ("4.7k").  ``null`` leaves an
+optional value out.  Errors name the key at fault and what is allowed.
+
+Reading is strict where JSON readers are lenient: a key given twice, text holding a lone
+surrogate and nesting deeper than :data:`MAX_DEPTH` are refused, and only a regular file of at
+most :data:`MAX_FILE_BYTES` is read (a device or a pipe would be read for ever).  A UTF-8
+byte-order mark is skipped.
 """
 
 from __future__ import annotations
 
 import json
+import re
 from dataclasses import fields
 from pathlib import Path
 from typing import Any
 
-from bandcalc.errors import DesignError
+import numpy as np
+
+from bandcalc.errors import DesignError, shown
 from bandcalc.model.design import (
     FORMAT,
     RESISTOR_KEYS,
@@ -29,9 +37,12 @@ from bandcalc.model.design import (
 from bandcalc.model.front_end import front_end_from_dict
 from bandcalc.model.tolerances import ToleranceError, Tolerances, tolerances_from_dict, tolerances_to_dict
 from bandcalc.model.units import UnitError, parse_quantity, parse_resistance
-from bandcalc.model.validation import section
+from bandcalc.model.validation import section, text
+from bandcalc.user_files import read_regular_file
 
 __all__ = [
+    "MAX_DEPTH",
+    "MAX_FILE_BYTES",
     "design_from_dict",
     "design_from_json",
     "design_to_dict",
@@ -47,6 +58,16 @@ _UNITS = {"volts": "V", "offset": "V", "bias_current": "A", "delay": "s", "load_
           "positive": "V", "negative": "V", "common_mode_low": "V", "common_mode_high": "V",
           "low": "V", "high": "V"}
 _OHM_KEYS = {"resistance", "pullup", "top", "bottom", *RESISTOR_KEYS}
+#: Largest design file read, bytes.  A design file is one to two kilobytes (the demos are); a
+#: megabyte leaves room for long notes, as much as the page takes in an upload.
+MAX_FILE_BYTES = 1 << 20
+#: Deepest nesting of arrays and objects read.  A design file nests four levels
+#: (tolerances.limits.upper[0]); anything far deeper is not a design, and JSON readers run out of
+#: stack near a thousand.
+MAX_DEPTH = 64
+#: Integers with more digits than this are not read digit by digit (beyond 308 digits an integer
+#: is no float anyway, and Python refuses to read more than 4,300).
+_MAX_INTEGER_DIGITS = 400
 
 
 def _values(data: dict, key: str) -> dict[str, float | None]:
@@ -54,8 +75,7 @@ def _values(data: dict, key: str) -> dict[str, float | None]:
     out: dict[str, float | None] = {}
     for name, raw in data.items():
         where = f"{key}.{name}"
-        if raw is None:
-            out[name] = None
+        if raw is None:  # left out: the default applies (section() refused it where required)
             continue
         try:
             if name in _OHM_KEYS:
@@ -75,7 +95,7 @@ def _reference_from(data: Any) -> FixedReference | DividerReference | None:
         raise DesignError('reference: give exactly one of {"volts": V} or '
                           '{"divider": {"top": R, "bottom": R}}')
     if "volts" in data:
-        return FixedReference(**_values(data, "reference"))
+        return FixedReference(**_values(section(data, "reference", ("volts",), ("volts",)), "reference"))
     div = section(data["divider"], "reference.divider", ("top", "bottom"), ("top", "bottom"))
     return DividerReference(**_values(div, "reference.divider"))
 
@@ -106,15 +126,16 @@ def _plain_section(cls: type, data: Any, key: str, required: tuple[str, ...] = (
 
 def design_from_dict(data: Any) -> Design:
     """Build a validated Design from the JSON shape; raise DesignError naming the key at fault."""
+    _text_everywhere(data, "design")
     data = section(data, "design", _TOP_KEYS, ("format", "stage", "supply", "resistors"))
-    if data["format"] != FORMAT:
-        raise DesignError(f"format: {data['format']!r} is not a design file format this version reads; "
+    if isinstance(data["format"], bool) or data["format"] != FORMAT:
+        raise DesignError(f"format: {shown(data['format'])} is not a design file format this version reads; "
                           f"allowed: {FORMAT}")
     for key in ("name", "notes"):
-        if not isinstance(data.get(key, ""), str):
-            raise DesignError(f"{key}: must be text")
-    if data.get("protective") not in (None, True, False):
-        raise DesignError("protective: must be true or false (or left out)")
+        text(data.get(key) or "", key)
+    protective = data.get("protective")
+    if not (protective is None or protective is True or protective is False):
+        raise DesignError(f"protective: must be true or false (or left out), got {shown(protective)}")
     resistors = section(data["resistors"], "resistors", RESISTOR_KEYS, ("feedback",))
     return Design(
         stage=data["stage"],
@@ -125,8 +146,8 @@ def design_from_dict(data: Any) -> Design:
         comparator=_plain_section(Comparator, data.get("comparator"), "comparator"),
         source=_plain_section(Source, data.get("source"), "source"),
         front_end=front_end_from_dict(data.get("front_end")),
-        name=data.get("name", ""),
-        notes=data.get("notes", ""),
+        name=data.get("name") or "",
+        notes=data.get("notes") or "",
         protective=data.get("protective"),
         tolerances=_tolerances_from(data.get("tolerances")),
     )
@@ -165,12 +186,11 @@ def design_to_dict(design: Design) -> dict:
 
 
 def load_design(path: str | Path) -> Design:
-    """Read a design file; errors name the file and the key at fault."""
-    path = Path(path)
+    """Read a design file (a regular file of at most :data:`MAX_FILE_BYTES`); errors name the file
+    and the key at fault."""
+    data = read_regular_file(path, MAX_FILE_BYTES, DesignError)
     try:
-        text = path.read_text(encoding="utf-8")
-    except OSError as exc:
-        raise DesignError(f"{path}: cannot read the file ({exc.strerror})") from None
+        text = data.decode("utf-8")
     except UnicodeDecodeError:
         raise DesignError(f"{path}: not a UTF-8 text file") from None
     return design_from_json(text, str(path))
@@ -179,16 +199,85 @@ def load_design(path: str | Path) -> Design:
 def design_from_json(text: str, where: str = "design") -> Design:
     """Parse JSON text into a Design; errors start with ``where``."""
     try:
-        data = json.loads(text)
-    except json.JSONDecodeError as exc:
-        raise DesignError(f"{where}: not valid JSON (line {exc.lineno}, "
-                          f"column {exc.colno}: {exc.msg})") from None
-    try:
-        return design_from_dict(data)
+        return design_from_dict(read_json(text))
     except DesignError as exc:
         raise DesignError(f"{where}: {exc}") from None
     except TypeError as exc:  # a wrong field reaching a dataclass constructor
         raise DesignError(f"{where}: {exc}") from None
+
+
+class _Object(dict):
+    """A JSON object as read, with the first key its text gave twice (None if none)."""
+
+    repeated: str | None = None
+
+
+def _object(pairs: list[tuple[str, Any]]) -> _Object:
+    out = _Object()
+    for key, value in pairs:
+        if key in out and out.repeated is None:
+            out.repeated = key
+        out[key] = value
+    return out
+
+
+def _integer(digits: str) -> int:
+    # An integer too long to read stays one too large for any float, so the key's check refuses it.
+    return int(digits[:_MAX_INTEGER_DIGITS])
+
+
+_STRINGS = re.compile(r'"(?:[^"\\]|\\.)*"')
+
+
+def _depth(text: str) -> int:
+    """How deep arrays and objects nest in JSON text (brackets inside strings not counted)."""
+    code = np.frombuffer(_STRINGS.sub("", text).encode("utf-8", "surrogatepass"), dtype=np.uint8)
+    step = np.isin(code, (ord("["), ord("{"))).astype(np.int32) - np.isin(code, (ord("]"), ord("}")))
+    return int(np.cumsum(step).max(initial=0))
+
+
+def read_json(text: str) -> Any:
+    """The JSON value of a design file's text, read strictly; DesignError says what is wrong.
+
+    A leading byte-order mark is skipped; a key given twice and nesting deeper than
+    :data:`MAX_DEPTH` are refused, naming where.
+    """
+    text = text.removeprefix("\ufeff")
+    depth = _depth(text)
+    if depth > MAX_DEPTH:
+        raise DesignError(f"nested {depth} levels deep; a design file nests at most {MAX_DEPTH} "
+                          "(it needs four)")
+    try:
+        data = json.loads(text, object_pairs_hook=_object, parse_int=_integer)
+    except json.JSONDecodeError as exc:
+        raise DesignError(f"not valid JSON (line {exc.lineno}, column {exc.colno}: {exc.msg})") from None
+    _no_repeated_keys(data, "design")
+    return data
+
+
+def _no_repeated_keys(data: Any, where: str) -> None:
+    if isinstance(data, _Object):
+        if data.repeated is not None:
+            raise DesignError(f'{where}: the key "{data.repeated}" appears twice; give each key once '
+                              "(a JSON reader would silently keep only one of them)")
+        for key, value in data.items():
+            _no_repeated_keys(value, key if where == "design" else f"{where}.{key}")
+    elif isinstance(data, list):
+        for i, value in enumerate(data):
+            _no_repeated_keys(value, f"{where}[{i}]")
+
+
+def _text_everywhere(data: Any, where: str) -> None:
+    """Refuse a lone surrogate in any text of the file, keys included, naming where it is."""
+    if isinstance(data, str):
+        text(data, where)
+    elif isinstance(data, dict):
+        for key, value in data.items():
+            text(key, f"{where} (a key)")
+            _text_everywhere(value, key if where == "design" else f"{where}.{key}")
+    elif isinstance(data, list):
+        for i, value in enumerate(data):
+            _text_everywhere(value, f"{where}[{i}]")
 
 
 def design_to_json(design: Design) -> str:
