@@ -26,7 +26,7 @@ from bandcalc.model.units import format_ohms, format_si, format_value, parse_qua
 from bandcalc.signal_check.edges import run_design, run_points
 from bandcalc.signal_check.waveform import synthesize
 from bandcalc.signal_check.width_trade import sweep_design
-from bandcalc.spread.factors import QUANTITIES, Factor
+from bandcalc.spread.factors import QUANTITIES
 from bandcalc.spread.propagation import (
     DEFAULT_SAMPLES,
     DEFAULT_SEED,
@@ -207,14 +207,6 @@ def _cmd_analyze(args: argparse.Namespace) -> int:
     return _print_results(*_for_each_file(args.files, work), as_json=args.json)
 
 
-def _factor_value(f: Factor, value: float) -> str:
-    if f.unit == "degC":
-        return f"{value:g} C"
-    if f.unit == "ppm/K":
-        return f"{value:+g} ppm/K"
-    return format_si(value, f.unit, 4)
-
-
 def _window(quantity: str, low: float, high: float, unit: str) -> str:
     v = lambda x: format_value(x, unit, 4)  # noqa: E731
     if math.isinf(high):
@@ -232,7 +224,7 @@ def _spread_table(path: str, s: Spread) -> str:
     wrap = lambda text: textwrap.fill(text, 100, initial_indent="    ", subsequent_indent="      ")  # noqa: E731
     by_name = {f.name: f for f in s.factors}
     lines = [f"{s.design.name or '(unnamed design)'}  [{path}]", "  varied:"]
-    lines += [wrap(f"{_short(f.name)} {_factor_value(f, f.low)} to {_factor_value(f, f.high)} ({f.origin})")
+    lines += [wrap(f"{_short(f.name)} {f.format(f.low)} to {f.format(f.high)} ({f.origin})")
               for f in s.factors] or ["    nothing: every part is exact"]
     rows = [("nominal", wc.nominal), ("worst-case min", {q: getattr(wc, q).min for q in QUANTITIES}),
             ("worst-case max", {q: getattr(wc, q).max for q in QUANTITIES}),
@@ -254,7 +246,7 @@ def _spread_table(path: str, s: Spread) -> str:
     for q in QUANTITIES:
         for end in ("min", "max"):
             corner = getattr(getattr(wc, q), f"{end}_corner")
-            at = ", ".join(f"{_short(k)} {_factor_value(by_name[k], x)}" for k, x in corner.items())
+            at = ", ".join(f"{_short(k)} {by_name[k].format(x)}" for k, x in corner.items())
             lines.append(wrap(f"{q} {end} {v(getattr(getattr(wc, q), end))} at: {at or 'nominal'}"))
     lines.append("  largest shares of the variance (first order):")
     for q in QUANTITIES:

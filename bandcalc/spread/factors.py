@@ -64,6 +64,14 @@ class Factor:
         """The factor's value for unit variable ``z`` (-1: low, 0: centre, +1: high)."""
         return self.centre + 0.5 * (self.high - self.low) * z
 
+    def format(self, value: float) -> str:
+        """A value of this factor for people: "25 C", "+100 ppm/K", "4.7 kOhm"."""
+        if self.unit == "degC":
+            return f"{value:g} C"
+        if self.unit == "ppm/K":
+            return f"{value:+g} ppm/K"
+        return format_si(value, self.unit, 4)
+
     def draw(self, rng: np.random.Generator, n: int, out: np.ndarray | None = None) -> np.ndarray:
         """``n`` random values: normal with the bounds at +/-3 sigma, or uniform between the bounds.
 
