@@ -1,15 +1,16 @@
 """The command line: ``python -m bandcalc COMMAND ...``.
 
-Each command reads design files, calls the package and prints a readable table, or JSON with
-``--json``.  A file that cannot be used gets a message on stderr naming it and the problem;
-the other files are still processed and the exit status is 2.
+Each command reads design files, calls the package and prints a readable table, or strict JSON
+with ``--json``.  A file that cannot be used gets a message on stderr naming it and the problem;
+the other files are still processed and the exit status is 2.  Text the user wrote is printed
+with control characters escaped ("\\x1b"), so a name cannot drive the terminal.
 """
 
 from __future__ import annotations
 
 import argparse
-import json
 import math
+import re
 import sys
 import textwrap
 from collections.abc import Callable, Sequence
@@ -23,6 +24,7 @@ from bandcalc.model.design import Design
 from bandcalc.model.design_file import load_design
 from bandcalc.model.operating import Analysis, analysis_to_dict, analyze
 from bandcalc.model.units import format_ohms, format_si, format_value, parse_quantity, parse_resistance
+from bandcalc.outputs.strict_json import dumps
 from bandcalc.signal_check.edges import run_design, run_points
 from bandcalc.signal_check.waveform import synthesize
 from bandcalc.signal_check.width_trade import sweep_design
@@ -40,6 +42,31 @@ from bandcalc.spread.propagation import (
 __all__ = ["main"]
 
 EXIT_BAD_INPUT = 2
+
+# C0 controls but tab and line feed, DEL, C1 controls (ECMA-48), and lone surrogates (no UTF-8 form).
+_UNPRINTABLE = re.compile("[\x00-\x08\x0b-\x1f\x7f-\x9f\ud800-\udfff]")
+_LINE_BREAKS = re.compile("[\t\n\x00-\x1f\x7f-\x9f\ud800-\udfff]")
+
+
+def _printable(text: str, *, one_line: bool = False, json_escapes: bool = False) -> str:
+    """``text`` for a terminal: control characters and lone surrogates escaped ("\\x1b"), line
+    breaks too with ``one_line``; as "\\u001b" with ``json_escapes`` (inside a JSON block)."""
+    def escaped(m: re.Match) -> str:
+        return f"\\u{ord(m.group()):04x}" if json_escapes else repr(m.group())[1:-1]
+    return (_LINE_BREAKS if one_line else _UNPRINTABLE).sub(escaped, text)
+
+
+def _title(design: Design, path: str) -> str:
+    """The first line of a table: the design's name and the file, each on one line."""
+    name = _printable(design.name or "(unnamed design)", one_line=True)
+    return f"{name}  [{_printable(path, one_line=True)}]"
+
+
+def _complain(path: str | None, message: str) -> None:
+    """A message on stderr, naming the file unless the message starts with it already."""
+    if path is not None and not message.startswith(path):
+        message = f"{path}: {message}"
+    print(f"bandcalc: {_printable(message)}", file=sys.stderr)
 
 
 def _describe(d: Design) -> str:
@@ -61,7 +88,7 @@ def _analysis_table(path: str, a: Analysis) -> str:
     ]
     if a.design.front_end is not None:  # the points in the watched quantity, above the stage's volts
         rows[1:1] = _watched_rows(a)
-    lines = [f"{a.design.name or '(unnamed design)'}  [{path}]"]
+    lines = [_title(a.design, path)]
     lines += [f"  {k:<18} {val}" for k, val in rows]
     for title, items in (("findings", a.findings), ("cautions", a.cautions)):
         if items:
@@ -86,20 +113,28 @@ def _watched_rows(a: Analysis) -> list[tuple[str, str]]:
 
 
 def _for_each_file(paths: Sequence[str], work: Callable[[str, Design], object]) -> tuple[list, int]:
-    """Run ``work`` on each loadable design; report bad files on stderr and keep going."""
+    """Run ``work`` on each loadable design; report bad files on stderr and keep going.
+
+    Anything else that goes wrong with one file is named with the file too, and the batch goes on:
+    one file never costs the others their results.
+    """
     results, status = [], 0
     for path in paths:
         try:
             results.append(work(path, load_design(path)))
         except ValueError as exc:
-            msg = str(exc)
-            print(f"bandcalc: {msg if msg.startswith(path) else f'{path}: {msg}'}", file=sys.stderr)
+            _complain(path, str(exc))
+            status = EXIT_BAD_INPUT
+        except Exception as exc:  # noqa: BLE001 - the per-file boundary: report it, keep the batch
+            _complain(path, f"internal error ({type(exc).__name__}: {exc}); the file could not be "
+                            "analysed. Please report it with the file.")
             status = EXIT_BAD_INPUT
     return results, status
 
 
 def _emit_json(objects: list) -> None:
-    print(json.dumps(objects[0] if len(objects) == 1 else objects, indent=2))
+    """Strict JSON: NaN and infinities become null, listed under "not_finite" (outputs.strict_json)."""
+    print(dumps(objects[0] if len(objects) == 1 else objects, indent=2))
 
 
 def _print_results(results: list, status: int, as_json: bool) -> int:
@@ -108,7 +143,7 @@ def _print_results(results: list, status: int, as_json: bool) -> int:
         if results:
             _emit_json(results)
     else:
-        print("\n\n".join(results))
+        print(_printable("\n\n".join(results)))
     return status
 
 
@@ -168,7 +203,7 @@ def _cmd_signal(args: argparse.Namespace) -> int:
         try:
             recorded = read_waveform_csv(args.csv)
         except ValueError as exc:
-            print(f"bandcalc: {args.csv}: {exc}", file=sys.stderr)
+            _complain(args.csv, str(exc))
             return EXIT_BAD_INPUT
 
     def work(path: str, design: Design) -> object:
@@ -194,10 +229,10 @@ def _cmd_report(args: argparse.Namespace) -> int:
         try:
             Path(args.output).write_text(results[0], encoding="utf-8")
         except OSError as exc:
-            print(f"bandcalc: {args.output}: cannot write the summary ({exc.strerror})", file=sys.stderr)
+            _complain(args.output, f"cannot write the summary ({exc.strerror})")
             return EXIT_BAD_INPUT
     else:
-        print(results[0], end="")
+        print(_printable(results[0], json_escapes=True), end="")
     return status
 def _cmd_analyze(args: argparse.Namespace) -> int:
     def work(path: str, design: Design) -> object:
@@ -223,7 +258,7 @@ def _spread_table(path: str, s: Spread) -> str:
     wc, mc, se = s.worst_case, s.monte_carlo, s.sensitivity
     wrap = lambda text: textwrap.fill(text, 100, initial_indent="    ", subsequent_indent="      ")  # noqa: E731
     by_name = {f.name: f for f in s.factors}
-    lines = [f"{s.design.name or '(unnamed design)'}  [{path}]", "  varied:"]
+    lines = [_title(s.design, path), "  varied:"]
     lines += [wrap(f"{_short(f.name)} {f.format(f.low)} to {f.format(f.high)} ({f.origin})")
               for f in s.factors] or ["    nothing: every part is exact"]
     rows = [("nominal", wc.nominal), ("worst-case min", {q: getattr(wc, q).min for q in QUANTITIES}),
@@ -301,7 +336,7 @@ def _fit_table(path: str, r: FitResult, code: bool) -> str:
              format_value(c.worst_error, unit, 3), format_si(c.network_current, "A")]
             for i, c in enumerate(r.candidates, 1)]
     widths = [max(len(row[j]) for row in [head, *rows]) for j in range(len(head))]
-    lines = [f"{r.design.name or '(unnamed design)'}  [{path}]",
+    lines = [_title(r.design, path),
              f"  targets   upper {v(r.upper)}, lower {v(r.lower)}",
              f"  fitting   {', '.join(r.fitted)} from {r.series}, {format_ohms(r.min_ohms, code)} to "
              f"{format_ohms(r.max_ohms, code)}"]
@@ -328,7 +363,7 @@ def _cmd_fit(args: argparse.Namespace) -> int:
                 raise BandcalcError(f"--hold: write KEY=R, e.g. feedback=1M2; got {item!r}")
             fixed[key.strip()] = parse_resistance(text, f"--hold {key.strip()}")
     except ValueError as exc:
-        print(f"bandcalc: {exc}", file=sys.stderr)
+        _complain(None, str(exc))
         return EXIT_BAD_INPUT
 
     def work(path: str, design: Design) -> FitResult:
@@ -345,7 +380,7 @@ def _cmd_fit(args: argparse.Namespace) -> int:
     if args.json:
         _emit_json([{"file": args.file, **fit_to_dict(result)}])
     else:
-        print(_fit_table(args.file, result, args.code))
+        print(_printable(_fit_table(args.file, result, args.code)))
     return EXIT_BAD_INPUT if result.problems else 0
 
 
@@ -425,3 +460,9 @@ def main(argv: Sequence[str] | None = None) -> int:
     except BrokenPipeError:  # output piped into a reader that stopped early (| head)
         sys.stderr.close()
         return 0
+    except ValueError as exc:  # a user error outside the files (every one is a BandcalcError)
+        _complain(None, str(exc))
+        return EXIT_BAD_INPUT
+    except Exception as exc:  # noqa: BLE001 - never a traceback on the command line
+        _complain(None, f"internal error ({type(exc).__name__}: {exc}). Please report it with the command.")
+        return EXIT_BAD_INPUT
