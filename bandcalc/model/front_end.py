@@ -136,6 +136,12 @@ class _Base:
             if getattr(design.source, key) is not None:
                 raise DesignError(f"source.{key}: with a front end, give the range of the watched "
                                   f"quantity as front_end.low / front_end.high instead")
+        total = design.source.resistance + self.series_ohms()
+        if total > OHMS[1]:
+            raise DesignError(f"source.resistance: {format_value(design.source.resistance, 'Ohm')} plus the "
+                              f"front end's own up to {format_value(self.series_ohms(), 'Ohm')} puts "
+                              f"{format_value(total, 'Ohm')} ahead of the stage, where a part has at most "
+                              f"{format_value(OHMS[1], 'Ohm')}")
 
 
 @dataclass(frozen=True)
@@ -165,6 +171,9 @@ class DividerFrontEnd(_Base):
 
     def resistors(self) -> dict[str, float]:
         return self.parameters()
+
+    def series_ohms(self) -> float:
+        return self.top * self.bottom / (self.top + self.bottom)
 
     def ends(self, p: Mapping[str, ArrayLike]) -> tuple[ArrayLike, ...]:
         """(V0, V1, R0, R1): the Thevenin equivalent at coordinate 0 and 1 (here, volts watched)."""
@@ -221,6 +230,9 @@ class LinearFrontEnd(_Base):
     def parameters(self) -> dict[str, float]:
         return {"front_end.volts_per_unit": self.volts_per_unit, "front_end.offset": self.offset,
                 "front_end.resistance": self.resistance}
+
+    def series_ohms(self) -> float:
+        return self.resistance
 
     def ends(self, p: Mapping[str, ArrayLike]) -> tuple[ArrayLike, ...]:
         off, r = p["front_end.offset"], p["front_end.resistance"]
@@ -373,6 +385,9 @@ class ThermistorFrontEnd(_Base):
     def rises(self) -> bool:
         return self.position == "top"
 
+    def series_ohms(self) -> float:
+        return self.fixed  # the divider's Thevenin resistance, R_fixed R_t / (R_fixed + R_t), below it
+
     def resistors(self) -> dict[str, float]:
         return {"front_end.fixed": self.fixed}
 
@@ -462,6 +477,9 @@ class DirectInput(_Base):
 
     def parameters(self) -> dict[str, float]:
         return {}
+
+    def series_ohms(self) -> float:
+        return 0.0
 
     def ends(self, p: Mapping[str, ArrayLike]) -> tuple[ArrayLike, ...]:
         return 0.0, 1.0, 0.0, 0.0

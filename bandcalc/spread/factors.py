@@ -229,7 +229,9 @@ class VariedModel:
         if "temperature" in names:
             t = self.factors[names.index("temperature")]
             rms = math.sqrt((t.centre - NOMINAL_CELSIUS) ** 2 + (t.high - t.low) ** 2 / 12)
-            z_rms = (NOMINAL_CELSIUS + rms - t.centre) / (0.5 * (t.high - t.low))
+            half = 0.5 * (t.high - t.low)
+            # A range narrower than a float step has no width: its centre is the rms distance away.
+            z_rms = (NOMINAL_CELSIUS + rms - t.centre) / half if half > 0 else 0.0
             for i, name in enumerate(names):
                 if name.endswith("drift"):
                     z[[i, k + i], names.index("temperature")] = z_rms
