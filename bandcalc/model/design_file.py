@@ -37,7 +37,7 @@ from bandcalc.model.design import (
 from bandcalc.model.front_end import front_end_from_dict
 from bandcalc.model.tolerances import ToleranceError, Tolerances, tolerances_from_dict, tolerances_to_dict
 from bandcalc.model.units import UnitError, parse_quantity, parse_resistance
-from bandcalc.model.validation import section, text
+from bandcalc.model.validation import LONE_SURROGATE, section, text
 from bandcalc.user_files import read_regular_file
 
 __all__ = [
@@ -126,7 +126,7 @@ def _plain_section(cls: type, data: Any, key: str, required: tuple[str, ...] = (
 
 def design_from_dict(data: Any) -> Design:
     """Build a validated Design from the JSON shape; raise DesignError naming the key at fault."""
-    _text_everywhere(data, "design")
+    _text_everywhere(data)
     data = section(data, "design", _TOP_KEYS, ("format", "stage", "supply", "resistors"))
     if isinstance(data["format"], bool) or data["format"] != FORMAT:
         raise DesignError(f"format: {shown(data['format'])} is not a design file format this version reads; "
@@ -212,13 +212,19 @@ class _Object(dict):
     repeated: str | None = None
 
 
-def _object(pairs: list[tuple[str, Any]]) -> _Object:
-    out = _Object()
-    for key, value in pairs:
-        if key in out and out.repeated is None:
-            out.repeated = key
-        out[key] = value
-    return out
+def _reader() -> tuple[Any, list[str]]:
+    """An ``object_pairs_hook`` that marks repeated keys, and the list it notes each one in."""
+    seen: list[str] = []
+
+    def hook(pairs: list[tuple[str, Any]]) -> _Object:
+        out = _Object(pairs)
+        if len(out) < len(pairs):
+            keys: set[str] = set()
+            out.repeated = next(k for k, _ in pairs if k in keys or keys.add(k))
+            seen.append(out.repeated)
+        return out
+
+    return hook, seen
 
 
 def _integer(digits: str) -> int:
@@ -230,9 +236,13 @@ _STRINGS = re.compile(r'"(?:[^"\\]|\\.)*"')
 
 
 def _depth(text: str) -> int:
-    """How deep arrays and objects nest in JSON text (brackets inside strings not counted)."""
+    """How deep arrays and objects nest in JSON text (brackets inside strings not counted); at
+    most the number of opening brackets, so a text with few of them is not scanned."""
+    if text.count("[") + text.count("{") <= MAX_DEPTH:
+        return 0
     code = np.frombuffer(_STRINGS.sub("", text).encode("utf-8", "surrogatepass"), dtype=np.uint8)
-    step = np.isin(code, (ord("["), ord("{"))).astype(np.int32) - np.isin(code, (ord("]"), ord("}")))
+    opens, closes = (code == ord("[")) | (code == ord("{")), (code == ord("]")) | (code == ord("}"))
+    step = opens.astype(np.int32) - closes
     return int(np.cumsum(step).max(initial=0))
 
 
@@ -243,41 +253,53 @@ def read_json(text: str) -> Any:
     :data:`MAX_DEPTH` are refused, naming where.
     """
     text = text.removeprefix("\ufeff")
-    depth = _depth(text)
+    depth = _depth(text)  # 0 where it cannot be deep
     if depth > MAX_DEPTH:
         raise DesignError(f"nested {depth} levels deep; a design file nests at most {MAX_DEPTH} "
                           "(it needs four)")
+    hook, repeated = _reader()
     try:
-        data = json.loads(text, object_pairs_hook=_object, parse_int=_integer)
+        data = json.loads(text, object_pairs_hook=hook, parse_int=_integer)
     except json.JSONDecodeError as exc:
         raise DesignError(f"not valid JSON (line {exc.lineno}, column {exc.colno}: {exc.msg})") from None
-    _no_repeated_keys(data, "design")
+    if repeated:
+        where, obj = _first(data, "design", lambda v: isinstance(v, _Object) and v.repeated is not None)
+        raise DesignError(f'{where}: the key "{obj.repeated}" appears twice; give each key once '
+                          "(a JSON reader would silently keep only one of them)")
     return data
 
 
-def _no_repeated_keys(data: Any, where: str) -> None:
-    if isinstance(data, _Object):
-        if data.repeated is not None:
-            raise DesignError(f'{where}: the key "{data.repeated}" appears twice; give each key once '
-                              "(a JSON reader would silently keep only one of them)")
-        for key, value in data.items():
-            _no_repeated_keys(value, key if where == "design" else f"{where}.{key}")
-    elif isinstance(data, list):
-        for i, value in enumerate(data):
-            _no_repeated_keys(value, f"{where}[{i}]")
+def _first(data: Any, where: str, found: Any) -> tuple[str, Any]:
+    """The path and value of the first value inside ``data`` (its keys included, each standing for
+    itself as "PATH (a key)") for which ``found(value)`` holds; ``(None, None)`` if none does."""
+    if found(data):
+        return where, data
+    items = data.items() if isinstance(data, dict) else enumerate(data) if isinstance(data, list) else ()
+    for key, value in items:
+        inner = (f"{where}[{key}]" if isinstance(data, list) else key if where == "design"
+                 else f"{where}.{key}")
+        if isinstance(data, dict) and found(key):
+            return f"{where} (a key)", key
+        hit = _first(value, inner, found)
+        if hit[0] is not None:
+            return hit
+    return None, None
 
 
-def _text_everywhere(data: Any, where: str) -> None:
+def _text_everywhere(data: Any) -> None:
     """Refuse a lone surrogate in any text of the file, keys included, naming where it is."""
-    if isinstance(data, str):
-        text(data, where)
-    elif isinstance(data, dict):
-        for key, value in data.items():
-            text(key, f"{where} (a key)")
-            _text_everywhere(value, key if where == "design" else f"{where}.{key}")
-    elif isinstance(data, list):
-        for i, value in enumerate(data):
-            _text_everywhere(value, f"{where}[{i}]")
+    try:  # one pass in C: text with a lone surrogate has no UTF-8 form
+        json.dumps(data, ensure_ascii=False).encode("utf-8")
+        return
+    except RecursionError:
+        raise DesignError(f"design: nested deeper than a design file ever is (at most {MAX_DEPTH} levels)") \
+            from None
+    except (UnicodeEncodeError, TypeError, ValueError):
+        pass
+    where, value = _first(data, "design",
+                          lambda v: isinstance(v, str) and LONE_SURROGATE.search(v) is not None)
+    if where is not None:
+        text(value, where)
 
 
 def design_to_json(design: Design) -> str:

@@ -91,8 +91,8 @@ DISSIPATION = (1e-6, 10.0)
 # A linear sensor's output moves by microvolts (a thermocouple, tens of uV/K) to volts per unit
 # of what it watches (common practice); 1 nV to 1 MV per unit refuses only slips of the finger.
 VOLTS_PER_UNIT = (1e-9, 1e6)
-# Temperatures at which a thermistor's curve is checked when the design is built.
-_CURVE_POINTS = 65
+# Where in the watched range a thermistor's curve is checked when the design is built (0: low end).
+_CURVE_GRID = np.linspace(0.0, 1.0, 9)
 
 
 # --- the front ends -----------------------------------------------------------------------------
@@ -326,48 +326,47 @@ class ThermistorFrontEnd(_Base):
 
     def _check_curve(self, low: float, high: float) -> None:
         """Refuse a curve that gives no part's resistance over the watched range, or does not fall
-        as the temperature rises; name the coefficients, the Beta, or the end of the range."""
-        if self.steinhart_hart is None:
-            ohms = lambda c: beta_resistance(self.r25, self.beta, np.asarray(c) + KELVIN_AT_0C)  # noqa: E731
-        else:
-            ohms = lambda c: steinhart_hart_resistance(self.steinhart_hart, np.asarray(c) + KELVIN_AT_0C)  # noqa: E731
+        as the temperature rises; name the coefficients, the Beta, or the end of the range.
+
+        Both models fall monotonically for B > 0 (and C >= 0), so the ends of the range bound the
+        resistance; the points between catch a curve the arithmetic cannot follow.
+        """
+        celsius = np.concatenate(([25.0, 50.0], low + (high - low) * _CURVE_GRID))
         with np.errstate(all="ignore"):
-            at25 = float(ohms(25.0))
-            celsius = np.linspace(low, high, _CURVE_POINTS)
-            curve = np.asarray(ohms(celsius), dtype=float)
-        plausible = lambda r: np.isfinite(r) & (r >= OHMS[0]) & (r <= OHMS[1])  # noqa: E731
-        allowed = f"a part has {format_value(OHMS[0], 'Ohm')} to {format_value(OHMS[1], 'Ohm')}"
+            kelvin = celsius + KELVIN_AT_0C
+            ohms = (beta_resistance(self.r25, self.beta, kelvin) if self.steinhart_hart is None
+                    else steinhart_hart_resistance(self.steinhart_hart, kelvin))
+            beta = float(np.log(ohms[0] / ohms[1]) / (1 / KELVIN_AT_25C - 1 / kelvin[1]))  # B25/50
+        at25, curve, celsius = float(ohms[0]), ohms[2:], celsius[2:]
+        bad = ~(np.isfinite(curve) & (curve >= OHMS[0]) & (curve <= OHMS[1]))
+        allowed = lambda: f"a part has {format_value(OHMS[0], 'Ohm')} to {format_value(OHMS[1], 'Ohm')}"  # noqa: E731
         if self.steinhart_hart is not None:
-            if not plausible(at25):
+            if not OHMS[0] <= at25 <= OHMS[1]:  # NaN fails too
                 raise DesignError(f"front_end.steinhart_hart: these coefficients give {_ohms(at25)} at 25 C, "
-                                  f"where {allowed}; check each exponent (a 10 kOhm part has A about 1e-3, "
+                                  f"where {allowed()}; check each exponent (a 10 kOhm part has A about 1e-3, "
                                   "B about 2e-4, C about 1e-7)")
-            bad = ~plausible(curve)
             if bad.any() or not (np.diff(curve) < 0).all():
-                where = (f"{_ohms(curve[bad][0])} at {celsius[bad][0]:g} C, where {allowed}" if bad.any()
+                where = (f"{_ohms(curve[bad][0])} at {celsius[bad][0]:g} C, where {allowed()}" if bad.any()
                          else "a resistance that does not fall as the temperature rises")
                 raise DesignError(f"front_end.steinhart_hart: over the watched range {low:g} C to {high:g} C "
                                   f"these coefficients give {where}; check the coefficients, or "
                                   "front_end.low / front_end.high")
-            with np.errstate(all="ignore"):  # the Beta between 25 C and 50 C (B25/50, common practice)
-                beta = float(np.log(at25 / ohms(50.0)) / (1 / KELVIN_AT_25C - 1 / (KELVIN_AT_25C + 25.0)))
             if not BETA[0] <= beta <= BETA[1]:  # NaN fails too
                 raise DesignError(f"front_end.steinhart_hart: these coefficients give a Beta (25 C to 50 C) "
                                   f"of {beta:.3g} K, where NTC parts have {BETA[0]:g} K to {BETA[1]:g} K; "
                                   "check each exponent")
             return
-        bad = ~plausible(curve)
         if not bad.any():
             return
         at = float(celsius[bad][0])
         end = "low" if at == low else "high"
         if getattr(self, end) is not None:
             raise DesignError(f"front_end.{end}: at {at:g} C the thermistor's resistance would be "
-                              f"{_ohms(curve[bad][0])}, where {allowed}; "
+                              f"{_ohms(curve[bad][0])}, where {allowed()}; "
                               f"narrow the watched range or check r25 and beta")
         raise DesignError(f"front_end: over the default watched range {THERMISTOR_RANGE[0]:g} C to "
                           f"{THERMISTOR_RANGE[1]:g} C the thermistor's resistance would reach "
-                          f"{_ohms(curve[bad][0])} (at {at:g} C), where {allowed}; give front_end.low / "
+                          f"{_ohms(curve[bad][0])} (at {at:g} C), where {allowed()}; give front_end.low / "
                           "front_end.high, or check r25 and beta")
 
     def temperatures(self) -> tuple[float, float]:

@@ -26,6 +26,7 @@ __all__ = [
     "AMPS",
     "CELSIUS",
     "FARADS",
+    "LONE_SURROGATE",
     "OHMS",
     "SECONDS",
     "VOLTS",
@@ -65,6 +66,8 @@ CELSIUS = (-273.15, 500.0)
 
 def finite(value: float, key: str) -> None:
     """Refuse anything but a finite number (booleans included) at design-file ``key``."""
+    if type(value) is float and value - value == 0.0:  # the usual case, quickly: finite floats
+        return
     if not isinstance(value, (int, float)) or isinstance(value, bool):
         raise DesignError(f"{key}: must be a finite number, got {shown(value)}")
     try:
@@ -111,14 +114,15 @@ def voltage(value: float, key: str, *, low: float = -VOLTS) -> None:
     within(value, key, low, VOLTS, "V")
 
 
-_SURROGATE = re.compile("[\ud800-\udfff]")
+#: A surrogate code point: alone in a str it is no character, and has no UTF-8 form.
+LONE_SURROGATE = re.compile("[\ud800-\udfff]")
 
 
 def text(value: Any, key: str) -> None:
     """Text that can be shown and saved: a ``str`` without lone surrogates."""
     if not isinstance(value, str):
         raise DesignError(f"{key}: must be text")
-    bad = _SURROGATE.search(value)
+    bad = LONE_SURROGATE.search(value)
     if bad:
         raise DesignError(f"{key}: holds a lone surrogate ({shown(bad.group())} at character "
                           f"{bad.start() + 1}), which is no character and cannot be shown or saved; "
