@@ -48,6 +48,7 @@ __all__ = [
     "design_to_dict",
     "design_to_json",
     "load_design",
+    "read_json",
     "save_design",
 ]
 
