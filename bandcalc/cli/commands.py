@@ -1,14 +1,14 @@
 """The command line: ``python -m bandcalc COMMAND ...``.
 
-Each command reads design files, calls the package and prints a readable table, or JSON with
-``--json``.  A file that cannot be used gets a message on stderr naming it and the problem;
-the other files are still processed and the exit status is 2.
+Each command reads design files, calls the package and prints a readable table, or strict JSON
+with ``--json``.  A file that cannot be used gets a message on stderr naming it and the problem;
+the other files are still processed and the exit status is 2.  Text the user wrote is printed
+with control characters escaped ("\\x1b"), so a name cannot drive the terminal.
 """
 
 from __future__ import annotations
 
 import argparse
-import json
 import math
 import sys
 import textwrap
@@ -24,10 +24,11 @@ from bandcalc.model.design import Design
 from bandcalc.model.design_file import load_design
 from bandcalc.model.operating import Analysis, analysis_to_dict, analyze
 from bandcalc.model.units import format_ohms, format_si, format_value, parse_quantity, parse_resistance
+from bandcalc.outputs.strict_json import dumps
 from bandcalc.signal_check.edges import run_design, run_points
 from bandcalc.signal_check.waveform import synthesize
 from bandcalc.signal_check.width_trade import sweep_design
-from bandcalc.spread.factors import QUANTITIES, Factor
+from bandcalc.spread.factors import QUANTITIES
 from bandcalc.spread.propagation import (
     DEFAULT_SAMPLES,
     DEFAULT_SEED,
@@ -41,6 +42,15 @@ from bandcalc.spread.propagation import (
 __all__ = ["main"]
 
 EXIT_BAD_INPUT = 2
+
+# C0 controls but tab and line feed, DEL, C1 controls (ECMA-48), and lone surrogates (no UTF-8 form).
+
+
+def _complain(path: str | None, message: str) -> None:
+    """A message on stderr, naming the file unless the message starts with it already."""
+    if path is not None and not message.startswith(path):
+        message = f"{path}: {message}"
+    print(f"bandcalc: {visible_text(message)}", file=sys.stderr)
 
 
 def _describe(d: Design) -> str:
@@ -100,20 +110,28 @@ def _watched_rows(a: Analysis) -> list[tuple[str, str]]:
 
 
 def _for_each_file(paths: Sequence[str], work: Callable[[str, Design], object]) -> tuple[list, int]:
-    """Run ``work`` on each loadable design; report bad files on stderr and keep going."""
+    """Run ``work`` on each loadable design; report bad files on stderr and keep going.
+
+    Anything else that goes wrong with one file is named with the file too, and the batch goes on:
+    one file never costs the others their results.
+    """
     results, status = [], 0
     for path in paths:
         try:
             results.append(work(path, load_design(path)))
         except ValueError as exc:
-            msg = str(exc)
-            print(f"bandcalc: {msg if msg.startswith(path) else f'{path}: {msg}'}", file=sys.stderr)
+            _complain(path, str(exc))
+            status = EXIT_BAD_INPUT
+        except Exception as exc:  # noqa: BLE001 - the per-file boundary: report it, keep the batch
+            _complain(path, f"internal error ({type(exc).__name__}: {exc}); the file could not be "
+                            "analysed. Please report it with the file.")
             status = EXIT_BAD_INPUT
     return results, status
 
 
 def _emit_json(objects: list) -> None:
-    print(json.dumps(objects[0] if len(objects) == 1 else objects, indent=2))
+    """Strict JSON: NaN and infinities become null, listed under "not_finite" (outputs.strict_json)."""
+    print(dumps(objects[0] if len(objects) == 1 else objects, indent=2))
 
 
 def _print_results(results: list, status: int, as_json: bool) -> int:
@@ -122,7 +140,7 @@ def _print_results(results: list, status: int, as_json: bool) -> int:
         if results:
             _emit_json(results)
     else:
-        print("\n\n".join(results))
+        print(visible_text("\n\n".join(results), keep_lines=True))
     return status
 
 
@@ -191,7 +209,7 @@ def _cmd_signal(args: argparse.Namespace) -> int:
         try:
             recorded = read_waveform_csv(args.csv)
         except ValueError as exc:
-            print(f"bandcalc: {args.csv}: {exc}", file=sys.stderr)
+            _complain(args.csv, str(exc))
             return EXIT_BAD_INPUT
 
     def work(path: str, design: Design) -> object:
@@ -217,10 +235,10 @@ def _cmd_report(args: argparse.Namespace) -> int:
         try:
             Path(args.output).write_text(results[0], encoding="utf-8")
         except OSError as exc:
-            print(f"bandcalc: {args.output}: cannot write the summary ({exc.strerror})", file=sys.stderr)
+            _complain(args.output, f"cannot write the summary ({exc.strerror})")
             return EXIT_BAD_INPUT
     else:
-        print(results[0], end="")
+        print(visible_text(results[0], keep_lines=True), end="")
     return status
 def _cmd_analyze(args: argparse.Namespace) -> int:
     def work(path: str, design: Design) -> object:
@@ -228,14 +246,6 @@ def _cmd_analyze(args: argparse.Namespace) -> int:
         return {"file": path, **analysis_to_dict(a)} if args.json else _analysis_table(path, a)
 
     return _print_results(*_for_each_file(args.files, work), as_json=args.json)
-
-
-def _factor_value(f: Factor, value: float) -> str:
-    if f.unit == "degC":
-        return f"{value:g} C"
-    if f.unit == "ppm/K":
-        return f"{value:+g} ppm/K"
-    return format_value(value, f.unit, 4)  # kelvin (Beta) plain, volts and amps with a prefix
 
 
 def _window(quantity: str, low: float, high: float, unit: str) -> str:
@@ -256,7 +266,7 @@ def _spread_table(path: str, s: Spread) -> str:
     wrap = lambda text: textwrap.fill(text, 100, initial_indent="    ", subsequent_indent="      ")  # noqa: E731
     by_name = {f.name: f for f in s.factors}
     lines = [_heading(s.design, path), "  varied:"]
-    lines += [wrap(f"{_short(f.name)} {_factor_value(f, f.low)} to {_factor_value(f, f.high)} ({f.origin})")
+    lines += [wrap(f"{_short(f.name)} {f.format(f.low)} to {f.format(f.high)} ({f.origin})")
               for f in s.factors] or ["    nothing: every part is exact"]
     rows = [("nominal", wc.nominal), ("worst-case min", {q: getattr(wc, q).min for q in QUANTITIES}),
             ("worst-case max", {q: getattr(wc, q).max for q in QUANTITIES}),
@@ -278,7 +288,7 @@ def _spread_table(path: str, s: Spread) -> str:
     for q in QUANTITIES:
         for end in ("min", "max"):
             corner = getattr(getattr(wc, q), f"{end}_corner")
-            at = ", ".join(f"{_short(k)} {_factor_value(by_name[k], x)}" for k, x in corner.items())
+            at = ", ".join(f"{_short(k)} {by_name[k].format(x)}" for k, x in corner.items())
             lines.append(wrap(f"{q} {end} {v(getattr(getattr(wc, q), end))} at: {at or 'nominal'}"))
     lines.append("  largest shares of the variance (first order):")
     for q in QUANTITIES:
@@ -370,7 +380,7 @@ def _cmd_fit(args: argparse.Namespace) -> int:
                 raise BandcalcError(f"--hold: write KEY=R, e.g. feedback=1M2; got {item!r}")
             fixed[key.strip()] = parse_resistance(text, f"--hold {key.strip()}")
     except ValueError as exc:
-        print(f"bandcalc: {exc}", file=sys.stderr)
+        _complain(None, str(exc))
         return EXIT_BAD_INPUT
 
     def work(path: str, design: Design) -> FitResult:
@@ -387,7 +397,7 @@ def _cmd_fit(args: argparse.Namespace) -> int:
     if args.json:
         _emit_json([{"file": args.file, **fit_to_dict(result)}])
     else:
-        print(_fit_table(args.file, result, args.code))
+        print(visible_text(_fit_table(args.file, result, args.code), keep_lines=True))
     return EXIT_BAD_INPUT if result.problems else 0
 
 
@@ -470,3 +480,9 @@ def main(argv: Sequence[str] | None = None) -> int:
     except BrokenPipeError:  # output piped into a reader that stopped early (| head)
         sys.stderr.close()
         return 0
+    except ValueError as exc:  # a user error outside the files (every one is a BandcalcError)
+        _complain(None, str(exc))
+        return EXIT_BAD_INPUT
+    except Exception as exc:  # noqa: BLE001 - never a traceback on the command line
+        _complain(None, f"internal error ({type(exc).__name__}: {exc}). Please report it with the command.")
+        return EXIT_BAD_INPUT
