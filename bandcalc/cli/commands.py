@@ -1,14 +1,14 @@
 """The command line: ``python -m bandcalc COMMAND ...``.
 
-Each command reads design files, calls the package and prints a readable table, or JSON with
-``--json``.  A file that cannot be used gets a message on stderr naming it and the problem;
-the other files are still processed and the exit status is 2.
+Each command reads design files, calls the package and prints a readable table, or strict JSON
+with ``--json``.  A file that cannot be used gets a message on stderr naming it and the problem;
+the other files are still processed and the exit status is 2.  Text the user wrote is printed
+with control characters escaped ("\\x1b"), so a name cannot drive the terminal.
 """
 
 from __future__ import annotations
 
 import argparse
-import json
 import math
 import sys
 import textwrap
@@ -19,16 +19,17 @@ from bandcalc import __version__
 from bandcalc.cli.page_server import add_page_command
 from bandcalc.cli.visible_text import visible_text
 from bandcalc.errors import BandcalcError
-from bandcalc.fit.selection import FitResult, fit, fit_to_dict
+from bandcalc.fit.selection import MAX_COUNT, FitResult, fit, fit_to_dict
 from bandcalc.model.design import Design
 from bandcalc.model.design_file import load_design
 from bandcalc.model.operating import Analysis, analysis_to_dict, analyze
 from bandcalc.model.units import format_ohms, format_si, format_value, parse_quantity, parse_resistance
 from bandcalc.outputs.netlist import BENCHES, netlist
+from bandcalc.outputs.strict_json import dumps
 from bandcalc.signal_check.edges import run_design, run_points
 from bandcalc.signal_check.waveform import Waveform, synthesize
 from bandcalc.signal_check.width_trade import sweep_design
-from bandcalc.spread.factors import QUANTITIES, Factor
+from bandcalc.spread.factors import QUANTITIES
 from bandcalc.spread.propagation import (
     DEFAULT_SAMPLES,
     DEFAULT_SEED,
@@ -42,6 +43,15 @@ from bandcalc.spread.propagation import (
 __all__ = ["main"]
 
 EXIT_BAD_INPUT = 2
+
+# C0 controls but tab and line feed, DEL, C1 controls (ECMA-48), and lone surrogates (no UTF-8 form).
+
+
+def _complain(path: str | None, message: str) -> None:
+    """A message on stderr, naming the file unless the message starts with it already."""
+    if path is not None and not message.startswith(path):
+        message = f"{path}: {message}"
+    print(f"bandcalc: {visible_text(message)}", file=sys.stderr)
 
 
 def _describe(d: Design) -> str:
@@ -101,20 +111,28 @@ def _watched_rows(a: Analysis) -> list[tuple[str, str]]:
 
 
 def _for_each_file(paths: Sequence[str], work: Callable[[str, Design], object]) -> tuple[list, int]:
-    """Run ``work`` on each loadable design; report bad files on stderr and keep going."""
+    """Run ``work`` on each loadable design; report bad files on stderr and keep going.
+
+    Anything else that goes wrong with one file is named with the file too, and the batch goes on:
+    one file never costs the others their results.
+    """
     results, status = [], 0
     for path in paths:
         try:
             results.append(work(path, load_design(path)))
         except ValueError as exc:
-            msg = str(exc)
-            print(f"bandcalc: {msg if msg.startswith(path) else f'{path}: {msg}'}", file=sys.stderr)
+            _complain(path, str(exc))
+            status = EXIT_BAD_INPUT
+        except Exception as exc:  # noqa: BLE001 - the per-file boundary: report it, keep the batch
+            _complain(path, f"internal error ({type(exc).__name__}: {exc}); the file could not be "
+                            "analysed. Please report it with the file.")
             status = EXIT_BAD_INPUT
     return results, status
 
 
 def _emit_json(objects: list) -> None:
-    print(json.dumps(objects[0] if len(objects) == 1 else objects, indent=2))
+    """Strict JSON: NaN and infinities become null, listed under "not_finite" (outputs.strict_json)."""
+    print(dumps(objects[0] if len(objects) == 1 else objects, indent=2))
 
 
 def _print_results(results: list, status: int, as_json: bool) -> int:
@@ -123,7 +141,7 @@ def _print_results(results: list, status: int, as_json: bool) -> int:
         if results:
             _emit_json(results)
     else:
-        print("\n\n".join(results))
+        print(visible_text("\n\n".join(results), keep_lines=True))
     return status
 
 
@@ -194,7 +212,7 @@ def _recording(path: str | None) -> tuple[Waveform | None, int]:
     try:
         return read_waveform_csv(path), 0
     except ValueError as exc:
-        print(f"bandcalc: {path}: {exc}", file=sys.stderr)
+        _complain(path, str(exc))
         return None, EXIT_BAD_INPUT
 
 
@@ -224,14 +242,15 @@ def _cmd_report(args: argparse.Namespace) -> int:
 
 
 def _write_or_print(text: str, output: str | None, what: str) -> int:
-    """Write ``text`` to the file ``output`` (UTF-8), or print it without one; the status."""
+    """Write ``text`` to the file ``output`` (UTF-8), or print it without one (controls escaped, line
+    breaks kept); the status."""
     if not output:
-        print(text, end="")
+        print(visible_text(text, keep_lines=True), end="")
         return 0
     try:
         Path(output).write_text(text, encoding="utf-8")
     except OSError as exc:
-        print(f"bandcalc: {output}: cannot write {what} ({exc.strerror})", file=sys.stderr)
+        _complain(output, f"cannot write {what} ({exc.strerror})")
         return EXIT_BAD_INPUT
     return 0
 
@@ -246,8 +265,8 @@ def _signal_defaults() -> dict:
 def _cmd_netlist(args: argparse.Namespace) -> int:
     typed = [key for key in _signal_defaults() if hasattr(args, key)]  # the netlist's are suppressed
     if args.bench == "sweep" and typed:
-        print(f"bandcalc: --{typed[0].replace('_', '-')}: describes the signal of --bench signal; the sweep "
-              "bench (the default) drives its own slow triangle", file=sys.stderr)
+        _complain(None, f"--{typed[0].replace('_', '-')}: describes the signal of --bench signal; the "
+                        "sweep bench (the default) drives its own slow triangle")
         return EXIT_BAD_INPUT
     for key, value in _signal_defaults().items():
         if not hasattr(args, key):
@@ -273,14 +292,6 @@ def _cmd_analyze(args: argparse.Namespace) -> int:
     return _print_results(*_for_each_file(args.files, work), as_json=args.json)
 
 
-def _factor_value(f: Factor, value: float) -> str:
-    if f.unit == "degC":
-        return f"{value:g} C"
-    if f.unit == "ppm/K":
-        return f"{value:+g} ppm/K"
-    return format_value(value, f.unit, 4)  # kelvin (Beta) plain, volts and amps with a prefix
-
-
 def _window(quantity: str, low: float, high: float, unit: str) -> str:
     v = lambda x: format_value(x, unit, 4)  # noqa: E731
     if math.isinf(high):
@@ -299,7 +310,7 @@ def _spread_table(path: str, s: Spread) -> str:
     wrap = lambda text: textwrap.fill(text, 100, initial_indent="    ", subsequent_indent="      ")  # noqa: E731
     by_name = {f.name: f for f in s.factors}
     lines = [_heading(s.design, path), "  varied:"]
-    lines += [wrap(f"{_short(f.name)} {_factor_value(f, f.low)} to {_factor_value(f, f.high)} ({f.origin})")
+    lines += [wrap(f"{_short(f.name)} {f.format(f.low)} to {f.format(f.high)} ({f.origin})")
               for f in s.factors] or ["    nothing: every part is exact"]
     rows = [("nominal", wc.nominal), ("worst-case min", {q: getattr(wc, q).min for q in QUANTITIES}),
             ("worst-case max", {q: getattr(wc, q).max for q in QUANTITIES}),
@@ -321,7 +332,7 @@ def _spread_table(path: str, s: Spread) -> str:
     for q in QUANTITIES:
         for end in ("min", "max"):
             corner = getattr(getattr(wc, q), f"{end}_corner")
-            at = ", ".join(f"{_short(k)} {_factor_value(by_name[k], x)}" for k, x in corner.items())
+            at = ", ".join(f"{_short(k)} {by_name[k].format(x)}" for k, x in corner.items())
             lines.append(wrap(f"{q} {end} {v(getattr(getattr(wc, q), end))} at: {at or 'nominal'}"))
     lines.append("  largest shares of the variance (first order):")
     for q in QUANTITIES:
@@ -379,7 +390,8 @@ def _fit_table(path: str, r: FitResult, code: bool) -> str:
              f"  targets   upper {v(r.upper)}, lower {v(r.lower)}",
              f"  fitting   {', '.join(r.fitted)} from {r.series}, {format_ohms(r.min_ohms, code)} to "
              f"{format_ohms(r.max_ohms, code)}"]
-    lines += _listed((("cannot meet the targets exactly", r.problems), ("notes", r.notes)))
+    lines += _listed((("cannot meet the targets exactly", r.problems),
+                      ("not proven the best", (r.stopped,) if r.stopped else ()), ("notes", r.notes)))
     lines += ["  " + "  ".join(cell.ljust(w) for cell, w in zip(row, widths, strict=True)).rstrip()
               for row in [head, *rows]]
     if r.exact is not None:
@@ -393,6 +405,14 @@ _FIT_OPTIONS = {"series": "--series", "min_ohms": "--min-ohms", "max_ohms": "--m
                 "fixed": "--hold "}
 
 
+def _count(text: str) -> int:
+    """--count: candidates to list, refused at once outside 1 to MAX_COUNT."""
+    count = int(text) if text.isascii() and text.isdigit() and len(text) <= 6 else 0
+    if not 1 <= count <= MAX_COUNT:
+        raise argparse.ArgumentTypeError(f"must be a whole number from 1 to {MAX_COUNT}, got {text!r}")
+    return count
+
+
 def _cmd_fit(args: argparse.Namespace) -> int:
     try:
         low_ohms = parse_resistance(args.min_ohms, "--min-ohms")
@@ -404,7 +424,7 @@ def _cmd_fit(args: argparse.Namespace) -> int:
                 raise BandcalcError(f"--hold: write KEY=R, e.g. feedback=1M2; got {item!r}")
             fixed[key.strip()] = parse_resistance(text, f"--hold {key.strip()}")
     except ValueError as exc:
-        print(f"bandcalc: {exc}", file=sys.stderr)
+        _complain(None, str(exc))
         return EXIT_BAD_INPUT
 
     def work(path: str, design: Design) -> FitResult:
@@ -421,7 +441,7 @@ def _cmd_fit(args: argparse.Namespace) -> int:
     if args.json:
         _emit_json([{"file": args.file, **fit_to_dict(result)}])
     else:
-        print(_fit_table(args.file, result, args.code))
+        print(visible_text(_fit_table(args.file, result, args.code), keep_lines=True))
     return EXIT_BAD_INPUT if result.problems else 0
 
 
@@ -444,7 +464,8 @@ def _parser() -> argparse.ArgumentParser:
     p.add_argument("--series", default="E24", help="IEC 60063 series, E3 to E192 (default E24)")
     p.add_argument("--min-ohms", default="1k", metavar="R", help="smallest value allowed (default 1k)")
     p.add_argument("--max-ohms", default="10M", metavar="R", help="largest value allowed (default 10M)")
-    p.add_argument("--count", type=int, default=5, metavar="N", help="candidates to list (default 5)")
+    p.add_argument("--count", type=_count, default=5, metavar="N",
+                   help=f"candidates to list, 1 to {MAX_COUNT} (default 5)")
     p.add_argument("--hold", action="append", default=[], metavar="KEY=R",
                    help="hold a resistor at a value, e.g. feedback=1M2 (repeat for more)")
     p.add_argument("--no-extra-leg", action="store_true",
@@ -522,3 +543,9 @@ def main(argv: Sequence[str] | None = None) -> int:
     except BrokenPipeError:  # output piped into a reader that stopped early (| head)
         sys.stderr.close()
         return 0
+    except ValueError as exc:  # a user error outside the files (every one is a BandcalcError)
+        _complain(None, str(exc))
+        return EXIT_BAD_INPUT
+    except Exception as exc:  # noqa: BLE001 - never a traceback on the command line
+        _complain(None, f"internal error ({type(exc).__name__}: {exc}). Please report it with the command.")
+        return EXIT_BAD_INPUT

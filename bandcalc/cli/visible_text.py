@@ -19,12 +19,16 @@ __all__ = ["visible_text"]
 # Arabic letter mark, left-to-right / right-to-left marks, line and paragraph separators, the
 # bidirectional embeddings, overrides and isolates, and lone surrogates.
 _HIDDEN = re.compile("[\x00-\x1f\x7f-\x9f\u061c\u200e\u200f\u2028-\u202e\u2066-\u2069\ud800-\udfff]")
+_HIDDEN_BUT_LINE_BREAKS = re.compile(
+    "[\x00-\x09\x0b-\x1f\x7f-\x9f\u061c\u200e\u200f\u2028-\u202e\u2066-\u2069\ud800-\udfff]")
 
 
-def visible_text(text: object) -> str:
-    """``text`` with every control, bidirectional control and lone surrogate written as ``\\uXXXX``.
+def visible_text(text: object, *, keep_lines: bool = False) -> str:
+    """``text`` with every control, bidirectional control and lone surrogate written as ``\\uXXXX``;
+    with ``keep_lines``, line feeds stay (a whole table or JSON document, printed as it is laid out).
 
     The escapes are also JSON's: a line of JSON passed through stays valid JSON, the same text
     (``json.dumps`` escapes line breaks inside strings, so the others only stand inside strings).
     """
-    return _HIDDEN.sub(lambda m: f"\\u{ord(m.group()):04x}", str(text))
+    hidden = _HIDDEN_BUT_LINE_BREAKS if keep_lines else _HIDDEN
+    return hidden.sub(lambda m: f"\\u{ord(m.group()):04x}", str(text))

@@ -11,8 +11,8 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any
 
-from bandcalc.errors import DesignError
-from bandcalc.model.validation import finite, not_negative, positive
+from bandcalc.errors import DesignError, shown
+from bandcalc.model.validation import AMPS, FARADS, SECONDS, resistance, text, voltage, within
 
 if TYPE_CHECKING:
     from bandcalc.model.front_end import FrontEnd
@@ -52,8 +52,8 @@ class Supply:
     negative: float = 0.0
 
     def __post_init__(self) -> None:
-        finite(self.positive, "supply.positive")
-        finite(self.negative, "supply.negative")
+        voltage(self.positive, "supply.positive")
+        voltage(self.negative, "supply.negative")
         if self.positive <= self.negative:
             raise DesignError(f"supply: the positive rail ({self.positive} V) must be above the "
                               f"negative rail ({self.negative} V)")
@@ -70,7 +70,7 @@ class FixedReference:
     volts: float
 
     def __post_init__(self) -> None:
-        finite(self.volts, "reference.volts")
+        voltage(self.volts, "reference.volts")
 
 
 @dataclass(frozen=True)
@@ -81,8 +81,8 @@ class DividerReference:
     bottom: float
 
     def __post_init__(self) -> None:
-        positive(self.top, "reference.divider.top")
-        positive(self.bottom, "reference.divider.bottom")
+        resistance(self.top, "reference.divider.top")
+        resistance(self.bottom, "reference.divider.bottom")
 
 
 def divider_thevenin(top: Any, bottom: Any, positive: Any, negative: Any) -> tuple[Any, Any]:
@@ -102,10 +102,12 @@ class Resistors:
     to_reference: float | None = None
 
     def __post_init__(self) -> None:
+        if self.feedback is None:
+            raise DesignError("resistors.feedback: required; every stage has a feedback resistor")
         for key in RESISTOR_KEYS:
             value = getattr(self, key)
             if value is not None:
-                positive(value, f"resistors.{key}")
+                resistance(value, f"resistors.{key}")
 
     def present(self) -> dict[str, float]:
         """The fitted positions and their values, in the order of RESISTOR_KEYS."""
@@ -124,8 +126,10 @@ class PushPull:
     kind = "push-pull"
 
     def __post_init__(self) -> None:
-        for key in ("high_drop", "low_drop", "resistance", "load_capacitance"):
-            not_negative(getattr(self, key), f"output.{key}")
+        for key in ("high_drop", "low_drop"):
+            voltage(getattr(self, key), f"output.{key}", low=0.0)
+        resistance(self.resistance, "output.resistance", zero=True)
+        within(self.load_capacitance, "output.load_capacitance", 0.0, FARADS, "F")
 
 
 @dataclass(frozen=True)
@@ -144,12 +148,12 @@ class OpenDrain:
     kind = "open-drain"
 
     def __post_init__(self) -> None:
-        positive(self.pullup, "output.pullup")
+        resistance(self.pullup, "output.pullup")
         if self.pullup_volts is not None:
-            finite(self.pullup_volts, "output.pullup_volts")
+            voltage(self.pullup_volts, "output.pullup_volts")
         if self.low_volts is not None:
-            finite(self.low_volts, "output.low_volts")
-        not_negative(self.load_capacitance, "output.load_capacitance")
+            voltage(self.low_volts, "output.low_volts")
+        within(self.load_capacitance, "output.load_capacitance", 0.0, FARADS, "F")
 
 
 @dataclass(frozen=True)
@@ -169,11 +173,11 @@ class Load:
 
     def __post_init__(self) -> None:
         if self.resistance is not None:
-            positive(self.resistance, "load.resistance")
-        finite(self.volts, "load.volts")
+            resistance(self.resistance, "load.resistance")
+        voltage(self.volts, "load.volts")
         for key in ("logic_low_max", "logic_high_min"):
             if getattr(self, key) is not None:
-                finite(getattr(self, key), f"load.{key}")
+                voltage(getattr(self, key), f"load.{key}")
         if (self.logic_low_max is not None and self.logic_high_min is not None
                 and self.logic_low_max >= self.logic_high_min):
             raise DesignError(f"load: logic_low_max ({self.logic_low_max} V) must be below "
@@ -200,15 +204,16 @@ class Comparator:
     differential_max: float | None = None
 
     def __post_init__(self) -> None:
-        finite(self.offset, "comparator.offset")
-        finite(self.bias_current, "comparator.bias_current")
-        not_negative(self.delay, "comparator.delay")
-        for key in ("input_current_limit", "differential_max"):
-            if getattr(self, key) is not None:
-                positive(getattr(self, key), f"comparator.{key}")
+        voltage(self.offset, "comparator.offset")
+        within(self.bias_current, "comparator.bias_current", -AMPS, AMPS, "A")
+        within(self.delay, "comparator.delay", 0.0, SECONDS, "s")
+        if self.input_current_limit is not None:
+            within(self.input_current_limit, "comparator.input_current_limit", 1e-9, AMPS, "A")
+        if self.differential_max is not None:
+            voltage(self.differential_max, "comparator.differential_max", low=1e-3)
         for key in ("common_mode_low", "common_mode_high"):
             if getattr(self, key) is not None:
-                finite(getattr(self, key), f"comparator.{key}")
+                voltage(getattr(self, key), f"comparator.{key}")
         if (self.common_mode_low is not None and self.common_mode_high is not None
                 and self.common_mode_low >= self.common_mode_high):
             raise DesignError("comparator: common_mode_low must be below common_mode_high")
@@ -226,10 +231,10 @@ class Source:
     high: float | None = None
 
     def __post_init__(self) -> None:
-        not_negative(self.resistance, "source.resistance")
+        resistance(self.resistance, "source.resistance", zero=True)
         for key in ("low", "high"):
             if getattr(self, key) is not None:
-                finite(getattr(self, key), f"source.{key}")
+                voltage(getattr(self, key), f"source.{key}")
         if self.low is not None and self.high is not None and self.low >= self.high:
             raise DesignError("source: low must be below high")
 
@@ -254,8 +259,13 @@ class Design:
     ratings: Ratings | None = None  # resistor ratings (bandcalc.model.ratings); None: the default size
 
     def __post_init__(self) -> None:
+        text(self.name, "name")
+        text(self.notes, "notes")
+        if not (self.protective is None or self.protective is True or self.protective is False):
+            raise DesignError("protective: must be true or false (or left out), "
+                              f"got {shown(self.protective)}")
         if self.stage not in STAGES:
-            raise DesignError(f"stage: {self.stage!r} is not a stage kind; allowed: {', '.join(STAGES)}")
+            raise DesignError(f"stage: {shown(self.stage)} is not a stage kind; allowed: {', '.join(STAGES)}")
         if self.stage == "non-inverting" and self.resistors.input is None:
             raise DesignError("resistors.input: the non-inverting stage needs an input resistor "
                               "from the signal to the + pin")

@@ -10,7 +10,7 @@ from __future__ import annotations
 import math
 import re
 
-from bandcalc.errors import BandcalcError
+from bandcalc.errors import BandcalcError, shown
 
 __all__ = [
     "MICRO",
@@ -53,10 +53,14 @@ def _scaled(number: str, exponent: int) -> float:
 def _check_number(value: float, what: str) -> float:
     if isinstance(value, bool):
         raise UnitError(f"{what}: expected a number, got {value!r}")
-    value = float(value)
-    if not math.isfinite(value):
-        raise UnitError(f"{what}: must be a finite number, got {value!r}")
-    return value
+    try:
+        number = float(value)
+    except OverflowError:  # an integer beyond the largest float, about 1.8e308
+        raise UnitError(f"{what}: the integer written is too large for a number (more than 308 digits); "
+                        "write the value in SI units, e.g. 4.7e3 or 4k7") from None
+    if not math.isfinite(number):
+        raise UnitError(f"{what}: must be a finite number, got {number!r}")
+    return number
 
 
 def parse_quantity(value: float | int | str, unit: str = "", what: str = "value") -> float:
@@ -80,15 +84,15 @@ def parse_quantity(value: float | int | str, unit: str = "", what: str = "value"
         except (TypeError, ValueError) as exc:
             if isinstance(exc, UnitError):
                 raise
-            raise UnitError(f"{what}: expected a number, got {value!r}") from None
+            raise UnitError(f"{what}: expected a number, got {shown(value)}") from None
     m = _SI_RE.match(value)
     if m and (m["unit"] in ("", unit) or (unit and m["unit"].lower() == unit.lower())):
         return _check_number(_scaled(m["num"], _PREFIX[m["prefix"]]), what)
     if m and m["prefix"] == "" and m["unit"] and m["unit"][0] in _PREFIX and m["unit"][1:] in ("", unit):
         return _check_number(_scaled(m["num"], _PREFIX[m["unit"][0]]), what)
-    shown = f" {unit}" if unit else ""
-    raise UnitError(f"{what}: cannot read {value!r}; write a number, optionally with an SI prefix "
-                    f"(e.g. 2.5, 50m, 100n){shown and ' and the unit' + shown}")
+    with_unit = f" and the unit {unit}" if unit else ""
+    raise UnitError(f"{what}: cannot read {shown(value)}; write a number, optionally with an SI prefix "
+                    f"(e.g. 2.5, 50m, 100n){with_unit}")
 
 
 def parse_resistance(value: float | int | str, what: str = "resistance") -> float:
@@ -103,7 +107,7 @@ def parse_resistance(value: float | int | str, what: str = "resistance") -> floa
     code = _CODE_RE.match(text)
     if code and (code["int"] or code["frac"]) and _is_ohm_unit(code["unit"]):
         if code["letter"] in "Rr" and not code["frac"] and not code["int"]:
-            raise UnitError(f"{what}: cannot read {value!r}; {_RES_HINT}")
+            raise UnitError(f"{what}: cannot read {shown(value)}; {_RES_HINT}")
         digits = f"{code['int'] or '0'}.{code['frac'] or '0'}"
         return _check_number(_scaled(digits, _CODE_LETTER[code["letter"]]), what)
     m = _SI_RE.match(text)
@@ -111,7 +115,7 @@ def parse_resistance(value: float | int | str, what: str = "resistance") -> floa
         return _check_number(_scaled(m["num"], _PREFIX[m["prefix"]]), what)
     if m and m["prefix"] == "" and m["unit"][:1] in _PREFIX and _is_ohm_unit(m["unit"][1:]):
         return _check_number(_scaled(m["num"], _PREFIX[m["unit"][0]]), what)
-    raise UnitError(f"{what}: cannot read {value!r}; {_RES_HINT}")
+    raise UnitError(f"{what}: cannot read {shown(value)}; {_RES_HINT}")
 
 
 def _is_ohm_unit(unit: str) -> bool:

@@ -306,7 +306,8 @@ def _fit_section(result) -> list[str]:
     if result.exact is not None:
         exact = ", ".join(f"{p} {format_si(result.exact.value(p), 'Ohm', 4)}" for p in result.fitted)
         lines += ["", _line(f"Exact (continuous) solution: {exact}.")]
-    lines += [""] + _items((*result.notes, *result.problems))
+    stopped = (f"Not proven the best: {result.stopped}",) if result.stopped else ()
+    lines += [""] + _items((*stopped, *result.notes, *result.problems))
     return lines
 
 
