@@ -3,6 +3,7 @@ naming what is wrong, or analysed through; nothing but a BandcalcError ever esca
 
 import json
 import math
+import re
 
 from hypothesis import HealthCheck, example, given, settings
 from strategies import hostile_design_files
@@ -13,6 +14,7 @@ from bandcalc.fit.selection import fit, fit_to_dict
 from bandcalc.model.design_file import design_from_json
 from bandcalc.model.operating import analysis_to_dict, analyze
 from bandcalc.model.transfer import transfer_curve
+from bandcalc.outputs.netlist import netlist
 from bandcalc.outputs.strict_json import dumps
 from bandcalc.outputs.summary import SummaryInputs, design_summary
 from bandcalc.spread.propagation import MIN_SAMPLES, spread, spread_to_dict
@@ -55,6 +57,12 @@ def test_a_design_file_is_refused_with_a_message_or_analysed_through(text):
         assert any(f.startswith("Latches: no value the input reaches") for f in a.findings), a.findings
     _strict(dumps(analysis_to_dict(a)))
     design_summary(design, SummaryInputs())
+    try:  # every number a simulator reads is finite: no "nan" or "inf" on an element line
+        spice = netlist(design)
+        assert not re.search(r"(?<![\w.])[-+]?(?:nan|inf)\b", "\n".join(
+            line for line in spice.splitlines() if not line.startswith("*")), re.I), spice
+    except BandcalcError:
+        pass
     transfer_curve(design)
     try:
         _strict(dumps(spread_to_dict(spread(design, samples=MIN_SAMPLES * 10))))
