@@ -274,15 +274,14 @@ def _comparator(d: Design, minus: str) -> list[str]:
     if c.bias_current:
         lines += [f"IBP plus 0 DC {_n(c.bias_current)}", f"IBM {minus} 0 DC {_n(c.bias_current)}"]
     if isinstance(out, OpenDrain):
-        pullup, low = "pos", "neg"
+        low = "neg" if out.low_volts is None else "low"
+        pullup = "pos" if out.pullup_volts is None else "pu"
+        lines.append(f"* Open-drain output: a sink to node {low} when low (1 micro-ohm); the pull-up")
         if out.low_volts is not None:
-            low = "low"
             lines.append(f"VLOW low 0 DC {_n(out.low_volts)}")
         if out.pullup_volts is not None:
-            pullup = "pu"
             lines.append(f"VPU pu 0 DC {_n(out.pullup_volts)}")
-        lines += [f"* Open-drain output: a sink to node {low} when low (1 micro-ohm), and the pull-up",
-                  f"BCMP out {low} I=v(out,{low})*{_n(SINK_SIEMENS)}*{_decision(d, minus, False)}",
+        lines += [f"BCMP out {low} I=v(out,{low})*{_n(SINK_SIEMENS)}*{_decision(d, minus, False)}",
                   _r("output.pullup", "out", pullup, out.pullup)]
     else:
         drive = "drv" if _written(out.resistance) else "out"
@@ -309,7 +308,8 @@ def _circuit(d: Design) -> _Circuit:
     lines = _supply(d)
     fe_lines, source, watched = _front_end(d)
     lines += fe_lines
-    lines += _series(part("source.resistance").designator, "src", "line", d.source.resistance)
+    rsrc = _series(part("source.resistance").designator, "src", "line", d.source.resistance)
+    lines += ["* The signal's source resistance", *rsrc] if rsrc else []
     flt, node = _input_filter(d, "line" if _written(d.source.resistance) else "src")
     stage, minus = _stage(d, node)
     lines += flt + stage + _comparator(d, minus) + _load(d)
@@ -328,12 +328,12 @@ def _header(d: Design, a: Analysis) -> list[str]:
                       "output. Classic SPICE3 syntax; run it with: ngspice -b FILE"),
              "* Units: V, Ohm, A, s, F; node 0 is ground.",
              "* Resistors carry the designators of bandcalc's summary.",
-             _comment(f"bandcalc's points, in volts of the stage's source (open-circuit): "
-                      f"upper {_v(a.upper)}, lower {_v(a.lower)}")]
+             "* bandcalc's points, in volts of the stage's source (open-circuit):",
+             f"*   upper {_v(a.upper)}, lower {_v(a.lower)}"]
     if d.front_end is not None:
         w, unit = a.points, _unit(d)
-        lines.append(_comment(f"bandcalc's points in the watched quantity: upper "
-                              f"{format_value(w.upper, unit, 6)}, lower {format_value(w.lower, unit, 6)}"))
+        lines += ["* bandcalc's points in the watched quantity:",
+                  f"*   upper {format_value(w.upper, unit, 6)}, lower {format_value(w.lower, unit, 6)}"]
     lines.append(_comment("The comparator model has no hysteresis of its own (both points come from the "
                           "network, as in bandcalc's model), no propagation delay, slew limit or recovery "
                           "time."))
