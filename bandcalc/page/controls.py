@@ -142,10 +142,9 @@ def _source(design: Design) -> None:
 
 
 def _unit_entered(key: str) -> None:
-    old = value_at(state.current_design(), "front_end.unit")
-    if not state.edit(lambda d: with_value(d, "front_end.unit", st.session_state[key].strip()),
-                      "Watched unit", "front_end.unit", kept=repr(old)):
-        st.session_state[key] = old
+    old, unit = value_at(state.current_design(), "front_end.unit"), st.session_state[key].strip()
+    state.edit(lambda d: with_value(d, "front_end.unit", unit), "Watched unit", "front_end.unit",
+               kept=repr(old), restore=(key, old))
 
 
 def _watched_range(design: Design, unit: str, low: str, high: str) -> None:

@@ -80,7 +80,8 @@ def read_value(text: str, unit: str, what: str) -> float:
 
 
 def _chosen(key: str, change: Callable[[Design, Any], Design], label: str, controls: str) -> None:
-    state.edit(lambda d: change(d, st.session_state[key]), label, controls=controls)
+    value = st.session_state[key]
+    state.edit(lambda d: change(d, value), label, controls=controls)
 
 
 def choice_control(widget: Callable[..., Any], label: str, key: str, current: Any,
@@ -95,7 +96,8 @@ def choice_control(widget: Callable[..., Any], label: str, key: str, current: An
 
 
 def _slid(path: str, label: str, key: str) -> None:
-    state.edit(lambda d: with_value(d, path, float(st.session_state[key])), label, path)
+    ohms = float(st.session_state[key])
+    state.edit(lambda d: with_value(d, path, ohms), label, path)
 
 
 def _typed(path: str, label: str, key: str) -> None:
@@ -106,8 +108,8 @@ def _typed(path: str, label: str, key: str) -> None:
         state.say("error", f"{exc}. The design keeps {shown(old, 'Ohm')}.")
         st.session_state[key] = shown(old, "Ohm")
         return
-    if not state.edit(lambda d: with_value(d, path, ohms), label, path, kept=shown(old, "Ohm")):
-        st.session_state[key] = shown(old, "Ohm")
+    state.edit(lambda d: with_value(d, path, ohms), label, path, kept=shown(old, "Ohm"),
+               restore=(key, shown(old, "Ohm")))
 
 
 def resistor_control(label: str, path: str, design: Design, series: str, help: str | None = None) -> None:
@@ -141,9 +143,8 @@ def _entered(key: str, label: str, where: str, unit: str, optional: bool,
         state.say("error", f"{exc}. The design keeps {shown(old, unit) or 'no value'}.")
         st.session_state[key] = shown(old, unit)
         return
-    if not state.edit(lambda d: change(d, value), label, where, kept=shown(old, unit) or "no value",
-                      controls=controls):
-        st.session_state[key] = shown(old, unit)
+    state.edit(lambda d: change(d, value), label, where, kept=shown(old, unit) or "no value",
+               controls=controls, restore=(key, shown(old, unit)))
 
 
 def value_field(label: str, key: str, design: Design, unit: str, get: Callable[[Design], float | None],

@@ -33,7 +33,7 @@ def main() -> None:
 
 
 def _sheet() -> None:
-    design = state.current_design()
+    design = state.begin_run()
     with st.sidebar:
         st.header("Design")
         render_design_file(design)

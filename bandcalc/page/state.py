@@ -7,7 +7,15 @@ loaded file, a demo, a value from the address or a panel's suggestion all show u
 
 Change the design only in widget callbacks (``on_change``/``on_click``) with
 :func:`replace_design` or :func:`edit`, or from a panel's body with :func:`apply_design`,
-which reruns the whole page.
+which reruns the whole page.  Every run, the page's and a panel's own, starts with
+:func:`begin_run`.
+
+The browser sends every widget changed since the last run together (a box typed into and left by
+clicking another control arrives with that control's change), so one run may call several
+callbacks, in an order of Streamlit's choosing.  Each edit works on the design as the earlier ones
+left it; an edit refused is tried again once the others are in (a negative rail above the old
+positive rail fits beside the new one), and only then reported.  Controls start again in
+:func:`begin_run`, after every callback of the run, so no callback finds another's value gone.
 
 A panel reruns on its own (a fragment) when its widgets change.  A panel control that edits the
 design passes ``controls=`` its own key prefix (``"in.tolerances."``), so that only the panel's
@@ -19,6 +27,7 @@ from __future__ import annotations
 
 import logging
 from collections.abc import Callable
+from dataclasses import dataclass
 from typing import Any, TypeVar
 
 import streamlit as st
@@ -31,6 +40,7 @@ from bandcalc.page.address import PARAM, address_to_design, design_to_address
 __all__ = [
     "INPUT_PREFIX",
     "apply_design",
+    "begin_run",
     "current_design",
     "edit",
     "explain",
@@ -48,6 +58,8 @@ T = TypeVar("T")
 INPUT_PREFIX = "in."
 _DESIGN = "page.design"
 _MESSAGES = "page.messages"
+_RESTART = "page.restart"  # key prefixes of the controls to start again when the run begins
+_REFUSED = "page.refused"  # edits refused in this run's callbacks, tried again when the run begins
 _KINDS = ("error", "warning", "info", "success")
 
 
@@ -90,15 +102,15 @@ def current_design() -> Design:
 
 
 def replace_design(design: Design, note: str | None = None, controls: str = INPUT_PREFIX) -> None:
-    """Make ``design`` the page's design; every control (keyed ``controls``...) starts again from it.
+    """Make ``design`` the page's design; every control (keyed ``controls``...) starts again from it
+    when the run begins (:func:`begin_run`).
 
     Call from a widget callback (or before any control is drawn in this run).
     """
     if not controls.startswith(INPUT_PREFIX):
         raise ValueError(f"controls: {controls!r}; control keys start with {INPUT_PREFIX!r}")
     st.session_state[_DESIGN] = design
-    for key in [k for k in st.session_state if str(k).startswith(controls)]:
-        del st.session_state[key]
+    st.session_state.setdefault(_RESTART, set()).add(controls)
     if note:
         say("success", note)
 
@@ -109,23 +121,73 @@ def apply_design(design: Design, note: str | None = None) -> None:
     st.rerun(scope="app")
 
 
-def edit(change: Callable[[Design], Design], field: str, path: str | None = None,
-         kept: str | None = None, controls: str = INPUT_PREFIX) -> bool:
-    """Apply ``change`` to the current design; on bad input say so and keep the design.
+@dataclass(frozen=True)
+class _Edit:
+    """One edit asked for in a callback: what it changes, and what a message about it names."""
 
-    The message names ``field`` (the label the user sees) and, where given, the design-file
-    ``path`` and the value ``kept``.  ``controls``: see :func:`replace_design`.  Returns whether the
-    design changed.
-    """
+    change: Callable[[Design], Design]
+    field: str
+    path: str | None
+    kept: str | None
+    controls: str
+    restore: tuple[str, Any] | None  # (widget key, what it shows again) should the edit be refused
+
+
+def _attempt(pending: _Edit) -> str | None:
+    """Apply an edit to the current design; ``None`` if it went in, else the message saying why not."""
     try:
-        replace_design(change(current_design()), controls=controls)
-        return True
+        replace_design(pending.change(current_design()), controls=pending.controls)
+        return None
     except ValueError as exc:
-        say("error", explain(exc, field, path) + (f". The design keeps {kept}." if kept else ""))
+        kept = f". The design keeps {pending.kept}." if pending.kept else ""
+        return explain(exc, pending.field, pending.path) + kept
     except Exception:  # the page never shows a traceback
-        log.exception("editing %s failed", field)
-        say("error", f"{field}: this change could not be made; the design is unchanged.")
+        log.exception("editing %s failed", pending.field)
+        return f"{pending.field}: this change could not be made; the design is unchanged."
+
+
+def edit(change: Callable[[Design], Design], field: str, path: str | None = None,
+         kept: str | None = None, controls: str = INPUT_PREFIX,
+         restore: tuple[str, Any] | None = None) -> bool:
+    """Apply ``change`` to the current design, from a widget callback.
+
+    An edit refused now is tried again when the run begins, after the other callbacks of the run
+    (:func:`begin_run`); if it is still refused, a message names ``field`` (the label the user
+    sees) and, where given, the design-file ``path`` and the value ``kept``, and the widget keyed
+    ``restore[0]`` shows ``restore[1]`` again.  ``change`` must not read widget state: take the
+    value in the callback.  ``controls``: see :func:`replace_design`.  Returns whether the design
+    changed now.
+    """
+    pending = _Edit(change, field, path, kept, controls, restore)
+    if _attempt(pending) is None:
+        return True
+    st.session_state.setdefault(_REFUSED, []).append(pending)
     return False
+
+
+def begin_run() -> Design:
+    """Start a run of the page or of a panel, before any control is drawn; returns the design.
+
+    The edits its callbacks refused are tried again, as long as any of them goes in (one may need
+    another of the same run); those still refused are reported.  Then the controls of every design
+    change start again from the design.
+    """
+    refused: list[_Edit] = st.session_state.pop(_REFUSED, [])
+    while refused:
+        outcomes = [(pending, _attempt(pending)) for pending in refused]
+        still = [(pending, message) for pending, message in outcomes if message is not None]
+        if len(still) == len(refused):
+            for pending, message in still:
+                say("error", message)
+                if pending.restore is not None:
+                    st.session_state[pending.restore[0]] = pending.restore[1]
+            break
+        refused = [pending for pending, _ in still]
+    prefixes = tuple(st.session_state.pop(_RESTART, ()))
+    if prefixes:
+        for key in [k for k in st.session_state if str(k).startswith(prefixes)]:
+            del st.session_state[key]
+    return current_design()
 
 
 def explain(exc: Exception, field: str, path: str | None = None) -> str:

@@ -53,7 +53,8 @@ def _opened() -> None:
 
 
 def _named(key: str, path: str, label: str) -> None:
-    state.edit(lambda d: with_value(d, path, st.session_state[key]), label)
+    text = st.session_state[key]
+    state.edit(lambda d: with_value(d, path, text), label)
 
 
 def render_design_file(design: Design) -> None:
