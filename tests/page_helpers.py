@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import base64
 import json
+import zlib
 from pathlib import Path
 
 import numpy as np
@@ -73,3 +74,32 @@ def captions(at: AppTest) -> list[str]:
 
 def button(at: AppTest, label: str):
     return next(b for b in at.button if b.label == label)
+
+
+INTERNAL = "The page ran into an internal error"
+
+
+def stranded(at: AppTest) -> list[str]:
+    """What is missing for the user to carry on (empty when the page is whole): no traceback, no
+    internal error, the title, the demo chooser and the stage's controls, the figures."""
+    missing = []
+    if at.exception:
+        missing.append(f"a traceback: {at.exception[0].message[:200]}")
+    if any(e.value.startswith(INTERNAL) for e in at.error):
+        missing.append("only an internal-error message")
+    if not at.title:
+        missing.append("the title")
+    if not any(s.key == "page.demo" for s in at.selectbox):
+        missing.append("the demo chooser")
+    if not any(s.key == "in.resistors.feedback.slider" for s in at.select_slider):
+        missing.append("the feedback resistor's slider")
+    if len(at.metric) < 6:
+        missing.append("the switching-point figures")
+    return missing
+
+
+def address_of(data) -> str:
+    """The page-address text for any JSON text or data, written as the page writes a design."""
+    text = data if isinstance(data, str) else json.dumps(data, separators=(",", ":"))
+    packed = zlib.compress(text.encode("utf-8"), 9)
+    return base64.urlsafe_b64encode(packed).decode("ascii").rstrip("=")

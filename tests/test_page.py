@@ -5,13 +5,14 @@ published examples and lcapy; here the question is whether the page shows them f
 """
 
 import base64
+import json
 
 import numpy as np
 import pytest
-from page_helpers import SUMP, chart, design_on, errors, figures, numbers, page
+from page_helpers import SUMP, address_of, chart, design_on, errors, figures, numbers, page, stranded
 from streamlit.testing.v1 import AppTest
 
-from bandcalc.model.design_file import design_to_json
+from bandcalc.model.design_file import design_to_dict, design_to_json
 from bandcalc.model.operating import analyze
 from bandcalc.model.parts import with_value
 from bandcalc.model.units import format_si
@@ -332,3 +333,89 @@ def test_of_two_edits_in_one_run_the_refused_one_is_named_and_the_other_kept():
     assert "Input resistor" in message and "'4k7x'" in message and "keeps 10k" in message
     assert design_on(at).supply.positive == 12.0 and design_on(at).resistors.input == 10e3
     assert at.text_input(key=f"{INPUT}.text").value == "10k"
+
+
+# --- designs the page cannot keep or show: a message, and the design the user had ---------------
+
+def _sump_file(**changes) -> dict:
+    data = design_to_dict(SUMP)
+    for path, value in changes.items():
+        *parents, last = path.split(".")
+        node = data
+        for key in parents:
+            node = node[key]
+        node[last] = value
+    return data
+
+
+def _steinhart_hart_typo(demo) -> dict:
+    data = design_to_dict(demo("greenhouse_fan_thermostat"))
+    for key in ("r25", "beta", "beta_tolerance"):
+        data["front_end"].pop(key)
+    # A 10 kOhm probe's published A = 1.129241e-3 (tests/test_frontend.py), typed without its exponent.
+    data["front_end"]["steinhart_hart"] = [1129.241, 2.341077e-4, 8.775468e-8]
+    return data
+
+
+def test_an_address_with_a_huge_integer_gives_a_message_and_the_demo():
+    # JSON allows integers of any length; as a float this one overflows (Python's float holds at
+    # most about 1.8e308, IEEE 754 double precision).
+    text = json.dumps(_sump_file(**{"resistors.feedback": "HUGE"})).replace('"HUGE"', "1" + "0" * 400)
+    at = page({PARAM: address_of(text)})
+    assert not stranded(at)
+    (message,) = errors(at)
+    assert "page address (design=...)" in message and "demo design is shown instead" in message
+    assert design_on(at) == SUMP
+    again = page({PARAM: at.query_params[PARAM]})  # a reload does not repeat it
+    assert not stranded(again) and not errors(again)
+
+
+@pytest.mark.parametrize("depth", [20_000, 990])
+def test_an_address_nested_deeply_gives_a_message_and_the_demo(depth):
+    # Python's json parser stops at its recursion limit, about a thousand levels deep (from memory).
+    text = json.dumps(_sump_file(notes="DEEP")).replace('"DEEP"', "[" * depth + "]" * depth)
+    at = page({PARAM: address_of(text)})
+    assert not stranded(at)
+    (message,) = errors(at)
+    assert "page address (design=...)" in message and "demo design is shown instead" in message
+    assert design_on(at) == SUMP
+    assert not errors(page({PARAM: at.query_params[PARAM]}))
+
+
+def test_an_address_whose_design_cannot_be_analysed_gives_a_message_and_the_demo(demo):
+    at = page({PARAM: address_of(_steinhart_hart_typo(demo))})
+    assert not stranded(at)
+    (message,) = errors(at)
+    assert "page address (design=...)" in message and "demo design is shown instead" in message
+    assert design_on(at) == SUMP
+
+
+@pytest.mark.parametrize("case", ["feedback null", "lone surrogate", "Steinhart-Hart typo"])
+def test_a_file_that_cannot_be_analysed_or_kept_leaves_the_design(case, demo):
+    data = {"feedback null": lambda: _sump_file(**{"resistors.feedback": None}),
+            "lone surrogate": lambda: _sump_file(name="\ud800"),
+            "Steinhart-Hart typo": lambda: _steinhart_hart_typo(demo)}[case]()
+    at = page()
+    body = json.dumps(data).encode("utf-8")  # a lone surrogate is written as the escape \ud800
+    at.file_uploader[0].set_value(("odd.json", body, "application/json")).run()
+    assert not stranded(at)
+    (message,) = errors(at)
+    assert message.startswith("odd.json: ") and "current design is kept" in message
+    assert design_on(at) == SUMP and at.title[0].value == SUMP.name
+
+
+@pytest.mark.parametrize("ohms", [1e23, 1e308])
+def test_a_file_with_an_absurd_resistor_never_strands_the_page(ohms):
+    # Either the page shows the design (its figures, its controls), or it names the file and keeps
+    # the design it had; never a page with only an internal error.
+    at = page()
+    body = json.dumps(_sump_file(**{"resistors.feedback": ohms})).encode()
+    at.file_uploader[0].set_value(("absurd.json", body, "application/json")).run()
+    assert not stranded(at)
+    if errors(at):
+        (message,) = errors(at)
+        assert message.startswith("absurd.json: ") and "current design is kept" in message
+        assert design_on(at) == SUMP
+    else:
+        assert design_on(at).resistors.feedback == ohms
+        assert at.select_slider(key=f"{FEEDBACK}.slider").value == ohms

@@ -12,7 +12,7 @@ from bandcalc.model.design import DividerReference, FixedReference, OpenDrain, P
 from bandcalc.model.parts import value_at, with_value
 from bandcalc.model.standard_values import series_values
 from bandcalc.page.address import address_to_design, design_to_address
-from bandcalc.page.edit import slider_options, with_legs, with_output, with_reference, with_stage
+from bandcalc.page.edit import in_series, slider_options, with_legs, with_output, with_reference, with_stage
 
 SUMP = load_demo("sump_level_switch")  # also used at import time, in parametrize
 
@@ -42,6 +42,24 @@ def test_oversized_address_is_refused():
     bomb = base64.urlsafe_b64encode(zlib.compress(b" " * 1_000_000)).decode()
     with pytest.raises(DesignError, match="too long"):
         address_to_design(bomb)
+
+
+@pytest.mark.parametrize("json_text", [
+    '{"format": 1, "stage": "inverting", "supply": {"positive": 1%s}, "resistors": {"feedback": 1e3}}'
+    % ("0" * 400),  # beyond a float's range, about 1.8e308 (IEEE 754 double precision)
+    "[" * 20_000 + "]" * 20_000,  # past the JSON parser's recursion limit (about 1,000 levels, from memory)
+])
+def test_an_address_no_design_can_come_from_is_named(json_text):
+    text = base64.urlsafe_b64encode(zlib.compress(json_text.encode())).decode()
+    with pytest.raises(DesignError, match=r"page address \(design=\.\.\.\): .*changed by hand"):
+        address_to_design(text)
+
+
+def test_a_lone_surrogate_cannot_go_into_the_address():
+    from dataclasses import replace
+
+    with pytest.raises(DesignError, match=r"^name: holds a character that is not text"):
+        design_to_address(replace(SUMP, name="Pump \ud800"))
 
 
 def test_with_value_validates_and_names_the_key():
@@ -97,6 +115,9 @@ def test_slider_options_span_decades_around_the_value():
     assert set(slider_options("E192", 1e3)) >= set(series_values("E192", 100, 99e3))
     with pytest.raises(DesignError, match="series"):
         slider_options("E7", 1e3)
+    # Beyond the series tables (yocto to yotta ohm, the SI prefixes) the value stands alone.
+    assert slider_options("E24", 1e23) == (1e23,) and slider_options("E24", 1e308) == (1e308,)
+    assert in_series("E24", 39e3) and not in_series("E24", 4750.0) and not in_series("E24", 1e308)
 
 
 # --- front ends ---------------------------------------------------------------------------------

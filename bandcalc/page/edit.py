@@ -23,7 +23,7 @@ from bandcalc.model.design import (
     divider_thevenin,
 )
 from bandcalc.model.front_end import DividerFrontEnd, LinearFrontEnd, ThermistorFrontEnd
-from bandcalc.model.standard_values import SERIES, nearest, series_values
+from bandcalc.model.standard_values import SERIES, EseriesError, nearest, series_values
 from bandcalc.model.thermistor import beta_between, beta_to_steinhart_hart
 
 __all__ = [
@@ -37,6 +37,7 @@ __all__ = [
     "THERMISTOR_MODELS",
     "excitation_kind",
     "front_end_kind",
+    "in_series",
     "reference_kind",
     "slider_options",
     "thermistor_model",
@@ -148,17 +149,28 @@ def slider_options(series: str, ohms: float) -> tuple[float, ...]:
     """Standard values of ``series`` across the decades around ``ohms``, with ``ohms`` itself.
 
     A value that is not in the series is kept exactly and sits among its neighbours, so the
-    slider can show it.
+    slider can show it.  Beyond the series tables (yocto to yotta ohm) the value stands alone.
     """
     if series not in SERIES:
         raise DesignError(f"series: {series!r} is not a standard series; allowed: {', '.join(SERIES)}")
     decade = math.floor(math.log10(ohms))
-    low = 10.0 ** (decade - DECADES_BELOW)
-    high = 10.0 ** (decade + DECADES_ABOVE) * 0.9999
-    values = [float(v) for v in series_values(series, low, high)]
+    try:
+        low = 10.0 ** (decade - DECADES_BELOW)
+        high = 10.0 ** (decade + DECADES_ABOVE) * 0.9999
+        values = [float(v) for v in series_values(series, low, high)]
+    except (EseriesError, OverflowError):
+        values = []
     if ohms not in values:
         values = sorted([*values, float(ohms)])
     return tuple(values)
+
+
+def in_series(series: str, ohms: float) -> bool:
+    """Whether ``ohms`` is a value of ``series`` (never beyond the series tables)."""
+    try:
+        return series_values(series, ohms, ohms).size > 0
+    except EseriesError:
+        return False
 
 
 def front_end_kind(design: Design) -> str:

@@ -22,7 +22,6 @@ import streamlit as st
 from bandcalc.errors import BandcalcError
 from bandcalc.model.design import Design
 from bandcalc.model.parts import value_at, with_value
-from bandcalc.model.standard_values import series_values
 from bandcalc.model.units import (
     SI_UNITS,
     UnitError,
@@ -33,7 +32,7 @@ from bandcalc.model.units import (
     parse_resistance,
 )
 from bandcalc.page import state
-from bandcalc.page.edit import slider_options
+from bandcalc.page.edit import in_series, slider_options
 
 __all__ = ["PREFIXED_UNITS", "choice_control", "quantity_field", "read_value", "resistor_control", "shown",
            "value_field"]
@@ -122,7 +121,7 @@ def resistor_control(label: str, path: str, design: Design, series: str, help: s
                      format_func=lambda v: format_code(v, 4), on_change=_slid, args=(path, label, slider_key))
     st.text_input(f"{label}, exact value", key=text_key, label_visibility="collapsed",
                   placeholder="type a value: 4k7 or 4.7k", on_change=_typed, args=(path, label, text_key))
-    if series_values(series, ohms, ohms).size == 0:
+    if not in_series(series, ohms):
         st.caption(f"{format_code(ohms, 4)} is not an {series} value; it is kept exactly as typed.")
 
 

@@ -21,6 +21,11 @@ A panel reruns on its own (a fragment) when its widgets change.  A panel control
 design passes ``controls=`` its own key prefix (``"in.tolerances."``), so that only the panel's
 controls start again: the widgets outside the panel are not redrawn in that rerun, and forgetting
 their state then would make Streamlit take them for changed on the next interaction.
+
+The page takes only a design it can keep and show (:func:`admit`): one the page address can hold,
+so that a reload or a shared link brings it back, and that can be analysed.  Edits, opened files,
+a panel's suggestion and the design in the address all pass there; one that does not gets a
+message, and the page keeps the design it had (or, from the address, shows the demo).
 """
 
 from __future__ import annotations
@@ -36,9 +41,11 @@ from bandcalc.demos import DEFAULT_DEMO, demo_designs
 from bandcalc.errors import DesignError
 from bandcalc.model.design import Design
 from bandcalc.page.address import PARAM, address_to_design, design_to_address
+from bandcalc.page.compute import analysis_of
 
 __all__ = [
     "INPUT_PREFIX",
+    "admit",
     "apply_design",
     "begin_run",
     "current_design",
@@ -81,13 +88,39 @@ def show_messages() -> None:
         getattr(st, kind)(text)
 
 
+def admit(design: Design) -> Design:
+    """``design``, if the page can keep it in the address and analyse it.
+
+    Raises
+    ------
+    DesignError
+        Saying why not: a text too long for the address or not text at all (naming its key), or
+        the analysis failing (with its own message, naming the key where it can).
+    """
+    design_to_address(design)
+    try:
+        analysis_of(design)
+    except ValueError as exc:
+        raise DesignError(f"cannot be analysed: {exc}") from None
+    except Exception:  # the page never shows a traceback
+        log.exception("analysing a design offered to the page failed")
+        raise DesignError("cannot be analysed (an internal error, logged on the server); check its values "
+                          "against the design file reference, docs/design-file.md") from None
+    return design
+
+
 def _starting_design() -> Design:
     text = st.query_params.get(PARAM)
     if text:
         try:
-            return address_to_design(text)
+            return admit(address_to_design(text))
         except DesignError as exc:
-            say("error", f"{exc}. The demo design is shown instead.")
+            where = f"page address ({PARAM}=...)"
+            say("error", f"{exc if str(exc).startswith(where) else f'{where}: {exc}'}. "
+                         f"The demo design is shown instead.")
+        except Exception:  # the page never shows a traceback, and never strands the user
+            log.exception("reading the page address failed")
+            say("error", f"page address ({PARAM}=...): cannot be read. The demo design is shown instead.")
     demos = demo_designs()
     if not demos:
         raise DesignError(f"demo_data: no readable demo design (looked for {DEFAULT_DEMO}.json)")
@@ -105,11 +138,12 @@ def replace_design(design: Design, note: str | None = None, controls: str = INPU
     """Make ``design`` the page's design; every control (keyed ``controls``...) starts again from it
     when the run begins (:func:`begin_run`).
 
-    Call from a widget callback (or before any control is drawn in this run).
+    Call from a widget callback (or before any control is drawn in this run).  Raises
+    :class:`DesignError` for a design the page cannot take (:func:`admit`), keeping the one it has.
     """
     if not controls.startswith(INPUT_PREFIX):
         raise ValueError(f"controls: {controls!r}; control keys start with {INPUT_PREFIX!r}")
-    st.session_state[_DESIGN] = design
+    st.session_state[_DESIGN] = admit(design)
     st.session_state.setdefault(_RESTART, set()).add(controls)
     if note:
         say("success", note)

@@ -47,7 +47,7 @@ def _opened() -> None:
     upload = st.session_state[_UPLOAD_KEY]
     if upload is None:
         return
-    design = state.read_upload(upload, _design_of, "The current design is kept.")
+    design = state.read_upload(upload, lambda u: state.admit(_design_of(u)), "The current design is kept.")
     if design is not None:
         state.replace_design(design, f"Opened {upload.name}.")
 
