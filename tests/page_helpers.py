@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import base64
 import json
+import random
 import zlib
 from pathlib import Path
 
@@ -103,3 +104,22 @@ def address_of(data) -> str:
     text = data if isinstance(data, str) else json.dumps(data, separators=(",", ":"))
     packed = zlib.compress(text.encode("utf-8"), 9)
     return base64.urlsafe_b64encode(packed).decode("ascii").rstrip("=")
+
+
+_WORDS = ("pump", "level", "sensor", "switch", "relay", "the", "and", "at", "when", "below", "above",
+          "rises", "falls", "hysteresis", "band", "ripple", "supply", "rail", "kΩ", "5 V", "3.1 V", "pit",
+          "float", "starts", "stops", "check", "wiring", "fuse", "cable", "drain", "alarm", "µA")
+
+
+def prose(chars: int, seed: int = 0) -> str:
+    """``chars`` characters of notes-like text: words, sentences and line breaks, drawn reproducibly."""
+    rng = random.Random(seed)
+    out: list[str] = []
+    size = 0
+    while size < chars:
+        sentence = " ".join(rng.choice(_WORDS) for _ in range(rng.randint(4, 14))) + "."
+        sentence = sentence[0].upper() + sentence[1:]
+        sentence += "\n" if rng.random() < 0.2 else " "
+        out.append(sentence)
+        size += len(sentence)
+    return "".join(out)[:chars]

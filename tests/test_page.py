@@ -9,7 +9,7 @@ import json
 
 import numpy as np
 import pytest
-from page_helpers import SUMP, address_of, chart, design_on, errors, figures, numbers, page, stranded
+from page_helpers import SUMP, address_of, chart, design_on, errors, figures, numbers, page, prose, stranded
 from streamlit.testing.v1 import AppTest
 
 from bandcalc.model.design_file import design_to_dict, design_to_json
@@ -419,3 +419,41 @@ def test_a_file_with_an_absurd_resistor_never_strands_the_page(ohms):
     else:
         assert design_on(at).resistors.feedback == ohms
         assert at.select_slider(key=f"{FEEDBACK}.slider").value == ohms
+
+
+# --- a reload never loses what the page took ------------------------------------------------------
+
+def test_notes_that_fit_come_back_after_a_reload():
+    notes = prose(9_000)
+    at = page()
+    at.text_area(key="in.notes").input(notes).run()
+    assert not errors(at) and design_on(at).notes == notes
+    again = page({PARAM: at.query_params[PARAM]})  # a new session, as after a reload
+    assert not errors(again) and again.text_area(key="in.notes").value == notes
+
+
+def test_notes_too_long_for_the_address_are_refused_at_once():
+    notes = prose(71_000)
+    at = page()
+    at.text_area(key="in.notes").input(notes).run()
+    assert not stranded(at)
+    (message,) = errors(at)
+    assert message.startswith("Notes (notes): too long for the page address (71,000 characters)")
+    assert "The design keeps the notes it had" in message
+    assert design_on(at) == SUMP
+    assert at.text_area(key="in.notes").value == notes  # still there to shorten or copy
+    again = page({PARAM: at.query_params[PARAM]})
+    assert not errors(again) and design_on(again) == SUMP
+
+
+def test_a_design_file_too_long_for_the_address_is_refused_at_once():
+    # Near the page's 1 MB upload cap: notes filling most of it.
+    body = json.dumps(_sump_file(notes=prose(900_000)), indent=2).encode()
+    assert 900_000 < len(body) < 1_000_000
+    at = page()
+    at.file_uploader[0].set_value(("long.json", body, "application/json")).run()
+    assert not stranded(at)
+    (message,) = errors(at)
+    assert message.startswith("long.json: notes: too long for the page address (900,000 characters)")
+    assert message.endswith("The current design is kept.")
+    assert design_on(at) == SUMP

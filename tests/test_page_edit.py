@@ -1,17 +1,22 @@
 """The page's pure helpers: the design in the address, and the edits its controls make."""
 
 import base64
+import re
 import zlib
+from dataclasses import replace
 
 import numpy as np
 import pytest
+from hypothesis import given
+from hypothesis import strategies as hyp
+from page_helpers import prose
 
 from bandcalc.demos import load_demo
 from bandcalc.errors import DesignError
 from bandcalc.model.design import DividerReference, FixedReference, OpenDrain, PushPull
 from bandcalc.model.parts import value_at, with_value
 from bandcalc.model.standard_values import series_values
-from bandcalc.page.address import address_to_design, design_to_address
+from bandcalc.page.address import ADDRESS_MAX, address_to_design, design_to_address
 from bandcalc.page.edit import in_series, slider_options, with_legs, with_output, with_reference, with_stage
 
 SUMP = load_demo("sump_level_switch")  # also used at import time, in parametrize
@@ -56,8 +61,6 @@ def test_an_address_no_design_can_come_from_is_named(json_text):
 
 
 def test_a_lone_surrogate_cannot_go_into_the_address():
-    from dataclasses import replace
-
     with pytest.raises(DesignError, match=r"^name: holds a character that is not text"):
         design_to_address(replace(SUMP, name="Pump \ud800"))
 
@@ -259,3 +262,48 @@ def test_typed_value_errors_name_the_field():
         read_value("warm", "K", "Beta (front_end.beta)")
     assert shown(3950.0, "K") == "3950 K" and shown(1.5e-3, "W/K") == "1.5 mW/K"
     assert shown(8.775468e-8, "") == "8.775468e-08" and shown(25.0, "C") == "25 C"
+
+
+# --- the address holds every design the page takes -----------------------------------------------
+# Measured with Streamlit 1.67 and Debian's Chromium (tests/test_browser.py reloads at the limit):
+# the page's server (uvicorn with h11) refuses a request whose head is over 16 KiB (h11's default
+# max_incomplete_event_size, 16 * 1024) whenever the head does not arrive in one piece, and common
+# proxies refuse request lines over 8 KiB (nginx's large_client_header_buffers and Apache's
+# LimitRequestLine default to 8 KiB, from memory).  The page keeps at most ADDRESS_MAX characters.
+
+def test_the_address_limit_leaves_room_in_a_request_head():
+    assert ADDRESS_MAX + len("GET /?design= HTTP/1.1\r\n") < 8 * 1024
+
+
+def test_notes_too_long_for_the_address_are_refused_naming_them():
+    long = replace(SUMP, notes=prose(71_000))
+    with pytest.raises(DesignError, match=r"^notes: too long for the page address \(71,000 characters\)"):
+        design_to_address(long)
+    # A text that compresses to nothing still inflates to far more than any design file holds.
+    with pytest.raises(DesignError, match=r"^notes: too long for the page address"):
+        design_to_address(replace(SUMP, notes="a" * 1_000_000))
+
+
+def test_notes_of_a_few_pages_fit():
+    fits = replace(SUMP, notes=prose(12_000))
+    text = design_to_address(fits)
+    assert len(text) <= ADDRESS_MAX and address_to_design(text) == fits
+
+
+@given(notes=hyp.text(max_size=3_000) | hyp.builds(prose, hyp.integers(0, 40_000), hyp.integers(0, 9)),
+       name=hyp.text(max_size=300))
+def test_every_design_the_address_takes_comes_back(notes, name):
+    design = replace(SUMP, name=name, notes=notes)
+    try:
+        text = design_to_address(design)
+    except DesignError as exc:
+        assert re.match(r"^(name|notes): (too long for the page address|holds a character that is not text)",
+                        str(exc)), exc
+        return
+    assert len(text) <= ADDRESS_MAX
+    assert address_to_design(text) == design
+
+
+def test_an_address_longer_than_the_page_writes_is_refused():
+    with pytest.raises(DesignError, match=r"page address \(design=\.\.\.\): longer than the page writes"):
+        address_to_design("A" * (ADDRESS_MAX + 1))

@@ -12,6 +12,7 @@ from bandcalc.model.design import Design
 from bandcalc.model.design_file import design_from_json, design_to_json
 from bandcalc.model.parts import with_value
 from bandcalc.page import state
+from bandcalc.page.address import ADDRESS_MAX
 
 __all__ = ["MAX_UPLOAD_MB", "file_name", "render_design_file"]
 
@@ -53,8 +54,10 @@ def _opened() -> None:
 
 
 def _named(key: str, path: str, label: str) -> None:
+    # A text refused stays in its box, to be shortened or copied; the design keeps the one it had.
     text = st.session_state[key]
-    state.edit(lambda d: with_value(d, path, text), label)
+    state.edit(lambda d: with_value(d, path, text), label, path,
+               kept=f"the {path} it had; your text stays in the box")
 
 
 def render_design_file(design: Design) -> None:
@@ -67,7 +70,9 @@ def render_design_file(design: Design) -> None:
     st.session_state.setdefault(name_key, design.name)
     st.session_state.setdefault(notes_key, design.notes)
     st.text_input("Design name", key=name_key, on_change=_named, args=(name_key, "name", "Design name"))
-    st.text_area("Notes", key=notes_key, height=90, on_change=_named, args=(notes_key, "notes", "Notes"))
+    st.text_area("Notes", key=notes_key, height=90, on_change=_named, args=(notes_key, "notes", "Notes"),
+                 help=f"Kept with the design in the page address, which holds {ADDRESS_MAX:,} characters: "
+                      "several pages of notes. Longer notes are refused; keep long text in a file")
     st.download_button("Save the design file", data=design_to_json(design), file_name=file_name(design),
                        mime="application/json", on_click="ignore", icon=":material/download:",
                        width="stretch")
