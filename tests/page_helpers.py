@@ -3,12 +3,15 @@
 from __future__ import annotations
 
 import base64
+import html
 import json
 import random
+import re
 import zlib
 from pathlib import Path
 
 import numpy as np
+from markdown_it import MarkdownIt
 from streamlit.testing.v1 import AppTest
 
 from bandcalc.demos import load_demo
@@ -64,13 +67,22 @@ def design_on(at: AppTest):
 CAUTIONS = ("Hazardous voltage", "Protective function")  # bandcalc.model.operating cautions, not input errors
 
 
+_MARKDOWN = MarkdownIt("commonmark")
+
+
+def as_read(markdown: str) -> str:
+    """Text as a reader sees it, from the Markdown Streamlit draws (the page escapes user text in it)."""
+    rendered = _MARKDOWN.renderInline(markdown)
+    return html.unescape(re.sub(r"<[^>]+>", "", rendered.replace("<br />\n", "\n")))
+
+
 def errors(at: AppTest) -> list[str]:
-    """Error messages on the page; the safety cautions (also shown in red) are not counted."""
-    return [e.value for e in at.error if not e.value.startswith(CAUTIONS)]
+    """Error messages on the page as read; the safety cautions (also shown in red) are not counted."""
+    return [as_read(e.value) for e in at.error if not e.value.startswith(CAUTIONS)]
 
 
 def captions(at: AppTest) -> list[str]:
-    return [c.value for c in at.caption]
+    return [as_read(c.value) for c in at.caption]
 
 
 def button(at: AppTest, label: str):

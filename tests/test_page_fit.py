@@ -8,7 +8,7 @@ on a button press, and puts a candidate on the sliders with one click.
 
 import pytest
 import streamlit as st
-from page_helpers import SUMP, design_on, errors, figures, page
+from page_helpers import SUMP, as_read, design_on, errors, figures, page
 from streamlit.testing.v1 import AppTest
 from test_page import expected
 
@@ -100,7 +100,7 @@ def test_find_values_shows_the_candidates_of_fit():
     assert shown["Input"][0] == "3k6" and shown["Upper"][0] == "3.102 V"  # fit(), sump demo, 3.1 / 1.9 V
     assert [m.value for m in at.markdown if m.value.startswith("**Found for**")] == [
         "**Found for** upper 3.1 V, lower 1.9 V: input, feedback, to + rail from E24, 1k to 10M."]
-    assert [i.value for i in at.info] == list(result.notes)  # the added leg is explained
+    assert [as_read(i.value) for i in at.info] == list(result.notes)  # the added leg is explained
     exact = result.exact.resistors
     first = f"Exact values, not standard: input {format_si(exact['input'], 'Ohm', 4)}, "
     assert any(c.value.startswith(first) for c in at.caption)

@@ -33,6 +33,7 @@ from bandcalc.model.units import (
 )
 from bandcalc.page import state
 from bandcalc.page.edit import in_series, slider_options
+from bandcalc.page.literal import literal
 
 __all__ = ["PREFIXED_UNITS", "choice_control", "quantity_field", "read_value", "resistor_control", "shown",
            "value_field"]
@@ -157,7 +158,7 @@ def value_field(label: str, key: str, design: Design, unit: str, get: Callable[[
     """
     key = f"{state.INPUT_PREFIX}{key}"
     st.session_state.setdefault(key, shown(get(design), unit))
-    symbol = "Ω" if unit == "Ohm" else unit
+    symbol = "Ω" if unit == "Ohm" else literal(unit)
     st.text_input(f"{label} ({symbol})" if symbol else label, key=key, placeholder=blank or None, help=help,
                   on_change=_entered, args=(key, label, where, unit, optional, get, change, controls))
 

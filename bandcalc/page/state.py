@@ -42,6 +42,7 @@ from bandcalc.errors import DesignError
 from bandcalc.model.design import Design
 from bandcalc.page.address import PARAM, address_to_design, design_to_address
 from bandcalc.page.compute import analysis_of
+from bandcalc.page.literal import literal
 
 __all__ = [
     "INPUT_PREFIX",
@@ -71,7 +72,8 @@ _KINDS = ("error", "warning", "info", "success")
 
 
 def say(kind: str, text: str) -> None:
-    """Queue a message ("error", "warning", "info" or "success") for the top of the page."""
+    """Queue a message ("error", "warning", "info" or "success") for the top of the page; it is shown
+    as text (:func:`bandcalc.page.literal.literal`), so compose it from raw text."""
     if kind not in _KINDS:
         raise ValueError(f"message kind: {kind!r}; allowed: {', '.join(_KINDS)}")
     st.session_state.setdefault(_MESSAGES, []).append((kind, text))
@@ -85,7 +87,7 @@ def take_messages() -> list[tuple[str, str]]:
 def show_messages() -> None:
     """Show the queued messages here, emptying the queue (the page's top; a panel's own rerun)."""
     for kind, text in take_messages():
-        getattr(st, kind)(text)
+        getattr(st, kind)(literal(text))
 
 
 def admit(design: Design) -> Design:

@@ -26,6 +26,7 @@ from bandcalc.model.units import format_code, format_si, format_value, parse_qua
 from bandcalc.page import state
 from bandcalc.page.compute import guarded
 from bandcalc.page.controls import SERIES_KEY
+from bandcalc.page.literal import literal
 
 TITLE = "Fit to target points"
 
@@ -85,7 +86,7 @@ def _take_points(upper: str, lower: str) -> None:
 
 def _form(sheet, kept: dict) -> bool:
     """The settings; returns whether "Find values" was pressed."""
-    design, unit = sheet.design, sheet.design.unit
+    design, unit = sheet.design, literal(sheet.design.unit)
     what = f"{front_end_of(design).quantity}, {unit}"
     with st.form("fit.form", border=False):
         row = st.columns(4)
@@ -177,7 +178,7 @@ def latest_fit(design: Design) -> FitResult | None:
 def _find(design: Design, kept: dict) -> None:
     args, wrong = _read(design, kept)
     for line in wrong:
-        st.error(f"{line}. Nothing was searched; the design and the last results are kept.")
+        st.error(literal(f"{line}. Nothing was searched; the design and the last results are kept."))
     if wrong:
         return
     text = design_to_json(design)
@@ -192,7 +193,7 @@ def _in_use(design: Design, c: Candidate) -> bool:
 
 
 def _table(r: FitResult, design: Design) -> dict[str, list[str]]:
-    unit = design.unit
+    unit = literal(design.unit)
     rows = r.candidates
     table = {"Rank": [str(i) for i in range(1, len(rows) + 1)]}
     table.update({part(p).label: [format_code(c.value(p), 3) for c in rows] for p in r.fitted})
@@ -223,27 +224,27 @@ def _results(sheet) -> None:
         st.info("The stage has changed since the last search in more than resistor values; press Find "
                 "values to search for the design as it is now.")
         return
-    unit = design.unit
+    unit = literal(design.unit)
     fitted = ", ".join(part(p).label.lower() for p in r.fitted)
     targets = f"upper {format_value(r.upper, unit, 4)}, lower {format_value(r.lower, unit, 4)}"
     span = f"{format_code(r.min_ohms, 4)} to {format_code(r.max_ohms, 4)}"
     st.markdown(f"**Found for** {targets}: {fitted} from {r.series}, {span}.")
     for line in r.problems:
-        st.warning(f"Cannot meet the targets exactly: {line}")
+        st.warning(literal(f"Cannot meet the targets exactly: {line}"))
     if r.candidates:
         st.table(_table(r, design), hide_index=True)
         with st.container(horizontal=True):
             for rank, c in enumerate(r.candidates, 1):
                 if st.button(f"Apply {rank}", key=f"{_WIDGET}apply.{rank}",
                              help="Put this candidate's values on the sliders"):
-                    state.apply_design(apply_candidate(design, c), _applied(r, rank, c, unit))
+                    state.apply_design(apply_candidate(design, c), _applied(r, rank, c, design.unit))
     if r.exact is not None:
         exact = ", ".join(f"{part(p).label.lower()} {format_si(r.exact.value(p), 'Ohm', 4)}"
                           for p in r.fitted)
         st.caption(f"Exact values, not standard: {exact} (upper {format_value(r.exact.upper, unit, 4)}, "
                    f"lower {format_value(r.exact.lower, unit, 4)}).")
     for line in r.notes:
-        st.info(line)
+        st.info(literal(line))
 
 
 def render(sheet) -> None:
