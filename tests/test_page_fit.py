@@ -167,6 +167,20 @@ def test_a_front_end_design_takes_targets_and_shows_candidates_in_its_unit():
     assert figures(at)["Upper switching point"] == format_value(float(analyze(applied).points.upper), "C", 4)
 
 
+@pytest.mark.parametrize("unit", ["kPa", "%RH", "m/s"])
+def test_targets_the_panel_writes_in_a_sensors_own_unit_are_read_back(unit):
+    # A sensor with a linear output watching pressure, humidity or speed: the targets start as the
+    # design's points written with the unit ("313.62 kPa"); pressing Find values on them must search.
+    from bandcalc.page.edit import with_front_end
+
+    sensor = with_value(with_front_end(SUMP, "linear"), "front_end.unit", unit)
+    at = fit_tab({PARAM: design_to_address(sensor)})
+    assert at.text_input(key="fit.upper").value.endswith(f" {unit}")
+    button(at, "Find values").click().run()
+    assert not errors(at) and at.table
+    assert candidates_shown(at)["Upper"][0].endswith(f" {unit}")
+
+
 @pytest.mark.parametrize(("upper", "lower", "fields", "message"), [
     ("abc", "1.9", {}, "Upper point wanted: cannot read 'abc'"),
     ("3.1", "", {}, "Lower point wanted: needs a value in V"),

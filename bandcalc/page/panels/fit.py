@@ -22,10 +22,11 @@ from bandcalc.model.design_file import design_from_json, design_to_json
 from bandcalc.model.front_end import front_end_of
 from bandcalc.model.parts import part, resistors_of, value_at
 from bandcalc.model.standard_values import SERIES
-from bandcalc.model.units import format_code, format_si, format_value, parse_quantity, parse_resistance
+from bandcalc.model.units import format_code, format_si, format_value, parse_resistance
 from bandcalc.page import state
 from bandcalc.page.compute import guarded
 from bandcalc.page.controls import SERIES_KEY
+from bandcalc.page.inputs import read_value
 from bandcalc.page.literal import literal
 
 TITLE = "Fit to target points"
@@ -125,11 +126,11 @@ def _read(design: Design, kept: dict) -> tuple[dict, list[str]]:
     """The fit's arguments from the settings, and a message for each field that cannot be read."""
     unit, args, wrong = design.unit, {}, []
     for field in ("upper", "lower"):
-        text = str(kept[field]).replace("°", "").strip()
+        text = str(kept[field]).strip()
         try:
             if not text:
                 raise BandcalcError(f"{_LABELS[field]}: needs a value in {unit}")
-            args[field] = parse_quantity(text, unit, _LABELS[field])
+            args[field] = read_value(text, unit, _LABELS[field])  # as the page writes it: "313.62 kPa"
         except ValueError as exc:
             wrong.append(str(exc))
     for field in ("min_ohms", "max_ohms"):
