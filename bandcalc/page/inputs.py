@@ -79,9 +79,10 @@ def read_value(text: str, unit: str, what: str) -> float:
                         f"optionally with an SI prefix (e.g. 2.5, 50m, 1.5k)") from None
 
 
-def _chosen(key: str, change: Callable[[Design, Any], Design], label: str, controls: str) -> None:
+def _chosen(key: str, change: Callable[[Design, Any], Design], label: str, controls: str,
+            current: Any) -> None:
     value = st.session_state[key]
-    state.edit(lambda d: change(d, value), label, controls=controls)
+    state.edit(lambda d: change(d, value), label, controls=controls, restore=(key, current))
 
 
 def choice_control(widget: Callable[..., Any], label: str, key: str, current: Any,
@@ -89,10 +90,11 @@ def choice_control(widget: Callable[..., Any], label: str, key: str, current: An
                    **kwargs: Any) -> None:
     """A selection widget (``st.radio``, ``st.toggle``, ...) whose value comes from the design and
     whose change edits it through ``change(design, value)``; keyed ``in.<key>``.  ``controls``:
-    the controls that start again after the change (see :func:`bandcalc.page.state.replace_design`)."""
+    the controls that start again after the change (see :func:`bandcalc.page.state.replace_design`).
+    A choice the design refuses is named in a message, and the widget shows ``current`` again."""
     key = state.INPUT_PREFIX + key
     st.session_state.setdefault(key, current)
-    widget(label, key=key, on_change=_chosen, args=(key, change, label, controls), **kwargs)
+    widget(label, key=key, on_change=_chosen, args=(key, change, label, controls, current), **kwargs)
 
 
 def _slid(path: str, label: str, key: str) -> None:
