@@ -457,3 +457,15 @@ def test_a_design_file_too_long_for_the_address_is_refused_at_once():
     assert message.startswith("long.json: notes: too long for the page address (900,000 characters)")
     assert message.endswith("The current design is kept.")
     assert design_on(at) == SUMP
+
+
+def test_a_typed_value_that_reads_like_its_neighbour_survives_other_edits():
+    # 4699.6 ohm and the E24 value 4700 ohm both read "4k7" to four digits; the slider told them
+    # apart by that label alone and, on the next edit anywhere, moved the resistor to 4700 ohm.
+    at = page()
+    at.text_input(key=f"{INPUT}.text").input("4699.6").run()
+    assert design_on(at).resistors.input == 4699.6
+    at.text_input(key="in.supply.positive").input("6").run()
+    at.select_slider(key=f"{FEEDBACK}.slider").set_value(47e3).run()
+    assert not errors(at)
+    assert (design_on(at).resistors.input, design_on(at).supply.positive) == (4699.6, 6.0)

@@ -16,6 +16,7 @@ from bandcalc.errors import DesignError
 from bandcalc.model.design import DividerReference, FixedReference, OpenDrain, PushPull
 from bandcalc.model.parts import value_at, with_value
 from bandcalc.model.standard_values import series_values
+from bandcalc.model.units import format_code
 from bandcalc.page.address import ADDRESS_MAX, address_to_design, design_to_address
 from bandcalc.page.edit import in_series, slider_options, with_legs, with_output, with_reference, with_stage
 
@@ -118,6 +119,11 @@ def test_slider_options_span_decades_around_the_value():
     assert set(slider_options("E192", 1e3)) >= set(series_values("E192", 100, 99e3))
     with pytest.raises(DesignError, match="series"):
         slider_options("E7", 1e3)
+    # Each option reads differently on the slider: a value that reads like a neighbour takes its place.
+    assert 4700.0 not in slider_options("E24", 4699.6) and 4699.6 in slider_options("E24", 4699.6)
+    for ohms in (4699.6, 4750.0, 39e3, 0.0123, 4.982e-14, 1e13):
+        labels = [format_code(v, 4) for v in slider_options("E96", ohms)]
+        assert len(labels) == len(set(labels)), ohms
     # Beyond the series tables (yocto to yotta ohm, the SI prefixes) the value stands alone.
     assert slider_options("E24", 1e23) == (1e23,) and slider_options("E24", 1e308) == (1e308,)
     assert in_series("E24", 39e3) and not in_series("E24", 4750.0) and not in_series("E24", 1e308)

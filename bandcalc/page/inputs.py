@@ -32,7 +32,7 @@ from bandcalc.model.units import (
     parse_resistance,
 )
 from bandcalc.page import state
-from bandcalc.page.edit import in_series, slider_options
+from bandcalc.page.edit import SLIDER_DIGITS, in_series, slider_options
 from bandcalc.page.literal import literal
 
 __all__ = ["PREFIXED_UNITS", "choice_control", "quantity_field", "read_value", "resistor_control", "shown",
@@ -121,7 +121,8 @@ def resistor_control(label: str, path: str, design: Design, series: str, help: s
     st.session_state.setdefault(slider_key, ohms)
     st.session_state.setdefault(text_key, shown(ohms, "Ohm"))
     st.select_slider(label, options=slider_options(series, ohms), key=slider_key, help=help,
-                     format_func=lambda v: format_code(v, 4), on_change=_slid, args=(path, label, slider_key))
+                     format_func=lambda v: format_code(v, SLIDER_DIGITS), on_change=_slid,
+                     args=(path, label, slider_key))
     st.text_input(f"{label}, exact value", key=text_key, label_visibility="collapsed",
                   placeholder="type a value: 4k7 or 4.7k", on_change=_typed, args=(path, label, text_key))
     if not in_series(series, ohms):
