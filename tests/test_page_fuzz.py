@@ -1,6 +1,7 @@
 """Random sessions on the page: hypothesis draws a few hundred steps over the controls the page
 shows at each moment (sliders, typed values good and bad, radios, toggles, selections, several
-changes in one run, tabs, sections, demos, uploads of good and bad files) and checks after each:
+changes in one run, tabs, sections, the panels' run buttons, demos, uploads of good and bad files)
+and checks after each:
 
 - the page is whole: no traceback, no internal error, title, demo chooser, controls and figures;
 - nothing is lost: an edit taken is in the design (a typed value at its path, a choice on its
@@ -42,6 +43,7 @@ from bandcalc.page.edit import (
 )
 from bandcalc.page.inputs import read_value, shown
 from bandcalc.page.panels import PANELS
+from bandcalc.spread.propagation import MIN_SAMPLES
 
 STEPS = 30
 # 100 examples by default, 1000 in the thorough profile: a twelfth of that, of STEPS steps each.
@@ -169,7 +171,12 @@ class Step:
     tab: int
 
 
-ACTION_WEIGHTS = {"typed": 5, "chose": 4, "named": 1, "opened": 1, "demo": 1, "tab": 1, "section": 1}
+ACTION_WEIGHTS = {"typed": 5, "chose": 4, "named": 1, "opened": 1, "demo": 1, "tab": 1, "section": 1,
+                  "pressed": 1}
+# Buttons of the panels pressed; "Find values" is left to tests/test_page_fit.py, as a fit's time
+# depends on the design (bounding it belongs to the fit).
+BUTTONS = ("Run the spread", "Run the signal check", "Clear the tolerances section",
+           "Targets from the present points")
 STEP = hyp.builds(
     Step,
     action=hyp.sampled_from([a for a, weight in ACTION_WEIGHTS.items() for _ in range(weight)]),
@@ -279,8 +286,23 @@ def _viewed(at, step: Step) -> None:
     assert _design(at) == before and not errors(at)
 
 
+def _pressed(at, step: Step) -> None:
+    buttons = [b for b in at.button if b.label in BUTTONS]
+    if not buttons:
+        return
+    pressed = buttons[step.pick % len(buttons)]
+    if pressed.label == "Run the spread":  # the fewest builds: the run's speed is not the question here
+        at.number_input(key="page.spread.samples").set_value(MIN_SAMPLES)
+    before = _design(at)
+    pressed.click().run()
+    if pressed.label == "Clear the tolerances section":
+        assert errors(at) or _design(at).tolerances is None
+    else:
+        assert _design(at) == before
+
+
 ACTIONS = {"typed": _typed, "chose": _chose, "named": _named, "opened": _opened, "demo": _demo,
-           "tab": _viewed, "section": _viewed}
+           "tab": _viewed, "section": _viewed, "pressed": _pressed}
 
 
 @settings(max_examples=SESSIONS, deadline=None, suppress_health_check=[HealthCheck.too_slow,
