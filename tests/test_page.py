@@ -9,7 +9,19 @@ import json
 
 import numpy as np
 import pytest
-from page_helpers import SUMP, address_of, chart, design_on, errors, figures, numbers, page, prose, stranded
+from page_helpers import (
+    SUMP,
+    address_of,
+    captions,
+    chart,
+    design_on,
+    errors,
+    figures,
+    numbers,
+    page,
+    prose,
+    stranded,
+)
 from streamlit.testing.v1 import AppTest
 
 from bandcalc.model.design_file import design_to_dict, design_to_json
@@ -469,3 +481,4 @@ def test_a_typed_value_that_reads_like_its_neighbour_survives_other_edits():
     at.select_slider(key=f"{FEEDBACK}.slider").set_value(47e3).run()
     assert not errors(at)
     assert (design_on(at).resistors.input, design_on(at).supply.positive) == (4699.6, 6.0)
+    assert "4k6996 is not an E24 value; it is kept exactly as typed." in captions(at)

@@ -125,8 +125,8 @@ def resistor_control(label: str, path: str, design: Design, series: str, help: s
                      args=(path, label, slider_key))
     st.text_input(f"{label}, exact value", key=text_key, label_visibility="collapsed",
                   placeholder="type a value: 4k7 or 4.7k", on_change=_typed, args=(path, label, text_key))
-    if not in_series(series, ohms):
-        st.caption(f"{format_code(ohms, 4)} is not an {series} value; it is kept exactly as typed.")
+    if not in_series(series, ohms):  # all its digits: 4699.6 ohm reads "4k7" on the slider
+        st.caption(f"{format_code(ohms, 7)} is not an {series} value; it is kept exactly as typed.")
 
 
 def _entered(key: str, label: str, where: str, unit: str, optional: bool,
