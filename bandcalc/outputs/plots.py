@@ -2,10 +2,14 @@
 
 Each function takes a result object computed elsewhere in the package and returns a
 ``plotly.graph_objects.Figure``; nothing here calculates circuit values.
+
+Plotly reads chart text as a little HTML (``<b>``, ``<br>``, ``<a href=...>``); text a user wrote
+(a watched unit, a title passed in) goes through :func:`_text` first, so it is drawn as written.
 """
 
 from __future__ import annotations
 
+import html
 import math
 from collections.abc import Mapping
 
@@ -51,6 +55,11 @@ _QUANTITY_COLOURS = {"upper": PALETTE["rising"], "lower": PALETTE["falling"],
                      "hysteresis": PALETTE["band_edge"]}
 
 
+def _text(text: str) -> str:
+    """User text for Plotly's chart text: its HTML characters as entities (which Plotly decodes)."""
+    return html.escape(text, quote=False)
+
+
 def _view(curve: TransferCurve) -> tuple[float, float]:
     """Input range first shown: the band with room either side, within the swept range."""
     lo, hi = float(curve.signal[0]), float(curve.signal[-1])
@@ -85,7 +94,7 @@ def _direction_arrows(curve: TransferCurve) -> list[dict]:
 
 
 def _x(curve: TransferCurve, value: float) -> str:
-    return format_value(value, curve.unit, 4)
+    return format_value(value, _text(curve.unit), 4)
 
 
 def _band(curve: TransferCurve) -> tuple[list[dict], list[dict]]:
@@ -108,8 +117,8 @@ def transfer_spec(curve: TransferCurve, title: str | None = None, x_title: str |
     ``layout.shapes[0]``, its label the first annotation, then four direction arrows.  The input
     axis reads ``x_title`` (default "Input (V)", or "Watched quantity (unit)" for a watched curve).
     """
-    unit = curve.unit
-    x_title = x_title or f"{'Watched quantity' if curve.watched else 'Input'} ({unit})"
+    unit = _text(curve.unit)
+    x_title = _text(x_title) if x_title else f"{'Watched quantity' if curve.watched else 'Input'} ({unit})"
     heights = [0.5 * sum(curve.at_upper), 0.5 * sum(curve.at_lower)]
     points = {"type": "scatter", "x": [curve.upper, curve.lower], "y": heights, "name": "Switching points",
               "mode": "markers+text",
@@ -130,7 +139,7 @@ def transfer_spec(curve: TransferCurve, title: str | None = None, x_title: str |
     ]
     shapes, labels = _band(curve)
     layout = {
-        "title": {"text": title or ""},
+        "title": {"text": _text(title or "")},
         "margin": {"l": 60, "r": 20, "t": 50 if title else 36, "b": 50}, "height": 420,
         "plot_bgcolor": "white", "legend": {"orientation": "h", "y": -0.2, "x": 0},
         "xaxis": {"title": {"text": x_title}, "range": list(_view(curve)), "gridcolor": PALETTE["grid"],
@@ -186,6 +195,7 @@ def histogram_spec(summary: Summary, title: str, unit: str, *, window: tuple[flo
     case's least and greatest value (named "Nominal", "Worst case, least", "Worst case, greatest").
     """
     edges, counts = np.asarray(summary.edges), np.asarray(summary.counts)
+    title, unit = _text(title), _text(unit)
     centres = 0.5 * (edges[:-1] + edges[1:])
     marks = [v for v in (nominal, *(extremes or ()), *(window or ())) if v is not None and math.isfinite(v)]
     lo, hi = min([float(edges[0]), *marks]), max([float(edges[-1]), *marks])
@@ -220,7 +230,7 @@ def sensitivity_spec(sens: Sensitivity, labels: Mapping[str, str], top: int = 12
     shares = {q: {sh.factor: sh.share for sh in getattr(sens, q)} for q in _QUANTITY_NAMES}
     factors = sorted(shares["upper"], key=lambda f: -max(shares[q].get(f, 0.0) for q in shares))[:top]
     factors.reverse()  # Plotly draws the first category at the bottom
-    names = [labels.get(f, f) for f in factors]
+    names = [_text(labels.get(f, f)) for f in factors]
     # Within a group Plotly stacks the first trace lowest: list them bottom up, the legend top down.
     data = [{"type": "bar", "orientation": "h", "name": _QUANTITY_NAMES[q], "y": names,
              "x": [100.0 * shares[q].get(f, 0.0) for f in factors], "marker": {"color": _QUANTITY_COLOURS[q]},
@@ -262,6 +272,7 @@ def signal_spec(run: SignalRun, output_levels: tuple[float, float], unit: str,
     ``output_levels`` is (low, high), volts.
     """
     t, v = run.wave.t, run.wave.v
+    unit = _text(unit)
     index = display_index(v, max_points)
     span = [float(t[0]), float(t[-1])]
     line = {"type": "scattergl" if index.size > 5000 else "scatter", "mode": "lines"}
@@ -307,7 +318,7 @@ def tradeoff_spec(sweep: Sweep, unit: str, width: float | None = None) -> dict:
     Shapes: the narrowest width with one clean edge per crossing ("Narrowest clean width", where
     there is one) and the design's own ``width``.
     """
-    w = sweep.widths
+    w, unit = sweep.widths, _text(unit)
     data = [{"type": "scatter", "mode": "lines+markers", "x": w, "y": sweep.edge_counts,
              "name": "Output edges", "line": {"color": PALETTE["point"], "width": 2}, "marker": {"size": 4}}]
     if sweep.clean_edge_counts is not None:

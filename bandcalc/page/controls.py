@@ -39,6 +39,7 @@ from bandcalc.page.edit import (
     with_thermistor_model,
 )
 from bandcalc.page.inputs import choice_control, quantity_field, resistor_control, value_field
+from bandcalc.page.literal import literal
 
 __all__ = ["SECTION_PREFIX", "SERIES_KEY", "render_controls"]
 
@@ -182,10 +183,9 @@ def _source(design: Design) -> None:
 
 
 def _unit_entered(key: str) -> None:
-    old = value_at(state.current_design(), "front_end.unit")
-    if not state.edit(lambda d: with_value(d, "front_end.unit", st.session_state[key].strip()),
-                      "Watched unit", "front_end.unit", kept=repr(old)):
-        st.session_state[key] = old
+    old, unit = value_at(state.current_design(), "front_end.unit"), st.session_state[key].strip()
+    state.edit(lambda d: with_value(d, "front_end.unit", unit), "Watched unit", "front_end.unit",
+               kept=repr(old), restore=(key, old))
 
 
 def _watched_range(design: Design, unit: str, low: str, high: str) -> None:
@@ -242,8 +242,8 @@ def _front_end(design: Design, series: str) -> None:
         st.session_state.setdefault(key, fe.unit)
         st.text_input("Watched unit", key=key, on_change=_unit_entered, args=(key,),
                       help="The sensor's quantity: C, kPa, %RH, ...")
-        quantity_field(f"Output per {fe.unit}", "front_end.volts_per_unit", design, "V")
-        quantity_field(f"Output at 0 {fe.unit}", "front_end.offset", design, "V")
+        quantity_field(f"Output per {literal(fe.unit)}", "front_end.volts_per_unit", design, "V")
+        quantity_field(f"Output at 0 {literal(fe.unit)}", "front_end.offset", design, "V")
         quantity_field("Sensor output resistance", "front_end.resistance", design, "Ohm")
         _watched_range(design, fe.unit, "what maps to the negative rail", "what maps to the positive rail")
 

@@ -18,6 +18,7 @@ from bandcalc.outputs.plots import as_figure, histogram_spec, sensitivity_spec
 from bandcalc.page import runs, state
 from bandcalc.page.compute import guarded
 from bandcalc.page.inputs import choice_control, value_field
+from bandcalc.page.literal import literal
 from bandcalc.page.names import factor_name, part_name
 from bandcalc.page.tolerance_edit import (
     WINDOW_KEYS,
@@ -87,7 +88,7 @@ def _tolerance_inputs(design: Design, unit: str) -> None:
     choice_control(st.radio, "Monte Carlo reads a tolerance as", "tolerances.distribution",
                    tolerances_of(design).distribution, lambda d, v: with_tolerance(d, "distribution", v),
                    options=DISTRIBUTIONS, format_func=_DISTRIBUTIONS.get, horizontal=True, controls=_CONTROLS)
-    st.markdown(f"**Windows a build must meet** ({unit}; a blank side is open)")
+    st.markdown(f"**Windows a build must meet** ({literal(unit)}; a blank side is open)")
     for column, quantity in zip(st.columns(3), WINDOW_KEYS, strict=True):
         with column:
             for end, side in (("low", "lowest"), ("high", "highest")):
@@ -147,7 +148,7 @@ def _worst_case(s: Spread, v) -> None:
     st.caption(f"Found from {wc.method} ({wc.evaluated:,} evaluated).")
     with st.expander("Corners that give each extreme"):
         def at(f, value: float) -> str:
-            return format_value(value, "C" if f.unit == "degC" else f.unit, 4)
+            return format_value(value, literal("C" if f.unit == "degC" else f.unit), 4)
 
         table: dict[str, list[str]] = {"Varied quantity": [factor_name(f.name) for f in s.factors],
                                        "Range": [f"{at(f, f.low)} to {at(f, f.high)}" for f in s.factors]}
@@ -197,11 +198,11 @@ def _sensitivity(s: Spread) -> None:
 
 
 def _results(s: Spread) -> None:
-    v = lambda x: format_value(x, s.unit, 4)  # noqa: E731
+    v = lambda x: format_value(x, literal(s.unit), 4)  # noqa: E731
     for line in s.cautions:
-        st.error(line, icon=":material/warning:")
+        st.error(literal(line), icon=":material/warning:")
     for line in s.notes:
-        st.info(line, icon=":material/info:")
+        st.info(literal(line), icon=":material/info:")
     _worst_case(s, v)
     _monte_carlo(s, v)
     _sensitivity(s)
@@ -215,7 +216,7 @@ def render(sheet) -> None:
     unit = design.unit
     st.caption("How far the switching points move over part tolerances and temperature, and how often a "
                "build misses its windows. The tolerances belong to the design: they are saved with it and "
-               f"kept in the page address. Figures are in {front_end_of(design).quantity} ({unit}).")
+               f"kept in the page address. Figures are in {front_end_of(design).quantity} ({literal(unit)}).")
     _tolerance_inputs(design, unit)
     _per_resistor(design)
     if design.tolerances is not None:
