@@ -152,9 +152,12 @@ class OpenDrain:
 
 @dataclass(frozen=True)
 class Comparator:
-    """The comparator's input errors, optional common-mode input range and propagation delay.
+    """The comparator's input errors, built-in hysteresis, optional common-mode input range and delay.
 
-    The stage switches where V+ - V- = offset; ``bias_current`` flows into each input pin.
+    The stage switches where V+ - V- = offset + hysteresis/2 while the output is low, and where it
+    is offset - hysteresis/2 while the output is high (the trip points data sheets state for parts
+    with hysteresis built in).  ``bias_current`` flows into each input pin on average;
+    ``offset_current`` is the + pin's current less the - pin's (None: 0).
     """
 
     offset: float = 0.0
@@ -162,10 +165,16 @@ class Comparator:
     common_mode_low: float | None = None
     common_mode_high: float | None = None
     delay: float = 0.0
+    hysteresis: float | None = None
+    offset_current: float | None = None
 
     def __post_init__(self) -> None:
         finite(self.offset, "comparator.offset")
         finite(self.bias_current, "comparator.bias_current")
+        if self.hysteresis is not None:
+            not_negative(self.hysteresis, "comparator.hysteresis")
+        if self.offset_current is not None:
+            finite(self.offset_current, "comparator.offset_current")
         not_negative(self.delay, "comparator.delay")
         for key in ("common_mode_low", "common_mode_high"):
             if getattr(self, key) is not None:

@@ -45,7 +45,7 @@ _TOP_KEYS = ("format", "name", "notes", "stage", "supply", "reference", "resisto
 _UNITS = {"volts": "V", "offset": "V", "bias_current": "A", "delay": "s", "load_capacitance": "F",
           "high_drop": "V", "low_drop": "V", "pullup_volts": "V", "low_volts": "V",
           "positive": "V", "negative": "V", "common_mode_low": "V", "common_mode_high": "V",
-          "low": "V", "high": "V"}
+          "low": "V", "high": "V", "hysteresis": "V", "offset_current": "A"}
 _OHM_KEYS = {"resistance", "pullup", "top", "bottom", *RESISTOR_KEYS}
 
 

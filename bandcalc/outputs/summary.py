@@ -148,8 +148,11 @@ def stage_in_words(d: Design) -> str:
                      f"{format_si(out.resistance, 'Ohm')} output resistance.")
     parts += _front_end_words(d)
     c = d.comparator
-    parts.append(f"Comparator: offset {_v(c.offset)}, bias current {format_si(c.bias_current, 'A')} "
-                 f"into each pin, propagation delay {format_si(c.delay, 's')}; "
+    own = f", hysteresis {_v(c.hysteresis)} built in" if c.hysteresis else ""
+    between = (f", offset current {format_si(c.offset_current, 'A')} (+ pin less - pin)"
+               if c.offset_current else "")
+    parts.append(f"Comparator: offset {_v(c.offset)}{own}, bias current {format_si(c.bias_current, 'A')} "
+                 f"into each pin{between}, propagation delay {format_si(c.delay, 's')}; "
                  f"source resistance {format_si(d.source.resistance, 'Ohm')}.")
     return " ".join(parts)
 
@@ -268,8 +271,8 @@ def _fence(text: str) -> str:
 
 
 ASSUMPTIONS = (
-    "The comparator is ideal apart from the offset, bias current and output levels given: "
-    "infinite gain, no input current other than the bias current, no internal hysteresis.",
+    "The comparator is ideal apart from the offset, built-in hysteresis, bias and offset currents and "
+    "output levels given: infinite gain, no input current other than the bias and offset currents.",
     "Each output state is a Thevenin source: push-pull level behind its output resistance, or the "
     "pull-up for an open-drain output high and an ideal sink at the low level.",
     "Switching points are in volts of the signal source's open-circuit voltage, or in the watched "

@@ -1,0 +1,126 @@
+"""Parts as data sheets state them: the comparator's own hysteresis, the offset current between its
+pins, output levels within their limits, a linear sensor's offset and span accuracy, and a
+thermistor's Beta with the temperatures it was measured between.  Each check is worked by hand
+from first principles."""
+
+import copy
+import dataclasses
+
+import pytest
+
+from bandcalc.errors import DesignError
+from bandcalc.model.design import Comparator, Design, FixedReference, PushPull, Resistors, Source, Supply
+from bandcalc.model.design_file import design_from_dict, design_to_dict
+from bandcalc.model.network import switching_points
+
+
+def basic(comparator, **extra):
+    """Non-inverting stage, 5 V, reference 2.5 V, 10 kOhm in, 39 kOhm feedback, ideal rail-to-rail output."""
+    fields = {"stage": "non-inverting", "supply": Supply(5.0), "reference": FixedReference(2.5),
+              "resistors": Resistors(input=10e3, feedback=39e3), "output": PushPull(),
+              "comparator": comparator, **extra}
+    return Design(**fields)
+
+
+def test_comparator_own_hysteresis_adds_to_the_networks():
+    # Data sheets of comparators with built-in hysteresis state the input trip points as
+    # V_OS + V_HYST/2 (rising) and V_OS - V_HYST/2 (falling) (common practice).  Non-inverting
+    # stage, first principles: the rising input switches where V+ = Vref + V_OS + V_HYST/2 with the
+    # output low (0 V), so V_up = (Vref + V_OS + h/2)(1 + R1/R2); the falling one where
+    # V+ = Vref + V_OS - h/2 with the output high (5 V): V_lo = (Vref + V_OS - h/2)(1 + R1/R2) - 5 R1/R2.
+    h, offset, k = 0.006, 0.001, 10e3 / 39e3
+    p = switching_points(basic(Comparator(offset=offset, hysteresis=h)))
+    assert float(p.upper) == pytest.approx((2.5 + offset + h / 2) * (1 + k), abs=1e-12)
+    assert float(p.lower) == pytest.approx((2.5 + offset - h / 2) * (1 + k) - 5.0 * k, abs=1e-12)
+    # The network's own hysteresis, 5 V x R1/R2, grows by h (1 + R1/R2).
+    assert float(p.upper - p.lower) == pytest.approx(5.0 * k + h * (1 + k), abs=1e-12)
+
+
+def test_own_hysteresis_widens_an_inverting_stage_too():
+    # Inverting stage, first principles: the + pin sits at Vs R2/(R1+R2) + Vo R1/(R1+R2) with R1 to
+    # the positive rail and R2 = Rfb... here a divider of two 100 kOhm legs and 1 MOhm feedback: the
+    # signal on the - pin must pass V+ - V_OS -+ h/2, so both points move outward by h/2.
+    def inverting(h):
+        return Design(stage="inverting", supply=Supply(5.0),
+                      resistors=Resistors(to_positive=100e3, to_ground=100e3, feedback=1e6),
+                      comparator=Comparator(hysteresis=h))
+    plain, own = switching_points(inverting(None)), switching_points(inverting(0.004))
+    assert float(own.upper - plain.upper) == pytest.approx(0.002, abs=1e-12)
+    assert float(plain.lower - own.lower) == pytest.approx(0.002, abs=1e-12)
+
+
+def test_offset_current_flows_into_one_pin_more_than_the_other():
+    # Offset current I_os is the difference between the two pins' bias currents (data-sheet
+    # definition, common practice): I+ = I_b + I_os/2, I- = I_b - I_os/2.  Inverting stage, first
+    # principles: the - pin sees the signal less I- (R_source + R_input); the + pin, a 50 kOhm
+    # Thevenin node of two 100 kOhm legs and 1 MOhm feedback, falls by I+ x its parallel resistance.
+    def stage(ib, ios):
+        return Design(stage="inverting", supply=Supply(5.0),
+                      resistors=Resistors(input=100e3, to_positive=100e3, to_ground=100e3, feedback=1e6),
+                      source=Source(resistance=50e3),
+                      comparator=Comparator(bias_current=ib, offset_current=ios))
+    ib, ios = 200e-9, 80e-9
+    r_plus = 1 / (1 / 100e3 + 1 / 100e3 + 1 / 1e6)
+    shift = (ib - ios / 2) * 150e3 - (ib + ios / 2) * r_plus
+    base, moved = switching_points(stage(0.0, 0.0)), switching_points(stage(ib, ios))
+    for a, b in ((base.upper, moved.upper), (base.lower, moved.lower)):
+        assert float(b - a) == pytest.approx(shift, abs=1e-12)
+
+
+def test_offset_current_on_a_non_inverting_stage_with_a_reference_divider():
+    # Non-inverting stage, the - pin on a 10k/10k divider across 5 V (Thevenin 2.5 V behind 5 kOhm):
+    # the - pin draws I- = I_b - I_os/2 through 5 kOhm; the + pin draws I+ = I_b + I_os/2 through
+    # R1 || R2 (signal and output legs).  First principles: each point moves by
+    # (1 + R1/R2) (dV+ - dV-) with dV+ = I+ (R1 || R2) seen at the signal as I+ R1, dV- = -I- 5 kOhm.
+    from bandcalc.model.design import DividerReference
+
+    def stage(ib, ios):
+        return Design(stage="non-inverting", supply=Supply(5.0), reference=DividerReference(10e3, 10e3),
+                      resistors=Resistors(input=10e3, feedback=39e3), output=PushPull(),
+                      comparator=Comparator(bias_current=ib, offset_current=ios))
+    ib, ios, k = 1e-6, 4e-7, 10e3 / 39e3
+    i_plus, i_minus = ib + ios / 2, ib - ios / 2
+    shift = i_plus * 10e3 - i_minus * 5e3 * (1 + k)
+    base, moved = switching_points(stage(0.0, 0.0)), switching_points(stage(ib, ios))
+    assert float(moved.upper - base.upper) == pytest.approx(shift, abs=1e-12)
+    assert float(moved.lower - base.lower) == pytest.approx(shift, abs=1e-12)
+
+
+FILE = {"format": 1, "stage": "non-inverting", "supply": {"positive": 5.0}, "reference": {"volts": 2.5},
+        "resistors": {"input": "10k", "feedback": "39k"},
+        "comparator": {"offset": "1m", "hysteresis": "6 mV", "offset_current": "20n"}}
+
+
+def test_comparator_fields_read_in_file_units_and_round_trip():
+    d = design_from_dict(copy.deepcopy(FILE))
+    assert d.comparator.hysteresis == pytest.approx(0.006)
+    assert d.comparator.offset_current == pytest.approx(20e-9)
+    assert design_from_dict(design_to_dict(d)) == d
+    plain = design_from_dict({**FILE, "comparator": {"offset": 0.001}})
+    assert "hysteresis" not in design_to_dict(plain)["comparator"]  # files without them stay as they were
+
+
+@pytest.mark.parametrize("field, value, message", [
+    ("hysteresis", -0.001, "comparator.hysteresis: must be zero or more, got -0.001"),
+    ("hysteresis", "lots", "comparator.hysteresis: cannot read 'lots'"),
+    ("offset_current", float("nan"), "comparator.offset_current: must be a finite number"),
+])
+def test_bad_comparator_fields_name_the_key(field, value, message):
+    data = copy.deepcopy(FILE)
+    data["comparator"][field] = value
+    with pytest.raises(DesignError) as err:
+        design_from_dict(data)
+    assert message in str(err.value)
+
+
+def test_own_hysteresis_reaches_the_design_points_through_a_front_end(demo):
+    # The greenhouse demo watches temperature through an NTC divider: a built-in hysteresis widens
+    # the watched band too (the stage's points move outward, and so do the watched ones).
+    from bandcalc.model.points import design_points
+
+    d = demo("greenhouse_fan_thermostat")
+    wider = dataclasses.replace(d, comparator=dataclasses.replace(d.comparator, hysteresis=0.01))
+    a, b = design_points(d), design_points(wider)
+    assert float(b.stage_upper - b.stage_lower) == pytest.approx(float(a.stage_upper - a.stage_lower) + 0.01,
+                                                                 rel=0.2)
+    assert float(b.upper - b.lower) > float(a.upper - a.lower)
