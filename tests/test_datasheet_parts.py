@@ -124,3 +124,73 @@ def test_own_hysteresis_reaches_the_design_points_through_a_front_end(demo):
     assert float(b.stage_upper - b.stage_lower) == pytest.approx(float(a.stage_upper - a.stage_lower) + 0.01,
                                                                  rel=0.2)
     assert float(b.upper - b.lower) > float(a.upper - a.lower)
+
+
+# --- sensors ---------------------------------------------------------------------------------------
+
+LINEAR = {"kind": "linear", "volts_per_unit": "40m", "offset": 0.5, "unit": "kPa",
+          "offset_tolerance": "10 mV", "span_tolerance": 2}
+
+
+def sensor_design(front_end):
+    return design_from_dict({**copy.deepcopy(FILE), "comparator": {}, "front_end": front_end,
+                             "tolerances": {"resistors": 0}})
+
+
+def test_linear_sensor_offset_and_span_accuracy_spread_the_watched_points():
+    # The sensor reads offset + span x; its data sheet gives the offset within +/-10 mV and the span
+    # within +/-2 %.  The stage's own points do not move (its resistors are exact here), so the watched
+    # upper point x = (V_up - offset) / span is greatest with the offset low and the span low, least
+    # with both high (first principles).
+    from bandcalc.spread.propagation import worst_case
+
+    d = sensor_design(LINEAR)
+    assert d.front_end.offset_tolerance == pytest.approx(0.01) and d.front_end.span_tolerance == 2.0
+    assert design_from_dict(design_to_dict(d)) == d
+    k = 10e3 / 39e3
+    v_up, v_lo = 2.5 * (1 + k), 2.5 * (1 + k) - 5.0 * k
+    wc = worst_case(d)
+    assert wc.upper.max == pytest.approx((v_up - 0.49) / (0.04 * 0.98), rel=1e-12)
+    assert wc.upper.min == pytest.approx((v_up - 0.51) / (0.04 * 1.02), rel=1e-12)
+    assert wc.lower.min == pytest.approx((v_lo - 0.51) / (0.04 * 1.02), rel=1e-12)
+    # The hysteresis (V_up - V_lo) / span moves with the span alone.
+    assert (wc.hysteresis.min, wc.hysteresis.max) == pytest.approx(
+        ((v_up - v_lo) / (0.04 * 1.02), (v_up - v_lo) / (0.04 * 0.98)), rel=1e-12)
+
+
+@pytest.mark.parametrize("front_end, message", [
+    ({**LINEAR, "offset_tolerance": -0.01}, "front_end.offset_tolerance: must be zero or more, got -0.01"),
+    ({**LINEAR, "span_tolerance": 100}, "front_end.span_tolerance: a percentage from 0 to below 100"),
+    ({"kind": "thermistor", "r25": "10k", "beta": 3950, "fixed": "10k", "beta_temperatures": [85, 25]},
+     "front_end.beta_temperatures: the first temperature must be below the second, got [85.0, 25.0]"),
+    ({"kind": "thermistor", "r25": "10k", "beta": 3950, "fixed": "10k", "beta_temperatures": 50},
+     "front_end.beta_temperatures: give the two temperatures in C the Beta was measured between"),
+    ({"kind": "thermistor", "steinhart_hart": [1.129241e-3, 2.341077e-4, 8.775468e-8], "fixed": "10k",
+      "beta_temperatures": [25, 85]}, "front_end.beta_temperatures: only with beta"),
+])
+def test_bad_sensor_accuracy_names_the_key(front_end, message):
+    with pytest.raises(DesignError) as err:
+        sensor_design(front_end)
+    assert message in str(err.value)
+
+
+def test_a_thermistor_beta_carries_the_temperatures_it_was_measured_between():
+    # NTC data sheets state Beta between two temperatures, B25/50 or B25/85 (common practice); the
+    # Beta model through R25 meets the part at both (first principles), so the pair is recorded and
+    # stated; left out it is 25/50, and the outputs say so.
+    from bandcalc.model.operating import analyze
+    from bandcalc.model.thermistor import beta_resistance
+    from bandcalc.outputs.summary import component_rows
+
+    therm = {"kind": "thermistor", "r25": "10k", "beta": 3977, "fixed": "10k", "beta_temperatures": [25, 85]}
+    d = sensor_design(therm)
+    assert d.front_end.beta_temperatures == (25.0, 85.0)
+    assert design_from_dict(design_to_dict(d)) == d
+    assert "B25/85" in next(r["value"] for r in component_rows(analyze(d)) if r["designator"] == "TH1")
+    default = sensor_design({k: v for k, v in therm.items() if k != "beta_temperatures"})
+    assert default.front_end.beta_temperatures is None
+    assert "B25/50, assumed" in next(r["value"] for r in component_rows(analyze(default))
+                                     if r["designator"] == "TH1")
+    # The model meets R25 at 25 C and R25 exp(B (1/T2 - 1/T1)) at the pair's second temperature.
+    r85 = float(beta_resistance(10e3, 3977, 273.15 + 85))
+    assert r85 == pytest.approx(10e3 * 2.718281828459045 ** (3977 * (1 / 358.15 - 1 / 298.15)), rel=1e-12)

@@ -101,7 +101,8 @@ def component_rows(a: Analysis) -> list[dict[str, str]]:
         })
     fe = d.front_end
     if isinstance(fe, ThermistorFrontEnd):
-        model = (f"Beta {fe.beta:g} K" if fe.beta is not None else
+        pair = "B{:g}/{:g}".format(*fe.beta_pair) + ("" if fe.beta_temperatures else ", assumed")
+        model = (f"Beta {fe.beta:g} K ({pair})" if fe.beta is not None else
                  "Steinhart-Hart " + ", ".join(f"{c:.6g}" for c in fe.steinhart_hart))
         tol = [f"R25 {fe.r25_tolerance:g} %" if fe.r25_tolerance is not None else "",
                f"Beta {fe.beta_tolerance:g} %" if fe.beta_tolerance is not None else ""]
@@ -168,8 +169,12 @@ def _front_end_words(d: Design) -> list[str]:
         return [f"Ahead of the stage, an NTC thermistor sits at the {fe.position} of a divider with "
                 f"{_ohm(fe.fixed)}, fed from {exc}; the stage sees the divider's Thevenin equivalent."]
     if isinstance(fe, LinearFrontEnd):
+        accuracy = [f"offset within +/-{_v(fe.offset_tolerance)}" if fe.offset_tolerance else "",
+                    f"span within +/-{fe.span_tolerance:g} %" if fe.span_tolerance else ""]
+        stated = " and ".join(a for a in accuracy if a)
         return [f"Ahead of the stage, a linear sensor gives {_v(fe.offset)} + "
-                f"{_v(fe.volts_per_unit)} per {fe.unit} behind {format_si(fe.resistance, 'Ohm')}."]
+                f"{_v(fe.volts_per_unit)} per {fe.unit} behind {format_si(fe.resistance, 'Ohm')}"
+                + (f", {stated}." if stated else ".")]
     return []
 
 

@@ -103,10 +103,10 @@ def _model_factors(design: Design, tol: Tolerances) -> tuple[list[Factor], dict[
     """The varied factors, each resistor's temperature coefficient (1/K), and notes on unused entries."""
     nominal, dist, notes = parameters(design), tol.distribution, []
     out, tempco = _resistor_factors(design, tol, dist, notes)
-    for key, frac in front_end_tolerances(front_end_of(design)).items():  # a thermistor's R25, Beta
-        v = nominal[key]
-        out.append(Factor(key, "Ohm" if key == "front_end.r25" else "K", v, v * (1 - frac),
-                          v * (1 + frac), dist, f"{100 * frac:g} %"))
+    units = {"front_end.r25": "Ohm", "front_end.beta": "K", "front_end.offset": "V",
+             "front_end.volts_per_unit": "V"}
+    for key, (low, high, origin) in front_end_tolerances(front_end_of(design)).items():
+        out.append(Factor(key, units[key], nominal[key], low, high, dist, origin))
     rails = ["supply.positive", "supply.negative", "output.pullup_volts", "output.low_volts"]
     for key in (k for k in rails if k in nominal and nominal[k] != 0 and tol.supply > 0):
         v, dv = nominal[key], abs(nominal[key]) * tol.supply / 100
