@@ -194,3 +194,76 @@ def test_a_thermistor_beta_carries_the_temperatures_it_was_measured_between():
     # The model meets R25 at 25 C and R25 exp(B (1/T2 - 1/T1)) at the pair's second temperature.
     r85 = float(beta_resistance(10e3, 3977, 273.15 + 85))
     assert r85 == pytest.approx(10e3 * 2.718281828459045 ** (3977 * (1 / 358.15 - 1 / 298.15)), rel=1e-12)
+
+
+# --- in the spread ---------------------------------------------------------------------------------
+
+def limits_design(stage_output, comparator=None, **tolerances):
+    from bandcalc.model.tolerances import PerResistor, Tolerances
+
+    return Design(stage="non-inverting", supply=Supply(5.0), reference=FixedReference(2.5),
+                  resistors=Resistors(input=10e3, feedback=39e3), output=stage_output,
+                  comparator=comparator or Comparator(),
+                  tolerances=Tolerances(resistors=PerResistor(0.0), **tolerances))
+
+
+def test_output_levels_within_their_data_sheet_limits_move_the_hysteresis_by_hand():
+    # First principles: with the output behind R_o, the hysteresis is (V_H - V_L) R_in / (R_f + R_o),
+    # V_H = 5 V - high drop, V_L = low drop; greatest with both drops and R_o least, least with both
+    # drops and R_o greatest.
+    from bandcalc.model.tolerances import OutputLimits
+    from bandcalc.spread.propagation import worst_case
+
+    d = limits_design(PushPull(high_drop=0.1, low_drop=0.05, resistance=50.0),
+                      output=OutputLimits(high_drop=(0.0, 0.3), low_drop=(0.0, 0.2),
+                                          resistance=(20.0, 100.0)))
+    wc = worst_case(d)
+    assert wc.hysteresis.max == pytest.approx(5.0 * 10e3 / (39e3 + 20.0), rel=1e-12)
+    assert wc.hysteresis.min == pytest.approx(4.5 * 10e3 / (39e3 + 100.0), rel=1e-12)
+    assert wc.hysteresis.min_corner["output.high_drop"] == 0.3
+
+
+def test_output_limits_must_include_the_designs_own_value():
+    from bandcalc.model.tolerances import OutputLimits
+    from bandcalc.spread.propagation import SpreadError, spread
+
+    d = limits_design(PushPull(high_drop=0.5), output=OutputLimits(high_drop=(0.0, 0.3)))
+    with pytest.raises(SpreadError, match=r"tolerances.output.high_drop: \[0, 0.3\] V must include the "
+                                          r"design's output.high_drop, 0.5 V"):
+        spread(d, samples=100)
+
+
+def test_open_drain_limits_and_entries_for_the_other_output_kind(demo):
+    # The rain-tank demo's open-drain output: its low level within 0 to 0.4 V (a data sheet's V_OL) and
+    # the pull-up supply within its limits are factors; a push-pull entry is named in the notes.
+    from bandcalc.model.tolerances import OutputLimits, Tolerances
+    from bandcalc.spread.propagation import spread
+
+    d = dataclasses.replace(demo("rain_tank_overflow"), tolerances=Tolerances(
+        output=OutputLimits(low_volts=(0.0, 0.4), pullup_volts=(3.2, 3.4), resistance=(10.0, 20.0))))
+    s = spread(d, samples=1000)
+    by_name = {f.name: f for f in s.factors}
+    assert (by_name["output.low_volts"].low, by_name["output.low_volts"].high) == (0.0, 0.4)
+    assert (by_name["output.pullup_volts"].low, by_name["output.pullup_volts"].high) == (3.2, 3.4)
+    assert any("tolerances.output.resistance: not an entry for this design's open-drain output" in n for n in s.notes)
+
+
+def test_offset_current_and_built_in_hysteresis_limits_in_the_worst_case():
+    # Inverting stage of the offset-current check above: an offset current of +/-80 nA about 0 moves
+    # both points by +/-(I_os/2)(R_s + R_in + R_plus) (first principles); the comparator's hysteresis
+    # within 2 to 6 mV adds h to the stage's (trip points at +/- h/2 on the - pin's signal).
+    from bandcalc.model.tolerances import PerResistor, Tolerances
+    from bandcalc.spread.propagation import worst_case
+
+    design = Design(stage="inverting", supply=Supply(5.0),
+                    resistors=Resistors(input=100e3, to_positive=100e3, to_ground=100e3, feedback=1e6),
+                    source=Source(resistance=50e3), comparator=Comparator(hysteresis=0.004),
+                    tolerances=Tolerances(resistors=PerResistor(0.0), offset_current=80e-9,
+                                          comparator_hysteresis=(0.002, 0.006)))
+    r_plus = 1 / (1 / 100e3 + 1 / 100e3 + 1 / 1e6)
+    nominal = switching_points(design)
+    wc = worst_case(design)
+    move = 40e-9 * (150e3 + r_plus)
+    assert wc.upper.max == pytest.approx(float(nominal.upper) + move + 0.001, rel=1e-12)
+    assert wc.lower.min == pytest.approx(float(nominal.lower) - move - 0.001, rel=1e-12)
+    assert wc.hysteresis.min == pytest.approx(float(nominal.upper - nominal.lower) - 0.002, rel=1e-12)

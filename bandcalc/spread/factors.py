@@ -167,8 +167,8 @@ class _Builder:
         allowed = ("low_volts", "pullup_volts") if isinstance(out, OpenDrain) else \
             ("high_drop", "low_drop", "resistance")
         for key in (k for k in limits if k not in allowed):
-            self.notes.append(f"tolerances.output.{key}: not an entry for a {out.kind} output (it takes "
-                              f"{', '.join(allowed)}); not used.")
+            self.notes.append(f"tolerances.output.{key}: not an entry for this design's {out.kind} output "
+                              f"(it takes {', '.join(allowed)}); not used.")
         rails = ["supply.positive", "supply.negative", "output.pullup_volts", "output.low_volts"]
         for key in rails:
             field = key.removeprefix("output.")
