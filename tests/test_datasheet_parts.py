@@ -245,7 +245,8 @@ def test_open_drain_limits_and_entries_for_the_other_output_kind(demo):
     by_name = {f.name: f for f in s.factors}
     assert (by_name["output.low_volts"].low, by_name["output.low_volts"].high) == (0.0, 0.4)
     assert (by_name["output.pullup_volts"].low, by_name["output.pullup_volts"].high) == (3.2, 3.4)
-    assert any("tolerances.output.resistance: not an entry for this design's open-drain output" in n for n in s.notes)
+    wrong = "tolerances.output.resistance: not an entry for this design's open-drain output"
+    assert any(wrong in n for n in s.notes)
 
 
 def test_offset_current_and_built_in_hysteresis_limits_in_the_worst_case():
