@@ -19,7 +19,8 @@ from bandcalc.model.design_file import design_to_dict
 from bandcalc.model.front_end import DividerFrontEnd, LinearFrontEnd, ThermistorFrontEnd
 from bandcalc.model.operating import Analysis, analyze
 from bandcalc.model.parts import part, resistors_of, tolerance_of
-from bandcalc.model.units import format_code, format_si, format_value
+from bandcalc.model.units import format_code, format_probability, format_si, format_value
+from bandcalc.spread.propagation import failure_places
 
 __all__ = [
     "SummaryInputs",
@@ -179,7 +180,9 @@ def _front_end_words(d: Design) -> list[str]:
 
 
 def _points_rows(a: Analysis, spread) -> tuple[list[str], list[list[str]]]:
-    """The switching-points table: nominal, and the spread's worst case and 99.73 % range if run."""
+    """The switching-points table: nominal, and the spread's worst case and 99.73 % range if run (over
+    a temperature range: 0.135 % of builds go below the first figure somewhere in it, and 0.135 % above
+    the second)."""
     w = a.points
     q = lambda x: format_value(x, w.unit, 4)  # noqa: E731
     header = ["Quantity", "Nominal"]
@@ -189,8 +192,9 @@ def _points_rows(a: Analysis, spread) -> tuple[list[str], list[list[str]]]:
     def row(label: str, key: str, nominal: float) -> list[str]:
         out = [label, q(nominal)]
         if spread is not None:
-            wc, mc = getattr(spread.worst_case, key), getattr(spread.monte_carlo, key)
-            out += [q(wc.min), q(wc.max), q(mc.percentiles[0.135]), q(mc.percentiles[99.865])]
+            wc, mc = getattr(spread.worst_case, key), spread.monte_carlo
+            out += [q(wc.min), q(wc.max), q(mc.lowest[key].percentiles[0.135]),
+                    q(mc.highest[key].percentiles[99.865])]
         return out
 
     blank = [""] * (len(header) - 2)
@@ -207,24 +211,43 @@ def _points_rows(a: Analysis, spread) -> tuple[list[str], list[list[str]]]:
     return header, rows
 
 
+_DISTRIBUTION_WORDS = {"normal": "normal, a tolerance taken as 3 sigma",
+                       "screened": "normal cut at each tolerance (screened parts)",
+                       "uniform": "uniform within each tolerance"}
+
+
 def _spread_section(spread) -> list[str]:
-    """How the spread was run, the yield and the parts that matter most (a ``Spread``)."""
+    """How the spread was run, the yield, the failure probability and where builds fail, the parts
+    that matter most and where the model simplifies (a ``Spread``)."""
     mc, se = spread.monte_carlo, spread.sensitivity
-    kind = ("normal, a tolerance taken as 3 sigma" if spread.tolerances.distribution == "normal"
-            else "uniform within each tolerance")
+    kind = _DISTRIBUTION_WORDS[spread.tolerances.distribution]
     lines = [f"Worst case over {spread.worst_case.method} ({spread.worst_case.evaluated:,} evaluations); "
              f"Monte Carlo over {mc.samples:,} builds, {kind}, seed {mc.seed}.", ""]
-    varied = ", ".join(f"{f.name} ({f.origin})" for f in spread.factors) or "nothing: every part exact"
+    span = spread.tolerances.temperature
+    lines += ["Temperature: " + ("none given, so every build is taken at 25 C." if span is None else
+                                 f"each build is checked over the whole range, {span[0]:g} to {span[1]:g} C; "
+                                 "it passes only if it keeps every window at every temperature of it."), ""]
+    varied = ", ".join(escape_text(f"{f.name} ({f.origin})") for f in spread.factors) or \
+        "nothing: every part exact"
     lines += [f"Varied: {varied}.", ""]
     y = mc.build_yield
     if y is not None:
-        lines += [f"Yield against the limits: {100 * y.fraction:.3f} % of builds "
+        lines += [f"Yield against the limits, per build over the range: {100 * y.fraction:.3f} % of builds "
                   f"(95 % interval {100 * y.low:.3f} % to {100 * y.high:.3f} %).", ""]
+        f = y.failure
+        if f is not None:
+            lines += [f"Failure probability: {format_probability(f.probability)} (95 % interval "
+                      f"{format_probability(f.low)} to {format_probability(f.high)}); {f.method}.", ""]
+        places = failure_places(spread)
+        if places:
+            lines += ["Where builds fail:", ""] + [f"- {p}" for p in places] + [""]
     rows = []
     for name in ("upper", "lower", "hysteresis"):
-        top = [f"{sh.factor} {100 * sh.share:.0f} %" for sh in getattr(se, name)[:3] if sh.share >= 0.005]
+        top = [escape_text(f"{sh.factor} {100 * sh.share:.0f} %") for sh in getattr(se, name)[:3]
+               if sh.share >= 0.005]
         rows.append([name, ", ".join(top) or "none"])
     lines += _table(["Quantity", "Largest shares of its spread (first order)"], rows)
+    lines += ["", "Where the spread's model simplifies:", ""] + [f"- {x}" for x in spread.simplifications]
     return lines
 
 

@@ -16,6 +16,7 @@ from bandcalc.model.front_end import front_end_of
 from bandcalc.model.tolerances import DISTRIBUTIONS
 from bandcalc.model.units import format_probability, format_si, format_value
 from bandcalc.outputs.plots import as_figure, histogram_spec, sensitivity_spec
+from bandcalc.outputs.summary import escape_text
 from bandcalc.page import runs, state
 from bandcalc.page.compute import guarded
 from bandcalc.page.inputs import choice_control, read_value, value_field
@@ -172,8 +173,8 @@ def _networks(design: Design) -> None:
                    "more than the tracking bound.")
         for net in networks:
             left, right = st.columns([4, 1], vertical_alignment="center")
-            left.markdown(f"**{net.name}**: {', '.join(part_name(r) for r in net.resistors)}; tempco "
-                          f"±{net.tempco:g} ppm/K, tracking {net.tracking:g} ppm/K")
+            left.markdown(f"**{escape_text(net.name)}**: {', '.join(part_name(r) for r in net.resistors)}; "
+                          f"tempco ±{net.tempco:g} ppm/K, tracking {net.tracking:g} ppm/K")
             right.button("Remove", key=f"page.spread.network.remove.{net.name}", on_click=_remove_network,
                          args=(net.name,))
         names = [r["name"] for r in resistor_rows(design)]
