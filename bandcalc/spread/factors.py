@@ -281,6 +281,9 @@ class VariedModel:
         self.moves = bool(self.tempco) or "comparator.offset_drift" in names
         if self.temperature is None:
             self.box = self.moves = False
+        # The points are linear in the reference where the front end's Thevenin equivalent does not
+        # depend on it (every source enters the network linearly; an affine front end maps linearly).
+        self.linear_in_reference = front_end_of(design).affine
 
     @property
     def middle(self) -> float:

@@ -12,14 +12,14 @@ one vectorized pass:
    method assumes no shape, and each point is monotonic in the reference).
 2. The polynomial through the five samples follows the build's curve; where its derivative
    changes sign inside the range (a cubic: exactly decided from its values at the ends and at its
-   own turning points), the polynomial's extreme is located on a fine grid and refined by a
-   parabola, and the model is evaluated there, so an extreme inside the range takes the model's
-   own value.
+   own turning points, each root then found by bisection), the model is evaluated at that
+   temperature, so an extreme inside the range takes the model's own value.
 3. The polynomial's last Chebyshev coefficient bounds how far it can stray from the curve (for a
    smooth curve the coefficients fall off geometrically and the error is below the last one kept;
    L. N. Trefethen, *Approximation Theory and Approximation Practice*, SIAM 2013, from memory).
    Where it exceeds :data:`CHECK` of the quantity's size, that build is evaluated instead at
-   :data:`DENSE` temperatures and its extremes refined the same way.  With the coefficients of
+   :data:`DENSE` temperatures, each extreme polished by the parabola through the model at it and a
+   small step either side.  With the coefficients of
    real parts (100 ppm/K over -40 to 85 C) the coefficient is near 1e-10 of the value.
 
 The tests compare the result with a 2001-point temperature grid, evaluated build by build.
@@ -55,30 +55,6 @@ def _combine(matrix: np.ndarray, rows: np.ndarray) -> np.ndarray:
     return np.einsum("...i,in->...n", matrix, rows)
 
 
-@dataclass(frozen=True)
-class RangeExtremes:
-    """Per build (arrays of shape (n,)): the least and greatest value of each quantity over the range
-    and the reference's box, the temperature (C) and box edge (-1, 0, +1) of each, and the value at
-    the middle of the range with the reference at V25.  Temperatures are NaN where nothing moves
-    with temperature.  ``ends_least`` / ``ends_greatest`` (shape (n, 2)) hold each quantity's least and
-    greatest over the box at the range's lowest and highest temperature."""
-
-    lowest: dict[str, np.ndarray]
-    highest: dict[str, np.ndarray]
-    at_lowest: dict[str, np.ndarray]
-    at_highest: dict[str, np.ndarray]
-    edge_lowest: dict[str, np.ndarray]
-    edge_highest: dict[str, np.ndarray]
-    middle: dict[str, np.ndarray]
-    ends_least: dict[str, np.ndarray]
-    ends_greatest: dict[str, np.ndarray]
-
-    @property
-    def invalid(self) -> np.ndarray:
-        """Builds with a point that does not exist somewhere in the range (NaN)."""
-        return ~np.isfinite(self.lowest["hysteresis"]) | ~np.isfinite(self.highest["hysteresis"])
-
-
 def _temperatures(model: VariedModel) -> np.ndarray:
     if not model.moves:
         return np.array([model.middle])
@@ -91,16 +67,33 @@ def _edges(model: VariedModel) -> np.ndarray:
 
 
 class _Extremes:
-    """Running least and greatest of one quantity per build, with the temperature and edge of each."""
+    """Running least and greatest of one quantity per build, with the temperature and edge of each
+    (worked out only when asked for: most uses need the values alone)."""
 
     def __init__(self, q: np.ndarray, celsius: np.ndarray, edges: np.ndarray, moves: bool) -> None:
         k, e, n = q.shape
-        stack = q.reshape(k * e, n)  # row = temperature * edges + edge
-        at = celsius if moves else np.full(celsius.size, np.nan)
-        row = np.argmin(stack, axis=0)  # a NaN counts as the least and the greatest: the build fails
-        self.low, self.at_low, self.edge_low = np.min(stack, axis=0), at[row // e], edges[row % e]
-        row = np.argmax(stack, axis=0)
-        self.high, self.at_high, self.edge_high = np.max(stack, axis=0), at[row // e], edges[row % e]
+        self._stack = q.reshape(k * e, n)  # row = temperature * edges + edge
+        self._at = celsius if moves else np.full(celsius.size, np.nan)
+        self._edges = edges
+        self.low, self.high = np.min(self._stack, axis=0), np.max(self._stack, axis=0)
+        self._where: dict[str, tuple[np.ndarray, np.ndarray]] = {}
+        self._later: list[tuple[str, np.ndarray, np.ndarray, np.ndarray]] = []
+
+    def where(self, name: str) -> tuple[np.ndarray, np.ndarray]:
+        """Temperature and edge of each build's least ("low") or greatest ("high") value."""
+        if name not in self._where:
+            # Reductions across the rows run along the builds; a NaN is the least and the greatest
+            # (the build fails), and its temperature is then the last one's.
+            best, rows = getattr(self, name), self._stack.shape[0]
+            row = np.full(best.size, rows - 1)
+            for i in range(rows - 2, -1, -1):
+                row = np.where(self._stack[i] == best, i, row)
+            e = self._edges.size
+            self._where[name] = (self._at[row // e], self._edges[row % e])
+            for which, r, t, edge in self._later:
+                if which == name:
+                    self._where[name][0][r], self._where[name][1][r] = t, edge
+        return self._where[name]
 
     def offer(self, rows: np.ndarray, values: np.ndarray, celsius: np.ndarray, edge: np.ndarray) -> None:
         """Take ``values`` of builds ``rows`` at ``celsius`` and ``edge`` where they go beyond (a build may
@@ -115,8 +108,47 @@ class _Extremes:
             r, v, t, e = r[order], v[order], t[order], e[order]
             last = np.append(r[1:] != r[:-1], True)
             best[r[last]] = v[last]
-            getattr(self, f"at_{name}")[r[last]] = t[last]
-            getattr(self, f"edge_{name}")[r[last]] = e[last]
+            if name in self._where:
+                self._where[name][0][r[last]], self._where[name][1][r[last]] = t[last], e[last]
+            else:
+                self._later.append((name, r[last], t[last], e[last]))
+
+
+@dataclass(frozen=True)
+class RangeExtremes:
+    """Per build (arrays of shape (n,)): the least and greatest value of each quantity over the range
+    and the reference's box, the temperature (C) and box edge (-1, 0, +1) of each, and the value at
+    the middle of the range with the reference at V25.  Temperatures are NaN where nothing moves
+    with temperature.  ``ends_least`` / ``ends_greatest`` (shape (n, 2)) hold each quantity's least and
+    greatest over the box at the range's lowest and highest temperature."""
+
+    lowest: dict[str, np.ndarray]
+    highest: dict[str, np.ndarray]
+    middle: dict[str, np.ndarray]
+    ends_least: dict[str, np.ndarray]
+    ends_greatest: dict[str, np.ndarray]
+    found: dict[str, _Extremes]
+
+    @property
+    def at_lowest(self) -> dict[str, np.ndarray]:
+        return {k: f.where("low")[0] for k, f in self.found.items()}
+
+    @property
+    def at_highest(self) -> dict[str, np.ndarray]:
+        return {k: f.where("high")[0] for k, f in self.found.items()}
+
+    @property
+    def edge_lowest(self) -> dict[str, np.ndarray]:
+        return {k: f.where("low")[1] for k, f in self.found.items()}
+
+    @property
+    def edge_highest(self) -> dict[str, np.ndarray]:
+        return {k: f.where("high")[1] for k, f in self.found.items()}
+
+    @property
+    def invalid(self) -> np.ndarray:
+        """Builds with a point that does not exist somewhere in the range (NaN)."""
+        return ~np.isfinite(self.lowest["hysteresis"]) | ~np.isfinite(self.highest["hysteresis"])
 
 
 def _vertex(x0: np.ndarray, x1: np.ndarray, x2: np.ndarray, y0: np.ndarray, y1: np.ndarray,
@@ -225,8 +257,13 @@ def _refine(model: VariedModel, x: Mapping[str, np.ndarray], q: Mapping[str, np.
         if keep.any():
             flat, at = flat[keep], at[keep]
             asks.append((name, flat % n, 0.5 * (low + high) + 0.5 * (high - low) * at, edges[flat // n]))
-    if asks:
-        _polish(model, x, found, asks, 1e-3 * (high - low))
+    if asks:  # the polynomial's turning points, where the model is evaluated
+        rows = np.concatenate([a[1] for a in asks])
+        at = np.concatenate([a[2] for a in asks])
+        edge = np.concatenate([a[3] for a in asks])
+        values = model.points({k: v[rows] for k, v in x.items()}, at, edge)
+        for name in QUANTITIES:
+            found[name].offer(rows, np.broadcast_to(values[name], rows.shape), at, edge)
     rough_rows = np.unique(np.concatenate(dense))
     if rough_rows.size:
         _dense(model, x, rough_rows % n, edges[rough_rows // n], found)
@@ -259,17 +296,15 @@ def over_range(model: VariedModel, x: Mapping[str, np.ndarray], n: int) -> Range
     found = {name: _Extremes(q[name], celsius, edges, model.moves) for name in QUANTITIES}
     if model.moves:
         _refine(model, flat, q, edges, found)
-    if model.box:  # the middle of the range with the reference at V25, apart from the box's edges
-        middle = {k: np.broadcast_to(v, (n,)) for k, v in model.points(flat, model.middle).items()}
-    else:
+    if not model.box:
         middle = {k: v[celsius.size // 2, 0] for k, v in q.items()}
+    elif model.linear_in_reference:  # the points are linear in the reference: V25 is the edges' mean
+        middle = {k: 0.5 * (v[celsius.size // 2, 0] + v[celsius.size // 2, 1]) for k, v in q.items()}
+    else:  # the middle of the range with the reference at V25, apart from the box's edges
+        middle = {k: np.broadcast_to(v, (n,)) for k, v in model.points(flat, model.middle).items()}
     ends = [0, celsius.size - 1]
     return RangeExtremes(
         lowest={k: f.low for k, f in found.items()}, highest={k: f.high for k, f in found.items()},
-        at_lowest={k: f.at_low for k, f in found.items()},
-        at_highest={k: f.at_high for k, f in found.items()},
-        edge_lowest={k: f.edge_low for k, f in found.items()},
-        edge_highest={k: f.edge_high for k, f in found.items()},
-        middle=middle,
+        middle=middle, found=found,
         ends_least={k: v[ends].min(axis=1).T for k, v in q.items()},
         ends_greatest={k: v[ends].max(axis=1).T for k, v in q.items()})

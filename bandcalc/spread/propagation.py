@@ -74,7 +74,7 @@ MIN_SAMPLES = 10
 DEFAULT_SEED = 1
 #: Builds per model call: blocks this small keep the model's intermediate arrays (builds x five
 #: temperatures x reference edges) in the processor's cache.
-CHUNK = 8_192
+CHUNK = 16_384
 #: Up to this many factors every corner of the box is evaluated; beyond, the corner is searched.
 EXHAUSTIVE_LIMIT = 16
 DEFAULT_BINS = 60
@@ -165,11 +165,10 @@ def _searched(model: VariedModel, quantity: str, sign: float, slope: np.ndarray)
 def _corner(model: VariedModel, z: np.ndarray, r: RangeExtremes, i: int, q: str,
             least: bool) -> dict[str, float]:
     corner = model.corner(z)
-    at = (r.at_lowest if least else r.at_highest)[q][i]
+    at, edge = (x[i] for x in r.found[q].where("low" if least else "high"))
     if math.isfinite(at):
         corner["temperature"] = float(at)
     if "reference.drift" in corner:
-        edge = (r.edge_lowest if least else r.edge_highest)[q][i]
         corner["reference.drift"] = corner["reference.drift"] * (edge if edge else 1.0)  # the edge taken
     return corner
 
@@ -300,18 +299,27 @@ class MonteCarlo:
 def summarize(values: np.ndarray, bins: int) -> Summary:
     """Statistics of the finite ``values``: mean, standard deviation, extremes, the PERCENTILES
     (linear interpolation, numpy's default) and a histogram of ``bins`` equal bins from the least to
-    the greatest."""
+    the greatest.  One sort serves both (numpy sorts faster than it selects several percentiles)."""
     finite = np.isfinite(values)
-    kept = values if finite.all() else values[finite]
-    n = kept.size
+    ordered = np.sort(values if finite.all() else values[finite])
+    n = ordered.size
     if n == 0:
         raise SpreadError("the stage model gives no finite switching point for any sample")
-    points = np.percentile(kept, PERCENTILES)
-    low, high = float(kept.min()), float(kept.max())
+    position = np.asarray(PERCENTILES) / 100 * (n - 1)  # linear interpolation, as numpy's default
+    below = np.floor(position).astype(int)
+    above = np.minimum(below + 1, n - 1)
+    share = position - below
+    points = ordered[below] * (1 - share) + ordered[above] * share
+    low, high = ordered[0], ordered[-1]
     least = 1e-9 * max(abs(low), abs(high), 1e-30)  # a quantity that hardly moves still gets bins
-    span = (low, high) if high - low >= least else (0.5 * (low + high) - least, 0.5 * (low + high) + least)
-    counts, edges = np.histogram(kept, bins=bins, range=span)
-    return Summary(mean=float(kept.mean()), std=float(kept.std(ddof=1)) if n > 1 else 0.0, min=low, max=high,
+    if high - low < least:
+        low, high = 0.5 * (low + high) - least, 0.5 * (low + high) + least
+    edges = np.linspace(low, high, bins + 1)
+    index = np.searchsorted(ordered, edges, side="left")  # bins [a, b), the last one [a, b]
+    index[-1] = n
+    counts = np.diff(index)
+    return Summary(mean=float(ordered.mean()), std=float(ordered.std(ddof=1)) if n > 1 else 0.0,
+                   min=float(ordered[0]), max=float(ordered[-1]),
                    percentiles={q: float(v) for q, v in zip(PERCENTILES, points, strict=True)},
                    edges=edges, counts=counts)
 
@@ -346,8 +354,8 @@ class _Tally:
         for i, (q, side, limit) in enumerate(self.sides):
             missed = r.lowest[q] < limit if side == "below" else r.highest[q] > limit
             self.builds[i] += int(np.count_nonzero(missed))
-            if self.edges is not None:
-                at = (r.at_lowest if side == "below" else r.at_highest)[q][missed]
+            if self.edges is not None and missed.any():
+                at = r.found[q].where("low" if side == "below" else "high")[0][missed]
                 self.counts[i] += np.histogram(at, bins=self.edges)[0]
                 self.ends[i][0] += int(np.count_nonzero(at == self.edges[0]))
                 self.ends[i][1] += int(np.count_nonzero(at == self.edges[-1]))
