@@ -155,6 +155,8 @@ def test_tolerance_edits_live_in_the_design():
     assert design_on(at).tolerances.limits.upper == (SUMP.tolerances.limits.upper[0], 3.3)
     at.radio(key="in.tolerances.distribution").set_value("uniform").run()
     assert design_on(at).tolerances.distribution == "uniform"
+    at.session_state["page.spread.section.resistors"] = True  # the section draws its controls while open
+    at.run()
     at.selectbox(key="page.spread.part").set_value("feedback").run()
     at.text_input(key="in.tolerances.resistors.feedback").input("0.1").run()
     assert design_on(at).tolerances.resistors.get("feedback") == 0.1
@@ -167,6 +169,10 @@ def test_tolerance_edits_live_in_the_design():
 
 def test_data_sheet_limits_networks_and_the_screened_distribution_edit_the_design():
     at = page(panel="Spread")
+    assert "in.tolerances.output.high_drop.high" not in at.session_state  # shut sections draw nothing
+    for name in ("limits", "networks"):
+        at.session_state[f"page.spread.section.{name}"] = True
+    at.run()
     at.radio(key="in.tolerances.distribution").set_value("screened").run()
     assert design_on(at).tolerances.distribution == "screened"
     at.text_input(key="in.tolerances.offset_current").input("20n").run()

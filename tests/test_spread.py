@@ -657,3 +657,27 @@ def test_where_builds_fail_names_the_window_and_the_temperature():
                                                    + stats.norm.sf(3 * excess / (65 * 2e-4))), abs=0.05)
     words = " ".join(failure_places(s))
     assert "Upper point above 3.16 V" in words and "at 85 C" in words and "at -40 C" in words
+
+
+def test_json_is_strict_where_a_figure_does_not_exist(demo):
+    # A worst case or sensitivity figure that does not exist (NaN) is null in JSON, never NaN.
+    s = spread(demo(SUMP), samples=1_000)
+    nan = float("nan")
+    broken = dataclasses.replace(s, worst_case=dataclasses.replace(
+        s.worst_case,
+        upper=dataclasses.replace(s.worst_case.upper, max=nan, max_corner={"temperature": nan})))
+    text = json.dumps(spread_to_dict(broken), allow_nan=False)
+    assert json.loads(text)["worst_case"]["upper"]["max"] is None
+
+
+def test_a_spread_that_refuses_says_why_on_the_command_line(tmp_path, capsys, demo_path):
+    # Output limits that leave out the design's own value: the command names the key and goes on.
+    data = json.loads(Path(demo_path(SUMP)).read_text())
+    data["tolerances"]["output"] = {"high_drop": [0.1, 0.3]}
+    bad = tmp_path / "limits.json"
+    bad.write_text(json.dumps(data))
+    assert main(["spread", str(bad), demo_path(SUMP), "--samples", "1000", "--json"]) == 2
+    captured = capsys.readouterr()
+    assert (f"{bad}: tolerances.output.high_drop: [0.1, 0.3] V must include the design's output.high_drop, "
+            "0.05 V") in captured.err
+    assert json.loads(captured.out)["name"] == "Sump level switch"

@@ -117,10 +117,10 @@ class _Extremes:
 @dataclass(frozen=True)
 class RangeExtremes:
     """Per build (arrays of shape (n,)): the least and greatest value of each quantity over the range
-    and the reference's box, the temperature (C) and box edge (-1, 0, +1) of each, and the value at
-    the middle of the range with the reference at V25.  Temperatures are NaN where nothing moves
-    with temperature.  ``ends_least`` / ``ends_greatest`` (shape (n, 2)) hold each quantity's least and
-    greatest over the box at the range's lowest and highest temperature."""
+    and the reference's box, the temperature (C) and box edge (-1, 0, +1) of each (:meth:`where`),
+    and the value at the middle of the range with the reference at V25.  Temperatures are NaN where
+    nothing moves with temperature.  ``ends_least`` / ``ends_greatest`` (shape (n, 2)) hold each
+    quantity's least and greatest over the box at the range's lowest and highest temperature."""
 
     lowest: dict[str, np.ndarray]
     highest: dict[str, np.ndarray]
@@ -129,21 +129,9 @@ class RangeExtremes:
     ends_greatest: dict[str, np.ndarray]
     found: dict[str, _Extremes]
 
-    @property
-    def at_lowest(self) -> dict[str, np.ndarray]:
-        return {k: f.where("low")[0] for k, f in self.found.items()}
-
-    @property
-    def at_highest(self) -> dict[str, np.ndarray]:
-        return {k: f.where("high")[0] for k, f in self.found.items()}
-
-    @property
-    def edge_lowest(self) -> dict[str, np.ndarray]:
-        return {k: f.where("low")[1] for k, f in self.found.items()}
-
-    @property
-    def edge_highest(self) -> dict[str, np.ndarray]:
-        return {k: f.where("high")[1] for k, f in self.found.items()}
+    def where(self, quantity: str, least: bool) -> tuple[np.ndarray, np.ndarray]:
+        """The temperature (C) and reference edge of each build's least (or greatest) ``quantity``."""
+        return self.found[quantity].where("low" if least else "high")
 
     @property
     def invalid(self) -> np.ndarray:

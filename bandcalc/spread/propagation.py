@@ -124,12 +124,14 @@ def _exhaustive(model: VariedModel) -> tuple[dict[str, tuple[np.ndarray, np.ndar
         codes = np.arange(start, min(start + CHUNK, total), dtype=np.int64)
         z = ((codes[:, None] >> np.arange(k)) & 1) * 2.0 - 1.0
         r = _corner_values(model, z)
-        for q in QUANTITIES:
-            lo, hi = int(np.argmin(r.lowest[q])), int(np.argmax(r.highest[q]))
-            if not r.lowest[q][lo] >= best[q][0]:
-                best[q][:2] = r.lowest[q][lo], z[lo]
-            if not r.highest[q][hi] <= best[q][2]:
-                best[q][2:] = r.highest[q][hi], z[hi]
+        for q in QUANTITIES:  # a corner where a point does not exist (NaN) is left to the notes
+            least = np.where(r.invalid, np.inf, r.lowest[q])
+            greatest = np.where(r.invalid, -np.inf, r.highest[q])
+            lo, hi = int(np.argmin(least)), int(np.argmax(greatest))
+            if least[lo] < best[q][0] or best[q][1] is None:
+                best[q][:2] = least[lo], z[lo]
+            if greatest[hi] > best[q][2] or best[q][3] is None:
+                best[q][2:] = greatest[hi], z[hi]
     return {q: (b[1], b[3]) for q, b in best.items()}, total
 
 
@@ -165,7 +167,7 @@ def _searched(model: VariedModel, quantity: str, sign: float, slope: np.ndarray)
 def _corner(model: VariedModel, z: np.ndarray, r: RangeExtremes, i: int, q: str,
             least: bool) -> dict[str, float]:
     corner = model.corner(z)
-    at, edge = (x[i] for x in r.found[q].where("low" if least else "high"))
+    at, edge = (x[i] for x in r.where(q, least))
     if math.isfinite(at):
         corner["temperature"] = float(at)
     if "reference.drift" in corner:
@@ -355,7 +357,7 @@ class _Tally:
             missed = r.lowest[q] < limit if side == "below" else r.highest[q] > limit
             self.builds[i] += int(np.count_nonzero(missed))
             if self.edges is not None and missed.any():
-                at = r.found[q].where("low" if side == "below" else "high")[0][missed]
+                at = r.where(q, side == "below")[0][missed]
                 self.counts[i] += np.histogram(at, bins=self.edges)[0]
                 self.ends[i][0] += int(np.count_nonzero(at == self.edges[0]))
                 self.ends[i][1] += int(np.count_nonzero(at == self.edges[-1]))
@@ -591,6 +593,9 @@ def _findings(design: Design, wc: WorstCase, mc: MonteCarlo) -> list[str]:
     if mc.invalid:
         out.append(f"{mc.invalid:,} builds give no finite switching point somewhere in the range; they count "
                    "as failed builds.")
+    if any(not math.isfinite(getattr(getattr(wc, q), end)) for q in QUANTITIES for end in ("min", "max")):
+        out.append("At some corner of the box no switching point exists anywhere: the worst case there has "
+                   "no value (null in JSON); every such build fails.")
     y = mc.build_yield
     if y is not None and y.failure is not None:
         out += list(y.failure.notes)
@@ -643,12 +648,17 @@ def _yield_dict(y: Yield) -> dict:
 
 
 def spread_to_dict(s: Spread) -> dict:
-    """Plain JSON-ready numbers (SI units; temperature in degrees Celsius) of a spread."""
+    """Plain JSON-ready numbers (SI units; temperature in degrees Celsius) of a spread; a figure that
+    does not exist (a point no build reaches at some corner) is None, and the notes say why."""
     wc, mc, se = s.worst_case, s.monte_carlo, s.sensitivity
 
     def extreme(e: Extreme) -> dict:
-        return {"min": e.min, "max": e.max, "min_corner": dict(e.min_corner),
-                "max_corner": dict(e.max_corner)}
+        return {"min": _finite(e.min), "max": _finite(e.max),
+                "min_corner": {k: _finite(v) for k, v in e.min_corner.items()},
+                "max_corner": {k: _finite(v) for k, v in e.max_corner.items()}}
+
+    def finite(values: dict[str, float]) -> dict[str, float | None]:
+        return {k: _finite(v) for k, v in values.items()}
 
     out_mc: dict = {"samples": mc.samples, "seed": mc.seed, "distribution": s.tolerances.distribution,
                     "invalid": mc.invalid, "middle_temperature": mc.middle,
@@ -662,13 +672,13 @@ def spread_to_dict(s: Spread) -> dict:
         "temperature": None if temperature is None else {"low": temperature[0], "high": temperature[1]},
         "factors": [{"name": f.name, "unit": f.unit, "nominal": f.nominal, "low": f.low, "high": f.high,
                      "distribution": f.distribution, "origin": f.origin} for f in s.factors],
-        "nominal": wc.nominal,
+        "nominal": finite(wc.nominal),
         "worst_case": {"method": wc.method, "evaluated": wc.evaluated,
                        **{q: extreme(getattr(wc, q)) for q in QUANTITIES}},
         "monte_carlo": out_mc,
-        "sensitivity": {"mean": se.mean, "std": se.std,
-                        **{q: [{"factor": sh.factor, "share": sh.share, "effect": sh.effect,
-                                "sigma": sh.sigma} for sh in getattr(se, q)] for q in QUANTITIES}},
+        "sensitivity": {"mean": finite(se.mean), "std": finite(se.std),
+                        **{q: [{"factor": sh.factor, "share": _finite(sh.share), "effect": _finite(sh.effect),
+                                "sigma": _finite(sh.sigma)} for sh in getattr(se, q)] for q in QUANTITIES}},
         "simplifications": list(s.simplifications),
         "notes": list(s.notes),
         "cautions": list(s.cautions),

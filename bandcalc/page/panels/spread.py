@@ -89,6 +89,13 @@ _LIMIT_NAMES = {"output.high_drop": ("Output high, drop below the rail", "V"),
                 "comparator_hysteresis": ("Comparator's own hysteresis", "V")}
 
 
+def _section(title: str, name: str):
+    """An expander whose body is drawn only while it is open (fewer widgets: a faster rerun); None
+    while it is shut."""
+    box = st.expander(title, key=f"page.spread.section.{name}", on_change="rerun")
+    return box if box.open else None
+
+
 def _plain(design: Design, key: str, label: str, unit: str, blank: str, help: str | None) -> None:
     value_field(label, f"tolerances.{key}", design, unit, lambda d: tolerance_value(d, key),
                 lambda d, v: with_tolerance(d, key, v), where=f"tolerances.{key}", optional=True,
@@ -124,7 +131,10 @@ def _tolerance_inputs(design: Design, unit: str) -> None:
 
 
 def _data_sheet_limits(design: Design) -> None:
-    with st.expander("Output and comparator, as their data sheets state them"):
+    box = _section("Output and comparator, as their data sheets state them", "limits")
+    if box is None:
+        return
+    with box:
         st.caption("Least and greatest values over temperature; a blank end takes the design's own value. "
                    "A build draws each between its limits like a tolerance about their middle.")
         for key in limit_keys(design):
@@ -140,8 +150,11 @@ def _data_sheet_limits(design: Design) -> None:
 
 
 def _per_resistor(design: Design) -> None:
+    box = _section("Per resistor", "resistors")
+    if box is None:
+        return
     rows = resistor_rows(design)
-    with st.expander("Per resistor"):
+    with box:
         st.table({
             "Resistor": [part_name(r["name"]) for r in rows],
             "Value": [format_si(r["ohms"], "Ohm", 4) for r in rows],
@@ -166,8 +179,11 @@ def _per_resistor(design: Design) -> None:
 
 
 def _networks(design: Design) -> None:
+    box = _section("Resistor networks: coefficients that track", "networks")
+    if box is None:
+        return
     networks = tolerances_of(design).resistor_networks
-    with st.expander("Resistor networks: coefficients that track"):
+    with box:
         st.caption("Resistors in one package (a network or array): each member's coefficient is the "
                    "network's common one, within ± its tempco, plus its own share, so that no two differ by "
                    "more than the tracking bound.")
