@@ -220,6 +220,8 @@ def _factor_value(f: Factor | None, value: float) -> str:
         return f"{value:g} C"
     if f.unit == "ppm/K":
         return f"{value:+g} ppm/K"
+    if f.unit == "K":  # a thermistor's Beta: kelvin as data sheets write it, without a prefix
+        return f"{value:.6g} K"
     return format_si(value, f.unit, 4)
 
 
