@@ -46,7 +46,7 @@ def main(loop_n: int = 400) -> None:
     print(f"design: {design.name} ({design.stage}, {design.output.kind}), {k} varied factors, "
           f"each build over {low:g} to {high:g} C")
     per_loop = per_build_loop_time(model, loop_n)
-    print(f"per-build loop: {per_loop * 1e6:.0f} us per build (over {loop_n:,} builds)")
+    print(f"per-build loop: {per_loop * 1e6:.0f} µs per build (over {loop_n:,} builds)")
     for n, target, repeats in ((100_000, 0.1, 5), (1_000_000, 1.0, 2)):
         t = best_of(lambda n=n: monte_carlo(plain, samples=n, seed=1), repeats)
         cpu = best_cpu_of(lambda n=n: monte_carlo(plain, samples=n, seed=1), repeats)

@@ -49,6 +49,26 @@ def test_own_hysteresis_widens_an_inverting_stage_too():
     assert float(plain.lower - own.lower) == pytest.approx(0.002, abs=1e-12)
 
 
+def test_the_range_checks_hold_both_states_inside_the_built_in_band():
+    # First principles, with the trip points above: the output stays high until V+ - V- falls below
+    # V_OS - h/2 and low until it rises above V_OS + h/2.  With 10 kOhm in and 10 MOhm feedback the
+    # network adds only 5 mV; h = 1 V puts the points at (2.5 +/- 0.5 V)(1 + 1e-3) (less 5 mV for
+    # the lower one), 1.997 V and 3.003 V, so a signal from 2.2 V to 2.8 V stays inside the band:
+    # at either end the output holds whichever state it was in, and the range checks look at both.
+    from bandcalc.model.points import design_points
+    from bandcalc.model.range_checks import samples
+
+    design = dataclasses.replace(basic(Comparator(hysteresis=1.0)), source=Source(low=2.2, high=2.8),
+                                 resistors=Resistors(input=10e3, feedback=10e6))
+    points = design_points(design)
+    assert float(points.upper) == pytest.approx(3.0 * 1.001, abs=1e-9)
+    assert float(points.lower) == pytest.approx(2.0 * 1.001 - 5.0 * 1e-3, abs=1e-9)
+    states = {}
+    for s in samples(design, points):
+        states.setdefault(s.at, set()).add(s.state)
+    assert states == {2.2: {"high", "low"}, 2.8: {"high", "low"}}
+
+
 def test_offset_current_flows_into_one_pin_more_than_the_other():
     # Offset current I_os is the difference between the two pins' bias currents (data-sheet
     # definition, common practice): I+ = I_b + I_os/2, I- = I_b - I_os/2.  Inverting stage, first
@@ -101,7 +121,7 @@ def test_comparator_fields_read_in_file_units_and_round_trip():
 
 
 @pytest.mark.parametrize("field, value, message", [
-    ("hysteresis", -0.001, "comparator.hysteresis: must be zero or more, got -0.001"),
+    ("hysteresis", -0.001, "comparator.hysteresis: must be from 0 V to 100 kV, got -0.001 V"),
     ("hysteresis", "lots", "comparator.hysteresis: cannot read 'lots'"),
     ("offset_current", float("nan"), "comparator.offset_current: must be a finite number"),
 ])
@@ -159,7 +179,8 @@ def test_linear_sensor_offset_and_span_accuracy_spread_the_watched_points():
 
 
 @pytest.mark.parametrize("front_end, message", [
-    ({**LINEAR, "offset_tolerance": -0.01}, "front_end.offset_tolerance: must be zero or more, got -0.01"),
+    ({**LINEAR, "offset_tolerance": -0.01},
+     "front_end.offset_tolerance: must be from 0 V to 100 kV, got -0.01 V"),
     ({**LINEAR, "span_tolerance": 100}, "front_end.span_tolerance: a percentage from 0 to below 100"),
     ({"kind": "thermistor", "r25": "10k", "beta": 3950, "fixed": "10k", "beta_temperatures": [85, 25]},
      "front_end.beta_temperatures: the first temperature must be below the second, got [85.0, 25.0]"),

@@ -108,3 +108,19 @@ def test_each_front_end_layout_is_drawn_once(demo):
     before = stage_template.cache_info().hits
     stage_svg(with_value(d, "front_end.fixed", 12e3))  # a new value, the same drawing
     assert stage_template.cache_info().hits == before + 1
+
+
+def test_the_load_hangs_from_the_output(demo):
+    from bandcalc.model.design import Design, Load
+
+    sump = demo("sump_level_switch")
+    to_rail = Design(**{**sump.__dict__, "load": Load(resistance=4.7e3, volts=3.3)})
+    found = texts(stage_svg(to_rail))
+    assert "RL 4k7" in found and "3.3 V" in found
+    to_ground = Design(**{**sump.__dict__, "load": Load(resistance=2.2e3)})
+    found = texts(stage_svg(to_ground))
+    assert "RL 2k2" in found and "0 V" in found  # 0 V: the negative rail of the supply pins
+    assert not any(t.startswith("RL") for t in texts(stage_svg(sump)))
+    # Logic thresholds alone draw nothing.
+    thresholds = Design(**{**sump.__dict__, "load": Load(logic_high_min=2.0)})
+    assert texts(stage_svg(thresholds)) == texts(stage_svg(sump))

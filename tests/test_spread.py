@@ -16,6 +16,7 @@ from bandcalc.model.network import switching_points
 from bandcalc.model.parts import parameters
 from bandcalc.model.points import design_points
 from bandcalc.model.tolerances import Limits, PerResistor, ResistorNetwork, Tolerances
+from bandcalc.outputs.strict_json import dumps
 from bandcalc.spread import propagation as spread_module
 from bandcalc.spread.factors import QUANTITIES, Factor, factors
 from bandcalc.spread.propagation import (
@@ -388,6 +389,16 @@ def test_cli_table(capsys, demo_path):
         assert text in out
 
 
+def test_cli_table_writes_kelvin_without_a_prefix(capsys, demo_path):
+    # Beta is in kelvin and reads as data sheets print it, 3950 K (never "3.95 kK"); the offset
+    # drift in µV/K keeps its prefix.
+    assert main(["spread", demo_path("greenhouse_fan_thermostat"), "--samples", "1000"]) == 0
+    out = capsys.readouterr().out
+    assert "front_end.beta 3910 K to 3990 K (1 %)" in out and "kK" not in out
+    assert main(["spread", demo_path(SOLAR), "--samples", "1000"]) == 0
+    assert "comparator.offset_drift -7 µV/K to 7 µV/K" in capsys.readouterr().out
+
+
 def test_cli_bad_samples_and_bad_file(tmp_path, capsys, demo_path):
     with pytest.raises(SystemExit) as exit_:
         main(["spread", demo_path(SUMP), "--samples", "lots"])
@@ -666,8 +677,11 @@ def test_json_is_strict_where_a_figure_does_not_exist(demo):
     broken = dataclasses.replace(s, worst_case=dataclasses.replace(
         s.worst_case,
         upper=dataclasses.replace(s.worst_case.upper, max=nan, max_corner={"temperature": nan})))
-    text = json.dumps(spread_to_dict(broken), allow_nan=False)
-    assert json.loads(text)["worst_case"]["upper"]["max"] is None
+    text = dumps(spread_to_dict(broken))  # as the command line writes it
+    out = json.loads(text)
+    assert out["worst_case"]["upper"]["max"] is None
+    assert out["not_finite"] == {"worst_case.upper.max": "NaN",
+                                 "worst_case.upper.max_corner.temperature": "NaN"}
 
 
 def test_a_spread_that_refuses_says_why_on_the_command_line(tmp_path, capsys, demo_path):
@@ -681,3 +695,23 @@ def test_a_spread_that_refuses_says_why_on_the_command_line(tmp_path, capsys, de
     assert (f"{bad}: tolerances.output.high_drop: [0.1, 0.3] V must include the design's output.high_drop, "
             "0.05 V") in captured.err
     assert json.loads(captured.out)["name"] == "Sump level switch"
+
+
+# --- corners where the stage has no switching point --------------------------------------------
+
+@pytest.mark.parametrize(("bias", "failing"), [(1e-4, 128), (5e-5, 68)])
+def test_corners_without_a_switching_point_are_named_with_the_reason(demo, bias, failing):
+    # The greenhouse thermistor divider runs from the 5 V rail to ground, so it gives the stage 0 V to
+    # 5 V and no more at any temperature (first principles); 100 uA of bias current through its
+    # 5 kOhm asks for more at some corners, and no temperature switches the stage there.
+    design = with_tolerances(demo("greenhouse_fan_thermostat"), Tolerances(bias_current=bias))
+    s = spread(design, samples=1_000)
+    assert math.isnan(s.worst_case.upper.min) and math.isnan(s.worst_case.upper.max)
+    note = next(n for n in s.notes if "no upper switching point" in n)
+    assert f"{failing} of 128 corners" in note and "comparator.bias_current" in note
+    assert "beyond the 0 V to 5 V the front end gives" in note
+    # The corner the note names has no point in the model either.
+    corner = s.worst_case.upper.min_corner
+    assert math.isnan(float(design_points(design, corner).upper))
+    if failing < 128:
+        assert "over the other corners it runs from" in note

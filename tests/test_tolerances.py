@@ -84,13 +84,13 @@ def test_files_without_the_section_still_load_and_round_trip():
     ({"resistors": 60}, "tolerances.resistors: must be from 0 to 50 percent, got 60.0"),
     ({"resistors": {"default": 1, "input": -1}}, "tolerances.resistors.input: must be from 0 to 50 percent"),
     ({"supply": "5%"}, "tolerances.supply: cannot read '5%'"),
-    ({"offset": -0.001}, "tolerances.offset: must be 0 or more V, got -0.001"),
+    ({"offset": -0.001}, "tolerances.offset: must be from 0 to 100000 V, got -0.001"),
     ({"bias_current": "10nV"}, "tolerances.bias_current: cannot read '10nV'"),
     ({"distribution": "triangular"}, "tolerances.distribution: 'triangular' is not a distribution; "
                                      "allowed: normal, screened, uniform"),
     ({"temperature": [70, -20]}, "tolerances.temperature: the lowest temperature must be below the highest"),
     ({"temperature": 25}, "tolerances.temperature: give [lowest, highest] in degrees Celsius"),
-    ({"temperature": [-300, 25]}, "tolerances.temperature: must be -273.15 or more"),
+    ({"temperature": [-300, 25]}, "tolerances.temperature: must be from -273.15 to 500 degrees C"),
     ({"limits": {"upper": [3.3, 3.0]}}, "tolerances.limits.upper: the lowest value (3.3 V) must be below"),
     ({"limits": {"width": [1, 2]}}, "tolerances.limits.width: unknown key; allowed: upper, lower"),
     ({"limits": {"upper": [None, None]}}, "tolerances.limits.upper: give [lowest, highest] in volts"),
@@ -119,11 +119,12 @@ def test_files_without_the_section_still_load_and_round_trip():
      "tolerances.resistor_networks: must be an object of networks by name"),
     ({"output": {"high_drop": [0.2, 0.1]}}, "tolerances.output.high_drop: the least value (0.2) must not be "
                                               "above the greatest (0.1)"),
-    ({"output": {"resistance": [-1, 10]}}, "tolerances.output.resistance: must be 0 or more ohm, got -1.0"),
+    ({"output": {"resistance": [-1, 10]}},
+     "tolerances.output.resistance: must be from 0 to 1e+12 ohm, got -1.0"),
     ({"output": {"swing": [0, 1]}}, "tolerances.output.swing: unknown key; allowed: high_drop, low_drop"),
     ({"output": {"low_drop": 0.1}}, "tolerances.output.low_drop: give [least, greatest] in volts"),
     ({"comparator_hysteresis": [0.006, None]}, "tolerances.comparator_hysteresis: give both ends in volts"),
-    ({"offset_current": -1e-9}, "tolerances.offset_current: must be 0 or more A, got -1e-09"),
+    ({"offset_current": -1e-9}, "tolerances.offset_current: must be from 0 to 1 A, got -1e-09"),
     ([1, 2], "tolerances: must be an object with keys distribution"),
 ])
 def test_bad_input_names_the_key(section, message):
@@ -165,3 +166,36 @@ def test_series_tolerance_agrees_with_the_eseries_package(ohms):
             break
     else:
         pytest.fail(f"{ohms} ohm is in no series from E24 up")
+
+
+# --- tolerances that would take a part where none goes --------------------------------------------
+
+@pytest.mark.parametrize("section, message", [
+    # No electronic part works at 1e300 C; beyond about 500 C nothing of a circuit board survives
+    # (common practice: high-temperature parts are rated to about 200 to 225 C).
+    ({"temperature": [0, 1e300]}, r"tolerances\.temperature: must be from -273\.15 to 500 degrees C"),
+    # resistor_tempco is a bound on each resistor's own coefficient (+/-), so never below zero; a
+    # tempco of -10,000 ppm/K would take a resistor to 1 - 0.01 x (125 - 25) = 0 at 125 C.
+    ({"temperature": [-40, 125], "resistor_tempco": -10000},
+     r"tolerances\.resistor_tempco: must be from 0 to 5000 ppm/K, got -10000"),
+    ({"temperature": [-40, 125], "resistor_tempco": {"default": 50, "feedback": 20000}},
+     r"tolerances\.resistor_tempco\.feedback: must be from 0 to 5000 ppm/K"),
+    # 5000 ppm/K x 225 K (from 25 C down to -200 C) = 112.5 %: the resistor would go to -12.5 %.
+    ({"temperature": [-200, 125], "resistor_tempco": {"default": 50, "feedback": 5000}},
+     r"tolerances\.resistor_tempco\.feedback: 5000 ppm/K over -200 to 125 C moves a resistor by up to 112 %"),
+    ({"temperature": [-40, 400], "reference_drift": 9000},
+     r"tolerances\.reference_drift: must be from 0 to 5000 ppm/K"),
+    # Box method: 1000 ppm/K x 440 K = 44 % either way of the reference.
+    ({"temperature": [-40, 400], "reference_drift": 1000},
+     r"tolerances\.reference_drift: 1000 ppm/K over -40 to 400 C moves the reference by up to 44 %"),
+    ({"bias_current": 1e3}, r"tolerances\.bias_current: must be from 0 to 1 A"),
+    ({"offset": 1e300}, r"tolerances\.offset: must be from 0 to 100000 V"),
+    ({"offset_drift": 1e300}, r"tolerances\.offset_drift: must be from 0 to 1 V/K"),
+    ({"reference": None, "supply": 2}, None),  # null leaves a value out, as elsewhere in the file
+])
+def test_tolerances_no_part_follows_are_refused_naming_the_key(section, message):
+    if message is None:
+        assert design_from_dict(with_tolerances(section)).tolerances.reference == 0.0
+        return
+    with pytest.raises(DesignError, match=message):
+        design_from_dict(with_tolerances(section))

@@ -22,12 +22,14 @@ from typing import Any
 from bandcalc.errors import BandcalcError
 from bandcalc.model.parts import TOLERANCED
 from bandcalc.model.units import UnitError, parse_quantity
+from bandcalc.model.validation import AMPS, CELSIUS, OHMS, VOLTS
 
 __all__ = [
     "DISTRIBUTIONS",
     "MAX_MOVE",
+    "MAX_OFFSET_DRIFT",
     "MAX_PERCENT",
-    "MAX_TEMPCO",
+    "MAX_PPM_PER_K",
     "NOMINAL_CELSIUS",
     "OUTPUT_LIMITS",
     "Limits",
@@ -47,14 +49,19 @@ DISTRIBUTIONS = ("normal", "screened", "uniform")
 NOMINAL_CELSIUS = 25.0
 #: Largest percent tolerance taken; beyond it a normal draw at 3 sigma could make a part negative.
 MAX_PERCENT = 50.0
-#: Largest temperature coefficient taken, ppm/K (carbon-film resistors reach about -1500 ppm/K,
-#: from memory; anything beyond this is a sensor, not a resistor).
-MAX_TEMPCO = 5000.0
+#: Largest temperature coefficient taken, ppm/K: a bound on a resistor's own coefficient, a
+#: network's common one and its tracking, and a fixed reference's drift.  Film and wirewound
+#: resistors stay within some hundreds, carbon-film ones reach about -1500 ppm/K (from memory) and
+#: a fixed reference stays within some tens (common practice); anything beyond this is a sensor or
+#: a slip of the finger.  A thermistor is a front end, not a resistor with a tempco.
+MAX_PPM_PER_K = 5000.0
+#: Largest offset drift taken, volts per kelvin: comparators drift some microvolts per kelvin
+#: (common practice).
+MAX_OFFSET_DRIFT = 1.0
 #: Largest move over the temperature range the linear laws are taken for: a resistor's
 #: tempco x (T - 25 C) and a reference's drift x (high - low) (our bound: beyond it a linear
-#: coefficient no longer describes the part).
+#: coefficient no longer describes the part, and well before it could take a part to zero).
 MAX_MOVE = 0.25
-_ABSOLUTE_ZERO_CELSIUS = -273.15
 
 
 class ToleranceError(BandcalcError):
@@ -95,11 +102,14 @@ class PerResistor:
         """The value for resistor ``name`` (e.g. "feedback", "reference.top"), else the default."""
         return dict(self.parts).get(name, self.default)
 
+    def named(self, where: str) -> list[tuple[str, float]]:
+        """Each value given with the key it sits at in the file ("tolerances.resistors.feedback")."""
+        out = [] if self.default is None else [(f"{where}.default" if self.parts else where, self.default)]
+        return out + [(f"{where}.{name}", value) for name, value in self.parts]
+
     def check(self, where: str, low: float | None, high: float | None, unit: str) -> None:
-        if self.default is not None:
-            _check(self.default, f"{where}.default" if self.parts else where, low, high, unit)
-        for name, value in self.parts:
-            _check(value, f"{where}.{name}", low, high, unit)
+        for key, value in self.named(where):
+            _check(value, key, low, high, unit)
 
 
 @dataclass(frozen=True)
@@ -161,13 +171,15 @@ class ResistorNetwork:
         if len(set(self.resistors)) != len(self.resistors):
             raise ToleranceError(f"{where}.resistors: each resistor once")
         for key in ("tempco", "tracking"):
-            _check(getattr(self, key), f"{where}.{key}", 0.0, MAX_TEMPCO, "ppm/K")
+            _check(getattr(self, key), f"{where}.{key}", 0.0, MAX_PPM_PER_K, "ppm/K")
             object.__setattr__(self, key, float(getattr(self, key)))
 
 
-#: Output limits a tolerances section may give, with their unit and least allowed value.
-OUTPUT_LIMITS = {"high_drop": ("V", 0.0), "low_drop": ("V", 0.0), "resistance": ("ohm", 0.0),
-                 "low_volts": ("V", None), "pullup_volts": ("V", None)}
+#: Output limits a tolerances section may give, with their unit and least and greatest allowed
+#: value (the bounds of the design's own values, :mod:`bandcalc.model.validation`).
+OUTPUT_LIMITS = {"high_drop": ("V", 0.0, VOLTS), "low_drop": ("V", 0.0, VOLTS),
+                 "resistance": ("ohm", 0.0, OHMS[1]),
+                 "low_volts": ("V", -VOLTS, VOLTS), "pullup_volts": ("V", -VOLTS, VOLTS)}
 
 
 @dataclass(frozen=True)
@@ -186,22 +198,24 @@ class OutputLimits:
     pullup_volts: tuple[float, float] | None = None
 
     def __post_init__(self) -> None:
-        for key, (unit, least) in OUTPUT_LIMITS.items():
+        for key, (unit, least, greatest) in OUTPUT_LIMITS.items():
             pair = getattr(self, key)
             if pair is not None:
-                object.__setattr__(self, key, _limit_pair(pair, f"tolerances.output.{key}", unit, least))
+                object.__setattr__(self, key, _limit_pair(pair, f"tolerances.output.{key}", unit, least,
+                                                          greatest))
 
     def given(self) -> dict[str, tuple[float, float]]:
         """The limits given, by key."""
         return {k: getattr(self, k) for k in OUTPUT_LIMITS if getattr(self, k) is not None}
 
 
-def _limit_pair(pair: Sequence[float], where: str, unit: str, least: float | None) -> tuple[float, float]:
-    """A (least, greatest) pair of finite numbers, least not above greatest."""
+def _limit_pair(pair: Sequence[float], where: str, unit: str, least: float,
+                greatest: float) -> tuple[float, float]:
+    """A (least, greatest) pair of numbers from ``least`` to ``greatest``, the first not above the second."""
     if len(pair) != 2:
         raise ToleranceError(f"{where}: give [least, greatest] in {unit}")
     for v in pair:
-        _check(v, where, least, None, unit)
+        _check(v, where, least, greatest, unit)
     if pair[0] > pair[1]:
         raise ToleranceError(f"{where}: the least value ({pair[0]:g}) must not be above the greatest "
                              f"({pair[1]:g})")
@@ -270,25 +284,27 @@ class Tolerances:
 
     def __post_init__(self) -> None:
         self.resistors.check("tolerances.resistors", 0.0, MAX_PERCENT, "percent")
-        self.resistor_tempco.check("tolerances.resistor_tempco", 0.0, MAX_TEMPCO, "ppm/K")
+        self.resistor_tempco.check("tolerances.resistor_tempco", 0.0, MAX_PPM_PER_K, "ppm/K")
         for key in ("reference", "supply"):
             _check(getattr(self, key), f"tolerances.{key}", 0.0, MAX_PERCENT, "percent")
-        for key, unit in (("offset", "V"), ("bias_current", "A"), ("offset_current", "A"),
-                          ("reference_drift", "ppm/K"), ("offset_drift", "V/K")):
-            _check(getattr(self, key), f"tolerances.{key}", 0.0, None, unit)
+        for key, unit, high in (("offset", "V", VOLTS), ("bias_current", "A", AMPS),
+                                ("offset_current", "A", AMPS),
+                                ("reference_drift", "ppm/K", MAX_PPM_PER_K),
+                                ("offset_drift", "V/K", MAX_OFFSET_DRIFT)):
+            _check(getattr(self, key), f"tolerances.{key}", 0.0, high, unit)
         if self.distribution not in DISTRIBUTIONS:
             raise ToleranceError(f"tolerances.distribution: {self.distribution!r} is not a distribution; "
                                  f"allowed: {', '.join(DISTRIBUTIONS)}")
         if self.comparator_hysteresis is not None:
             object.__setattr__(self, "comparator_hysteresis", _limit_pair(
-                self.comparator_hysteresis, "tolerances.comparator_hysteresis", "volts", 0.0))
+                self.comparator_hysteresis, "tolerances.comparator_hysteresis", "volts", 0.0, VOLTS))
         self._check_networks()
         if self.temperature is not None:
             where = "tolerances.temperature"
             if len(self.temperature) != 2:
                 raise ToleranceError(f"{where}: give [lowest, highest] in degrees Celsius")
             for v in self.temperature:
-                _check(v, where, _ABSOLUTE_ZERO_CELSIUS)
+                _check(v, where, *CELSIUS, "degrees C")
             if self.temperature[0] >= self.temperature[1]:
                 raise ToleranceError(f"{where}: the lowest temperature must be below the highest")
             object.__setattr__(self, "temperature", tuple(float(v) for v in self.temperature))
@@ -313,23 +329,29 @@ class Tolerances:
         return next((n for n in self.resistor_networks if name in n.resistors), None)
 
     def _check_moves(self) -> None:
-        """Refuse coefficients the linear laws cannot carry over this range (:data:`MAX_MOVE`)."""
+        """Refuse coefficients the linear laws cannot carry over this range (:data:`MAX_MOVE`).
+
+        Over the range a resistor is R25 (1 + alpha (T - 25 C)) with |alpha| at most its bound, and a
+        fixed reference stays within V25 (1 +/- drift (high - low)) (:mod:`bandcalc.spread.factors`);
+        a move of at most :data:`MAX_MOVE` also keeps every part well away from zero, as a tolerance
+        of at most :data:`MAX_PERCENT` does at 25 C.
+        """
         low, high = self.temperature  # type: ignore[misc]
         span, reach = f"{low:g} to {high:g} C", max(abs(low - NOMINAL_CELSIUS), abs(high - NOMINAL_CELSIUS))
-        bounds = [(f"tolerances.resistor_tempco{'.' + k if k else ''}", v)
-                  for k, v in (("", self.resistor_tempco.default), *self.resistor_tempco.parts) if v]
+        bounds = [(key, v) for key, v in self.resistor_tempco.named("tolerances.resistor_tempco") if v]
         bounds += [(f"tolerances.resistor_networks.{n.name}", n.tempco + 0.5 * n.tracking)
                    for n in self.resistor_networks]
         for where, ppm in bounds:
             if ppm * 1e-6 * reach > MAX_MOVE:
                 raise ToleranceError(f"{where}: {ppm:g} ppm/K over {span} moves a resistor by up to "
                                      f"{100 * ppm * 1e-6 * reach:.3g} %, beyond the {100 * MAX_MOVE:g} % a "
-                                     "linear coefficient describes")
+                                     "linear coefficient describes; check that the unit is ppm/K")
         box = self.reference_drift * 1e-6 * (high - low)
         if box > MAX_MOVE:
             raise ToleranceError(f"tolerances.reference_drift: {self.reference_drift:g} ppm/K over {span} "
                                  f"moves the reference by up to {100 * box:.3g} %, beyond the "
-                                 f"{100 * MAX_MOVE:g} % a drift coefficient describes")
+                                 f"{100 * MAX_MOVE:g} % a drift coefficient describes; check that the unit "
+                                 "is ppm/K")
 
 
 # --- JSON ------------------------------------------------------------------------------------
@@ -354,8 +376,9 @@ def _per_resistor(data: Any, where: str, names: Sequence[str]) -> PerResistor:
     if not isinstance(data, dict):
         return PerResistor(default=_number(data, where))
     data = _object(data, where, ("default", *names))
-    parts = tuple((k, _number(v, f"{where}.{k}")) for k, v in data.items() if k != "default")
-    default = _number(data["default"], f"{where}.default") if "default" in data else None
+    parts = tuple((k, _number(v, f"{where}.{k}")) for k, v in data.items()
+                  if k != "default" and v is not None)
+    default = _number(data["default"], f"{where}.default") if data.get("default") is not None else None
     return PerResistor(default=default, parts=parts)
 
 
@@ -384,7 +407,7 @@ def _networks(data: Any, where: str, names: Sequence[str]) -> tuple[ResistorNetw
         for m in members:
             if m not in names:
                 raise ToleranceError(f"{at}.resistors: {m!r} is not a resistor; allowed: {', '.join(names)}")
-        values = {k: _number(body[k], f"{at}.{k}") for k in ("tempco", "tracking") if k in body}
+        values = {k: _number(body[k], f"{at}.{k}") for k in ("tempco", "tracking") if body.get(k) is not None}
         out.append(ResistorNetwork(name, tuple(members), **values))
     return tuple(out)
 
@@ -393,6 +416,8 @@ def _output(data: Any, where: str) -> OutputLimits:
     data = _object(data, where, tuple(OUTPUT_LIMITS))
     out = {}
     for key, raw in data.items():
+        if raw is None:  # left out, as elsewhere in the design file
+            continue
         volts = OUTPUT_LIMITS[key][0] == "V"
         if not isinstance(raw, (list, tuple)) or len(raw) != 2:
             raise ToleranceError(f"{where}.{key}: give [least, greatest] in {'volts' if volts else 'ohm'}")
@@ -410,6 +435,8 @@ def tolerances_from_dict(data: Any, resistor_keys: Sequence[str]) -> Tolerances:
     kwargs: dict[str, Any] = {}
     for key, raw in data.items():
         where = f"tolerances.{key}"
+        if raw is None:  # left out, as elsewhere in the design file
+            continue
         if key in ("resistors", "resistor_tempco"):
             kwargs[key] = _per_resistor(raw, where, names)
         elif key == "resistor_networks":

@@ -8,6 +8,7 @@ each output edge comes.
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass
 
 import numpy as np
@@ -105,10 +106,15 @@ def _shape(shape: str, phase: np.ndarray, t: np.ndarray, duration: float) -> np.
     return 2.0 * t / duration - 1.0
 
 
+_SETTINGS = ("shape", "offset", "amplitude", "frequency", "duration", "sample_rate", "noise_rms",
+             "hum_amplitude", "hum_frequency", "seed")
+
+
 def synthesize(shape: str, offset: float, amplitude: float, frequency: float,
                duration: float, sample_rate: float, noise_rms: float = 0.0,
                hum_amplitude: float = 0.0, hum_frequency: float = 50.0,
-               seed: int | None = None) -> Waveform:
+               seed: int | None = None, *, names: Mapping[str, str] | None = None,
+               unit: str = "V") -> Waveform:
     """Build a synthetic input: a shape plus Gaussian noise and mains hum.
 
     Parameters
@@ -140,32 +146,38 @@ def synthesize(shape: str, offset: float, amplitude: float, frequency: float,
         Mains frequency of the hum, in Hz.
     seed : int or None
         Passed to ``numpy.random.default_rng``; a fixed value repeats the noise.
+    names : mapping, optional
+        What the caller's user calls a setting, by parameter name, for the messages (the command
+        line passes ``{"sample_rate": "--rate", ...}``); the parameter names by default.
+    unit : str
+        The signal's unit in the messages: "V", or a front end's watched unit ("C").
 
     Returns
     -------
     Waveform
         ``v`` with noise and hum, ``clean`` without them.
     """
-    choice("shape", shape, SHAPES)
-    offset = real("offset", offset, unit="V")
-    amplitude = real("amplitude", amplitude, low=0.0, unit="V")
-    frequency = real("frequency", frequency, low=0.0, low_open=True, unit="Hz")
-    duration = real("duration", duration, low=0.0, low_open=True, unit="s")
-    sample_rate = real("sample_rate", sample_rate, low=0.0, low_open=True, unit="Hz")
-    noise_rms = real("noise_rms", noise_rms, low=0.0, unit="V")
-    hum_amplitude = real("hum_amplitude", hum_amplitude, low=0.0, unit="V")
-    hum_frequency = float(choice("hum_frequency", hum_frequency, HUM_FREQUENCIES))
+    named = {key: key for key in _SETTINGS} | dict(names or {})
+    choice(named["shape"], shape, SHAPES)
+    offset = real(named["offset"], offset, unit=unit)
+    amplitude = real(named["amplitude"], amplitude, low=0.0, unit=unit)
+    frequency = real(named["frequency"], frequency, low=0.0, low_open=True, unit="Hz")
+    duration = real(named["duration"], duration, low=0.0, low_open=True, unit="s")
+    sample_rate = real(named["sample_rate"], sample_rate, low=0.0, low_open=True, unit="Hz")
+    noise_rms = real(named["noise_rms"], noise_rms, low=0.0, unit=unit)
+    hum_amplitude = real(named["hum_amplitude"], hum_amplitude, low=0.0, unit=unit)
+    hum_frequency = float(choice(named["hum_frequency"], hum_frequency, HUM_FREQUENCIES))
     if seed is not None:
-        seed = whole("seed", seed)
+        seed = whole(named["seed"], seed)
     nyquist = sample_rate / 2.0
     if shape != "ramp" and frequency >= nyquist:
         raise BandcalcError(
-            f"frequency must be below sample_rate / 2 = {nyquist:g} Hz (Nyquist), "
+            f"{named['frequency']} must be below {named['sample_rate']} / 2 = {nyquist:g} Hz (Nyquist), "
             f"got {frequency:g} Hz"
         )
     if hum_amplitude > 0.0 and hum_frequency >= nyquist:
         raise BandcalcError(
-            f"hum_frequency {hum_frequency:g} Hz needs sample_rate above "
+            f"{named['hum_frequency']} {hum_frequency:g} Hz needs {named['sample_rate']} above "
             f"{2 * hum_frequency:g} Hz, got {sample_rate:g} Hz"
         )
     # The small relative margin keeps t = duration when duration * rate is whole.
@@ -176,12 +188,12 @@ def synthesize(shape: str, offset: float, amplitude: float, frequency: float,
         n = int(np.floor(product * (1.0 + 1e-12))) + 1
     if n > MAX_SAMPLES:
         raise BandcalcError(
-            f"duration x sample_rate gives more than {MAX_SAMPLES:,} samples; "
+            f"{named['duration']} x {named['sample_rate']} gives more than {MAX_SAMPLES:,} samples; "
             "shorten the duration or lower the sample rate"
         )
     if n < 2:
         raise BandcalcError(
-            f"duration x sample_rate gives {n} sample; at least 2 are needed "
+            f"{named['duration']} x {named['sample_rate']} gives {n} sample; at least 2 are needed "
             "(lengthen the duration or raise the sample rate)"
         )
 

@@ -35,7 +35,7 @@ from bandcalc.model.front_end import front_end_of, front_end_tolerances
 from bandcalc.model.parts import parameters, part, resistors_of, tolerance_of
 from bandcalc.model.points import design_points
 from bandcalc.model.tolerances import NOMINAL_CELSIUS, Tolerances
-from bandcalc.model.units import format_si
+from bandcalc.model.units import format_si, format_value
 from bandcalc.spread.draws import Stream
 
 __all__ = ["QUANTITIES", "Factor", "SpreadError", "VariedModel", "factors"]
@@ -91,6 +91,12 @@ class Factor:
     def at(self, z: float | np.ndarray) -> float | np.ndarray:
         """The factor's value for unit variable ``z`` (-1: low, 0: centre, +1: high)."""
         return self.centre + 0.5 * (self.high - self.low) * z
+
+    def format(self, value: float) -> str:
+        """A value of this factor for people: "+100 ppm/K", "4.7 kOhm", "3950 K"."""
+        if self.unit == "ppm/K":
+            return f"{value:+g} ppm/K"
+        return format_value(value, self.unit, 4)  # kelvin (Beta) plain, volts and amperes prefixed
 
     def draw(self, rng: np.random.Generator, n: int, out: np.ndarray | None = None) -> np.ndarray:
         """``n`` random values as Monte Carlo draws them (``out``, shape ``(n,)``, is filled if given)."""

@@ -16,19 +16,20 @@ every build taken over the whole temperature range (:mod:`bandcalc.spread.over_r
 from __future__ import annotations
 
 import math
-from collections.abc import Callable
-from dataclasses import dataclass, replace
+from collections.abc import Callable, Mapping, Sequence
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 
 from bandcalc.model.design import Design
+from bandcalc.model.front_end import front_end_of
 from bandcalc.model.operating import analyze
-from bandcalc.model.points import input_range
+from bandcalc.model.points import design_points, input_range
 from bandcalc.model.tolerances import Tolerances
-from bandcalc.model.units import format_probability, format_value
+from bandcalc.model.units import format_probability, format_si, format_value
 from bandcalc.spread.draws import Stream
 from bandcalc.spread.factors import QUANTITIES, Factor, SpreadError, VariedModel
-from bandcalc.spread.over_range import RangeExtremes, over_range
+from bandcalc.spread.over_range import DENSE, RangeExtremes, over_range
 from bandcalc.spread.rare_failures import (
     FailureProbability,
     failed_builds,
@@ -46,6 +47,7 @@ __all__ = [
     "PERCENTILES",
     "Extreme",
     "FailurePlace",
+    "Missing",
     "MonteCarlo",
     "Sensitivity",
     "Share",
@@ -54,6 +56,7 @@ __all__ = [
     "Summary",
     "WorstCase",
     "Yield",
+    "corner_words",
     "failure_places",
     "monte_carlo",
     "sensitivity",
@@ -100,8 +103,28 @@ class Extreme:
 
 
 @dataclass(frozen=True)
+class Missing:
+    """Corners of the tolerance box where the stage has no such switching point.
+
+    ``count`` of ``corners`` looked at (both None where the corner was searched, not counted);
+    ``corner`` is one of them (factor name to value); ``others`` the least and greatest value
+    over the corners that do have the point (None if none has).
+    """
+
+    count: int | None
+    corners: int | None
+    corner: dict[str, float]
+    others: tuple[float, float] | None
+
+
+@dataclass(frozen=True)
 class WorstCase:
-    """Extremes of the upper point, the lower point and the hysteresis over the box and the range."""
+    """Extremes of the upper point, the lower point and the hysteresis over the box and the range.
+
+    Where some corner has no switching point somewhere in the range (no value of the input switches
+    the stage there), that quantity's extremes are NaN, at that corner, and ``missing`` says where
+    and how many.
+    """
 
     nominal: dict[str, float]
     upper: Extreme
@@ -109,30 +132,49 @@ class WorstCase:
     hysteresis: Extreme
     method: str
     evaluated: int
+    missing: dict[str, Missing] = field(default_factory=dict)
 
 
 def _corner_values(model: VariedModel, z: np.ndarray) -> RangeExtremes:
     return over_range(model, model.unit_values(z), z.shape[0])
 
 
-def _exhaustive(model: VariedModel) -> tuple[dict[str, tuple[np.ndarray, np.ndarray]], int]:
-    """Every corner, in blocks: for each quantity, the unit vectors of its least and greatest corner."""
+def _exhaustive(model: VariedModel) -> tuple[dict[str, tuple[np.ndarray, np.ndarray]], int,
+                                             dict[str, Missing]]:
+    """Every corner, in blocks: for each quantity, the unit vectors of its least and greatest corner
+    (of a corner without the point, if there is one), and the corners without a point."""
     k = len(model.factors)
     total = 2**k
     best: dict[str, list] = {q: [math.inf, None, -math.inf, None] for q in QUANTITIES}
+    lacking: dict[str, list] = {q: [0, None] for q in QUANTITIES}
     for start in range(0, total, CHUNK):
         codes = np.arange(start, min(start + CHUNK, total), dtype=np.int64)
         z = ((codes[:, None] >> np.arange(k)) & 1) * 2.0 - 1.0
         r = _corner_values(model, z)
-        for q in QUANTITIES:  # a corner where a point does not exist (NaN) is left to the notes
-            least = np.where(r.invalid, np.inf, r.lowest[q])
-            greatest = np.where(r.invalid, -np.inf, r.highest[q])
-            lo, hi = int(np.argmin(least)), int(np.argmax(greatest))
-            if least[lo] < best[q][0] or best[q][1] is None:
+        for q in QUANTITIES:
+            least, greatest = r.lowest[q], r.highest[q]
+            bad = ~(np.isfinite(least) & np.isfinite(greatest))  # no point somewhere in the range
+            if bad.any():
+                lacking[q][0] += int(np.count_nonzero(bad))
+                if lacking[q][1] is None:
+                    lacking[q][1] = z[int(np.argmax(bad))]
+                if bad.all():
+                    continue
+            lo = int(np.argmin(np.where(bad, np.inf, least)))
+            hi = int(np.argmax(np.where(bad, -np.inf, greatest)))
+            if least[lo] < best[q][0]:
                 best[q][:2] = least[lo], z[lo]
-            if greatest[hi] > best[q][2] or best[q][3] is None:
+            if greatest[hi] > best[q][2]:
                 best[q][2:] = greatest[hi], z[hi]
-    return {q: (b[1], b[3]) for q, b in best.items()}, total
+    corners, missing = {}, {}
+    for q, (count, z_missing) in lacking.items():
+        if count:
+            others = None if best[q][1] is None else (float(best[q][0]), float(best[q][2]))
+            missing[q] = Missing(count, total, _lacking_corner(model, z_missing, q), others)
+            corners[q] = (z_missing, z_missing)
+        else:
+            corners[q] = (best[q][1], best[q][3])
+    return corners, total, missing
 
 
 def _searched(model: VariedModel, quantity: str, sign: float, slope: np.ndarray) -> tuple[np.ndarray, int]:
@@ -175,10 +217,30 @@ def _corner(model: VariedModel, z: np.ndarray, r: RangeExtremes, i: int, q: str,
     return corner
 
 
+def _lacking_corner(model: VariedModel, z: np.ndarray, q: str) -> dict[str, float]:
+    """The corner ``z`` where quantity ``q`` has no point somewhere in the range, with a temperature
+    (C) and reference edge where it has none, looked for on :data:`~bandcalc.spread.over_range.DENSE`
+    temperatures of the range (signed as in :class:`Extreme`)."""
+    corner = model.corner(z)
+    if not (model.moves or model.box):
+        return corner
+    celsius = np.linspace(*model.temperature, DENSE) if model.moves else np.array([model.middle])
+    edges = np.array([-1.0, 1.0]) if model.box else np.array([0.0])
+    values = model.points({k: np.asarray(v) for k, v in corner.items()}, celsius[:, None], edges[None, :])
+    bad = ~np.isfinite(np.broadcast_to(values[q], (celsius.size, edges.size)))
+    if bad.any():
+        i, j = np.unravel_index(int(np.argmax(bad)), bad.shape)
+        if model.moves:
+            corner["temperature"] = float(celsius[i])
+        if model.box:
+            corner["reference.drift"] *= float(edges[j])
+    return corner
+
+
 def _worst_case(model: VariedModel, exhaustive_limit: int) -> WorstCase:
     nominal = {q: float(v) for q, v in model.points({}).items()}  # every part at nominal, at 25 C
     if len(model.factors) <= exhaustive_limit:
-        corners, evaluated = _exhaustive(model)
+        corners, evaluated, missing = _exhaustive(model)
         method = "every corner of the box"
     else:
         slopes, corners, evaluated = model.gradient(), {}, 2 * len(model.factors)
@@ -188,16 +250,23 @@ def _worst_case(model: VariedModel, exhaustive_limit: int) -> WorstCase:
             corners[q] = (lo, hi)
             evaluated += n_lo + n_hi
         method = "corner from the signs of the partial derivatives, refined by single flips"
+        missing = {}
     if model.moves or model.box:
         method += ", each over the temperature range"
     extremes = {}
     for q, (lo, hi) in corners.items():
-        both = np.stack([lo, hi])
-        r = _corner_values(model, both)
-        extremes[q] = Extreme(min=float(r.lowest[q][0]), max=float(r.highest[q][1]),
-                              min_corner=_corner(model, lo, r, 0, q, True),
-                              max_corner=_corner(model, hi, r, 1, q, False))
-    return WorstCase(nominal=nominal, method=method, evaluated=evaluated, **extremes)
+        if q not in missing:
+            r = _corner_values(model, np.stack([lo, hi]))
+            least, greatest = float(r.lowest[q][0]), float(r.highest[q][1])
+            if math.isfinite(least) and math.isfinite(greatest):
+                extremes[q] = Extreme(min=least, max=greatest, min_corner=_corner(model, lo, r, 0, q, True),
+                                      max_corner=_corner(model, hi, r, 1, q, False))
+                continue
+            z = lo if not math.isfinite(least) else hi  # a searched corner without the point
+            missing[q] = Missing(None, None, _lacking_corner(model, z, q), None)
+        corner = missing[q].corner  # no worst case: it is where the point does not exist
+        extremes[q] = Extreme(min=math.nan, max=math.nan, min_corner=dict(corner), max_corner=dict(corner))
+    return WorstCase(nominal=nominal, method=method, evaluated=evaluated, missing=missing, **extremes)
 
 
 def worst_case(design: Design, tolerances: Tolerances | None = None, *,
@@ -376,7 +445,8 @@ def _can_fail(model: VariedModel, wc: WorstCase, windows: dict[str, tuple[float,
     """False where every factor is bounded and the worst case keeps every window."""
     if any(f.distribution == "normal" for f in model.factors):
         return True
-    return any(getattr(wc, q).min < lo or getattr(wc, q).max > hi for q, (lo, hi) in windows.items())
+    # a worst case that is not a number (a corner without the point) fails too
+    return not all(getattr(wc, q).min >= lo and getattr(wc, q).max <= hi for q, (lo, hi) in windows.items())
 
 
 def _monte_carlo(model: VariedModel, samples: int, seed: int, progress: Callable[[int, int], None] | None,
@@ -578,6 +648,48 @@ def failure_places(s: Spread) -> list[str]:
     return out
 
 
+def corner_words(factors: Sequence[Factor], corner: Mapping[str, float],
+                 name: Callable[[str], str] = str) -> str:
+    """A corner of :class:`Extreme` in words: each factor (``name`` of its path) at its value in its
+    own unit, and the temperature; "" for none."""
+    by_name = {f.name: f for f in factors}
+    return ", ".join(f"{name(k)} {by_name[k].format(x) if k in by_name else f'{x:g} C'}"
+                     for k, x in corner.items())
+
+
+def _missing_notes(model: VariedModel, wc: WorstCase) -> list[str]:
+    """Where a corner of the box has no switching point somewhere in the range: which corner, at
+    what temperature, and why."""
+    design, out = model.design, []
+    v, volts = (lambda x: format_value(x, design.unit, 4)), (lambda x: format_si(x, "V", 4))
+    by_name = {f.name: f for f in model.factors}
+    for q in ("upper", "lower"):
+        m = wc.missing.get(q)
+        if m is None:
+            continue
+        x = {k: np.asarray(value) for k, value in m.corner.items() if k in by_name}
+        at = corner_words(model.factors, m.corner) or "nominal values"
+        celsius = m.corner.get("temperature")
+        how_many = "a corner" if m.count is None else f"{m.count:,} of {m.corners:,} corners"
+        # the drift's sign in the corner stands for the edge of the reference's box
+        values = model.values(x, model.middle if celsius is None else celsius, 1.0)
+        with np.errstate(all="ignore"):
+            pts = design_points(design, values)
+            v0, v1, _, _ = front_end_of(design).ends({**model.nominal, **values})
+        stage = float(pts.stage_upper if (q == "upper") == pts.rises else pts.stage_lower)
+        if math.isfinite(stage):
+            lo, hi = sorted((float(v0), float(v1)))
+            why = (f"the stage would switch at {volts(stage)} at its input, beyond the {volts(lo)} to "
+                   f"{volts(hi)} the front end gives")
+        else:
+            why = "the stage has no switching point there at all: its + and - pins never cross"
+        others = ("" if m.others is None
+                  else f"; over the other corners it runs from {v(m.others[0])} to {v(m.others[1])}")
+        out.append(f"The stage has no {q} switching point at {how_many} of the tolerance box, so its worst "
+                   f"case is not a number: at {at}, {why}. Such a build never switches there{others}.")
+    return out
+
+
 def _findings(design: Design, wc: WorstCase, mc: MonteCarlo) -> list[str]:
     out, v = [], (lambda x: format_value(x, design.unit, 4))
     low, high = input_range(design)
@@ -593,9 +705,6 @@ def _findings(design: Design, wc: WorstCase, mc: MonteCarlo) -> list[str]:
     if mc.invalid:
         out.append(f"{mc.invalid:,} builds give no finite switching point somewhere in the range; they count "
                    "as failed builds.")
-    if any(not math.isfinite(getattr(getattr(wc, q), end)) for q in QUANTITIES for end in ("min", "max")):
-        out.append("At some corner of the box no switching point exists anywhere: the worst case there has "
-                   "no value (null in JSON); every such build fails.")
     y = mc.build_yield
     if y is not None and y.failure is not None:
         out += list(y.failure.notes)
@@ -613,13 +722,8 @@ def spread(design: Design, tolerances: Tolerances | None = None, *, samples: int
     failure = None if mc.build_yield is None else mc.build_yield.failure
     return Spread(design=design, tolerances=model.tolerances, factors=tuple(model.factors),
                   worst_case=wc, monte_carlo=mc, sensitivity=_sensitivity(model),
-                  notes=tuple(model.notes + _findings(design, wc, mc)),
+                  notes=tuple(model.notes + _missing_notes(model, wc) + _findings(design, wc, mc)),
                   cautions=analyze(design).cautions, simplifications=simplifications(model, failure))
-
-
-def _finite(x: float) -> float | None:
-    """A number for JSON: None where it is not finite (JSON has no NaN or infinity)."""
-    return float(x) if math.isfinite(x) else None
 
 
 def _summary_dict(m: Summary) -> dict:
@@ -631,7 +735,8 @@ def _summary_dict(m: Summary) -> dict:
 def _yield_dict(y: Yield) -> dict:
     out = {"fraction": y.fraction, "passed": y.passed, "samples": y.samples, "confidence": 0.95,
            "low": y.low, "high": y.high, "outside": y.outside,
-           "windows": {k: [_finite(v) for v in w] for k, w in y.windows.items()},
+           # an open side of a window is null, as in the design file
+           "windows": {k: [None if math.isinf(v) else v for v in w] for k, w in y.windows.items()},
            "where": [{"quantity": p.quantity, "side": p.side, "limit": p.limit, "builds": p.builds,
                       "temperatures": None if p.temperatures is None else
                       {"edges": p.temperatures[0].tolist(), "counts": p.temperatures[1].tolist(),
@@ -642,23 +747,20 @@ def _yield_dict(y: Yield) -> dict:
         "probability": f.probability, "low": f.low, "high": f.high, "confidence": 0.95, "method": f.method,
         "samples": f.samples, "notes": list(f.notes),
         "points": [{"quantity": p.quantity, "side": p.side, "limit": p.limit, "temperature": p.temperature,
-                    "beta": p.beta, "corner": {k: _finite(v) for k, v in p.corner.items()}}
+                    "beta": p.beta, "corner": dict(p.corner)}
                    for p in f.points]}
     return out
 
 
 def spread_to_dict(s: Spread) -> dict:
-    """Plain JSON-ready numbers (SI units; temperature in degrees Celsius) of a spread; a figure that
-    does not exist (a point no build reaches at some corner) is None, and the notes say why."""
+    """Plain numbers (SI units; temperature in degrees Celsius) of a spread.  A figure that does not
+    exist (a worst case at a corner without the point) stays NaN, as the notes say why;
+    :mod:`bandcalc.outputs.strict_json` makes it null at the edge, listed under "not_finite"."""
     wc, mc, se = s.worst_case, s.monte_carlo, s.sensitivity
 
     def extreme(e: Extreme) -> dict:
-        return {"min": _finite(e.min), "max": _finite(e.max),
-                "min_corner": {k: _finite(v) for k, v in e.min_corner.items()},
-                "max_corner": {k: _finite(v) for k, v in e.max_corner.items()}}
-
-    def finite(values: dict[str, float]) -> dict[str, float | None]:
-        return {k: _finite(v) for k, v in values.items()}
+        return {"min": e.min, "max": e.max, "min_corner": dict(e.min_corner),
+                "max_corner": dict(e.max_corner)}
 
     out_mc: dict = {"samples": mc.samples, "seed": mc.seed, "distribution": s.tolerances.distribution,
                     "invalid": mc.invalid, "middle_temperature": mc.middle,
@@ -672,13 +774,13 @@ def spread_to_dict(s: Spread) -> dict:
         "temperature": None if temperature is None else {"low": temperature[0], "high": temperature[1]},
         "factors": [{"name": f.name, "unit": f.unit, "nominal": f.nominal, "low": f.low, "high": f.high,
                      "distribution": f.distribution, "origin": f.origin} for f in s.factors],
-        "nominal": finite(wc.nominal),
+        "nominal": dict(wc.nominal),
         "worst_case": {"method": wc.method, "evaluated": wc.evaluated,
                        **{q: extreme(getattr(wc, q)) for q in QUANTITIES}},
         "monte_carlo": out_mc,
-        "sensitivity": {"mean": finite(se.mean), "std": finite(se.std),
-                        **{q: [{"factor": sh.factor, "share": _finite(sh.share), "effect": _finite(sh.effect),
-                                "sigma": _finite(sh.sigma)} for sh in getattr(se, q)] for q in QUANTITIES}},
+        "sensitivity": {"mean": dict(se.mean), "std": dict(se.std),
+                        **{q: [{"factor": sh.factor, "share": sh.share, "effect": sh.effect,
+                                "sigma": sh.sigma} for sh in getattr(se, q)] for q in QUANTITIES}},
         "simplifications": list(s.simplifications),
         "notes": list(s.notes),
         "cautions": list(s.cautions),

@@ -190,7 +190,7 @@ def _tradeoff(sweep: Sweep, run: SignalRun, unit: str) -> None:
                    f"signal{why}.")
     else:
         v = lambda x: format_value(x, unit, 3)  # noqa: E731
-        s = lambda x: format_si(x, "s", 3)  # noqa: E731
+        s = lambda x: "not known" if x is None else format_si(x, "s", 3)  # noqa: E731  (no edge: no delay)
         st.caption(f"Narrowest width with one clean edge per crossing: {v(sweep.best_width)}, mean delay "
                    f"{s(sweep.best_mean_delay)}, largest {s(sweep.best_max_delay)}. "
                    f"This design: {v(run.hysteresis)}.")
