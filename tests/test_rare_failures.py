@@ -15,6 +15,7 @@ from bandcalc.model.design import Design, DividerReference, PushPull, Resistors,
 from bandcalc.model.design_file import save_design
 from bandcalc.model.tolerances import Limits, PerResistor, Tolerances
 from bandcalc.spread.propagation import monte_carlo
+from bandcalc.spread.rare_failures import PLAIN_ENOUGH
 
 K = 10e3 / 39e3  # input over feedback
 SUPPLY = 3.0  # percent, the 3-sigma tolerance of the rail
@@ -167,3 +168,33 @@ def test_the_command_gives_the_failure_probability_as_strict_json(tmp_path, caps
     # Nothing moves with temperature here: no temperature of failure to report.
     assert all(p["temperatures"] is None for p in out["monte_carlo"]["yield"]["where"])
     assert np.isfinite(out["worst_case"]["upper"]["max"])
+
+
+def test_builds_without_a_switching_point_count_in_the_failure_probability(demo):
+    # The greenhouse thermistor divider gives the stage 0 V to 5 V and no more (first principles);
+    # a bias current of up to +/-50 uA through it asks for more in part of its range, where the
+    # stage has no switching point, and no window margin leads there.  Only the bias current varies,
+    # uniformly, and the window (any positive hysteresis) holds wherever the points exist, so the
+    # failure probability is the share of the bias current's interval without both points: a
+    # one-dimensional integral, here the midpoint rule on 200,001 points.  Such builds fail: no
+    # bounded corner "cannot fail", and no search "below 1e-299".
+    from bandcalc.model.points import design_points
+
+    d = demo("greenhouse_fan_thermostat")
+    d = dataclasses.replace(d, front_end=dataclasses.replace(d.front_end, r25_tolerance=None,
+                                                             beta_tolerance=None))
+    tol = Tolerances(resistors=PerResistor(0.0), bias_current=5e-5, distribution="uniform",
+                     limits=Limits(hysteresis=(0.0, None)))
+    d = dataclasses.replace(d, tolerances=tol)
+    n = 200_001
+    bias = d.comparator.bias_current + 5e-5 * (2 * (np.arange(n) + 0.5) / n - 1)
+    with np.errstate(all="ignore"):
+        p = design_points(d, {"comparator.bias_current": bias})
+    truth = float(np.mean(~(np.isfinite(p.upper) & np.isfinite(p.lower))))
+    assert 0.1 < truth < 0.3
+    y = monte_carlo(d, samples=1_000, seed=1).build_yield
+    f = y.failure
+    assert 0 < y.samples - y.passed < PLAIN_ENOUGH  # too few for the count alone: the search runs
+    assert f.method.startswith("the Monte Carlo builds' own count")
+    assert f.probability == pytest.approx(1 - y.fraction)
+    assert f.low <= truth <= f.high

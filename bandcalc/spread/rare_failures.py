@@ -327,6 +327,11 @@ def failure_probability(model: VariedModel, windows: dict[str, tuple[float, floa
             distinct.append(i)
     points = tuple(_point(space, u[i], beta[i], i) for i in distinct)
     if means.shape[0] == 0:
+        if failed:  # builds without a switching point: no window margin leads to them
+            return FailureProbability(failed / samples, plain_low, plain_high,
+                                      "the Monte Carlo builds' own count, Wilson score interval (no failure "
+                                      "point found to sample around: the failing builds have no switching "
+                                      "point somewhere in the range)", samples)
         return FailureProbability(0.0, 0.0, 0.0, f"no failure point within {BETA_LIMIT:g} standard "
                                   "deviations of the centre: below 1e-299", 0)
     rng = np.random.default_rng([seed, 1])
