@@ -282,6 +282,62 @@ def test_typed_value_errors_name_the_field():
     assert shown(8.775468e-8, "") == "8.775468e-08" and shown(25.0, "C") == "25 C"
 
 
+def test_data_sheet_limits_and_networks_edit_the_design_section(demo):
+    from bandcalc.errors import BandcalcError
+    from bandcalc.page.tolerance_edit import (
+        limit_end,
+        limit_keys,
+        resistor_rows,
+        with_limit_end,
+        with_network,
+        with_part_tolerance,
+        without_network,
+        without_tolerances,
+    )
+
+    bare = without_tolerances(SUMP)
+    assert limit_keys(SUMP) == ("output.high_drop", "output.low_drop", "output.resistance",
+                                "comparator_hysteresis")
+    assert limit_keys(demo("rain_tank_overflow"))[:2] == ("output.low_volts", "output.pullup_volts")
+    # A blank end takes the design's own value (the sump's high drop is 50 mV); both blank: no limit.
+    d = with_limit_end(bare, "output.high_drop", "high", 0.3)
+    assert d.tolerances.output.high_drop == (0.05, 0.3) and limit_end(d, "output.high_drop", "low") == 0.05
+    assert with_limit_end(with_limit_end(d, "output.high_drop", "low", None), "output.high_drop", "high",
+                          None).tolerances.output.high_drop is None
+    assert with_limit_end(bare, "comparator_hysteresis", "high", 0.006).tolerances.comparator_hysteresis \
+        == (0.0, 0.006)
+    with pytest.raises(BandcalcError, match="tolerances.output.high_drop: the least value"):
+        with_limit_end(d, "output.high_drop", "low", 0.5)
+    # A network takes its members from elsewhere: their own tempco entries and other networks.
+    own = with_part_tolerance(bare, "resistor_tempco", "feedback", 25.0)
+    net = with_network(own, "RN1", ("input", "feedback"), 50.0, 5.0)
+    assert net.tolerances.resistor_networks[0].resistors == ("input", "feedback")
+    assert net.tolerances.resistor_tempco.parts == ()
+    rows = {r["name"]: r for r in resistor_rows(net)}
+    assert rows["input"]["network"] == "RN1" and rows["input"]["tempco"] == 50.0
+    assert without_network(net, "RN1").tolerances.resistor_networks == ()
+    with pytest.raises(BandcalcError, match="tolerances.resistor_networks.RN2.resistors: this design has no "
+                                            "to_ground resistor"):
+        with_network(net, "RN2", ("input", "to_ground"), 50.0, 5.0)
+    with pytest.raises(BandcalcError, match="tolerances.resistor_networks.RN1.resistors: give two or more"):
+        with_network(net, "RN1", ("input",), 50.0, 5.0)
+
+
+def test_a_thermistors_beta_pair_and_model_switch(demo):
+    from bandcalc.page.edit import beta_temperature, with_beta_temperature, with_thermistor_model
+
+    d = demo("greenhouse_fan_thermostat")
+    assert beta_temperature(d, 1) is None  # not given: B25/50 assumed
+    hot = with_beta_temperature(d, 1, 85.0)
+    assert hot.front_end.beta_temperatures == (25.0, 85.0)  # the blank first one takes 25 C
+    assert with_beta_temperature(with_beta_temperature(hot, 1, None), 0, None).front_end.beta_temperatures \
+        is None
+    with pytest.raises(DesignError, match="front_end.beta_temperatures: the first temperature must be below"):
+        with_beta_temperature(hot, 0, 90.0)
+    # Steinhart-Hart coefficients need no pair: switching drops it.
+    assert with_thermistor_model(hot, "steinhart_hart").front_end.beta_temperatures is None
+
+
 def test_load_edits_make_and_drop_the_section():
     d = with_load_value(SUMP, "logic_high_min", 2.0)
     assert d.load == Load(logic_high_min=2.0)

@@ -187,18 +187,23 @@ def _vline(x: float, colour: str, dash: str, name: str) -> dict:
 
 
 def histogram_spec(summary: Summary, title: str, unit: str, *, window: tuple[float, float] | None = None,
-                   nominal: float | None = None, extremes: tuple[float, float] | None = None) -> dict:
+                   nominal: float | None = None, extremes: tuple[float, float] | None = None,
+                   greatest: Summary | None = None) -> dict:
     """A Monte Carlo histogram of one quantity as a Plotly specification.
 
-    Trace "Builds" (bars: bin centres, counts); shapes, in order: the window a build must meet
-    (named "Window", open sides drawn to the edge of the view), the nominal value and the worst
+    Trace "Builds" (bars: bin centres, counts); with ``greatest`` given, ``summary`` holds each build's
+    least value over the temperature range and ``greatest`` its greatest, drawn as two overlaid traces
+    "Least over the range" and "Greatest over the range".  Shapes, in order: the window a build must
+    meet (named "Window", open sides drawn to the edge of the view), the nominal value and the worst
     case's least and greatest value (named "Nominal", "Worst case, least", "Worst case, greatest").
     """
-    edges, counts = np.asarray(summary.edges), np.asarray(summary.counts)
     title, unit = _text(title), _text(unit)
-    centres = 0.5 * (edges[:-1] + edges[1:])
+    shown = [(summary, "Builds", PALETTE["rising"])] if greatest is None else \
+        [(summary, "Least over the range", PALETTE["point"]), (greatest, "Greatest over the range",
+                                                                PALETTE["falling"])]
     marks = [v for v in (nominal, *(extremes or ()), *(window or ())) if v is not None and math.isfinite(v)]
-    lo, hi = min([float(edges[0]), *marks]), max([float(edges[-1]), *marks])
+    lo = min([float(s.edges[0]) for s, _, _ in shown] + marks)
+    hi = max([float(s.edges[-1]) for s, _, _ in shown] + marks)
     pad = 0.06 * (hi - lo) or 1e-9
     view = [lo - pad, hi + pad]
     shapes = []
@@ -211,13 +216,18 @@ def histogram_spec(summary: Summary, title: str, unit: str, *, window: tuple[flo
     if extremes is not None:
         shapes += [_vline(extremes[0], PALETTE["falling"], "dash", "Worst case, least"),
                    _vline(extremes[1], PALETTE["falling"], "dash", "Worst case, greatest")]
-    bars = {"type": "bar", "x": centres, "y": counts, "width": np.diff(edges), "name": "Builds",
-            "marker": {"color": PALETTE["rising"], "line": {"width": 0}},
-            "hovertemplate": f"%{{x:.5g}} {unit}<br>%{{y}} builds<extra></extra>"}
-    layout = {"title": {"text": title}, "height": 300, "bargap": 0, "showlegend": False,
+    bars = []
+    for s, name, colour in shown:
+        edges, counts = np.asarray(s.edges), np.asarray(s.counts)
+        bars.append({"type": "bar", "x": 0.5 * (edges[:-1] + edges[1:]), "y": counts, "width": np.diff(edges),
+                     "name": name, "opacity": 1.0 if greatest is None else 0.6,
+                     "marker": {"color": colour, "line": {"width": 0}},
+                     "hovertemplate": f"%{{x:.5g}} {unit}<br>%{{y}} builds<extra>{name}</extra>"})
+    layout = {"title": {"text": title}, "height": 300, "bargap": 0, "barmode": "overlay",
+              "showlegend": greatest is not None, "legend": {"orientation": "h", "y": -0.3},
               "margin": {"l": 50, "r": 10, "t": 40, "b": 45}, "plot_bgcolor": "white", "shapes": shapes,
               "xaxis": _axis(unit, range=view), "yaxis": _axis("Builds")}
-    return {"data": [bars], "layout": layout}
+    return {"data": bars, "layout": layout}
 
 
 def sensitivity_spec(sens: Sensitivity, labels: Mapping[str, str], top: int = 12) -> dict:

@@ -23,7 +23,7 @@ from bandcalc.model.design import (
     PushPull,
     divider_thevenin,
 )
-from bandcalc.model.front_end import DividerFrontEnd, LinearFrontEnd, ThermistorFrontEnd
+from bandcalc.model.front_end import BETA_PAIR, DividerFrontEnd, LinearFrontEnd, ThermistorFrontEnd
 from bandcalc.model.ratings import PACKAGES, Ratings
 from bandcalc.model.standard_values import SERIES, EseriesError, nearest, series_values
 from bandcalc.model.thermistor import beta_between, beta_to_steinhart_hart
@@ -39,12 +39,14 @@ __all__ = [
     "SLIDER_DIGITS",
     "STARTING_OHMS",
     "THERMISTOR_MODELS",
+    "beta_temperature",
     "excitation_kind",
     "front_end_kind",
     "in_series",
     "reference_kind",
     "slider_options",
     "thermistor_model",
+    "with_beta_temperature",
     "with_excitation",
     "with_front_end",
     "with_legs",
@@ -242,7 +244,8 @@ def with_thermistor_model(design: Design, model: str) -> Design:
         return design
     if model == "steinhart_hart":
         coefficients = beta_to_steinhart_hart(float(fe.r25), float(fe.beta))  # type: ignore[arg-type]
-        new = replace(fe, r25=None, beta=None, beta_tolerance=None, steinhart_hart=coefficients)
+        new = replace(fe, r25=None, beta=None, beta_tolerance=None, beta_temperatures=None,
+                      steinhart_hart=coefficients)
     else:
         assert fe.steinhart_hart is not None
         new = replace(fe, steinhart_hart=None, r25=fe.nominal_r25, beta=beta_between(fe.steinhart_hart))
@@ -265,6 +268,27 @@ def with_excitation(design: Design, kind: str) -> Design:
         return design
     value: str | float = design.supply.positive if kind == "volts" else kind
     return replace(design, front_end=replace(_thermistor(design), excitation=value))
+
+
+def beta_temperature(design: Design, index: int) -> float | None:
+    """The first (0) or second (1) temperature the thermistor's Beta was measured between, C; None
+    where the pair is not given (B25/50 assumed)."""
+    pair = _thermistor(design).beta_temperatures
+    return None if pair is None else pair[index]
+
+
+def with_beta_temperature(design: Design, index: int, celsius: float | None) -> Design:
+    """Set one of the Beta's two temperatures; a blank one takes B25/50's, and with both blank the
+    pair is no longer given."""
+    fe = _thermistor(design)
+    pair = [beta_temperature(design, i) for i in (0, 1)]
+    pair[index] = celsius
+    other = 1 - index
+    if celsius is None and pair[other] == BETA_PAIR[other]:  # what is left is only the assumed pair
+        pair[other] = None
+    given = None if pair == [None, None] else \
+        tuple(BETA_PAIR[i] if v is None else v for i, v in enumerate(pair))
+    return replace(design, front_end=replace(fe, beta_temperatures=given))
 
 
 def with_protective(design: Design, guards: bool) -> Design:
