@@ -291,7 +291,7 @@ def _yield(s: Spread) -> None:
     places = failure_places(s)
     if places:
         st.markdown("**Where builds fail**")
-        st.markdown("\n".join(f"- {p}" for p in places))
+        st.markdown("\n".join(f"- {literal(p)}" for p in places))
 
 
 def _monte_carlo(s: Spread, v) -> None:
@@ -344,7 +344,7 @@ def _results(s: Spread) -> None:
     _monte_carlo(s, v)
     _sensitivity(s)
     with st.expander("Where the model simplifies", expanded=False):
-        st.markdown("\n".join(f"- {line}" for line in s.simplifications))
+        st.markdown("\n".join(f"- {literal(line)}" for line in s.simplifications))
     st.caption("The figures cover the initial tolerances and the drifts entered; ageing, solder heat, "
                "humidity and board leakage are not in them.")
 
