@@ -3,10 +3,15 @@
 from __future__ import annotations
 
 import base64
+import html
 import json
+import random
+import re
+import zlib
 from pathlib import Path
 
 import numpy as np
+from markdown_it import MarkdownIt
 from streamlit.testing.v1 import AppTest
 
 from bandcalc.demos import load_demo
@@ -64,14 +69,71 @@ CAUTIONS = ("Hazardous voltage", "Creepage and clearance", "Protective function"
             "Power-up of a protective stage")
 
 
+_MARKDOWN = MarkdownIt("commonmark")
+
+
+def as_read(markdown: str) -> str:
+    """Text as a reader sees it, from the Markdown Streamlit draws (the page escapes user text in it)."""
+    rendered = _MARKDOWN.renderInline(markdown)
+    return html.unescape(re.sub(r"<[^>]+>", "", rendered.replace("<br />\n", "\n")))
+
+
 def errors(at: AppTest) -> list[str]:
-    """Error messages on the page; the safety cautions (also shown in red) are not counted."""
-    return [e.value for e in at.error if not e.value.startswith(CAUTIONS)]
+    """Error messages on the page as read; the safety cautions (also shown in red) are not counted."""
+    return [as_read(e.value) for e in at.error if not e.value.startswith(CAUTIONS)]
 
 
 def captions(at: AppTest) -> list[str]:
-    return [c.value for c in at.caption]
+    return [as_read(c.value) for c in at.caption]
 
 
 def button(at: AppTest, label: str):
     return next(b for b in at.button if b.label == label)
+
+
+INTERNAL = "The page ran into an internal error"
+
+
+def stranded(at: AppTest) -> list[str]:
+    """What is missing for the user to carry on (empty when the page is whole): no traceback, no
+    internal error, the title, the demo chooser and the stage's controls, the figures."""
+    missing = []
+    if at.exception:
+        missing.append(f"a traceback: {at.exception[0].message[:200]}")
+    if any(e.value.startswith(INTERNAL) for e in at.error):
+        missing.append("only an internal-error message")
+    if not at.title:
+        missing.append("the title")
+    if not any(s.key == "page.demo" for s in at.selectbox):
+        missing.append("the demo chooser")
+    if not any(s.key == "in.resistors.feedback.slider" for s in at.select_slider):
+        missing.append("the feedback resistor's slider")
+    if len(at.metric) < 6:
+        missing.append("the switching-point figures")
+    return missing
+
+
+def address_of(data) -> str:
+    """The page-address text for any JSON text or data, written as the page writes a design."""
+    text = data if isinstance(data, str) else json.dumps(data, separators=(",", ":"))
+    packed = zlib.compress(text.encode("utf-8"), 9)
+    return base64.urlsafe_b64encode(packed).decode("ascii").rstrip("=")
+
+
+_WORDS = ("pump", "level", "sensor", "switch", "relay", "the", "and", "at", "when", "below", "above",
+          "rises", "falls", "hysteresis", "band", "ripple", "supply", "rail", "kΩ", "5 V", "3.1 V", "pit",
+          "float", "starts", "stops", "check", "wiring", "fuse", "cable", "drain", "alarm", "µA")
+
+
+def prose(chars: int, seed: int = 0) -> str:
+    """``chars`` characters of notes-like text: words, sentences and line breaks, drawn reproducibly."""
+    rng = random.Random(seed)
+    out: list[str] = []
+    size = 0
+    while size < chars:
+        sentence = " ".join(rng.choice(_WORDS) for _ in range(rng.randint(4, 14))) + "."
+        sentence = sentence[0].upper() + sentence[1:]
+        sentence += "\n" if rng.random() < 0.2 else " "
+        out.append(sentence)
+        size += len(sentence)
+    return "".join(out)[:chars]

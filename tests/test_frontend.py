@@ -376,9 +376,10 @@ def test_section_reads_and_round_trips(front_end):
     assert design_to_dict(d)["front_end"]["kind"] == front_end["kind"]
 
 
-def test_front_end_tolerances_are_fractions_keyed_like_the_parameters(demo):
+def test_front_end_tolerances_are_bounds_keyed_like_the_parameters(demo):
     fe = demo(GREENHOUSE).front_end
-    assert front_end_tolerances(fe) == {"front_end.r25": 0.01, "front_end.beta": 0.01}
+    assert front_end_tolerances(fe) == {"front_end.r25": (9.9e3, 10.1e3, "1 %"),
+                                        "front_end.beta": (3910.5, 3989.5, "1 %")}
     assert front_end_tolerances(DividerFrontEnd(1e3, 1e3)) == {}
 
 

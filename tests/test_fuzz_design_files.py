@@ -54,7 +54,7 @@ def test_a_design_file_is_refused_with_a_message_or_analysed_through(text):
     assert math.isfinite(a.upper) and math.isfinite(a.lower)
     upper, lower = float(a.points.upper), float(a.points.lower)
     if not (math.isfinite(upper) and math.isfinite(lower)):  # the stage latches: a finding says so
-        assert any(f.startswith("Latches: no value the input reaches") for f in a.findings), a.findings
+        assert any(f.startswith("Latches: no value the input reaches") for f in a.warnings), a.warnings
     _strict(dumps(analysis_to_dict(a)))
     design_summary(design, SummaryInputs())
     try:  # every number a simulator reads is finite: no "nan" or "inf" on an element line

@@ -5,13 +5,26 @@ published examples and lcapy; here the question is whether the page shows them f
 """
 
 import base64
+import json
 
 import numpy as np
 import pytest
-from page_helpers import SUMP, chart, design_on, errors, figures, numbers, page
+from page_helpers import (
+    SUMP,
+    address_of,
+    captions,
+    chart,
+    design_on,
+    errors,
+    figures,
+    numbers,
+    page,
+    prose,
+    stranded,
+)
 from streamlit.testing.v1 import AppTest
 
-from bandcalc.model.design_file import design_to_json
+from bandcalc.model.design_file import design_to_dict, design_to_json
 from bandcalc.model.operating import analyze
 from bandcalc.model.parts import with_value
 from bandcalc.model.units import format_si
@@ -313,3 +326,195 @@ def test_load_controls_change_the_levels_and_check_the_logic():
     at.text_input(key="in.load.logic_high_min").input("").run()
     assert design_on(at).load is None
     assert not at.exception
+
+
+# --- several changes in one rerun -----------------------------------------------------------------
+# The browser sends every widget that changed since the last run together: a box typed into and left
+# by clicking another control arrives with that control's change.  Each callback edits the design as
+# the earlier ones of the same run left it, and none may be lost, in whichever order they run.
+
+def test_two_typed_values_in_one_run_both_land():
+    at = page()
+    at.text_input(key="in.reference.volts").input("6")
+    at.text_input(key="in.supply.positive").input("12")
+    at.run()
+    assert not at.exception and not errors(at)
+    d = design_on(at)
+    assert (d.supply.positive, d.reference.volts) == (12.0, 6.0)
+    assert at.text_input(key="in.supply.positive").value == "12 V"
+    assert at.text_input(key="in.reference.volts").value == "6 V"
+
+
+def test_an_edit_that_needs_a_later_one_of_the_same_run_still_lands():
+    # Callbacks run in the order of the controls on the page.  The lowest signal (source.low) comes
+    # before the highest: raising the lowest to 6 V is refused beside the highest at 5 V (low must be
+    # below high), and fits once the highest is 8 V.  Both end up in the design.
+    at = page()
+    at.session_state["page.section.source"] = True
+    at.run()
+    at.text_input(key="in.source.low").input("6")
+    at.text_input(key="in.source.high").input("8")
+    at.run()
+    assert not at.exception and not errors(at)
+    assert (design_on(at).source.low, design_on(at).source.high) == (6.0, 8.0)
+    assert at.text_input(key="in.source.low").value == "6 V"
+
+
+def test_a_slider_and_a_choice_in_one_run_both_land():
+    at = page()
+    at.select_slider(key=f"{FEEDBACK}.slider").set_value(47e3)
+    at.radio(key="in.reference.kind").set_value("divider")
+    at.run()
+    assert not at.exception and not errors(at)
+    d = design_on(at)
+    assert d.resistors.feedback == 47e3 and d.reference.top == 10e3
+    assert at.select_slider(key=f"{FEEDBACK}.slider").value == 47e3
+
+
+def test_of_two_edits_in_one_run_the_refused_one_is_named_and_the_other_kept():
+    at = page()
+    at.text_input(key="in.supply.positive").input("12")
+    at.text_input(key=f"{INPUT}.text").input("4k7x")
+    at.run()
+    assert not at.exception
+    (message,) = errors(at)
+    assert "Input resistor" in message and "'4k7x'" in message and "keeps 10k" in message
+    assert design_on(at).supply.positive == 12.0 and design_on(at).resistors.input == 10e3
+    assert at.text_input(key=f"{INPUT}.text").value == "10k"
+
+
+# --- designs the page cannot keep or show: a message, and the design the user had ---------------
+
+def _sump_file(**changes) -> dict:
+    data = design_to_dict(SUMP)
+    for path, value in changes.items():
+        *parents, last = path.split(".")
+        node = data
+        for key in parents:
+            node = node[key]
+        node[last] = value
+    return data
+
+
+def _steinhart_hart_typo(demo) -> dict:
+    data = design_to_dict(demo("greenhouse_fan_thermostat"))
+    for key in ("r25", "beta", "beta_tolerance"):
+        data["front_end"].pop(key)
+    # A 10 kOhm probe's published A = 1.129241e-3 (tests/test_frontend.py), typed without its exponent.
+    data["front_end"]["steinhart_hart"] = [1129.241, 2.341077e-4, 8.775468e-8]
+    return data
+
+
+def test_an_address_with_a_huge_integer_gives_a_message_and_the_demo():
+    # JSON allows integers of any length; as a float this one overflows (Python's float holds at
+    # most about 1.8e308, IEEE 754 double precision).
+    text = json.dumps(_sump_file(**{"resistors.feedback": "HUGE"})).replace('"HUGE"', "1" + "0" * 400)
+    at = page({PARAM: address_of(text)})
+    assert not stranded(at)
+    (message,) = errors(at)
+    assert "page address (design=...)" in message and "demo design is shown instead" in message
+    assert design_on(at) == SUMP
+    again = page({PARAM: at.query_params[PARAM]})  # a reload does not repeat it
+    assert not stranded(again) and not errors(again)
+
+
+@pytest.mark.parametrize("depth", [20_000, 990])
+def test_an_address_nested_deeply_gives_a_message_and_the_demo(depth):
+    # Python's json parser stops at its recursion limit, about a thousand levels deep (from memory).
+    text = json.dumps(_sump_file(notes="DEEP")).replace('"DEEP"', "[" * depth + "]" * depth)
+    at = page({PARAM: address_of(text)})
+    assert not stranded(at)
+    (message,) = errors(at)
+    assert "page address (design=...)" in message and "demo design is shown instead" in message
+    assert design_on(at) == SUMP
+    assert not errors(page({PARAM: at.query_params[PARAM]}))
+
+
+def test_an_address_whose_design_cannot_be_analysed_gives_a_message_and_the_demo(demo):
+    at = page({PARAM: address_of(_steinhart_hart_typo(demo))})
+    assert not stranded(at)
+    (message,) = errors(at)
+    assert "page address (design=...)" in message and "demo design is shown instead" in message
+    assert design_on(at) == SUMP
+
+
+@pytest.mark.parametrize("case", ["feedback null", "lone surrogate", "Steinhart-Hart typo"])
+def test_a_file_that_cannot_be_analysed_or_kept_leaves_the_design(case, demo):
+    data = {"feedback null": lambda: _sump_file(**{"resistors.feedback": None}),
+            "lone surrogate": lambda: _sump_file(name="\ud800"),
+            "Steinhart-Hart typo": lambda: _steinhart_hart_typo(demo)}[case]()
+    at = page()
+    body = json.dumps(data).encode("utf-8")  # a lone surrogate is written as the escape \ud800
+    at.file_uploader[0].set_value(("odd.json", body, "application/json")).run()
+    assert not stranded(at)
+    (message,) = errors(at)
+    assert message.startswith("odd.json: ") and "current design is kept" in message
+    assert design_on(at) == SUMP and at.title[0].value == SUMP.name
+
+
+@pytest.mark.parametrize("ohms", [1e23, 1e308])
+def test_a_file_with_an_absurd_resistor_never_strands_the_page(ohms):
+    # Either the page shows the design (its figures, its controls), or it names the file and keeps
+    # the design it had; never a page with only an internal error.
+    at = page()
+    body = json.dumps(_sump_file(**{"resistors.feedback": ohms})).encode()
+    at.file_uploader[0].set_value(("absurd.json", body, "application/json")).run()
+    assert not stranded(at)
+    if errors(at):
+        (message,) = errors(at)
+        assert message.startswith("absurd.json: ") and "current design is kept" in message
+        assert design_on(at) == SUMP
+    else:
+        assert design_on(at).resistors.feedback == ohms
+        assert at.select_slider(key=f"{FEEDBACK}.slider").value == ohms
+
+
+# --- a reload never loses what the page took ------------------------------------------------------
+
+def test_notes_that_fit_come_back_after_a_reload():
+    notes = prose(9_000)
+    at = page()
+    at.text_area(key="in.notes").input(notes).run()
+    assert not errors(at) and design_on(at).notes == notes
+    again = page({PARAM: at.query_params[PARAM]})  # a new session, as after a reload
+    assert not errors(again) and again.text_area(key="in.notes").value == notes
+
+
+def test_notes_too_long_for_the_address_are_refused_at_once():
+    notes = prose(71_000)
+    at = page()
+    at.text_area(key="in.notes").input(notes).run()
+    assert not stranded(at)
+    (message,) = errors(at)
+    assert message.startswith("Notes (notes): too long for the page address (71,000 characters)")
+    assert "The design keeps the notes it had" in message
+    assert design_on(at) == SUMP
+    assert at.text_area(key="in.notes").value == notes  # still there to shorten or copy
+    again = page({PARAM: at.query_params[PARAM]})
+    assert not errors(again) and design_on(again) == SUMP
+
+
+def test_a_design_file_too_long_for_the_address_is_refused_at_once():
+    # Near the page's 1 MB upload cap: notes filling most of it.
+    body = json.dumps(_sump_file(notes=prose(900_000)), indent=2).encode()
+    assert 900_000 < len(body) < 1_000_000
+    at = page()
+    at.file_uploader[0].set_value(("long.json", body, "application/json")).run()
+    assert not stranded(at)
+    (message,) = errors(at)
+    assert message.startswith("long.json: notes: too long for the page address (900,000 characters)")
+    assert message.endswith("The current design is kept.")
+    assert design_on(at) == SUMP
+
+
+def test_a_typed_value_that_reads_like_its_neighbour_survives_other_edits():
+    # 4699.6 ohm and the E24 value 4700 ohm both read "4k7" to four digits; the slider told them
+    # apart by that label alone and, on the next edit anywhere, moved the resistor to 4700 ohm.
+    at = page()
+    at.text_input(key=f"{INPUT}.text").input("4699.6").run()
+    assert design_on(at).resistors.input == 4699.6
+    at.text_input(key="in.supply.positive").input("6").run()
+    at.select_slider(key=f"{FEEDBACK}.slider").set_value(47e3).run()
+    assert not errors(at)
+    assert (design_on(at).resistors.input, design_on(at).supply.positive) == (4699.6, 6.0)
+    assert "4k6996 is not an E24 value; it is kept exactly as typed." in captions(at)

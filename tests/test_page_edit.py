@@ -1,18 +1,25 @@
 """The page's pure helpers: the design in the address, and the edits its controls make."""
 
 import base64
+import re
 import zlib
+from dataclasses import replace
 
 import numpy as np
 import pytest
+from hypothesis import given
+from hypothesis import strategies as hyp
+from page_helpers import prose
 
 from bandcalc.demos import load_demo
 from bandcalc.errors import DesignError
 from bandcalc.model.design import DividerReference, FixedReference, Load, OpenDrain, PushPull
 from bandcalc.model.parts import value_at, with_value
 from bandcalc.model.standard_values import series_values
-from bandcalc.page.address import address_to_design, design_to_address
+from bandcalc.model.units import format_code
+from bandcalc.page.address import ADDRESS_MAX, address_to_design, design_to_address
 from bandcalc.page.edit import (
+    in_series,
     slider_options,
     with_legs,
     with_load_value,
@@ -51,6 +58,24 @@ def test_oversized_address_is_refused():
     bomb = base64.urlsafe_b64encode(zlib.compress(b" " * 1_000_000)).decode()
     with pytest.raises(DesignError, match="too long"):
         address_to_design(bomb)
+
+
+@pytest.mark.parametrize("json_text", [
+    '{"format": 1, "stage": "inverting", "supply": {"positive": 1%s}, "resistors": {"feedback": 1e3}}'
+    % ("0" * 400),  # beyond a float's range, about 1.8e308 (IEEE 754 double precision)
+    "[" * 20_000 + "]" * 20_000,  # past the JSON parser's recursion limit (about 1,000 levels, from memory)
+])
+def test_an_address_no_design_can_come_from_is_named(json_text):
+    text = base64.urlsafe_b64encode(zlib.compress(json_text.encode())).decode()
+    # Refused naming the address, and the key or the nesting at fault.
+    with pytest.raises(DesignError, match=r"page address \(design=\.\.\.\): (supply\.positive: .*too large|"
+                                          r"nested .* levels deep)"):
+        address_to_design(text)
+
+
+def test_a_lone_surrogate_cannot_go_into_the_address():
+    with pytest.raises(DesignError, match=r"^name: holds a lone surrogate"):
+        design_to_address(replace(SUMP, name="Pump \ud800"))
 
 
 def test_with_value_validates_and_names_the_key():
@@ -106,6 +131,14 @@ def test_slider_options_span_decades_around_the_value():
     assert set(slider_options("E192", 1e3)) >= set(series_values("E192", 100, 99e3))
     with pytest.raises(DesignError, match="series"):
         slider_options("E7", 1e3)
+    # Each option reads differently on the slider: a value that reads like a neighbour takes its place.
+    assert 4700.0 not in slider_options("E24", 4699.6) and 4699.6 in slider_options("E24", 4699.6)
+    for ohms in (4699.6, 4750.0, 39e3, 0.0123, 4.982e-14, 1e13):
+        labels = [format_code(v, 4) for v in slider_options("E96", ohms)]
+        assert len(labels) == len(set(labels)), ohms
+    # Beyond the series tables (yocto to yotta ohm, the SI prefixes) the value stands alone.
+    assert slider_options("E24", 1e23) == (1e23,) and slider_options("E24", 1e308) == (1e308,)
+    assert in_series("E24", 39e3) and not in_series("E24", 4750.0) and not in_series("E24", 1e308)
 
 
 # --- front ends ---------------------------------------------------------------------------------
@@ -249,6 +282,62 @@ def test_typed_value_errors_name_the_field():
     assert shown(8.775468e-8, "") == "8.775468e-08" and shown(25.0, "C") == "25 C"
 
 
+def test_data_sheet_limits_and_networks_edit_the_design_section(demo):
+    from bandcalc.errors import BandcalcError
+    from bandcalc.page.tolerance_edit import (
+        limit_end,
+        limit_keys,
+        resistor_rows,
+        with_limit_end,
+        with_network,
+        with_part_tolerance,
+        without_network,
+        without_tolerances,
+    )
+
+    bare = without_tolerances(SUMP)
+    assert limit_keys(SUMP) == ("output.high_drop", "output.low_drop", "output.resistance",
+                                "comparator_hysteresis")
+    assert limit_keys(demo("rain_tank_overflow"))[:2] == ("output.low_volts", "output.pullup_volts")
+    # A blank end takes the design's own value (the sump's high drop is 50 mV); both blank: no limit.
+    d = with_limit_end(bare, "output.high_drop", "high", 0.3)
+    assert d.tolerances.output.high_drop == (0.05, 0.3) and limit_end(d, "output.high_drop", "low") == 0.05
+    assert with_limit_end(with_limit_end(d, "output.high_drop", "low", None), "output.high_drop", "high",
+                          None).tolerances.output.high_drop is None
+    assert with_limit_end(bare, "comparator_hysteresis", "high", 0.006).tolerances.comparator_hysteresis \
+        == (0.0, 0.006)
+    with pytest.raises(BandcalcError, match="tolerances.output.high_drop: the least value"):
+        with_limit_end(d, "output.high_drop", "low", 0.5)
+    # A network takes its members from elsewhere: their own tempco entries and other networks.
+    own = with_part_tolerance(bare, "resistor_tempco", "feedback", 25.0)
+    net = with_network(own, "RN1", ("input", "feedback"), 50.0, 5.0)
+    assert net.tolerances.resistor_networks[0].resistors == ("input", "feedback")
+    assert net.tolerances.resistor_tempco.parts == ()
+    rows = {r["name"]: r for r in resistor_rows(net)}
+    assert rows["input"]["network"] == "RN1" and rows["input"]["tempco"] == 50.0
+    assert without_network(net, "RN1").tolerances.resistor_networks == ()
+    with pytest.raises(BandcalcError, match="tolerances.resistor_networks.RN2.resistors: this design has no "
+                                            "to_ground resistor"):
+        with_network(net, "RN2", ("input", "to_ground"), 50.0, 5.0)
+    with pytest.raises(BandcalcError, match="tolerances.resistor_networks.RN1.resistors: give two or more"):
+        with_network(net, "RN1", ("input",), 50.0, 5.0)
+
+
+def test_a_thermistors_beta_pair_and_model_switch(demo):
+    from bandcalc.page.edit import beta_temperature, with_beta_temperature, with_thermistor_model
+
+    d = demo("greenhouse_fan_thermostat")
+    assert beta_temperature(d, 1) is None  # not given: B25/50 assumed
+    hot = with_beta_temperature(d, 1, 85.0)
+    assert hot.front_end.beta_temperatures == (25.0, 85.0)  # the blank first one takes 25 C
+    assert with_beta_temperature(with_beta_temperature(hot, 1, None), 0, None).front_end.beta_temperatures \
+        is None
+    with pytest.raises(DesignError, match="front_end.beta_temperatures: the first temperature must be below"):
+        with_beta_temperature(hot, 0, 90.0)
+    # Steinhart-Hart coefficients need no pair: switching drops it.
+    assert with_thermistor_model(hot, "steinhart_hart").front_end.beta_temperatures is None
+
+
 def test_load_edits_make_and_drop_the_section():
     d = with_load_value(SUMP, "logic_high_min", 2.0)
     assert d.load == Load(logic_high_min=2.0)
@@ -268,3 +357,48 @@ def test_protective_and_size_edits():
     assert with_resistor_size(SUMP, "1206").ratings.size == "1206"
     with pytest.raises(DesignError, match="ratings.size: '0601' is not a size"):
         with_resistor_size(SUMP, "0601")
+
+
+# --- the address holds every design the page takes -----------------------------------------------
+# Measured with Streamlit 1.67 and Debian's Chromium (tests/test_browser.py reloads at the limit):
+# the page's server (uvicorn with h11) refuses a request whose head is over 16 KiB (h11's default
+# max_incomplete_event_size, 16 * 1024) whenever the head does not arrive in one piece, and common
+# proxies refuse request lines over 8 KiB (nginx's large_client_header_buffers and Apache's
+# LimitRequestLine default to 8 KiB, from memory).  The page keeps at most ADDRESS_MAX characters.
+
+def test_the_address_limit_leaves_room_in_a_request_head():
+    assert ADDRESS_MAX + len("GET /?design= HTTP/1.1\r\n") < 8 * 1024
+
+
+def test_notes_too_long_for_the_address_are_refused_naming_them():
+    long = replace(SUMP, notes=prose(71_000))
+    with pytest.raises(DesignError, match=r"^notes: too long for the page address \(71,000 characters\)"):
+        design_to_address(long)
+    # A text that compresses to nothing still inflates to far more than any design file holds.
+    with pytest.raises(DesignError, match=r"^notes: too long for the page address"):
+        design_to_address(replace(SUMP, notes="a" * 1_000_000))
+
+
+def test_notes_of_a_few_pages_fit():
+    fits = replace(SUMP, notes=prose(12_000))
+    text = design_to_address(fits)
+    assert len(text) <= ADDRESS_MAX and address_to_design(text) == fits
+
+
+@given(notes=hyp.text(max_size=3_000) | hyp.builds(prose, hyp.integers(0, 40_000), hyp.integers(0, 9)),
+       name=hyp.text(max_size=300))
+def test_every_design_the_address_takes_comes_back(notes, name):
+    design = replace(SUMP, name=name, notes=notes)
+    try:
+        text = design_to_address(design)
+    except DesignError as exc:
+        assert re.match(r"^(name|notes): (too long for the page address|holds a character that is not text)",
+                        str(exc)), exc
+        return
+    assert len(text) <= ADDRESS_MAX
+    assert address_to_design(text) == design
+
+
+def test_an_address_longer_than_the_page_writes_is_refused():
+    with pytest.raises(DesignError, match=r"page address \(design=\.\.\.\): longer than the page writes"):
+        address_to_design("A" * (ADDRESS_MAX + 1))

@@ -8,7 +8,7 @@ on a button press, and puts a candidate on the sliders with one click.
 
 import pytest
 import streamlit as st
-from page_helpers import SUMP, design_on, errors, figures, page
+from page_helpers import SUMP, as_read, design_on, errors, figures, page
 from streamlit.testing.v1 import AppTest
 from test_page import expected
 
@@ -101,7 +101,7 @@ def test_find_values_shows_the_candidates_of_fit():
     assert shown["Input"][0] == "3k6" and shown["Upper"][0] == "3.102 V"  # fit(), sump demo, 3.1 / 1.9 V
     assert [m.value for m in at.markdown if m.value.startswith("**Found for**")] == [
         "**Found for** upper 3.1 V, lower 1.9 V: input, feedback, to + rail from E24, 1k to 10M."]
-    assert [i.value for i in at.info] == list(result.notes)  # the added leg is explained
+    assert [as_read(i.value) for i in at.info] == list(result.notes)  # the added leg is explained
     exact = result.exact.resistors
     first = f"Exact values, not standard: input {format_si(exact['input'], 'Ohm', 4)}, "
     assert any(c.value.startswith(first) for c in at.caption)
@@ -166,6 +166,20 @@ def test_a_front_end_design_takes_targets_and_shows_candidates_in_its_unit():
     assert design_on(at) == applied
     # With a front end the figures read in the watched quantity.
     assert figures(at)["Upper switching point"] == format_value(float(analyze(applied).points.upper), "C", 4)
+
+
+@pytest.mark.parametrize("unit", ["kPa", "%RH", "m/s"])
+def test_targets_the_panel_writes_in_a_sensors_own_unit_are_read_back(unit):
+    # A sensor with a linear output watching pressure, humidity or speed: the targets start as the
+    # design's points written with the unit ("313.62 kPa"); pressing Find values on them must search.
+    from bandcalc.page.edit import with_front_end
+
+    sensor = with_value(with_front_end(SUMP, "linear"), "front_end.unit", unit)
+    at = fit_tab({PARAM: design_to_address(sensor)})
+    assert at.text_input(key="fit.upper").value.endswith(f" {unit}")
+    button(at, "Find values").click().run()
+    assert not errors(at) and at.table
+    assert candidates_shown(at)["Upper"][0].endswith(f" {unit}")
 
 
 @pytest.mark.parametrize(("upper", "lower", "fields", "message"), [

@@ -12,6 +12,7 @@ from bandcalc.demos import load_demo
 from bandcalc.model.front_end import DividerFrontEnd, LinearFrontEnd, ThermistorFrontEnd
 from bandcalc.model.operating import analyze
 from bandcalc.model.units import format_code, format_si, format_value
+from bandcalc.page.edit import with_front_end, with_reference
 
 SOLAR = load_demo("solar_battery_disconnect")
 GREENHOUSE = load_demo("greenhouse_fan_thermostat")
@@ -145,3 +146,15 @@ def test_a_linear_sensor_from_the_sidebar():
     assert at.text_input(key="in.front_end.unit").value == "kPa"
     at.radio(key="in.front_end.kind").set_value("none").run()
     assert design_on(at).front_end is None
+
+
+def test_a_refused_choice_shows_the_designs_own_again():
+    # A thermistor divider fed from the reference needs a fixed reference: with a divider reference
+    # the choice is refused, and the radio goes back to what the design has, the positive rail.
+    divided = with_front_end(with_reference(SUMP, "divider"), "thermistor")
+    at = with_section(divided)
+    at.radio(key="in.front_end.excitation.kind").set_value("reference").run()
+    (message,) = errors(at)
+    assert message.startswith("Divider fed from: front_end.excitation: \"reference\" needs a fixed reference")
+    assert design_on(at) == divided
+    assert at.radio(key="in.front_end.excitation.kind").value == "positive"

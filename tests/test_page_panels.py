@@ -21,7 +21,7 @@ from page_helpers import (
 )
 
 from bandcalc.demos import load_demo
-from bandcalc.model.units import format_si, format_value
+from bandcalc.model.units import format_probability, format_si, format_value
 from bandcalc.outputs.netlist import netlist
 from bandcalc.outputs.summary import design_summary
 from bandcalc.page.names import factor_name
@@ -30,7 +30,7 @@ from bandcalc.signal_check.edges import run_design, run_points
 from bandcalc.signal_check.recording import read_waveform_csv
 from bandcalc.signal_check.waveform import synthesize
 from bandcalc.signal_check.width_trade import sweep_design
-from bandcalc.spread.propagation import spread
+from bandcalc.spread.propagation import failure_places, spread
 
 SOLAR = load_demo("solar_battery_disconnect")
 GREENHOUSE = load_demo("greenhouse_fan_thermostat")
@@ -64,21 +64,34 @@ def test_spread_shows_worst_case_statistics_yield_and_sensitivity(design):
     assert worst["Least"] == [v(getattr(wc, q).min) for q in QUANTITIES]
     assert worst["Greatest"] == [v(getattr(wc, q).max) for q in QUANTITIES]
     stats = table_with(at, "Mean")
-    assert stats["Mean"] == [v(getattr(s.monte_carlo, q).mean) for q in QUANTITIES]
-    assert stats["99.865 %"] == [v(getattr(s.monte_carlo, q).percentiles[99.865]) for q in QUANTITIES]
-    y = s.monte_carlo.build_yield
+    mc = s.monte_carlo
+    assert stats["Mean"] == [v(getattr(mc, q).mean) for q in QUANTITIES]
+    # Over a temperature range the percentiles are of each build's least (below the median) and greatest.
+    assert stats["0.135 %"] == [v(mc.lowest[q].percentiles[0.135]) for q in QUANTITIES]
+    assert stats["99.865 %"] == [v(mc.highest[q].percentiles[99.865]) for q in QUANTITIES]
+    y = mc.build_yield
     assert figures(at)["Yield"] == f"{100 * y.fraction:.3f} %"
+    assert figures(at)["Failure probability"] == format_probability(y.failure.probability)
     interval = f"95 % interval {100 * y.low:.3f} % to {100 * y.high:.3f} %"
     assert any(c.startswith(interval) for c in captions(at))
-    # Histograms: the counts and bins of the package's summary, the window and the worst case drawn.
-    specs = [c for c in charts(at) if any(t.get("name") == "Builds" for t in c["data"])]
+    assert any(c.startswith(f"Failure probability, 95 % interval {format_probability(y.failure.low)}")
+               for c in captions(at))
+    shown = " ".join(m.value for m in at.markdown)
+    for place in failure_places(s):
+        assert place in shown
+    for line in s.simplifications:
+        assert line in shown
+    # Histograms: each build's least and greatest over the range, the counts and bins of the package's
+    # summaries, the window and the worst case drawn.
+    specs = [c for c in charts(at) if any(t.get("name") == "Least over the range" for t in c["data"])]
     assert [h["layout"]["title"]["text"] for h in specs] == ["Upper switching point", "Lower switching point",
                                                             "Hysteresis"]
     for spec, q in zip(specs, QUANTITIES, strict=True):
-        summary = getattr(s.monte_carlo, q)
-        bars = trace(spec, "Builds")
-        assert np.array_equal(numbers(bars["y"]), summary.counts)
-        assert numbers(bars["x"]) == pytest.approx(0.5 * (summary.edges[1:] + summary.edges[:-1]))
+        for name, summary in (("Least over the range", mc.lowest[q]),
+                              ("Greatest over the range", mc.highest[q])):
+            bars = trace(spec, name)
+            assert np.array_equal(numbers(bars["y"]), summary.counts)
+            assert numbers(bars["x"]) == pytest.approx(0.5 * (summary.edges[1:] + summary.edges[:-1]))
         shapes = {shape["name"]: shape for shape in spec["layout"]["shapes"]}
         low, high = y.windows[q]
         assert shapes["Window"]["x0"] == pytest.approx(max(low, spec["layout"]["xaxis"]["range"][0]))
@@ -109,8 +122,9 @@ def test_long_runs_report_progress(monkeypatch):
     monkeypatch.setattr(spread_panel, "spread", recorded)
     at = run_spread(SUMP, samples=100_000)
     assert not at.exception
-    assert calls[-1] == (100_000, 100_000) and len(calls) == 4  # blocks of 32,768 (propagation.CHUNK)
-    assert any(m.value.startswith("**Monte Carlo**: 100,000 builds, seed 1") for m in at.markdown)
+    assert calls[-1] == (100_000, 100_000) and len(calls) == 7  # blocks of 16,384 (propagation.CHUNK)
+    assert any(m.value.startswith("**Monte Carlo**: 100,000 builds, each over 0 to 50 C, seed 1")
+               for m in at.markdown)
 
 
 def test_results_are_kept_per_design_and_settings():
@@ -142,6 +156,8 @@ def test_tolerance_edits_live_in_the_design():
     assert design_on(at).tolerances.limits.upper == (SUMP.tolerances.limits.upper[0], 3.3)
     at.radio(key="in.tolerances.distribution").set_value("uniform").run()
     assert design_on(at).tolerances.distribution == "uniform"
+    at.session_state["page.spread.section.resistors"] = True  # the section draws its controls while open
+    at.run()
     at.selectbox(key="page.spread.part").set_value("feedback").run()
     at.text_input(key="in.tolerances.resistors.feedback").input("0.1").run()
     assert design_on(at).tolerances.resistors.get("feedback") == 0.1
@@ -150,6 +166,37 @@ def test_tolerance_edits_live_in_the_design():
     assert per["Tolerance"][feedback] == "0.1 % (given for this resistor)"
     button(at, "Clear the tolerances section").click().run()
     assert design_on(at).tolerances is None and not at.exception
+
+
+def test_data_sheet_limits_networks_and_the_screened_distribution_edit_the_design():
+    at = page(panel="Spread")
+    assert "in.tolerances.output.high_drop.high" not in at.session_state  # shut sections draw nothing
+    for name in ("limits", "networks"):
+        at.session_state[f"page.spread.section.{name}"] = True
+    at.run()
+    at.radio(key="in.tolerances.distribution").set_value("screened").run()
+    assert design_on(at).tolerances.distribution == "screened"
+    at.text_input(key="in.tolerances.offset_current").input("20n").run()
+    assert design_on(at).tolerances.offset_current == pytest.approx(20e-9)
+    # The sump's push-pull output: a blank least end takes the design's own 50 mV.
+    at.text_input(key="in.tolerances.output.high_drop.high").input("300 mV").run()
+    assert design_on(at).tolerances.output.high_drop == pytest.approx((0.05, 0.3))
+    at.text_input(key="in.tolerances.output.high_drop.low").input("0.4").run()
+    (message,) = errors(at)
+    assert "tolerances.output.high_drop" in message and "must not be above the greatest" in message
+    assert design_on(at).tolerances.output.high_drop == pytest.approx((0.05, 0.3))
+    at.text_input(key="in.tolerances.comparator_hysteresis.high").input("6m").run()
+    assert design_on(at).tolerances.comparator_hysteresis == pytest.approx((0.0, 0.006))
+    # A network of the two resistors: their own coefficients give way to its bounds.
+    at.multiselect(key="page.spread.network.members").set_value(["input", "feedback"])
+    at.text_input(key="page.spread.network.tempco").input("50")
+    at.text_input(key="page.spread.network.tracking").input("5")
+    button(at, "Add or replace the network").click().run()
+    assert not at.exception and not errors(at)
+    (net,) = design_on(at).tolerances.resistor_networks
+    assert (net.name, net.resistors, net.tempco, net.tracking) == ("RN1", ("input", "feedback"), 50.0, 5.0)
+    button(at, "Remove").click().run()
+    assert design_on(at).tolerances.resistor_networks == ()
 
 
 # --- signal check -------------------------------------------------------------------------------

@@ -18,10 +18,11 @@ from bandcalc.model.design import (
 )
 from bandcalc.model.network import switching_points
 from bandcalc.model.operating import analyze
-from bandcalc.model.units import format_code, format_si, format_value
+from bandcalc.model.units import format_code, format_probability, format_si, format_value
 from bandcalc.outputs.summary import design_from_summary, design_summary, escape_text
 from bandcalc.signal_check.edges import run_design
 from bandcalc.signal_check.waveform import synthesize
+from bandcalc.spread.propagation import failure_places
 
 # markdown-it-py (PyPI) in its "commonmark" preset is a CommonMark-conformant parser; the
 # summary also uses GitHub-style tables, so GFM enables that one extension on top.
@@ -160,7 +161,38 @@ def test_spread_section_and_columns(demo):
     lo, hi = format_si(s.worst_case.upper.min, "V", 4), format_si(s.worst_case.upper.max, "V", 4)
     nominal = format_si(analyze(d).upper, "V", 4)
     assert f"| Upper switching point (rising input) | {nominal} | {lo} | {hi} |" in text
-    assert "Yield against the limits" in text
+    # Over the range the 99.73 % columns are of each build's least and greatest values.
+    mc = s.monte_carlo
+    least, greatest = (format_si(mc.lowest["upper"].percentiles[0.135], "V", 4),
+                       format_si(mc.highest["upper"].percentiles[99.865], "V", 4))
+    assert f"| {lo} | {hi} | {least} | {greatest} |" in text
+    y = mc.build_yield
+    assert (f"Yield against the limits, per build over the range: {100 * y.fraction:.3f} % of builds"
+            in text)
+    assert "each build is checked over the whole range, 0 to 50 C" in text
+    f = y.failure
+    assert (f"Failure probability: {format_probability(f.probability)} (95 % interval "
+            f"{format_probability(f.low)} to {format_probability(f.high)}); {f.method}.") in text
+    for place in failure_places(s):
+        assert f"- {place}" in text
+    for line in s.simplifications:
+        assert f"- {line}" in text
+
+
+def test_a_network_name_is_escaped_in_the_spread_section(demo):
+    # A network's name is the user's text: it reaches the summary escaped like any other.
+    import dataclasses
+
+    from bandcalc.model.tolerances import ResistorNetwork
+    from bandcalc.spread.propagation import spread
+
+    d = demo("sump_level_switch")
+    network = ResistorNetwork("<b>RN|1</b>", ("input", "feedback"), 25.0)
+    d = dataclasses.replace(d, tolerances=dataclasses.replace(d.tolerances, resistor_networks=(network,)))
+    text = design_summary(d, type("Inputs", (), {"spread": spread(d, samples=1000), "signal": None,
+                                                 "fit": None})())
+    body = text[:text.index("## Design file")]  # the design file itself closes the text in a code block
+    assert "<b>" not in body and r"&lt;b&gt;RN\|1&lt;/b&gt;" in body
 
 
 def test_report_command_with_spread(capsys, demo_path):

@@ -15,11 +15,13 @@ from bandcalc.cli.commands import main
 from bandcalc.model.network import switching_points
 from bandcalc.model.parts import parameters
 from bandcalc.model.points import design_points
-from bandcalc.model.tolerances import Limits, PerResistor, Tolerances
+from bandcalc.model.tolerances import Limits, PerResistor, ResistorNetwork, Tolerances
+from bandcalc.outputs.strict_json import dumps
 from bandcalc.spread import propagation as spread_module
 from bandcalc.spread.factors import QUANTITIES, Factor, factors
 from bandcalc.spread.propagation import (
     SpreadError,
+    failure_places,
     monte_carlo,
     sensitivity,
     spread,
@@ -109,25 +111,28 @@ def test_worst_case_by_series_defaults_without_a_tolerances_section(demo):
 
 
 def test_worst_case_over_temperature_equals_brute_force_and_a_fine_temperature_grid(demo):
-    # Non-inverting stage: input and feedback resistors with their own tempcos, a fixed reference
-    # with drift, the offset with drift. Written out here from the documented model.
+    # Non-inverting stage: input and feedback resistors each with its own coefficient within its bound,
+    # a fixed reference drifting within its box, the offset with drift.  Written out here from the
+    # documented model: R25 (1 + alpha (T - 25 C)); the reference anywhere in
+    # V25 (1 +/- drift (high - low)) at every temperature; offset25 + drift (T - 25 C).
     tol = Tolerances(resistors=PerResistor(1.0), reference=0.5, offset=0.004, temperature=(-40.0, 85.0),
-                     resistor_tempco=PerResistor(200.0, (("feedback", -50.0),)),
+                     resistor_tempco=PerResistor(200.0, (("feedback", 50.0),)),
                      reference_drift=30.0, offset_drift=1e-5)
     design = with_tolerances(demo(SUMP), tol)
     p = parameters(design)
 
-    def at(r_in, r_f, ref, off, ref_drift, off_drift, t):
+    def at(r_in, r_f, ref, off, a_in, a_f, ref_drift, off_drift, edge, t):
         dt = t - 25.0
-        return {"resistors.input": r_in * (1 + 200e-6 * dt), "resistors.feedback": r_f * (1 - 50e-6 * dt),
-                "reference.volts": ref * (1 + ref_drift * 1e-6 * dt),
+        return {"resistors.input": r_in * (1 + a_in * 1e-6 * dt),
+                "resistors.feedback": r_f * (1 + a_f * 1e-6 * dt),
+                "reference.volts": ref * (1 + ref_drift * 1e-6 * 125.0 * edge) + 0 * dt,
                 "comparator.offset": off + off_drift * dt}
 
     ends = [(p["resistors.input"] * 0.99, p["resistors.input"] * 1.01),
             (p["resistors.feedback"] * 0.99, p["resistors.feedback"] * 1.01),
             (2.5 * 0.995, 2.5 * 1.005), (p["comparator.offset"] - 0.004, p["comparator.offset"] + 0.004),
-            (-30.0, 30.0), (-1e-5, 1e-5)]
-    grid = np.linspace(-40.0, 85.0, 126)
+            (-200.0, 200.0), (-50.0, 50.0), (30.0,), (-1e-5, 1e-5), (-1.0, 1.0)]
+    grid = np.linspace(-40.0, 85.0, 2001)
     seen = {q: [] for q in QUANTITIES}
     for corner in itertools.product(*ends):
         pts = points_of_array(design, at(*corner, grid))
@@ -136,8 +141,11 @@ def test_worst_case_over_temperature_equals_brute_force_and_a_fine_temperature_g
     wc = worst_case(design)
     for q in QUANTITIES:
         values = np.concatenate(seen[q])
-        assert getattr(wc, q).min == pytest.approx(values.min(), rel=1e-12)
-        assert getattr(wc, q).max == pytest.approx(values.max(), rel=1e-12)
+        assert getattr(wc, q).min == pytest.approx(values.min(), rel=1e-10)
+        assert getattr(wc, q).max == pytest.approx(values.max(), rel=1e-10)
+    # The upper point is greatest at the top of the reference's box, at one end of the range.
+    corner = wc.upper.max_corner
+    assert corner["reference.drift"] == 30.0 and corner["temperature"] in (-40.0, 85.0)
 
 
 def points_of_array(design, values):
@@ -278,9 +286,9 @@ def test_wilson_interval_published_example():
     assert (round(low, 4), round(high, 4)) == (0.2553, 0.3662)
 
 
-@pytest.mark.parametrize("samples", [5, 10_000_001, 2.5, True])
+@pytest.mark.parametrize("samples", [5, 2_000_001, 2.5, True])
 def test_bad_sample_counts_are_refused(samples, demo):
-    with pytest.raises(SpreadError, match="samples: must be a whole number from 10 to 10,000,000"):
+    with pytest.raises(SpreadError, match="samples: must be a whole number from 10 to 2,000,000"):
         monte_carlo(demo(SUMP), samples=samples)
 
 
@@ -347,7 +355,10 @@ def test_factors_list_what_varies(demo):
     names = [f.name for f in factors(demo(SOLAR))]
     assert names[:5] == ["resistors.input", "resistors.feedback", "output.pullup", "front_end.top",
                          "front_end.bottom"]
-    assert {"temperature", "reference.drift", "comparator.offset_drift"} <= set(names)
+    # Each resistor's own coefficient, the drifts; the temperature is the range, not a factor.
+    assert {"resistors.input.tempco", "front_end.top.tempco", "reference.drift",
+            "comparator.offset_drift"} <= set(names)
+    assert "temperature" not in names
     # The pull-up follows the 5 V rail; the 0 V rail is not varied.
     assert "supply.negative" not in names
 
@@ -392,7 +403,7 @@ def test_cli_bad_samples_and_bad_file(tmp_path, capsys, demo_path):
     with pytest.raises(SystemExit) as exit_:
         main(["spread", demo_path(SUMP), "--samples", "lots"])
     assert exit_.value.code == 2
-    assert "--samples: must be a whole number from 10 to 10,000,000" in capsys.readouterr().err
+    assert "--samples: must be a whole number from 10 to 2,000,000" in capsys.readouterr().err
     bad = tmp_path / "bad.json"
     data = json.loads(Path(demo_path(SUMP)).read_text())
     data["tolerances"]["supply"] = 80
@@ -431,6 +442,259 @@ def test_thermistor_front_end_tolerances_are_varied_in_the_watched_quantity(demo
     s = spread(design, samples=2_000)
     assert s.unit == "C" and spread_to_dict(s)["unit"] == "C"
     assert 25 < s.monte_carlo.upper.mean < 40
+
+
+# --- each build over the operating range ---------------------------------------------------------
+
+def basic_design(tolerances):
+    """Non-inverting stage on 5 V: 2.5 V fixed reference, 10 kOhm in, 39 kOhm feedback, an ideal
+    rail-to-rail output, no source resistance, no bias current."""
+    from bandcalc.model.design import Design, FixedReference, PushPull, Resistors, Supply
+
+    return Design(stage="non-inverting", supply=Supply(5.0), reference=FixedReference(2.5),
+                  resistors=Resistors(input=10e3, feedback=39e3), output=PushPull(), tolerances=tolerances)
+
+
+def basic_points(v_ref, offset, r_in, r_f, rail):
+    """Sedra & Smith, bistable circuits, non-inverting form with a reference (from memory): the output
+    swings 0 V to the rail; V_up = (Vref + Vos)(1 + R1/R2), V_lo = V_up - rail R1/R2."""
+    k = r_in / r_f
+    upper = (v_ref + offset) * (1 + k)
+    return upper, upper - rail * k
+
+
+def grid_extremes(x, span, grid):
+    """Each build's least and greatest upper point, lower point and hysteresis over a temperature grid,
+    the reference at both edges of its box: written out here, independently of the package."""
+    t = grid[None, :] - 25.0
+    r_in = x["resistors.input"][:, None] * (1 + 1e-6 * x["resistors.input.tempco"][:, None] * t)
+    r_f = x["resistors.feedback"][:, None] * (1 + 1e-6 * x["resistors.feedback.tempco"][:, None] * t)
+    offset = x["comparator.offset"][:, None] + x["comparator.offset_drift"][:, None] * t
+    out = {q: [] for q in QUANTITIES}
+    for edge in (-1.0, 1.0):
+        v_ref = x["reference.volts"][:, None] * (1 + 1e-6 * x["reference.drift"][:, None] * span * edge)
+        up, lo = basic_points(v_ref, offset, r_in, r_f, 5.0)
+        for q, v in (("upper", up), ("lower", lo), ("hysteresis", up - lo)):
+            out[q].append(v)
+    return {q: np.concatenate(v, axis=1) for q, v in out.items()}
+
+
+@pytest.mark.parametrize("tempco, drift", [(100.0, 1e-4), (2000.0, 1e-3)], ids=["parts", "extreme"])
+def test_each_builds_extremes_over_the_range_equal_a_dense_grid(tempco, drift):
+    # Opposite resistor coefficients against an offset drift turn the points inside the range; half the
+    # builds take the drift that nearly cancels the upper point's slope at 25 C, so that many turn.  The
+    # package's extremes (five temperatures, turning points, the dense fallback for the extreme
+    # coefficients) must be the grid's, to the grid's own resolution.
+    from bandcalc.spread.factors import VariedModel
+    from bandcalc.spread.over_range import over_range
+
+    tol = Tolerances(resistors=PerResistor(1.0), reference=0.5, offset=0.002, temperature=(-40.0, 85.0),
+                     resistor_tempco=PerResistor(tempco), reference_drift=50.0, offset_drift=drift)
+    model = VariedModel(basic_design(tol), None)
+    n, rng = 3000, np.random.default_rng(5)
+    x = model.unit_values(rng.uniform(-1, 1, (n, len(model.factors))))
+    k = x["resistors.input"] / x["resistors.feedback"]
+    slope = (x["reference.volts"] + x["comparator.offset"]) * k * 1e-6 * (
+        x["resistors.input.tempco"] - x["resistors.feedback.tempco"]) / (1 + k)
+    half = np.arange(n) < n // 2
+    x["comparator.offset_drift"] = np.where(half, -slope * (1 + rng.uniform(-2e-3, 2e-3, n)),
+                                            x["comparator.offset_drift"])
+    grid = np.linspace(-40.0, 85.0, 2001)
+    expected = grid_extremes(x, 125.0, grid)
+    got = over_range(model, x, n)
+    interior = 0
+    for q in QUANTITIES:
+        values = expected[q]
+        least, greatest = values.min(axis=1), values.max(axis=1)
+        # Between grid points a curve strays from the grid's values by at most its curvature x step^2 / 8,
+        # which the grid's second differences give (first principles).
+        bend = np.abs(np.diff(values.reshape(n, 2, grid.size), 2, axis=2)).max(axis=(1, 2)) / 8 + 1e-13
+        assert np.all(least - got.lowest[q] <= 1.5 * bend) and np.all(got.highest[q] - greatest <= 1.5 * bend)
+        assert np.all(got.lowest[q] <= least + 1e-13) and np.all(got.highest[q] >= greatest - 1e-13)
+        at = np.argmax(values, axis=1) % grid.size
+        interior += int(np.count_nonzero((at > 0) & (at < grid.size - 1)))
+    assert interior >= 0.05 * n  # the test does reach builds that turn inside the range
+
+
+def test_per_build_yield_over_the_range_against_a_dense_grid_and_not_a_random_temperature():
+    # Reference drift 100 ppm/K over -40 to 85 C and windows on both points.  The test draws its own
+    # builds (normal, the tolerance at 3 sigma) and checks each over a 401-point temperature grid with
+    # the reference at both edges of its box: the package's per-build yield agrees.  Drawing one random
+    # temperature per build instead (the reference then at V25 (1 + drift (T - 25 C))) gives a clearly
+    # higher figure: a build that passes at one temperature need not pass over the range.
+    tol = Tolerances(resistors=PerResistor(1.0), reference=0.5, offset=0.004, supply=1.0,
+                     temperature=(-40.0, 85.0), reference_drift=100.0, offset_drift=2e-5,
+                     limits=Limits(upper=(3.11, 3.16), lower=(1.84, 1.90)))
+    design = basic_design(tol)
+    rng = np.random.default_rng(11)
+    n = 40_000
+
+    def normal(nominal, half):
+        return nominal + half * rng.standard_normal(n) / 3
+
+    r_in, r_f = normal(10e3, 100.0), normal(39e3, 390.0)
+    v25, off, rail = normal(2.5, 0.0125), normal(0.0, 0.004), normal(5.0, 0.05)
+    drift, off_drift = normal(0.0, 100.0), normal(0.0, 2e-5)
+    grid = np.linspace(-40.0, 85.0, 401)[None, :]
+    passed = np.ones(n, dtype=bool)
+    for edge in (-1.0, 1.0):
+        up, lo = basic_points(v25[:, None] * (1 + 1e-6 * drift[:, None] * 125.0 * edge),
+                              off[:, None] + off_drift[:, None] * (grid - 25.0), r_in[:, None], r_f[:, None],
+                              rail[:, None])
+        inside = (up >= 3.11) & (up <= 3.16) & (lo >= 1.84) & (lo <= 1.90)
+        passed &= np.all(inside, axis=1)
+    t = rng.uniform(-40.0, 85.0, n)
+    up, lo = basic_points(v25 * (1 + 1e-6 * drift * (t - 25.0)), off + off_drift * (t - 25.0), r_in, r_f,
+                          rail)
+    random_t = np.mean((up >= 3.11) & (up <= 3.16) & (lo >= 1.84) & (lo <= 1.90))
+    over_range = passed.mean()
+
+    y = monte_carlo(design, samples=100_000, seed=2).build_yield
+    sigma = math.sqrt(over_range * (1 - over_range) * (1 / n + 1 / y.samples))
+    assert 0.5 < over_range < 0.9
+    assert y.fraction == pytest.approx(over_range, abs=4 * sigma)
+    assert random_t - over_range > 10 * sigma  # the random-temperature model reads clearly higher
+
+
+def test_two_untracked_resistors_move_the_hysteresis_as_worked_by_hand(demo):
+    # The sump demo's input (10 kOhm behind the 100 Ohm source) and feedback (39 kOhm behind the output's
+    # 50 Ohm) resistors, each rated +/-100 ppm/K on its own, over -40 to 85 C, nothing else varied.
+    # First principles: the hysteresis is (V_H - V_L) (R_s + R_in) / (R_f + R_o) with V_H - V_L =
+    # 4.95 V - 0.05 V.  The ratio moves furthest at -40 C (t = -65 K, against +60 K at 85 C): greatest
+    # with R_in rising and R_f falling there (alpha_in = -100, alpha_f = +100 ppm/K), least the other
+    # way round: 1251.07 mV to 1283.84 mV, 1251..1283 mV to the whole millivolt.
+    def hysteresis(a_in, a_f, t):
+        return 4.9 * (100 + 10e3 * (1 + a_in * t)) / (39e3 * (1 + a_f * t) + 50)
+
+    tol = Tolerances(resistors=PerResistor(0.0), temperature=(-40.0, 85.0),
+                     resistor_tempco=PerResistor(100.0))
+    wc = worst_case(with_tolerances(demo(SUMP), tol))
+    assert wc.hysteresis.max == pytest.approx(hysteresis(-100e-6, 100e-6, -65.0), rel=1e-12)
+    assert wc.hysteresis.min == pytest.approx(hysteresis(100e-6, -100e-6, -65.0), rel=1e-12)
+    assert (math.floor(1e3 * wc.hysteresis.min), math.floor(1e3 * wc.hysteresis.max)) == (1251, 1283)
+    assert wc.hysteresis.max_corner["temperature"] == wc.hysteresis.min_corner["temperature"] == -40.0
+    # A network whose resistors share one coefficient (tracking 0) barely moves it: 1267.28..1267.42 mV.
+    shared = dataclasses.replace(tol, resistor_tempco=PerResistor(), resistor_networks=(
+        ResistorNetwork("RN1", ("input", "feedback"), tempco=100.0, tracking=0.0),))
+    wc = worst_case(with_tolerances(demo(SUMP), shared))
+    same = [hysteresis(a, a, t) for a in (-100e-6, 100e-6) for t in (-65.0, 60.0)]
+    assert (wc.hysteresis.min, wc.hysteresis.max) == pytest.approx((min(same), max(same)), rel=1e-12)
+    assert (round(1e3 * wc.hysteresis.min, 2), round(1e3 * wc.hysteresis.max, 2)) == (1267.28, 1267.42)
+
+
+def test_a_network_tracking_bound_spreads_its_members_by_hand(demo):
+    # Members' coefficients: the network's common one within +/-50 ppm/K plus each one's own within
+    # +/-5 ppm/K (tracking 10 ppm/K: no two differ by more).  The hysteresis extremes sit at the corners
+    # of (common, own_in, own_f) at an end of the range (first principles, as above).
+    tol = Tolerances(resistors=PerResistor(0.0), temperature=(-40.0, 85.0), resistor_networks=(
+        ResistorNetwork("RN1", ("input", "feedback"), tempco=50.0, tracking=10.0),))
+    design = with_tolerances(demo(SUMP), tol)
+    names = {f.name for f in factors(design)}
+    assert names == {"resistor_networks.RN1.tempco", "resistors.input.tempco", "resistors.feedback.tempco"}
+    values = [4.9 * (100 + 10e3 * (1 + 1e-6 * (c + d1) * t)) / (39e3 * (1 + 1e-6 * (c + d2) * t) + 50)
+              for c in (-50, 50) for d1 in (-5, 5) for d2 in (-5, 5) for t in (-65.0, 60.0)]
+    wc = worst_case(design)
+    assert (wc.hysteresis.min, wc.hysteresis.max) == pytest.approx((min(values), max(values)), rel=1e-12)
+
+
+def test_reference_drift_by_the_box_method_over_the_whole_range(demo):
+    # Box method (common practice): a data sheet's drift is (V_max - V_min) / (V25 x (T_high - T_low)),
+    # so over the range the reference stays within V25 +/- drift x V25 x (high - low), shape unknown.
+    # Over -40 to 85 C at 100 ppm/K that is +/-1.25 %, not the 0.65 % of drift x 65 K from 25 C.
+    tol = Tolerances(resistors=PerResistor(0.0), temperature=(-40.0, 85.0), reference_drift=100.0)
+    design = with_tolerances(basic_design(None), tol)
+    wc = worst_case(design)
+    k = 10e3 / 39e3
+    assert wc.upper.max == pytest.approx(2.5 * 1.0125 * (1 + k), rel=1e-12)
+    assert wc.upper.min == pytest.approx(2.5 * 0.9875 * (1 + k), rel=1e-12)
+    assert wc.lower.min == pytest.approx(2.5 * 0.9875 * (1 + k) - 5 * k, rel=1e-12)
+    # A drift moves the points at every temperature alike, so the hysteresis does not move.
+    assert wc.hysteresis.min == pytest.approx(wc.hysteresis.max, rel=1e-12)
+
+
+@pytest.mark.parametrize("distribution", ["screened", "uniform"])
+def test_screened_and_uniform_builds_never_leave_the_worst_case_box(distribution, each_demo):
+    tol = dataclasses.replace(HOT, distribution=distribution)
+    s = spread(with_tolerances(each_demo, tol), samples=20_000, seed=3)
+    for q in QUANTITIES:
+        e, mc = getattr(s.worst_case, q), s.monte_carlo
+        span = e.max - e.min
+        assert mc.lowest[q].min >= e.min - 1e-12 * span
+        assert mc.highest[q].max <= e.max + 1e-12 * span
+
+
+def test_normal_builds_may_leave_the_worst_case_box(demo):
+    # A normal distribution keeps 0.27 % of each part beyond its tolerance (standard normal tables):
+    # with ten factors some builds fall outside the box.
+    s = spread(demo(SUMP), samples=200_000, seed=3)
+    outside = [q for q in QUANTITIES if s.monte_carlo.lowest[q].min < getattr(s.worst_case, q).min
+               or s.monte_carlo.highest[q].max > getattr(s.worst_case, q).max]
+    assert outside
+
+
+def test_screened_draws_are_a_normal_cut_at_the_tolerance():
+    # Reference library: scipy.stats.truncnorm(-3, 3), the standard normal cut at +/-3 sigma.
+    from bandcalc.spread.draws import Stream
+
+    z = Stream("screened", np.random.default_rng(4)).take(2_000_000)
+    assert np.abs(z).max() <= 1.0
+    cut = stats.truncnorm(-3, 3)
+    assert np.std(3 * z) == pytest.approx(cut.std(), rel=2e-3)
+    for edge in (0.5, 1.0, 2.0, 2.9):
+        expected = cut.cdf(edge) - cut.cdf(-edge)
+        assert np.mean(np.abs(3 * z) <= edge) == pytest.approx(expected, abs=5 * math.sqrt(expected / z.size))
+    # The same stream whatever the blocks.
+    stream = Stream("screened", np.random.default_rng(4))
+    blocks = np.concatenate([stream.take(n) for n in (7, 1000, 3, 500_000, 1_498_990)])
+    assert np.array_equal(blocks, z)
+
+
+def test_where_builds_fail_names_the_window_and_the_temperature():
+    # Only the offset drifts (+/-200 uV/K, normal): the upper point is highest at one end of the range,
+    # so builds that pass the upper window's top fail at 85 C or at -40 C, never inside.
+    tol = Tolerances(resistors=PerResistor(0.0), offset=0.0, temperature=(-40.0, 85.0), offset_drift=2e-4,
+                     limits=Limits(upper=(None, 3.16)))
+    s = spread(basic_design(tol), samples=50_000, seed=1)
+    (place,) = s.monte_carlo.build_yield.places
+    assert (place.quantity, place.side, place.limit) == ("upper", "above", 3.16)
+    low, high = place.at_ends
+    assert place.builds == low + high == s.monte_carlo.samples - s.monte_carlo.build_yield.passed > 0
+    # By hand: V_up = (2.5 + drift (T - 25 C)) (1 + R1/R2) passes 3.16 V for drift > 0.0175 / 60 per K at
+    # 85 C or drift < -0.0175 / 65 at -40 C; P(Z > 3 x 0.0175 / (60 x 2e-4 x 1.2564...)) each side.
+    k = 1 + 10e3 / 39e3
+    excess = 3.16 / k - 2.5
+    assert high / place.builds == pytest.approx(stats.norm.sf(3 * excess / (60 * 2e-4))
+                                                / (stats.norm.sf(3 * excess / (60 * 2e-4))
+                                                   + stats.norm.sf(3 * excess / (65 * 2e-4))), abs=0.05)
+    words = " ".join(failure_places(s))
+    assert "Upper point above 3.16 V" in words and "at 85 C" in words and "at -40 C" in words
+
+
+def test_json_is_strict_where_a_figure_does_not_exist(demo):
+    # A worst case or sensitivity figure that does not exist (NaN) is null in JSON, never NaN.
+    s = spread(demo(SUMP), samples=1_000)
+    nan = float("nan")
+    broken = dataclasses.replace(s, worst_case=dataclasses.replace(
+        s.worst_case,
+        upper=dataclasses.replace(s.worst_case.upper, max=nan, max_corner={"temperature": nan})))
+    text = dumps(spread_to_dict(broken))  # as the command line writes it
+    out = json.loads(text)
+    assert out["worst_case"]["upper"]["max"] is None
+    assert out["not_finite"] == {"worst_case.upper.max": "NaN",
+                                 "worst_case.upper.max_corner.temperature": "NaN"}
+
+
+def test_a_spread_that_refuses_says_why_on_the_command_line(tmp_path, capsys, demo_path):
+    # Output limits that leave out the design's own value: the command names the key and goes on.
+    data = json.loads(Path(demo_path(SUMP)).read_text())
+    data["tolerances"]["output"] = {"high_drop": [0.1, 0.3]}
+    bad = tmp_path / "limits.json"
+    bad.write_text(json.dumps(data))
+    assert main(["spread", str(bad), demo_path(SUMP), "--samples", "1000", "--json"]) == 2
+    captured = capsys.readouterr()
+    assert (f"{bad}: tolerances.output.high_drop: [0.1, 0.3] V must include the design's output.high_drop, "
+            "0.05 V") in captured.err
+    assert json.loads(captured.out)["name"] == "Sump level switch"
 
 
 # --- corners where the stage has no switching point --------------------------------------------

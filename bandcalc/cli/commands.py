@@ -23,7 +23,14 @@ from bandcalc.fit.selection import MAX_COUNT, FitResult, fit, fit_to_dict
 from bandcalc.model.design import Design
 from bandcalc.model.design_file import load_design
 from bandcalc.model.operating import Analysis, analysis_to_dict, analyze
-from bandcalc.model.units import format_ohms, format_si, format_value, parse_quantity, parse_resistance
+from bandcalc.model.units import (
+    format_ohms,
+    format_probability,
+    format_si,
+    format_value,
+    parse_quantity,
+    parse_resistance,
+)
 from bandcalc.outputs.netlist import BENCHES, netlist
 from bandcalc.outputs.strict_json import dumps
 from bandcalc.signal_check.edges import run_design, run_points
@@ -36,6 +43,8 @@ from bandcalc.spread.propagation import (
     MAX_SAMPLES,
     MIN_SAMPLES,
     Spread,
+    corner_words,
+    failure_places,
     spread,
     spread_to_dict,
 )
@@ -303,43 +312,58 @@ def _short(name: str) -> str:
     return name.removeprefix("resistors.")
 
 
+def _failure_line(f) -> str:
+    return (f"failure probability: {format_probability(f.probability)} (95 % interval "
+            f"{format_probability(f.low)} to {format_probability(f.high)}); {f.method}")
+
+
 def _spread_table(path: str, s: Spread) -> str:
     unit = visible_text(s.unit)
     v = lambda x: format_value(x, unit, 4)  # noqa: E731
     wc, mc, se = s.worst_case, s.monte_carlo, s.sensitivity
     wrap = lambda text: textwrap.fill(text, 100, initial_indent="    ", subsequent_indent="      ")  # noqa: E731
-    by_name = {f.name: f for f in s.factors}
-    lines = [_heading(s.design, path), "  varied:"]
-    lines += [wrap(f"{_short(f.name)} {f.format(f.low)} to {f.format(f.high)} ({f.origin})")
+    lines = [_heading(s.design, path), "  varied:"]  # a network's name is the user's text
+    lines += [wrap(visible_text(f"{_short(f.name)} {f.format(f.low)} to {f.format(f.high)} ({f.origin})"))
               for f in s.factors] or ["    nothing: every part is exact"]
+    span = s.tolerances.temperature
+    lines.append("  temperature: " + ("25 C only (no range given)" if span is None else
+                                      f"{span[0]:g} to {span[1]:g} C; each build must hold at every "
+                                      "temperature of the range"))
     rows = [("nominal", wc.nominal), ("worst-case min", {q: getattr(wc, q).min for q in QUANTITIES}),
             ("worst-case max", {q: getattr(wc, q).max for q in QUANTITIES}),
             ("mean", {q: getattr(mc, q).mean for q in QUANTITIES}),
-            ("std deviation", {q: getattr(mc, q).std for q in QUANTITIES})]
-    rows += [(f"{p:g} % of builds", {q: getattr(mc, q).percentiles[p] for q in QUANTITIES})
-             for p in (0.135, 99.865)]
-    spread_kind = ("normal, tolerance = 3 sigma" if s.tolerances.distribution == "normal"
-                   else "uniform within the tolerance")
-    lines.append(f"  Monte Carlo: {mc.samples:,} builds, {spread_kind}, seed {mc.seed}")
+            ("std deviation", {q: getattr(mc, q).std for q in QUANTITIES}),
+            ("0.135 % of builds", {q: mc.lowest[q].percentiles[0.135] for q in QUANTITIES}),
+            ("99.865 % of builds", {q: mc.highest[q].percentiles[99.865] for q in QUANTITIES})]
+    spread_kind = {"normal": "normal, tolerance = 3 sigma", "screened": "normal cut at the tolerance",
+                   "uniform": "uniform within the tolerance"}[s.tolerances.distribution]
+    middle = "" if span is None else (f"; mean and std at {mc.middle:g} C, percentiles of each build's "
+                                      "extremes")
+    lines.append(f"  Monte Carlo: {mc.samples:,} builds, {spread_kind}, seed {mc.seed}{middle}")
     lines.append(f"  {'':<18} {'upper':>12} {'lower':>12} {'hysteresis':>12}")
     lines += [f"  {label:<18} " + " ".join(f"{v(vals[q]):>12}" for q in QUANTITIES) for label, vals in rows]
     y = mc.build_yield
     if y is not None:
         windows = ", ".join(_window(q, lo, hi, unit) for q, (lo, hi) in y.windows.items())
-        lines.append(wrap(f"yield: {100 * y.fraction:.3f} % of builds inside {windows} "
+        lines.append(wrap(f"yield: {100 * y.fraction:.3f} % of builds inside {windows}"
+                          f"{'' if span is None else ' over the whole range'} "
                           f"(95 % interval {100 * y.low:.3f} % to {100 * y.high:.3f} %)")[2:])
+        if y.failure is not None:
+            lines.append(wrap(_failure_line(y.failure))[2:])
+        lines += _listed((("where builds fail", failure_places(s)),), lambda text: wrap(f"- {text}"))
     lines.append(f"  worst corners ({wc.method}):")
     for q in QUANTITIES:
         for end in ("min", "max"):
             corner = getattr(getattr(wc, q), f"{end}_corner")
-            at = ", ".join(f"{_short(k)} {by_name[k].format(x)}" for k, x in corner.items())
+            at = visible_text(corner_words(s.factors, corner, _short))
             lines.append(wrap(f"{q} {end} {v(getattr(getattr(wc, q), end))} at: {at or 'nominal'}"))
     lines.append("  largest shares of the variance (first order):")
     for q in QUANTITIES:
         top = [f"{_short(sh.factor)} {100 * sh.share:.0f} %" for sh in getattr(se, q)[:4]
                if sh.share >= 0.005]
-        lines.append(wrap(f"{q}: {', '.join(top) or 'none'}"))
-    lines += _listed((("notes", s.notes), ("cautions", s.cautions)), lambda text: wrap(f"- {text}"))
+        lines.append(wrap(visible_text(f"{q}: {', '.join(top) or 'none'}")))
+    lines += _listed((("model", s.simplifications), ("notes", s.notes), ("cautions", s.cautions)),
+                     lambda text: wrap(f"- {text}"))
     return "\n".join(lines)
 
 

@@ -186,9 +186,12 @@ class Load:
 
 @dataclass(frozen=True)
 class Comparator:
-    """The comparator's input errors, its input limits and propagation delay.
+    """The comparator's input errors, built-in hysteresis, its input limits and propagation delay.
 
-    The stage switches where V+ - V- = offset; ``bias_current`` flows into each input pin.
+    The stage switches where V+ - V- = offset + hysteresis/2 while the output is low, and where it
+    is offset - hysteresis/2 while the output is high (the trip points data sheets state for parts
+    with hysteresis built in).  ``bias_current`` flows into each input pin on average;
+    ``offset_current`` is the + pin's current less the - pin's (None: 0).
     ``common_mode_low`` / ``common_mode_high`` bound the input voltage range over which the part
     works as specified; ``input_current_limit`` (A) is the most its input protection may carry
     (None: :data:`bandcalc.model.range_checks.INPUT_CURRENT_LIMIT`); ``differential_max`` (V) the
@@ -200,12 +203,18 @@ class Comparator:
     common_mode_low: float | None = None
     common_mode_high: float | None = None
     delay: float = 0.0
+    hysteresis: float | None = None
+    offset_current: float | None = None
     input_current_limit: float | None = None
     differential_max: float | None = None
 
     def __post_init__(self) -> None:
         voltage(self.offset, "comparator.offset")
         within(self.bias_current, "comparator.bias_current", -AMPS, AMPS, "A")
+        if self.hysteresis is not None:
+            voltage(self.hysteresis, "comparator.hysteresis", low=0.0)
+        if self.offset_current is not None:
+            within(self.offset_current, "comparator.offset_current", -AMPS, AMPS, "A")
         within(self.delay, "comparator.delay", 0.0, SECONDS, "s")
         if self.input_current_limit is not None:
             within(self.input_current_limit, "comparator.input_current_limit", 1e-9, AMPS, "A")

@@ -59,7 +59,8 @@ _TOP_KEYS = ("format", "name", "notes", "stage", "supply", "reference", "resisto
 _UNITS = {"volts": "V", "offset": "V", "bias_current": "A", "delay": "s", "load_capacitance": "F",
           "high_drop": "V", "low_drop": "V", "pullup_volts": "V", "low_volts": "V",
           "positive": "V", "negative": "V", "common_mode_low": "V", "common_mode_high": "V",
-          "low": "V", "high": "V", "logic_low_max": "V", "logic_high_min": "V",
+          "low": "V", "high": "V", "hysteresis": "V", "offset_current": "A",
+          "logic_low_max": "V", "logic_high_min": "V",
           "input_current_limit": "A", "differential_max": "V"}
 _OHM_KEYS = {"resistance", "pullup", "top", "bottom", *RESISTOR_KEYS}
 #: Largest design file read, bytes.  A design file is one to two kilobytes (the demos are); a

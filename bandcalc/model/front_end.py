@@ -56,6 +56,7 @@ from bandcalc.model.validation import (
 )
 
 __all__ = [
+    "BETA_PAIR",
     "DISSIPATION_CONSTANT",
     "EXCITATIONS",
     "POSITIONS",
@@ -82,6 +83,9 @@ SELF_HEATING_LIMIT = 0.1
 # Default watched range of a thermistor, C: the -55 to +150 C that NTC parts are commonly
 # rated over (common practice); give front_end.low / high for the application's own range.
 THERMISTOR_RANGE = (-55.0, 150.0)
+# A Beta without its pair is taken as measured between 25 C and 50 C (B25/50), the pair NTC data
+# sheets most often state (common practice); B25/85 is the other usual one.
+BETA_PAIR = (25.0, 50.0)
 # NTC thermistors have Betas of about 2,000 to 5,000 K (common practice); 100 K to 20,000 K
 # refuses only slips of the finger (1.3e7 for 3950).
 BETA = (100.0, 20e3)
@@ -96,6 +100,14 @@ _CURVE_GRID = np.linspace(0.0, 1.0, 9)
 
 
 # --- the front ends -----------------------------------------------------------------------------
+
+def _percent(value: float | None, key: str) -> None:
+    """A tolerance in percent, from 0 to below 100 (None: not given)."""
+    if value is not None:
+        finite(value, key)
+        if not 0 <= value < 100:
+            raise DesignError(f"{key}: a percentage from 0 to below 100, got {value!r}")
+
 
 def _range_checked(low: float | None, high: float | None, bounds: tuple[float, float] | None = None,
                    unit: str = "") -> None:
@@ -189,7 +201,11 @@ class DividerFrontEnd(_Base):
 
 @dataclass(frozen=True)
 class LinearFrontEnd(_Base):
-    """A sensor whose output is ``offset + volts_per_unit * x`` volts behind ``resistance`` ohms."""
+    """A sensor whose output is ``offset + volts_per_unit * x`` volts behind ``resistance`` ohms.
+
+    ``offset_tolerance`` (V, +/-) and ``span_tolerance`` (percent of ``volts_per_unit``, +/-) are
+    the sensor's accuracy as its data sheet states it; the spread varies both.
+    """
 
     volts_per_unit: float
     unit: str
@@ -197,6 +213,8 @@ class LinearFrontEnd(_Base):
     resistance: float = 0.0
     low: float | None = None
     high: float | None = None
+    offset_tolerance: float | None = None
+    span_tolerance: float | None = None
 
     kind: ClassVar[str] = "linear"
     affine: ClassVar[bool] = True
@@ -214,6 +232,9 @@ class LinearFrontEnd(_Base):
         text(self.unit, "front_end.unit")
         if not self.unit.strip():
             raise DesignError("front_end.unit: give the watched quantity's unit as text, e.g. \"kPa\"")
+        if self.offset_tolerance is not None:
+            voltage(self.offset_tolerance, "front_end.offset_tolerance", low=0.0)
+        _percent(self.span_tolerance, "front_end.span_tolerance")
         _range_checked(self.low, self.high)
         for key in ("low", "high"):
             x = getattr(self, key)
@@ -258,7 +279,9 @@ class ThermistorFrontEnd(_Base):
     falls as the temperature rises; "top": excitation to node).  ``excitation``: "positive" (the
     positive rail), "reference" (``reference.volts``) or a voltage.  ``dissipation_constant``
     (W/K) sizes the self-heating; ``r25_tolerance`` and ``beta_tolerance`` are percent; ``low``
-    and ``high`` the temperature range watched, C.
+    and ``high`` the temperature range watched, C.  ``beta_temperatures`` (C, C) are the two
+    temperatures the Beta was measured between, as the data sheet states it (B25/50, B25/85);
+    None: 25 C and 50 C, :data:`BETA_PAIR`, assumed.
     """
 
     fixed: float
@@ -272,6 +295,7 @@ class ThermistorFrontEnd(_Base):
     beta_tolerance: float | None = None
     low: float | None = None
     high: float | None = None
+    beta_temperatures: tuple[float, float] | None = None
 
     kind: ClassVar[str] = "thermistor"
     unit: ClassVar[str] = "C"
@@ -311,11 +335,9 @@ class ThermistorFrontEnd(_Base):
         positive(self.dissipation_constant, "front_end.dissipation_constant")
         within(self.dissipation_constant, "front_end.dissipation_constant", *DISSIPATION, "W/K")
         for key in ("r25_tolerance", "beta_tolerance"):
-            value = getattr(self, key)
-            if value is not None:
-                finite(value, f"front_end.{key}")
-                if not 0 <= value < 100:
-                    raise DesignError(f"front_end.{key}: a percentage from 0 to below 100, got {value!r}")
+            _percent(getattr(self, key), f"front_end.{key}")
+        if self.beta_temperatures is not None:
+            self._check_beta_temperatures()
         _range_checked(self.low, self.high, CELSIUS, "C")
         low, high = self.temperatures()
         if low <= -KELVIN_AT_0C:
@@ -368,6 +390,27 @@ class ThermistorFrontEnd(_Base):
                           f"{THERMISTOR_RANGE[1]:g} C the thermistor's resistance would reach "
                           f"{_ohms(curve[bad][0])} (at {at:g} C), where {allowed()}; give front_end.low / "
                           "front_end.high, or check r25 and beta")
+
+    def _check_beta_temperatures(self) -> None:
+        where, pair = "front_end.beta_temperatures", self.beta_temperatures
+        if self.beta is None:
+            raise DesignError(f"{where}: only with beta (Steinhart-Hart coefficients need no pair)")
+        if not isinstance(pair, (tuple, list)) or len(pair) != 2:
+            raise DesignError(f"{where}: give the two temperatures in C the Beta was measured between, "
+                              "such as [25, 50] or [25, 85]")
+        for value in pair:
+            finite(value, where)
+            if value <= -KELVIN_AT_0C:
+                raise DesignError(f"{where}: {value} C is not above absolute zero")
+            within(value, where, *CELSIUS, "C")
+        if pair[0] >= pair[1]:
+            raise DesignError(f"{where}: the first temperature must be below the second, got {list(pair)}")
+        object.__setattr__(self, "beta_temperatures", (float(pair[0]), float(pair[1])))
+
+    @property
+    def beta_pair(self) -> tuple[float, float]:
+        """The temperatures (C) the Beta was measured between: as given, else :data:`BETA_PAIR`."""
+        return BETA_PAIR if self.beta_temperatures is None else self.beta_temperatures
 
     def temperatures(self) -> tuple[float, float]:
         """The watched range, C (defaults: :data:`THERMISTOR_RANGE`)."""
@@ -498,7 +541,8 @@ def front_end_of(design: Design) -> FrontEnd | DirectInput:
 
 _CLASSES: dict[str, type] = {c.kind: c for c in (DividerFrontEnd, ThermistorFrontEnd, LinearFrontEnd)}
 _OHMS = ("top", "bottom", "fixed", "r25", "resistance")
-_READ_UNITS = {"beta": "K", "offset": "V", "excitation": "V", "dissipation_constant": ""}
+_READ_UNITS = {"beta": "K", "offset": "V", "excitation": "V", "dissipation_constant": "",
+               "offset_tolerance": "V"}
 
 
 def _read(key: str, raw: Any, unit: str) -> Any:
@@ -511,10 +555,15 @@ def _read(key: str, raw: Any, unit: str) -> Any:
         if not isinstance(raw, list) or len(raw) != 3:
             raise DesignError(f"{where}: give three coefficients [A, B, C]")
         return tuple(_read(f"steinhart_hart[{i}]", v, "") for i, v in enumerate(raw))
+    if key == "beta_temperatures":
+        if not isinstance(raw, list) or len(raw) != 2:
+            raise DesignError(f"{where}: give the two temperatures in C the Beta was measured between, "
+                              "such as [25, 50] or [25, 85]")
+        return tuple(_read(f"beta_temperatures[{i}]", v, "C") for i, v in enumerate(raw))
     try:
         if key in _OHMS:
             return parse_resistance(raw, where)
-        if key in ("low", "high"):
+        if key in ("low", "high") or key.startswith("beta_temperatures["):
             return parse_quantity(raw, unit, where)
         return parse_quantity(raw, _READ_UNITS.get(key, ""), where)
     except UnitError as exc:
@@ -542,12 +591,24 @@ def front_end_from_dict(data: Any) -> FrontEnd | None:
     return cls(**{k: _read(k, v, unit) for k, v in data.items() if k != "kind" and v is not None})
 
 
-def front_end_tolerances(front_end: FrontEnd) -> dict[str, float]:
-    """The front end's own tolerances as fractions, keyed by parameter name (thermistor R25, Beta)."""
-    out: dict[str, float] = {}
+def front_end_tolerances(front_end: FrontEnd | DirectInput) -> dict[str, tuple[float, float, str]]:
+    """The front end's own tolerances: for each varied parameter (by name) its least and greatest
+    value and where they come from ("1 %", "+/-10 mV"): a thermistor's R25 and Beta, a linear
+    sensor's offset and span."""
+    out: dict[str, tuple[float, float, str]] = {}
+
+    def relative(key: str, nominal: float, percent: float | None) -> None:
+        if percent:
+            half = abs(nominal) * percent / 100.0
+            out[key] = (nominal - half, nominal + half, f"{percent:g} %")
+
     if isinstance(front_end, ThermistorFrontEnd):
-        if front_end.r25_tolerance is not None:
-            out["front_end.r25"] = front_end.r25_tolerance / 100.0
-        if front_end.beta_tolerance is not None:
-            out["front_end.beta"] = front_end.beta_tolerance / 100.0
+        relative("front_end.r25", front_end.nominal_r25, front_end.r25_tolerance)
+        if front_end.beta is not None:
+            relative("front_end.beta", front_end.beta, front_end.beta_tolerance)
+    elif isinstance(front_end, LinearFrontEnd):
+        if front_end.offset_tolerance:
+            half = front_end.offset_tolerance
+            out["front_end.offset"] = (front_end.offset - half, front_end.offset + half, f"+/-{half:g} V")
+        relative("front_end.volts_per_unit", front_end.volts_per_unit, front_end.span_tolerance)
     return out

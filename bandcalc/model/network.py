@@ -6,11 +6,14 @@ node with a resistance of its own (the output behind its pull-up or output resis
 load it drives; a reference divider), that node is replaced by its Thevenin equivalent, so the + pin is solved
 by Millman's theorem with the current drawn by the pin:
 
-    V+ = (sum(V_k / R_k) - I_bias) / sum(1 / R_k)
+    V+ = (sum(V_k / R_k) - I_plus) / sum(1 / R_k)
 
-and the far node's own voltage follows from the leg current.  Because every node voltage is
-linear in the signal, one pass gives V+ - V- = a * V_signal + b (the signal leg enters Millman's
-sum as a slope, :func:`difference_line`), and V_switch = (offset - b) / a is exact.
+and the far node's own voltage follows from the leg current.  The pins draw the bias current
+plus and minus half the offset current: I_plus = I_b + I_os / 2, I_minus = I_b - I_os / 2.
+Because every node voltage is linear in the signal, one pass gives V+ - V- = a * V_signal + b
+(the signal leg enters Millman's sum as a slope, :func:`difference_line`), and
+V_switch = (threshold - b) / a is exact, the threshold being the offset -/+ half any hysteresis
+built into the comparator (:func:`threshold`).
 
 All parameters may be numpy arrays: they broadcast, so a million variants cost one call.
 Parameters are named by their design-file path ("resistors.feedback", "supply.positive", ...).
@@ -32,13 +35,33 @@ __all__ = [
     "Points",
     "TwoPoints",
     "difference_line",
+    "minus_pin_current",
     "node_voltages",
     "pin_resistances",
+    "plus_pin_current",
     "switching_points",
+    "threshold",
 ]
 
 ArrayLike = float | np.ndarray
 STATES = ("high", "low")
+
+
+def plus_pin_current(p: Mapping[str, ArrayLike]) -> ArrayLike:
+    """Current into the + pin (A): the bias current plus half the offset current."""
+    return p["comparator.bias_current"] + 0.5 * p.get("comparator.offset_current", 0.0)
+
+
+def minus_pin_current(p: Mapping[str, ArrayLike]) -> ArrayLike:
+    """Current into the - pin (A): the bias current less half the offset current."""
+    return p["comparator.bias_current"] - 0.5 * p.get("comparator.offset_current", 0.0)
+
+
+def threshold(p: Mapping[str, ArrayLike], state: str) -> ArrayLike:
+    """V+ - V- at which the comparator leaves ``state``: offset + hysteresis/2 while its output is
+    low, offset - hysteresis/2 while it is high (the trip points of a part with hysteresis built in)."""
+    half = 0.5 * p.get("comparator.hysteresis", 0.0)
+    return p["comparator.offset"] + (half if state == "low" else -half)
 
 
 def _output_stage(design: Design, p: Mapping[str, ArrayLike], state: str) -> tuple[ArrayLike, ArrayLike]:
@@ -79,7 +102,7 @@ def _reference(design: Design, p: Mapping[str, ArrayLike]) -> tuple[ArrayLike, A
     else:
         return 0.0, 0.0
     if not design.inverting:
-        volts = volts - p["comparator.bias_current"] * ohms
+        volts = volts - minus_pin_current(p) * ohms
     return volts, ohms
 
 
@@ -130,7 +153,7 @@ def _plus_node(design: Design, p: Mapping[str, ArrayLike], state: str) -> _PlusN
     signal_path = p["source.resistance"] + p.get("resistors.input", 0.0)
     g_signal = 0.0 if design.inverting else 1.0 / signal_path
     total_g = sum(1.0 / r for _, r in legs) + g_signal
-    plus0 = (sum(v / r for v, r in legs) - p["comparator.bias_current"]) / total_g
+    plus0 = (sum(v / r for v, r in legs) - plus_pin_current(p)) / total_g
     return _PlusNode(plus0, g_signal / total_g, v_ref, r_ref, v_drv, r_drv, signal_path, 1.0 / total_g)
 
 
@@ -146,7 +169,7 @@ def node_voltages(design: Design, p: Mapping[str, ArrayLike], signal: ArrayLike,
     output = _far_node(n.v_drv, n.r_drv, plus, p["resistors.feedback"])
     reference = n.v_ref + (plus - n.v_ref) * _ref_share(p, n)
     if design.inverting:
-        minus = signal - p["comparator.bias_current"] * n.signal_path
+        minus = signal - minus_pin_current(p) * n.signal_path
     else:
         minus = reference
     return Nodes(plus=plus, minus=minus, output=output, reference=reference)
@@ -182,7 +205,7 @@ def difference_line(design: Design, p: Mapping[str, ArrayLike], state: str) -> t
     """
     n = _plus_node(design, p, state)
     if design.inverting:  # the signal drives the - pin directly
-        return n.plus0 + p["comparator.bias_current"] * n.signal_path, n.slope - 1.0
+        return n.plus0 + minus_pin_current(p) * n.signal_path, n.slope - 1.0
     share = _ref_share(p, n)
     minus0 = n.v_ref + (n.plus0 - n.v_ref) * share
     return n.plus0 - minus0, n.slope * (1.0 - share)
@@ -219,7 +242,7 @@ class Points(TwoPoints):
 
 def _crossing(design: Design, p: Mapping[str, ArrayLike], state: str) -> tuple[ArrayLike, Nodes]:
     at_zero, slope = difference_line(design, p, state)
-    point = (p["comparator.offset"] - at_zero) / slope
+    point = (threshold(p, state) - at_zero) / slope
     return point, node_voltages(design, p, point, state)
 
 

@@ -17,7 +17,7 @@ from dataclasses import dataclass, replace
 from bandcalc.model.design import Design, DividerReference, OpenDrain
 from bandcalc.model.findings import Finding, finding_to_dict
 from bandcalc.model.front_end import SELF_HEATING_LIMIT, ThermistorFrontEnd
-from bandcalc.model.network import Nodes, TwoPoints, node_voltages, switching_points
+from bandcalc.model.network import Nodes, TwoPoints, minus_pin_current, node_voltages, switching_points
 from bandcalc.model.parts import parameters, resistors_of
 from bandcalc.model.points import (
     DesignPoints,
@@ -66,7 +66,7 @@ def branch_currents(design: Design, nodes: Nodes, signal: float, state: str) -> 
     cur: dict[str, float] = {}
     if r.input is not None:
         cur["input"] = ((signal - plus) / (r.input + design.source.resistance) if not design.inverting
-                        else design.comparator.bias_current)
+                        else float(minus_pin_current(p)))
     cur["feedback"] = (float(nodes.output) - plus) / r.feedback
     far = {"to_positive": vp, "to_negative": vn, "to_ground": 0.0, "to_reference": float(nodes.reference)}
     for key, volts in far.items():

@@ -124,6 +124,8 @@ def parameters(design: Design) -> dict[str, float]:
         "supply.negative": design.supply.negative,
         "comparator.offset": design.comparator.offset,
         "comparator.bias_current": design.comparator.bias_current,
+        "comparator.offset_current": design.comparator.offset_current or 0.0,
+        "comparator.hysteresis": design.comparator.hysteresis or 0.0,
         "source.resistance": design.source.resistance,
     }
     p.update({f"resistors.{k}": v for k, v in design.resistors.present().items()})

@@ -43,7 +43,7 @@ import numpy as np
 from bandcalc.errors import DesignError
 from bandcalc.model.design import Design, Source
 from bandcalc.model.front_end import DirectInput, DividerFrontEnd, FrontEnd, ThermistorFrontEnd, front_end_of
-from bandcalc.model.network import TwoPoints, difference_line, node_voltages
+from bandcalc.model.network import TwoPoints, difference_line, minus_pin_current, node_voltages, threshold
 from bandcalc.model.parts import parameters
 
 __all__ = [
@@ -124,7 +124,7 @@ def _root(design: Design, fe: Ahead, p: Mapping[str, ArrayLike], state: str) -> 
 
     def residual(t: float) -> ArrayLike:
         signal, q["source.resistance"] = _source(fe, p, t)
-        return node_voltages(design, q, signal, state).difference - p["comparator.offset"]
+        return node_voltages(design, q, signal, state).difference - threshold(p, state)
 
     # As numpy values, so that a degenerate case (a residual that does not move) divides to inf
     # or NaN, "no watched value switches it", where Python floats would raise.
@@ -134,7 +134,7 @@ def _root(design: Design, fe: Ahead, p: Mapping[str, ArrayLike], state: str) -> 
         at_zero, slope = difference_line(design, q, state)
         with np.errstate(divide="ignore", invalid="ignore"):
             span = np.asarray(slope * (v1 - v0), dtype=float)  # 0 where the front end never moves
-            return (p["comparator.offset"] - at_zero - slope * v0) / span
+            return (threshold(p, state) - at_zero - slope * v0) / span
     d0, d1 = np.asarray(residual(0.0), dtype=float), np.asarray(residual(1.0), dtype=float)
     with np.errstate(divide="ignore", invalid="ignore"):
         # d(t) = (d0 + b t) / (1 + c t) through three samples; the root is t = -d0 / b.
@@ -265,7 +265,7 @@ def front_end_power(design: Design, x: float, state: str) -> dict[str, float]:
     volts, total = volts_for(design, x)
     volts = float(volts)
     if design.inverting:
-        drawn = design.comparator.bias_current
+        drawn = float(minus_pin_current(parameters(design)))
     else:
         plus = float(node_voltages(stage, parameters(stage), volts, state).plus)
         drawn = (volts - plus) / (float(total) + design.resistors.input)

@@ -7,7 +7,8 @@ hundreds of volts, a stage that powers up inside its band.  This module finds th
 
 Where the pins go
 -----------------
-The comparator's output is high while V+ - V- is above its offset and low while it is below,
+The comparator's output stays high until V+ - V- falls below its offset less half any hysteresis
+built in, and low until it rises above its offset plus half (:func:`bandcalc.model.network.threshold`),
 whatever the stage's kind; so at any input value the states the network can hold are the ones
 whose own solution agrees with them (both inside the band, one outside).  Within one state every
 node voltage is a monotonic function of the input (affine in the signal; a ratio of affine
@@ -30,7 +31,7 @@ from dataclasses import dataclass
 
 from bandcalc.model.design import Design
 from bandcalc.model.findings import Finding
-from bandcalc.model.network import node_voltages, pin_resistances
+from bandcalc.model.network import node_voltages, pin_resistances, threshold
 from bandcalc.model.parts import parameters, part, resistors_of
 from bandcalc.model.points import DesignPoints, input_range, stage_design, volts_for
 from bandcalc.model.ratings import power_needed, rating_of, series_count, size_for
@@ -84,7 +85,6 @@ def samples(design: Design, points: DesignPoints) -> list[Sample]:
         if math.isfinite(x) and low <= x <= high:
             name = stage_point if points.rises else {"upper": "lower", "lower": "upper"}[stage_point]
             where.append((x, name, state))
-    offset = design.comparator.offset
     slack = 1e-9 * max(1.0, design.supply.span)
     out = []
     for x, name, arriving in where:
@@ -93,9 +93,11 @@ def samples(design: Design, points: DesignPoints) -> list[Sample]:
         signal = float(volts_for(design, x)[0])
         for state in _STATES:
             nodes = node_voltages(stage, p, signal, state)
-            above = float(nodes.plus) - float(nodes.minus) - offset
-            if name is None and (above < -slack if state == "high" else above > slack):
-                continue  # this state does not hold at this input
+            # past the threshold at which the comparator leaves this state (offset -/+ half any
+            # hysteresis built in): the state does not hold at this input
+            beyond = float(nodes.plus) - float(nodes.minus) - float(threshold(p, state))
+            if name is None and (beyond < -slack if state == "high" else beyond > slack):
+                continue
             r_plus, r_minus = pin_resistances(stage, p, state)
             out.append(Sample(x, name if state == arriving else None, state, float(nodes.plus),
                               float(nodes.minus), float(nodes.output), float(r_plus), float(r_minus)))

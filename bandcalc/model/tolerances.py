@@ -1,11 +1,13 @@
-"""Tolerances: how far each part of a design may stray, over temperature, and the windows a build must meet.
+"""Tolerances: how far each part of a design may stray, the temperature range it works over, and the
+windows a build must meet.
 
 The ``"tolerances"`` section of a design file, validated when built.  Units are those of the
 file: percent for resistors, a fixed reference and the supply rails; volts for the comparator's
-offset; amperes for its bias current; degrees Celsius for the temperature range; ppm/K for
-resistor temperature coefficients and reference drift; volts per kelvin for offset drift.
+offset; amperes for its bias and offset currents; degrees Celsius for the temperature range;
+ppm/K for resistor temperature coefficients and reference drift; volts per kelvin for offset
+drift; volts and ohms for the output's and the comparator's data-sheet limits.
 
-This module reads and writes the section only; :mod:`bandcalc.spread.propagation` turns it into varied
+This module reads and writes the section only; :mod:`bandcalc.spread` turns it into varied
 parameters of the stage model.  It imports nothing from the design module, so that the design
 module can import it.
 """
@@ -20,33 +22,46 @@ from typing import Any
 from bandcalc.errors import BandcalcError
 from bandcalc.model.parts import TOLERANCED
 from bandcalc.model.units import UnitError, parse_quantity
-from bandcalc.model.validation import AMPS, CELSIUS, VOLTS
+from bandcalc.model.validation import AMPS, CELSIUS, OHMS, VOLTS
 
 __all__ = [
     "DISTRIBUTIONS",
+    "MAX_MOVE",
+    "MAX_OFFSET_DRIFT",
     "MAX_PERCENT",
+    "MAX_PPM_PER_K",
     "NOMINAL_CELSIUS",
+    "OUTPUT_LIMITS",
     "Limits",
+    "OutputLimits",
     "PerResistor",
+    "ResistorNetwork",
     "ToleranceError",
     "Tolerances",
     "tolerances_from_dict",
     "tolerances_to_dict",
 ]
 
-DISTRIBUTIONS = ("normal", "uniform")
+#: How Monte Carlo reads a tolerance: "normal" (the tolerance is 3 sigma, tails beyond it kept),
+#: "screened" (the same normal cut at the tolerance: parts screened to it) or "uniform".
+DISTRIBUTIONS = ("normal", "screened", "uniform")
 #: Part values are given at 25 degrees Celsius (the datasheet convention, common practice).
 NOMINAL_CELSIUS = 25.0
 #: Largest percent tolerance taken; beyond it a normal draw at 3 sigma could make a part negative.
 MAX_PERCENT = 50.0
-#: Largest temperature coefficient taken, ppm/K, either sign: film and wirewound resistors stay
-#: within some hundreds and a fixed reference within some tens (common practice); 1 %/K refuses
-#: only slips of the finger.  A thermistor is a front end, not a resistor with a tempco.
-MAX_PPM_PER_K = 10_000.0
+#: Largest temperature coefficient taken, ppm/K: a bound on a resistor's own coefficient, a
+#: network's common one and its tracking, and a fixed reference's drift.  Film and wirewound
+#: resistors stay within some hundreds, carbon-film ones reach about -1500 ppm/K (from memory) and
+#: a fixed reference stays within some tens (common practice); anything beyond this is a sensor or
+#: a slip of the finger.  A thermistor is a front end, not a resistor with a tempco.
+MAX_PPM_PER_K = 5000.0
 #: Largest offset drift taken, volts per kelvin: comparators drift some microvolts per kelvin
 #: (common practice).
 MAX_OFFSET_DRIFT = 1.0
-#: A part value that is in no series from E24 up is taken as a precision part (common practice).
+#: Largest move over the temperature range the linear laws are taken for: a resistor's
+#: tempco x (T - 25 C) and a reference's drift x (high - low) (our bound: beyond it a linear
+#: coefficient no longer describes the part, and well before it could take a part to zero).
+MAX_MOVE = 0.25
 
 
 class ToleranceError(BandcalcError):
@@ -133,6 +148,81 @@ class Limits:
 
 
 @dataclass(frozen=True)
+class ResistorNetwork:
+    """Resistors in one package (a network or array) whose temperature coefficients track.
+
+    Each member's coefficient is the network's common one, within +/- ``tempco`` ppm/K, plus its
+    own share within +/- ``tracking``/2, so that any two members differ by at most ``tracking``
+    ppm/K (the "TCR tracking" of a network's data sheet).
+    """
+
+    name: str
+    resistors: tuple[str, ...]
+    tempco: float = 0.0
+    tracking: float = 0.0
+
+    def __post_init__(self) -> None:
+        where = f"tolerances.resistor_networks.{self.name}"
+        if not isinstance(self.name, str) or not self.name.strip():
+            raise ToleranceError("tolerances.resistor_networks: give each network a name, such as \"RN1\"")
+        object.__setattr__(self, "resistors", tuple(self.resistors))
+        if len(self.resistors) < 2:
+            raise ToleranceError(f"{where}.resistors: give two or more resistors")
+        if len(set(self.resistors)) != len(self.resistors):
+            raise ToleranceError(f"{where}.resistors: each resistor once")
+        for key in ("tempco", "tracking"):
+            _check(getattr(self, key), f"{where}.{key}", 0.0, MAX_PPM_PER_K, "ppm/K")
+            object.__setattr__(self, key, float(getattr(self, key)))
+
+
+#: Output limits a tolerances section may give, with their unit and least and greatest allowed
+#: value (the bounds of the design's own values, :mod:`bandcalc.model.validation`).
+OUTPUT_LIMITS = {"high_drop": ("V", 0.0, VOLTS), "low_drop": ("V", 0.0, VOLTS),
+                 "resistance": ("ohm", 0.0, OHMS[1]),
+                 "low_volts": ("V", -VOLTS, VOLTS), "pullup_volts": ("V", -VOLTS, VOLTS)}
+
+
+@dataclass(frozen=True)
+class OutputLimits:
+    """The output stage's data-sheet limits, each (least, greatest) or None (not given).
+
+    Push-pull: ``high_drop``, ``low_drop`` (V) and ``resistance`` (ohm); open-drain: ``low_volts``,
+    the level of the pulled-down output, and ``pullup_volts`` (V).  A build draws each between its
+    limits like a tolerance about their middle.
+    """
+
+    high_drop: tuple[float, float] | None = None
+    low_drop: tuple[float, float] | None = None
+    resistance: tuple[float, float] | None = None
+    low_volts: tuple[float, float] | None = None
+    pullup_volts: tuple[float, float] | None = None
+
+    def __post_init__(self) -> None:
+        for key, (unit, least, greatest) in OUTPUT_LIMITS.items():
+            pair = getattr(self, key)
+            if pair is not None:
+                object.__setattr__(self, key, _limit_pair(pair, f"tolerances.output.{key}", unit, least,
+                                                          greatest))
+
+    def given(self) -> dict[str, tuple[float, float]]:
+        """The limits given, by key."""
+        return {k: getattr(self, k) for k in OUTPUT_LIMITS if getattr(self, k) is not None}
+
+
+def _limit_pair(pair: Sequence[float], where: str, unit: str, least: float,
+                greatest: float) -> tuple[float, float]:
+    """A (least, greatest) pair of numbers from ``least`` to ``greatest``, the first not above the second."""
+    if len(pair) != 2:
+        raise ToleranceError(f"{where}: give [least, greatest] in {unit}")
+    for v in pair:
+        _check(v, where, least, greatest, unit)
+    if pair[0] > pair[1]:
+        raise ToleranceError(f"{where}: the least value ({pair[0]:g}) must not be above the greatest "
+                             f"({pair[1]:g})")
+    return float(pair[0]), float(pair[1])
+
+
+@dataclass(frozen=True)
 class Tolerances:
     """How far the parts may stray, as in the design file (percent, volts, amperes, Celsius, ppm/K).
 
@@ -150,18 +240,28 @@ class Tolerances:
         Volts, +/-, about the comparator's nominal offset.
     bias_current : float
         Amperes, +/-, about the comparator's nominal bias current.
+    offset_current : float
+        Amperes, +/-, about the comparator's nominal offset current (+ pin less - pin).
     temperature : (low, high) or None
-        Operating range in degrees Celsius; part values are at 25 C.
+        Operating range in degrees Celsius: every build must meet the windows at every
+        temperature of it.  Part values are at 25 C.
     resistor_tempco : PerResistor
-        ppm/K, signed: resistors of one kind drift together, so this is the coefficient they
-        share (give a resistor of another kind its own value).  Default 0.
+        ppm/K, a bound: each resistor's own coefficient lies within +/- it, independently of the
+        others'.  Default 0 (none).
+    resistor_networks : tuple of ResistorNetwork
+        Resistors in one package whose coefficients track; their bounds replace ``resistor_tempco``.
     reference_drift : float
-        ppm/K, +/-, of a fixed reference: a bound, the sign is unknown.
+        ppm/K of a fixed reference by the box method: over the range the reference stays within
+        V25 +/- drift x V25 x (high - low), with no shape assumed.
     offset_drift : float
         Volts per kelvin, +/-, of the comparator's offset: a bound.
-    distribution : "normal" or "uniform"
-        How Monte Carlo reads a tolerance: 3 sigma of a normal distribution, or the bounds of a
-        uniform one.  The temperature is always drawn uniform over its range.
+    output : OutputLimits
+        The output stage's data-sheet limits (levels, output resistance).
+    comparator_hysteresis : (least, greatest) or None
+        Volts: the data-sheet limits of the hysteresis built into the comparator.
+    distribution : "normal", "screened" or "uniform"
+        How Monte Carlo reads a tolerance: 3 sigma of a normal distribution, the same normal cut
+        at the tolerance, or the bounds of a uniform one.
     limits : Limits
         Windows for the yield.
     """
@@ -177,19 +277,28 @@ class Tolerances:
     offset_drift: float = 0.0
     distribution: str = "normal"
     limits: Limits = field(default_factory=Limits)
+    offset_current: float = 0.0
+    resistor_networks: tuple[ResistorNetwork, ...] = ()
+    output: OutputLimits = field(default_factory=OutputLimits)
+    comparator_hysteresis: tuple[float, float] | None = None
 
     def __post_init__(self) -> None:
         self.resistors.check("tolerances.resistors", 0.0, MAX_PERCENT, "percent")
-        self.resistor_tempco.check("tolerances.resistor_tempco", -MAX_PPM_PER_K, MAX_PPM_PER_K, "ppm/K")
+        self.resistor_tempco.check("tolerances.resistor_tempco", 0.0, MAX_PPM_PER_K, "ppm/K")
         for key in ("reference", "supply"):
             _check(getattr(self, key), f"tolerances.{key}", 0.0, MAX_PERCENT, "percent")
         for key, unit, high in (("offset", "V", VOLTS), ("bias_current", "A", AMPS),
+                                ("offset_current", "A", AMPS),
                                 ("reference_drift", "ppm/K", MAX_PPM_PER_K),
                                 ("offset_drift", "V/K", MAX_OFFSET_DRIFT)):
             _check(getattr(self, key), f"tolerances.{key}", 0.0, high, unit)
         if self.distribution not in DISTRIBUTIONS:
             raise ToleranceError(f"tolerances.distribution: {self.distribution!r} is not a distribution; "
                                  f"allowed: {', '.join(DISTRIBUTIONS)}")
+        if self.comparator_hysteresis is not None:
+            object.__setattr__(self, "comparator_hysteresis", _limit_pair(
+                self.comparator_hysteresis, "tolerances.comparator_hysteresis", "volts", 0.0, VOLTS))
+        self._check_networks()
         if self.temperature is not None:
             where = "tolerances.temperature"
             if len(self.temperature) != 2:
@@ -199,37 +308,59 @@ class Tolerances:
             if self.temperature[0] >= self.temperature[1]:
                 raise ToleranceError(f"{where}: the lowest temperature must be below the highest")
             object.__setattr__(self, "temperature", tuple(float(v) for v in self.temperature))
-            self._check_drifts_keep_parts_positive()
+            self._check_moves()
 
-    def _check_drifts_keep_parts_positive(self) -> None:
-        """Refuse a drift that takes a part to zero or below somewhere in the temperature range.
+    def _check_networks(self) -> None:
+        object.__setattr__(self, "resistor_networks", tuple(self.resistor_networks))
+        seen: dict[str, str] = {}
+        for net in self.resistor_networks:
+            for name in net.resistors:
+                if name in seen:
+                    raise ToleranceError(f"tolerances.resistor_networks.{net.name}: {name} is already in "
+                                         f"network {seen[name]}")
+                seen[name] = net.name
+        for name, _ in self.resistor_tempco.parts:
+            if name in seen:
+                raise ToleranceError(f"tolerances.resistor_tempco.{name}: {name} is in network {seen[name]}, "
+                                     "whose tempco and tracking apply; give it in one place")
 
-        Over temperature a resistor is R25 (1 + tempco (T - 25 C)) and a fixed reference
-        V25 (1 +/- drift (T - 25 C)) (:mod:`bandcalc.spread.factors`); a tolerance of at most
-        :data:`MAX_PERCENT` never makes the part's value at 25 C zero, so the factor decides.
+    def network_of(self, name: str) -> ResistorNetwork | None:
+        """The network resistor ``name`` belongs to, if any."""
+        return next((n for n in self.resistor_networks if name in n.resistors), None)
+
+    def _check_moves(self) -> None:
+        """Refuse coefficients the linear laws cannot carry over this range (:data:`MAX_MOVE`).
+
+        Over the range a resistor is R25 (1 + alpha (T - 25 C)) with |alpha| at most its bound, and a
+        fixed reference stays within V25 (1 +/- drift (high - low)) (:mod:`bandcalc.spread.factors`);
+        a move of at most :data:`MAX_MOVE` also keeps every part well away from zero, as a tolerance
+        of at most :data:`MAX_PERCENT` does at 25 C.
         """
         low, high = self.temperature  # type: ignore[misc]
-        span = f"over {low:g} to {high:g} C"
-        for key, ppm in self.resistor_tempco.named("tolerances.resistor_tempco"):
-            at = min((low, high), key=lambda t: 1 + ppm * 1e-6 * (t - NOMINAL_CELSIUS))
-            factor = 1 + ppm * 1e-6 * (at - NOMINAL_CELSIUS)
-            if factor <= 0:
-                raise ToleranceError(f"{key}: {ppm:g} ppm/K {span} takes a resistor to {100 * factor:.4g} "
-                                     f"% of its value at {at:g} C, and no resistor goes to zero or below; "
-                                     "check the sign and that the unit is ppm/K")
-        at = max((low, high), key=lambda t: abs(t - NOMINAL_CELSIUS))
-        factor = 1 - self.reference_drift * 1e-6 * abs(at - NOMINAL_CELSIUS)
-        if factor <= 0:
-            raise ToleranceError(f"tolerances.reference_drift: {self.reference_drift:g} ppm/K {span} takes "
-                                 f"the reference to {100 * factor:.4g} % of its value at {at:g} C; a "
-                                 "reference drifts far less: check that the unit is ppm/K")
+        span, reach = f"{low:g} to {high:g} C", max(abs(low - NOMINAL_CELSIUS), abs(high - NOMINAL_CELSIUS))
+        bounds = [(key, v) for key, v in self.resistor_tempco.named("tolerances.resistor_tempco") if v]
+        bounds += [(f"tolerances.resistor_networks.{n.name}", n.tempco + 0.5 * n.tracking)
+                   for n in self.resistor_networks]
+        for where, ppm in bounds:
+            if ppm * 1e-6 * reach > MAX_MOVE:
+                raise ToleranceError(f"{where}: {ppm:g} ppm/K over {span} moves a resistor by up to "
+                                     f"{100 * ppm * 1e-6 * reach:.3g} %, beyond the {100 * MAX_MOVE:g} % a "
+                                     "linear coefficient describes; check that the unit is ppm/K")
+        box = self.reference_drift * 1e-6 * (high - low)
+        if box > MAX_MOVE:
+            raise ToleranceError(f"tolerances.reference_drift: {self.reference_drift:g} ppm/K over {span} "
+                                 f"moves the reference by up to {100 * box:.3g} %, beyond the "
+                                 f"{100 * MAX_MOVE:g} % a drift coefficient describes; check that the unit "
+                                 "is ppm/K")
 
 
 # --- JSON ------------------------------------------------------------------------------------
 
-_KEYS = ("distribution", "resistors", "reference", "supply", "offset", "bias_current", "temperature",
-         "resistor_tempco", "reference_drift", "offset_drift", "limits")
-_UNITS = {"offset": "V", "bias_current": "A"}
+_KEYS = ("distribution", "resistors", "reference", "supply", "offset", "bias_current", "offset_current",
+         "temperature", "resistor_tempco", "resistor_networks", "reference_drift", "offset_drift", "output",
+         "comparator_hysteresis", "limits")
+_UNITS = {"offset": "V", "bias_current": "A", "offset_current": "A"}
+_NETWORK_KEYS = ("resistors", "tempco", "tracking")
 
 
 def _object(data: Any, where: str, allowed: Sequence[str]) -> dict:
@@ -251,13 +382,47 @@ def _per_resistor(data: Any, where: str, names: Sequence[str]) -> PerResistor:
     return PerResistor(default=default, parts=parts)
 
 
-def _pair(data: Any, where: str, unit: str, open_ends: bool) -> tuple:
+def _pair(data: Any, where: str, unit: str, open_ends: bool, symbol: str = "") -> tuple:
+    """[low, high] in ``unit`` (words, for messages); ``symbol`` is the unit a value may carry ("V")."""
     if not isinstance(data, (list, tuple)) or len(data) != 2:
         raise ToleranceError(f"{where}: give [lowest, highest] in {unit}"
                              + ("; one side may be null" if open_ends else ""))
     if not open_ends and None in data:
         raise ToleranceError(f"{where}: give both ends in {unit}")
-    return tuple(None if v is None else _number(v, where) for v in data)
+    return tuple(None if v is None else _number(v, where, symbol) for v in data)
+
+
+def _networks(data: Any, where: str, names: Sequence[str]) -> tuple[ResistorNetwork, ...]:
+    if not isinstance(data, dict):
+        raise ToleranceError(f'{where}: must be an object of networks by name, such as '
+                             '{"RN1": {"resistors": ["input", "feedback"], "tempco": 25, "tracking": 5}}')
+    out = []
+    for name, raw in data.items():
+        at = f"{where}.{name}"
+        body = _object(raw, at, _NETWORK_KEYS)
+        members = body.get("resistors")
+        if not isinstance(members, list) or not all(isinstance(m, str) for m in members):
+            raise ToleranceError(f"{at}.resistors: give the resistors' names as a list, such as "
+                                 '["input", "feedback"]')
+        for m in members:
+            if m not in names:
+                raise ToleranceError(f"{at}.resistors: {m!r} is not a resistor; allowed: {', '.join(names)}")
+        values = {k: _number(body[k], f"{at}.{k}") for k in ("tempco", "tracking") if body.get(k) is not None}
+        out.append(ResistorNetwork(name, tuple(members), **values))
+    return tuple(out)
+
+
+def _output(data: Any, where: str) -> OutputLimits:
+    data = _object(data, where, tuple(OUTPUT_LIMITS))
+    out = {}
+    for key, raw in data.items():
+        if raw is None:  # left out, as elsewhere in the design file
+            continue
+        volts = OUTPUT_LIMITS[key][0] == "V"
+        if not isinstance(raw, (list, tuple)) or len(raw) != 2:
+            raise ToleranceError(f"{where}.{key}: give [least, greatest] in {'volts' if volts else 'ohm'}")
+        out[key] = tuple(_number(v, f"{where}.{key}", "V" if volts else "") for v in raw)
+    return OutputLimits(**out)
 
 
 def tolerances_from_dict(data: Any, resistor_keys: Sequence[str]) -> Tolerances:
@@ -274,8 +439,14 @@ def tolerances_from_dict(data: Any, resistor_keys: Sequence[str]) -> Tolerances:
             continue
         if key in ("resistors", "resistor_tempco"):
             kwargs[key] = _per_resistor(raw, where, names)
+        elif key == "resistor_networks":
+            kwargs[key] = _networks(raw, where, names)
+        elif key == "output":
+            kwargs[key] = _output(raw, where)
         elif key == "temperature":
             kwargs[key] = _pair(raw, where, "degrees Celsius", open_ends=False)
+        elif key == "comparator_hysteresis":
+            kwargs[key] = _pair(raw, where, "volts", open_ends=False, symbol="V")
         elif key == "limits":
             windows = _object(raw, where, ("upper", "lower", "hysteresis"))
             kwargs[key] = Limits(**{k: _pair(v, f"{where}.{k}", "volts", open_ends=True)
@@ -300,10 +471,19 @@ def tolerances_to_dict(tol: Tolerances) -> dict:
         per = getattr(tol, key)
         if per.default is not None or per.parts:
             out[key] = _per_resistor_dict(per)
+    if tol.resistor_networks:
+        out["resistor_networks"] = {n.name: {"resistors": list(n.resistors), "tempco": n.tempco,
+                                             "tracking": n.tracking} for n in tol.resistor_networks}
     for key in ("reference", "supply", "offset", "bias_current", "reference_drift", "offset_drift"):
         out[key] = getattr(tol, key)
+    if tol.offset_current:
+        out["offset_current"] = tol.offset_current
     if tol.temperature is not None:
         out["temperature"] = list(tol.temperature)
+    if tol.output.given():
+        out["output"] = {k: list(v) for k, v in tol.output.given().items()}
+    if tol.comparator_hysteresis is not None:
+        out["comparator_hysteresis"] = list(tol.comparator_hysteresis)
     windows = {k: list(getattr(tol.limits, k)) for k in ("upper", "lower", "hysteresis")
                if getattr(tol.limits, k) is not None}
     if windows:

@@ -19,6 +19,7 @@ __all__ = [
     "UnitError",
     "format_code",
     "format_ohms",
+    "format_probability",
     "format_si",
     "format_value",
     "format_volts",
@@ -222,3 +223,17 @@ def format_code(ohms: float, digits: int = 3) -> str:
 def format_ohms(ohms: float, code: bool = False, digits: int = 3) -> str:
     """A resistance the trade's way: "4.7 kOhm", or with ``code`` the IEC 60062 code "4k7"."""
     return format_code(ohms, digits) if code else format_si(ohms, "Ohm", digits)
+
+
+def format_probability(p: float, digits: int = 3) -> str:
+    """A probability for people, to ``digits`` significant figures: percent from 0.1 % up ("0.196 %"),
+    parts per million below ("1.96 ppm", "0.00123 ppm"), in powers of ten below 1e-12 ("3.2e-16");
+    "0" for none."""
+    if p == 0:
+        return "0"
+    if p < 1e-12:
+        return f"{p:.{max(digits - 1, 0)}e}"
+    value, unit = (100.0 * p, "%") if p >= 1e-3 else (1e6 * p, "ppm")
+    decimals = max(0, digits - 1 - math.floor(math.log10(value)))
+    text = f"{value:.{decimals}f}"
+    return f"{text.rstrip('0').rstrip('.') if '.' in text else text} {unit}"

@@ -2,10 +2,14 @@
 
 Each function takes a result object computed elsewhere in the package and returns a
 ``plotly.graph_objects.Figure``; nothing here calculates circuit values.
+
+Plotly reads chart text as a little HTML (``<b>``, ``<br>``, ``<a href=...>``); text a user wrote
+(a watched unit, a title passed in) goes through :func:`_text` first, so it is drawn as written.
 """
 
 from __future__ import annotations
 
+import html
 import math
 from collections.abc import Mapping
 
@@ -51,6 +55,11 @@ _QUANTITY_COLOURS = {"upper": PALETTE["rising"], "lower": PALETTE["falling"],
                      "hysteresis": PALETTE["band_edge"]}
 
 
+def _text(text: str) -> str:
+    """User text for Plotly's chart text: its HTML characters as entities (which Plotly decodes)."""
+    return html.escape(text, quote=False)
+
+
 def _view(curve: TransferCurve) -> tuple[float, float]:
     """Input range first shown: the band with room either side, within the swept range."""
     lo, hi = float(curve.signal[0]), float(curve.signal[-1])
@@ -85,7 +94,7 @@ def _direction_arrows(curve: TransferCurve) -> list[dict]:
 
 
 def _x(curve: TransferCurve, value: float) -> str:
-    return format_value(value, curve.unit, 4)
+    return format_value(value, _text(curve.unit), 4)
 
 
 def _band(curve: TransferCurve) -> tuple[list[dict], list[dict]]:
@@ -108,8 +117,8 @@ def transfer_spec(curve: TransferCurve, title: str | None = None, x_title: str |
     ``layout.shapes[0]``, its label the first annotation, then four direction arrows.  The input
     axis reads ``x_title`` (default "Input (V)", or "Watched quantity (unit)" for a watched curve).
     """
-    unit = curve.unit
-    x_title = x_title or f"{'Watched quantity' if curve.watched else 'Input'} ({unit})"
+    unit = _text(curve.unit)
+    x_title = _text(x_title) if x_title else f"{'Watched quantity' if curve.watched else 'Input'} ({unit})"
     heights = [0.5 * sum(curve.at_upper), 0.5 * sum(curve.at_lower)]
     points = {"type": "scatter", "x": [curve.upper, curve.lower], "y": heights, "name": "Switching points",
               "mode": "markers+text",
@@ -130,7 +139,7 @@ def transfer_spec(curve: TransferCurve, title: str | None = None, x_title: str |
     ]
     shapes, labels = _band(curve)
     layout = {
-        "title": {"text": title or ""},
+        "title": {"text": _text(title or "")},
         "margin": {"l": 60, "r": 20, "t": 50 if title else 36, "b": 50}, "height": 420,
         "plot_bgcolor": "white", "legend": {"orientation": "h", "y": -0.2, "x": 0},
         "xaxis": {"title": {"text": x_title}, "range": list(_view(curve)), "gridcolor": PALETTE["grid"],
@@ -178,17 +187,23 @@ def _vline(x: float, colour: str, dash: str, name: str) -> dict:
 
 
 def histogram_spec(summary: Summary, title: str, unit: str, *, window: tuple[float, float] | None = None,
-                   nominal: float | None = None, extremes: tuple[float, float] | None = None) -> dict:
+                   nominal: float | None = None, extremes: tuple[float, float] | None = None,
+                   greatest: Summary | None = None) -> dict:
     """A Monte Carlo histogram of one quantity as a Plotly specification.
 
-    Trace "Builds" (bars: bin centres, counts); shapes, in order: the window a build must meet
-    (named "Window", open sides drawn to the edge of the view), the nominal value and the worst
+    Trace "Builds" (bars: bin centres, counts); with ``greatest`` given, ``summary`` holds each build's
+    least value over the temperature range and ``greatest`` its greatest, drawn as two overlaid traces
+    "Least over the range" and "Greatest over the range".  Shapes, in order: the window a build must
+    meet (named "Window", open sides drawn to the edge of the view), the nominal value and the worst
     case's least and greatest value (named "Nominal", "Worst case, least", "Worst case, greatest").
     """
-    edges, counts = np.asarray(summary.edges), np.asarray(summary.counts)
-    centres = 0.5 * (edges[:-1] + edges[1:])
+    title, unit = _text(title), _text(unit)
+    shown = [(summary, "Builds", PALETTE["rising"])] if greatest is None else \
+        [(summary, "Least over the range", PALETTE["point"]), (greatest, "Greatest over the range",
+                                                                PALETTE["falling"])]
     marks = [v for v in (nominal, *(extremes or ()), *(window or ())) if v is not None and math.isfinite(v)]
-    lo, hi = min([float(edges[0]), *marks]), max([float(edges[-1]), *marks])
+    lo = min([float(s.edges[0]) for s, _, _ in shown] + marks)
+    hi = max([float(s.edges[-1]) for s, _, _ in shown] + marks)
     pad = 0.06 * (hi - lo) or 1e-9
     view = [lo - pad, hi + pad]
     shapes = []
@@ -201,13 +216,18 @@ def histogram_spec(summary: Summary, title: str, unit: str, *, window: tuple[flo
     if extremes is not None:
         shapes += [_vline(extremes[0], PALETTE["falling"], "dash", "Worst case, least"),
                    _vline(extremes[1], PALETTE["falling"], "dash", "Worst case, greatest")]
-    bars = {"type": "bar", "x": centres, "y": counts, "width": np.diff(edges), "name": "Builds",
-            "marker": {"color": PALETTE["rising"], "line": {"width": 0}},
-            "hovertemplate": f"%{{x:.5g}} {unit}<br>%{{y}} builds<extra></extra>"}
-    layout = {"title": {"text": title}, "height": 300, "bargap": 0, "showlegend": False,
+    bars = []
+    for s, name, colour in shown:
+        edges, counts = np.asarray(s.edges), np.asarray(s.counts)
+        bars.append({"type": "bar", "x": 0.5 * (edges[:-1] + edges[1:]), "y": counts, "width": np.diff(edges),
+                     "name": name, "opacity": 1.0 if greatest is None else 0.6,
+                     "marker": {"color": colour, "line": {"width": 0}},
+                     "hovertemplate": f"%{{x:.5g}} {unit}<br>%{{y}} builds<extra>{name}</extra>"})
+    layout = {"title": {"text": title}, "height": 300, "bargap": 0, "barmode": "overlay",
+              "showlegend": greatest is not None, "legend": {"orientation": "h", "y": -0.3},
               "margin": {"l": 50, "r": 10, "t": 40, "b": 45}, "plot_bgcolor": "white", "shapes": shapes,
               "xaxis": _axis(unit, range=view), "yaxis": _axis("Builds")}
-    return {"data": [bars], "layout": layout}
+    return {"data": bars, "layout": layout}
 
 
 def sensitivity_spec(sens: Sensitivity, labels: Mapping[str, str], top: int = 12) -> dict:
@@ -220,7 +240,7 @@ def sensitivity_spec(sens: Sensitivity, labels: Mapping[str, str], top: int = 12
     shares = {q: {sh.factor: sh.share for sh in getattr(sens, q)} for q in _QUANTITY_NAMES}
     factors = sorted(shares["upper"], key=lambda f: -max(shares[q].get(f, 0.0) for q in shares))[:top]
     factors.reverse()  # Plotly draws the first category at the bottom
-    names = [labels.get(f, f) for f in factors]
+    names = [_text(labels.get(f, f)) for f in factors]
     # Within a group Plotly stacks the first trace lowest: list them bottom up, the legend top down.
     data = [{"type": "bar", "orientation": "h", "name": _QUANTITY_NAMES[q], "y": names,
              "x": [100.0 * shares[q].get(f, 0.0) for f in factors], "marker": {"color": _QUANTITY_COLOURS[q]},
@@ -262,6 +282,7 @@ def signal_spec(run: SignalRun, output_levels: tuple[float, float], unit: str,
     ``output_levels`` is (low, high), volts.
     """
     t, v = run.wave.t, run.wave.v
+    unit = _text(unit)
     index = display_index(v, max_points)
     span = [float(t[0]), float(t[-1])]
     line = {"type": "scattergl" if index.size > 5000 else "scatter", "mode": "lines"}
@@ -307,7 +328,7 @@ def tradeoff_spec(sweep: Sweep, unit: str, width: float | None = None) -> dict:
     Shapes: the narrowest width with one clean edge per crossing ("Narrowest clean width", where
     there is one) and the design's own ``width``.
     """
-    w = sweep.widths
+    w, unit = sweep.widths, _text(unit)
     data = [{"type": "scatter", "mode": "lines+markers", "x": w, "y": sweep.edge_counts,
              "name": "Output edges", "line": {"color": PALETTE["point"], "width": 2}, "marker": {"size": 4}}]
     if sweep.clean_edge_counts is not None:

@@ -25,7 +25,8 @@ from bandcalc.model.front_end import DividerFrontEnd, LinearFrontEnd, Thermistor
 from bandcalc.model.operating import Analysis, analyze
 from bandcalc.model.parts import part, resistors_of, tolerance_of
 from bandcalc.model.ratings import power_needed, rating_of, series_count, size_for
-from bandcalc.model.units import format_code, format_si, format_value
+from bandcalc.model.units import format_code, format_probability, format_si, format_value
+from bandcalc.spread.propagation import failure_places
 
 __all__ = [
     "SummaryInputs",
@@ -126,7 +127,8 @@ def component_rows(a: Analysis) -> list[dict[str, str]]:
         })
     fe = d.front_end
     if isinstance(fe, ThermistorFrontEnd):
-        model = (f"Beta {fe.beta:g} K" if fe.beta is not None else
+        pair = "B{:g}/{:g}".format(*fe.beta_pair) + ("" if fe.beta_temperatures else ", assumed")
+        model = (f"Beta {fe.beta:g} K ({pair})" if fe.beta is not None else
                  "Steinhart-Hart " + ", ".join(f"{c:.6g}" for c in fe.steinhart_hart))
         tol = [f"R25 {fe.r25_tolerance:g} %" if fe.r25_tolerance is not None else "",
                f"Beta {fe.beta_tolerance:g} %" if fe.beta_tolerance is not None else ""]
@@ -174,8 +176,11 @@ def stage_in_words(d: Design) -> str:
                      f"{format_si(out.resistance, 'Ohm')} output resistance.")
     parts += _front_end_words(d) + _load_words(d)
     c = d.comparator
-    parts.append(f"Comparator: offset {_v(c.offset)}, bias current {format_si(c.bias_current, 'A')} "
-                 f"into each pin, propagation delay {format_si(c.delay, 's')}; "
+    own = f", hysteresis {_v(c.hysteresis)} built in" if c.hysteresis else ""
+    between = (f", offset current {format_si(c.offset_current, 'A')} (+ pin less - pin)"
+               if c.offset_current else "")
+    parts.append(f"Comparator: offset {_v(c.offset)}{own}, bias current {format_si(c.bias_current, 'A')} "
+                 f"into each pin{between}, propagation delay {format_si(c.delay, 's')}; "
                  f"source resistance {format_si(d.source.resistance, 'Ohm')}.")
     return " ".join(parts)
 
@@ -206,13 +211,19 @@ def _front_end_words(d: Design) -> list[str]:
         return [f"Ahead of the stage, an NTC thermistor sits at the {fe.position} of a divider with "
                 f"{_ohm(fe.fixed)}, fed from {exc}; the stage sees the divider's Thevenin equivalent."]
     if isinstance(fe, LinearFrontEnd):
+        accuracy = [f"offset within +/-{_v(fe.offset_tolerance)}" if fe.offset_tolerance else "",
+                    f"span within +/-{fe.span_tolerance:g} %" if fe.span_tolerance else ""]
+        stated = " and ".join(a for a in accuracy if a)
         return [f"Ahead of the stage, a linear sensor gives {_v(fe.offset)} + "
-                f"{_v(fe.volts_per_unit)} per {fe.unit} behind {format_si(fe.resistance, 'Ohm')}."]
+                f"{_v(fe.volts_per_unit)} per {fe.unit} behind {format_si(fe.resistance, 'Ohm')}"
+                + (f", {stated}." if stated else ".")]
     return []
 
 
 def _points_rows(a: Analysis, spread) -> tuple[list[str], list[list[str]]]:
-    """The switching-points table: nominal, and the spread's worst case and 99.73 % range if run."""
+    """The switching-points table: nominal, and the spread's worst case and 99.73 % range if run (over
+    a temperature range: 0.135 % of builds go below the first figure somewhere in it, and 0.135 % above
+    the second)."""
     w = a.points
     q = lambda x: format_value(x, w.unit, 4)  # noqa: E731
     header = ["Quantity", "Nominal"]
@@ -222,8 +233,9 @@ def _points_rows(a: Analysis, spread) -> tuple[list[str], list[list[str]]]:
     def row(label: str, key: str, nominal: float) -> list[str]:
         out = [label, q(nominal)]
         if spread is not None:
-            wc, mc = getattr(spread.worst_case, key), getattr(spread.monte_carlo, key)
-            out += [q(wc.min), q(wc.max), q(mc.percentiles[0.135]), q(mc.percentiles[99.865])]
+            wc, mc = getattr(spread.worst_case, key), spread.monte_carlo
+            out += [q(wc.min), q(wc.max), q(mc.lowest[key].percentiles[0.135]),
+                    q(mc.highest[key].percentiles[99.865])]
         return out
 
     blank = [""] * (len(header) - 2)
@@ -240,25 +252,43 @@ def _points_rows(a: Analysis, spread) -> tuple[list[str], list[list[str]]]:
     return header, rows
 
 
+_DISTRIBUTION_WORDS = {"normal": "normal, a tolerance taken as 3 sigma",
+                       "screened": "normal cut at each tolerance (screened parts)",
+                       "uniform": "uniform within each tolerance"}
+
+
 def _spread_section(spread) -> list[str]:
-    """How the spread was run, the yield and the parts that matter most (a ``Spread``)."""
+    """How the spread was run, the yield, the failure probability and where builds fail, the parts
+    that matter most and where the model simplifies (a ``Spread``)."""
     mc, se = spread.monte_carlo, spread.sensitivity
-    kind = ("normal, a tolerance taken as 3 sigma" if spread.tolerances.distribution == "normal"
-            else "uniform within each tolerance")
+    kind = _DISTRIBUTION_WORDS[spread.tolerances.distribution]
     wc = spread.worst_case
     lines = [_line(f"Worst case over {wc.method} ({wc.evaluated:,} evaluations); "
                    f"Monte Carlo over {mc.samples:,} builds, {kind}, seed {mc.seed}."), ""]
+    span = spread.tolerances.temperature
+    lines += [_line("Temperature: " + ("none given, so every build is taken at 25 C." if span is None else
+                                       f"each build is checked over the whole range, {span[0]:g} to "
+                                       f"{span[1]:g} C; it passes only if it keeps every window at every "
+                                       "temperature of it.")), ""]
     varied = ", ".join(f"{f.name} ({f.origin})" for f in spread.factors) or "nothing: every part exact"
     lines += [_line(f"Varied: {varied}."), ""]
     y = mc.build_yield
     if y is not None:
-        lines += [_line(f"Yield against the limits: {100 * y.fraction:.3f} % of builds "
-                        f"(95 % interval {100 * y.low:.3f} % to {100 * y.high:.3f} %)."), ""]
+        lines += [_line(f"Yield against the limits, per build over the range: {100 * y.fraction:.3f} % of "
+                        f"builds (95 % interval {100 * y.low:.3f} % to {100 * y.high:.3f} %)."), ""]
+        f = y.failure
+        if f is not None:
+            lines += [_line(f"Failure probability: {format_probability(f.probability)} (95 % interval "
+                            f"{format_probability(f.low)} to {format_probability(f.high)}); {f.method}."), ""]
+        places = failure_places(spread)
+        if places:
+            lines += ["Where builds fail:", "", *_items(places), ""]
     rows = []
     for name in ("upper", "lower", "hysteresis"):
         top = [f"{sh.factor} {100 * sh.share:.0f} %" for sh in getattr(se, name)[:3] if sh.share >= 0.005]
         rows.append([name, ", ".join(top) or "none"])
     lines += _table(["Quantity", "Largest shares of its spread (first order)"], rows)
+    lines += ["", "Where the spread's model simplifies:", "", *_items(spread.simplifications)]
     return lines
 
 
@@ -317,8 +347,8 @@ def _fence(text: str) -> str:
 
 
 ASSUMPTIONS = (
-    "The comparator is ideal apart from the offset, bias current and output levels given: "
-    "infinite gain, no input current other than the bias current, no internal hysteresis.",
+    "The comparator is ideal apart from the offset, built-in hysteresis, bias and offset currents and "
+    "output levels given: infinite gain, no input current other than the bias and offset currents.",
     "Each output state is a Thevenin source: push-pull level behind its output resistance, or the "
     "pull-up for an open-drain output high and an ideal sink at the low level.",
     "Switching points are in volts of the signal source's open-circuit voltage, or in the watched "

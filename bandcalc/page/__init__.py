@@ -12,6 +12,7 @@ Importing this package imports nothing; its modules import Streamlit where they 
 - ``whole_design``: the demo chooser, name and notes, opening and saving the design file
 - ``results``: what is always in view: figures, findings, transfer curve, schematic
 - ``names``: names of parts and varied quantities for people
+- ``literal``: text from users (names, units, file names) shown as text, never as Markdown
 - ``runs``: results of the runs started by a button, kept per design and settings
 - ``panels``: one module per panel below the live view; add yours to ``panels.PANELS``
 - ``sheet``: puts the page together; ``app.py`` calls :func:`sheet.main`

@@ -20,6 +20,7 @@ from bandcalc.model.transfer import transfer_curve
 from bandcalc.outputs.netlist import netlist
 from bandcalc.outputs.plots import as_figure, transfer_spec
 from bandcalc.outputs.schematic import stage_svg
+from bandcalc.page.literal import literal
 
 __all__ = ["analysis_of", "guarded", "netlist_of", "schematic_of", "transfer_figure_of"]
 
@@ -35,7 +36,7 @@ def guarded(what: str, fn: Callable[..., T], *args: Any, **kwargs: Any) -> T | N
     try:
         return fn(*args, **kwargs)
     except ValueError as exc:
-        st.error(f"{what}: {exc}")
+        st.error(literal(f"{what}: {exc}"))
     except Exception:  # the page never shows a traceback
         log.exception("%s failed", what)
         st.error(f"{what}: could not be worked out for this design (an internal error, logged on the "

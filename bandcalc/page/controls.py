@@ -11,7 +11,7 @@ from collections.abc import Callable, Sequence
 import streamlit as st
 
 from bandcalc.model.design import LEG_KEYS, STAGES, Design, OpenDrain
-from bandcalc.model.front_end import POSITIONS, THERMISTOR_RANGE, ThermistorFrontEnd
+from bandcalc.model.front_end import BETA_PAIR, POSITIONS, THERMISTOR_RANGE, ThermistorFrontEnd
 from bandcalc.model.parts import part, value_at, with_value
 from bandcalc.model.range_checks import INPUT_CURRENT_LIMIT
 from bandcalc.model.ratings import DEFAULT_SIZE, PACKAGES
@@ -24,10 +24,12 @@ from bandcalc.page.edit import (
     OUTPUT_KINDS,
     STARTING_OHMS,
     THERMISTOR_MODELS,
+    beta_temperature,
     excitation_kind,
     front_end_kind,
     reference_kind,
     thermistor_model,
+    with_beta_temperature,
     with_excitation,
     with_front_end,
     with_legs,
@@ -39,6 +41,7 @@ from bandcalc.page.edit import (
     with_thermistor_model,
 )
 from bandcalc.page.inputs import choice_control, quantity_field, resistor_control, value_field
+from bandcalc.page.literal import literal
 
 __all__ = ["SECTION_PREFIX", "SERIES_KEY", "render_controls"]
 
@@ -133,8 +136,14 @@ def _output(design: Design, series: str) -> None:
 def _comparator(design: Design) -> None:
     quantity_field("Input offset voltage", "comparator.offset", design, "V",
                    help="The stage switches where V+ − V− equals this")
+    quantity_field("Hysteresis built in", "comparator.hysteresis", design, "V", optional=True,
+                   blank="blank: none",
+                   help="Some comparators switch at offset ± half of a few mV of their own; it adds to the "
+                        "network's")
     quantity_field("Input bias current", "comparator.bias_current", design, "A",
                    help="Flows into each input pin")
+    quantity_field("Input offset current", "comparator.offset_current", design, "A", optional=True,
+                   blank="blank: 0", help="The + pin's current less the − pin's")
     quantity_field("Propagation delay", "comparator.delay", design, "s")
     quantity_field("Common-mode range, low end", "comparator.common_mode_low", design, "V",
                    optional=True, blank="blank: no limit given")
@@ -182,10 +191,9 @@ def _source(design: Design) -> None:
 
 
 def _unit_entered(key: str) -> None:
-    old = value_at(state.current_design(), "front_end.unit")
-    if not state.edit(lambda d: with_value(d, "front_end.unit", st.session_state[key].strip()),
-                      "Watched unit", "front_end.unit", kept=repr(old)):
-        st.session_state[key] = old
+    old, unit = value_at(state.current_design(), "front_end.unit"), st.session_state[key].strip()
+    state.edit(lambda d: with_value(d, "front_end.unit", unit), "Watched unit", "front_end.unit",
+               kept=repr(old), restore=(key, old))
 
 
 def _watched_range(design: Design, unit: str, low: str, high: str) -> None:
@@ -202,6 +210,14 @@ def _thermistor(design: Design, fe: ThermistorFrontEnd, series: str) -> None:
         quantity_field("Beta", "front_end.beta", design, "K", help="R = R25 exp(B (1/T − 1/298.15 K))")
         quantity_field("Beta tolerance", "front_end.beta_tolerance", design, "%", optional=True,
                        blank="blank: exact")
+        for i, end in enumerate(("from", "to")):
+            value_field(f"Beta measured {end}", f"front_end.beta_temperatures.{end}", design, "C",
+                        lambda d, i=i: beta_temperature(d, i),
+                        lambda d, v, i=i: with_beta_temperature(d, i, v),
+                        where="front_end.beta_temperatures", optional=True,
+                        blank=f"blank: {BETA_PAIR[i]:g} C (B{BETA_PAIR[0]:g}/{BETA_PAIR[1]:g} assumed)",
+                        help="The two temperatures the data sheet's Beta was measured between "
+                             "(B25/50, B25/85)")
     else:
         for i, name in enumerate("ABC"):
             quantity_field(f"Coefficient {name}", f"front_end.steinhart_hart[{i}]", design, "",
@@ -242,9 +258,13 @@ def _front_end(design: Design, series: str) -> None:
         st.session_state.setdefault(key, fe.unit)
         st.text_input("Watched unit", key=key, on_change=_unit_entered, args=(key,),
                       help="The sensor's quantity: C, kPa, %RH, ...")
-        quantity_field(f"Output per {fe.unit}", "front_end.volts_per_unit", design, "V")
-        quantity_field(f"Output at 0 {fe.unit}", "front_end.offset", design, "V")
+        quantity_field(f"Output per {literal(fe.unit)}", "front_end.volts_per_unit", design, "V")
+        quantity_field(f"Output at 0 {literal(fe.unit)}", "front_end.offset", design, "V")
         quantity_field("Sensor output resistance", "front_end.resistance", design, "Ohm")
+        quantity_field("Offset accuracy, ±", "front_end.offset_tolerance", design, "V", optional=True,
+                       blank="blank: exact", help="The sensor's offset error, as its data sheet states it")
+        quantity_field("Span accuracy, ±", "front_end.span_tolerance", design, "%", optional=True,
+                       blank="blank: exact", help="The error of its slope, as its data sheet states it")
         _watched_range(design, fe.unit, "what maps to the negative rail", "what maps to the positive rail")
 
 

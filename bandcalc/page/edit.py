@@ -23,10 +23,11 @@ from bandcalc.model.design import (
     PushPull,
     divider_thevenin,
 )
-from bandcalc.model.front_end import DividerFrontEnd, LinearFrontEnd, ThermistorFrontEnd
+from bandcalc.model.front_end import BETA_PAIR, DividerFrontEnd, LinearFrontEnd, ThermistorFrontEnd
 from bandcalc.model.ratings import PACKAGES, Ratings
-from bandcalc.model.standard_values import SERIES, nearest, series_values
+from bandcalc.model.standard_values import SERIES, EseriesError, nearest, series_values
 from bandcalc.model.thermistor import beta_between, beta_to_steinhart_hart
+from bandcalc.model.units import format_code
 
 __all__ = [
     "DECADES_BELOW",
@@ -35,13 +36,17 @@ __all__ = [
     "FRONT_END_KINDS",
     "OUTPUT_KINDS",
     "REFERENCE_KINDS",
+    "SLIDER_DIGITS",
     "STARTING_OHMS",
     "THERMISTOR_MODELS",
+    "beta_temperature",
     "excitation_kind",
     "front_end_kind",
+    "in_series",
     "reference_kind",
     "slider_options",
     "thermistor_model",
+    "with_beta_temperature",
     "with_excitation",
     "with_front_end",
     "with_legs",
@@ -60,6 +65,8 @@ REFERENCE_KINDS = ("none", "fixed", "divider")
 OUTPUT_KINDS = ("push-pull", "open-drain")
 # The resistor sliders span the decade holding the value, one below and one above.
 DECADES_BELOW, DECADES_ABOVE = 1, 2
+#: Significant digits of the resistor sliders' labels, in the IEC 60062 code ("4k75").
+SLIDER_DIGITS = 4
 FRONT_END_KINDS = ("none", "divider", "thermistor", "linear")
 THERMISTOR_MODELS = ("beta", "steinhart_hart")
 EXCITATION_KINDS = ("positive", "reference", "volts")
@@ -153,17 +160,32 @@ def slider_options(series: str, ohms: float) -> tuple[float, ...]:
     """Standard values of ``series`` across the decades around ``ohms``, with ``ohms`` itself.
 
     A value that is not in the series is kept exactly and sits among its neighbours, so the
-    slider can show it.
+    slider can show it.  Beyond the series tables (yocto to yotta ohm) the value stands alone.
+    Each option reads differently in the slider's labels (:data:`SLIDER_DIGITS` digits of the
+    IEC 60062 code): Streamlit tells a slider's options apart by their labels, so a neighbour
+    that reads like the value itself ("4k7" for 4699.6 ohm) would take its place on the next run.
     """
     if series not in SERIES:
         raise DesignError(f"series: {series!r} is not a standard series; allowed: {', '.join(SERIES)}")
     decade = math.floor(math.log10(ohms))
-    low = 10.0 ** (decade - DECADES_BELOW)
-    high = 10.0 ** (decade + DECADES_ABOVE) * 0.9999
-    values = [float(v) for v in series_values(series, low, high)]
-    if ohms not in values:
-        values = sorted([*values, float(ohms)])
-    return tuple(values)
+    try:
+        low = 10.0 ** (decade - DECADES_BELOW)
+        high = 10.0 ** (decade + DECADES_ABOVE) * 0.9999
+        values = [float(v) for v in series_values(series, low, high)]
+    except (EseriesError, OverflowError):
+        values = []
+    labelled = {format_code(ohms, SLIDER_DIGITS): float(ohms)}  # the value keeps its own label
+    for value in values:
+        labelled.setdefault(format_code(value, SLIDER_DIGITS), value)
+    return tuple(sorted(labelled.values()))
+
+
+def in_series(series: str, ohms: float) -> bool:
+    """Whether ``ohms`` is a value of ``series`` (never beyond the series tables)."""
+    try:
+        return series_values(series, ohms, ohms).size > 0
+    except EseriesError:
+        return False
 
 
 def front_end_kind(design: Design) -> str:
@@ -222,7 +244,8 @@ def with_thermistor_model(design: Design, model: str) -> Design:
         return design
     if model == "steinhart_hart":
         coefficients = beta_to_steinhart_hart(float(fe.r25), float(fe.beta))  # type: ignore[arg-type]
-        new = replace(fe, r25=None, beta=None, beta_tolerance=None, steinhart_hart=coefficients)
+        new = replace(fe, r25=None, beta=None, beta_tolerance=None, beta_temperatures=None,
+                      steinhart_hart=coefficients)
     else:
         assert fe.steinhart_hart is not None
         new = replace(fe, steinhart_hart=None, r25=fe.nominal_r25, beta=beta_between(fe.steinhart_hart))
@@ -245,6 +268,27 @@ def with_excitation(design: Design, kind: str) -> Design:
         return design
     value: str | float = design.supply.positive if kind == "volts" else kind
     return replace(design, front_end=replace(_thermistor(design), excitation=value))
+
+
+def beta_temperature(design: Design, index: int) -> float | None:
+    """The first (0) or second (1) temperature the thermistor's Beta was measured between, C; None
+    where the pair is not given (B25/50 assumed)."""
+    pair = _thermistor(design).beta_temperatures
+    return None if pair is None else pair[index]
+
+
+def with_beta_temperature(design: Design, index: int, celsius: float | None) -> Design:
+    """Set one of the Beta's two temperatures; a blank one takes B25/50's, and with both blank the
+    pair is no longer given."""
+    fe = _thermistor(design)
+    pair = [beta_temperature(design, i) for i in (0, 1)]
+    pair[index] = celsius
+    other = 1 - index
+    if celsius is None and pair[other] == BETA_PAIR[other]:  # what is left is only the assumed pair
+        pair[other] = None
+    given = None if pair == [None, None] else \
+        tuple(BETA_PAIR[i] if v is None else v for i, v in enumerate(pair))
+    return replace(design, front_end=replace(fe, beta_temperatures=given))
 
 
 def with_protective(design: Design, guards: bool) -> Design:

@@ -22,7 +22,6 @@ import streamlit as st
 from bandcalc.errors import BandcalcError
 from bandcalc.model.design import Design
 from bandcalc.model.parts import value_at, with_value
-from bandcalc.model.standard_values import series_values
 from bandcalc.model.units import (
     SI_UNITS,
     UnitError,
@@ -32,7 +31,8 @@ from bandcalc.model.units import (
     parse_resistance,
 )
 from bandcalc.page import state
-from bandcalc.page.edit import slider_options
+from bandcalc.page.edit import SLIDER_DIGITS, in_series, slider_options
+from bandcalc.page.literal import literal
 
 __all__ = ["choice_control", "quantity_field", "read_value", "resistor_control", "shown",
            "value_field"]
@@ -75,8 +75,10 @@ def read_value(text: str, unit: str, what: str) -> float:
                         f"optionally with an SI prefix (e.g. 2.5, 50m, 1.5k)") from None
 
 
-def _chosen(key: str, change: Callable[[Design, Any], Design], label: str, controls: str) -> None:
-    state.edit(lambda d: change(d, st.session_state[key]), label, controls=controls)
+def _chosen(key: str, change: Callable[[Design, Any], Design], label: str, controls: str,
+            current: Any) -> None:
+    value = st.session_state[key]
+    state.edit(lambda d: change(d, value), label, controls=controls, restore=(key, current))
 
 
 def choice_control(widget: Callable[..., Any], label: str, key: str, current: Any,
@@ -84,14 +86,16 @@ def choice_control(widget: Callable[..., Any], label: str, key: str, current: An
                    **kwargs: Any) -> None:
     """A selection widget (``st.radio``, ``st.toggle``, ...) whose value comes from the design and
     whose change edits it through ``change(design, value)``; keyed ``in.<key>``.  ``controls``:
-    the controls that start again after the change (see :func:`bandcalc.page.state.replace_design`)."""
+    the controls that start again after the change (see :func:`bandcalc.page.state.replace_design`).
+    A choice the design refuses is named in a message, and the widget shows ``current`` again."""
     key = state.INPUT_PREFIX + key
     st.session_state.setdefault(key, current)
-    widget(label, key=key, on_change=_chosen, args=(key, change, label, controls), **kwargs)
+    widget(label, key=key, on_change=_chosen, args=(key, change, label, controls, current), **kwargs)
 
 
 def _slid(path: str, label: str, key: str) -> None:
-    state.edit(lambda d: with_value(d, path, float(st.session_state[key])), label, path)
+    ohms = float(st.session_state[key])
+    state.edit(lambda d: with_value(d, path, ohms), label, path)
 
 
 def _typed(path: str, label: str, key: str) -> None:
@@ -102,8 +106,8 @@ def _typed(path: str, label: str, key: str) -> None:
         state.say("error", f"{exc}. The design keeps {shown(old, 'Ohm')}.")
         st.session_state[key] = shown(old, "Ohm")
         return
-    if not state.edit(lambda d: with_value(d, path, ohms), label, path, kept=shown(old, "Ohm")):
-        st.session_state[key] = shown(old, "Ohm")
+    state.edit(lambda d: with_value(d, path, ohms), label, path, kept=shown(old, "Ohm"),
+               restore=(key, shown(old, "Ohm")))
 
 
 def resistor_control(label: str, path: str, design: Design, series: str, help: str | None = None) -> None:
@@ -113,11 +117,12 @@ def resistor_control(label: str, path: str, design: Design, series: str, help: s
     st.session_state.setdefault(slider_key, ohms)
     st.session_state.setdefault(text_key, shown(ohms, "Ohm"))
     st.select_slider(label, options=slider_options(series, ohms), key=slider_key, help=help,
-                     format_func=lambda v: format_code(v, 4), on_change=_slid, args=(path, label, slider_key))
+                     format_func=lambda v: format_code(v, SLIDER_DIGITS), on_change=_slid,
+                     args=(path, label, slider_key))
     st.text_input(f"{label}, exact value", key=text_key, label_visibility="collapsed",
                   placeholder="type a value: 4k7 or 4.7k", on_change=_typed, args=(path, label, text_key))
-    if series_values(series, ohms, ohms).size == 0:
-        st.caption(f"{format_code(ohms, 4)} is not an {series} value; it is kept exactly as typed.")
+    if not in_series(series, ohms):  # all its digits: 4699.6 ohm reads "4k7" on the slider
+        st.caption(f"{format_code(ohms, 7)} is not an {series} value; it is kept exactly as typed.")
 
 
 def _entered(key: str, label: str, where: str, unit: str, optional: bool,
@@ -137,9 +142,8 @@ def _entered(key: str, label: str, where: str, unit: str, optional: bool,
         state.say("error", f"{exc}. The design keeps {shown(old, unit) or 'no value'}.")
         st.session_state[key] = shown(old, unit)
         return
-    if not state.edit(lambda d: change(d, value), label, where, kept=shown(old, unit) or "no value",
-                      controls=controls):
-        st.session_state[key] = shown(old, unit)
+    state.edit(lambda d: change(d, value), label, where, kept=shown(old, unit) or "no value",
+               controls=controls, restore=(key, shown(old, unit)))
 
 
 def value_field(label: str, key: str, design: Design, unit: str, get: Callable[[Design], float | None],
@@ -153,7 +157,7 @@ def value_field(label: str, key: str, design: Design, unit: str, get: Callable[[
     """
     key = f"{state.INPUT_PREFIX}{key}"
     st.session_state.setdefault(key, shown(get(design), unit))
-    symbol = "Ω" if unit == "Ohm" else unit
+    symbol = "Ω" if unit == "Ohm" else literal(unit)
     st.text_input(f"{label} ({symbol})" if symbol else label, key=key, placeholder=blank or None, help=help,
                   on_change=_entered, args=(key, label, where, unit, optional, get, change, controls))
 

@@ -15,6 +15,7 @@ from bandcalc.model.front_end import ThermistorFrontEnd
 from bandcalc.model.operating import Analysis
 from bandcalc.model.units import format_si, format_value
 from bandcalc.page.compute import analysis_of, guarded, schematic_of, transfer_figure_of
+from bandcalc.page.literal import literal
 
 __all__ = ["AXIS_KEY", "FIGURES", "figure_texts", "render_figures", "render_results", "render_views",
            "watched_name"]
@@ -49,8 +50,9 @@ def watched_name(design: Design) -> str:
 
 
 def figure_texts(analysis: Analysis) -> list[tuple[str, str, str | None, str]]:
-    """(label, value shown, the stage's volts beneath it or None, meaning) for each figure."""
-    a, w = analysis, analysis.points
+    """(label, value shown, the stage's volts beneath it or None, meaning) for each figure; the
+    watched unit is shown as text (:func:`bandcalc.page.literal.literal`)."""
+    a, w, unit = analysis, analysis.points, literal(analysis.points.unit)
     out = []
     for label, attr, meaning in FIGURES:
         volts = format_si(getattr(a, attr), "V", 4)
@@ -62,7 +64,7 @@ def figure_texts(analysis: Analysis) -> list[tuple[str, str, str | None, str]]:
         # the watched upper point is where the stage reaches its lower point, and the other way round.
         stage = {"upper": a.upper if w.rises else a.lower, "lower": a.lower if w.rises else a.upper}.get(
             attr, getattr(a, attr))
-        out.append((label, format_value(float(value), w.unit, 4), f"{format_si(stage, 'V', 4)} at the stage",
+        out.append((label, format_value(float(value), unit, 4), f"{format_si(stage, 'V', 4)} at the stage",
                     _WATCHED_MEANING[attr]))
     return out
 
@@ -76,21 +78,21 @@ def render_figures(analysis: Analysis) -> None:
         if stage:
             column.caption(stage)
     if analysis.design.front_end is not None:
-        w, unit = analysis.points, analysis.design.unit
+        w, unit = analysis.points, literal(analysis.design.unit)
         st.caption(f"Switching points in the watched quantity ({unit}), through the front end; beneath "
                    f"each, the stage's input in volts. The output turns {analysis.rising_output} "
                    f"as the watched quantity rises through {format_value(float(w.upper), unit, 4)}.")
     for line in analysis.cautions:
-        st.error(line, icon=":material/warning:")
+        st.error(literal(line), icon=":material/warning:")
     problems = [f for f in analysis.findings if f.level == "warning"]
     for f in problems:
-        st.warning(f.message, icon=":material/info:")
+        st.warning(literal(f.message), icon=":material/info:")
     if not problems and not analysis.cautions:
         st.caption("No findings: both points are reachable; over the input's whole range the pins stay "
                    "inside the rails and the given ranges, and every part within its rating.")
     for f in analysis.findings:
         if f.level == "note":
-            st.caption(f":material/info: {f.message}")
+            st.caption(f":material/info: {literal(f.message)}")
 
 
 def _axis(design: Design) -> tuple[bool, str | None]:
@@ -99,9 +101,9 @@ def _axis(design: Design) -> tuple[bool, str | None]:
         return False, None
     names = {"watched": f"{watched_name(design)} ({design.unit})", "stage": "Stage input, open-circuit (V)"}
     st.session_state.setdefault(AXIS_KEY, "watched")
-    choice = st.radio("Plot against", tuple(names), key=AXIS_KEY, format_func=names.get, horizontal=True,
-                      label_visibility="collapsed")
-    return choice == "watched", names[choice]
+    choice = st.radio("Plot against", tuple(names), key=AXIS_KEY, format_func=lambda k: literal(names[k]),
+                      horizontal=True, label_visibility="collapsed")
+    return choice == "watched", names[choice]  # chart text: outputs/plots.py escapes it for Plotly
 
 
 def render_views(design: Design) -> None:

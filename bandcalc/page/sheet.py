@@ -9,6 +9,7 @@ import streamlit as st
 from bandcalc import __version__
 from bandcalc.page import state
 from bandcalc.page.controls import render_controls
+from bandcalc.page.literal import literal
 from bandcalc.page.panels import Sheet, render_panels
 from bandcalc.page.results import render_results
 from bandcalc.page.whole_design import render_design_file
@@ -25,7 +26,7 @@ def main() -> None:
     try:
         _sheet()
     except ValueError as exc:
-        st.error(str(exc))
+        st.error(literal(str(exc)))
     except Exception:  # Streamlit's own stop/rerun signals are BaseExceptions and pass through
         log.exception("the page failed")
         st.error("The page ran into an internal error (logged on the server). Your design is kept in "
@@ -33,14 +34,14 @@ def main() -> None:
 
 
 def _sheet() -> None:
-    design = state.current_design()
+    design = state.begin_run()
     with st.sidebar:
         st.header("Design")
         render_design_file(design)
         st.header("Stage")
         render_controls(design)
         st.caption(f"bandcalc {__version__}")
-    st.title(design.name or "Comparator stage with hysteresis")
+    st.title(literal(design.name) or "Comparator stage with hysteresis")
     state.show_messages()
     analysis = render_results(design)
     if analysis is not None:

@@ -14,6 +14,7 @@ from bandcalc.model.design_file import design_from_json, design_to_json
 from bandcalc.model.operating import is_protective
 from bandcalc.model.parts import with_value
 from bandcalc.page import state
+from bandcalc.page.address import ADDRESS_MAX
 from bandcalc.page.edit import with_protective
 from bandcalc.page.inputs import choice_control
 
@@ -51,13 +52,16 @@ def _opened() -> None:
     upload = st.session_state[_UPLOAD_KEY]
     if upload is None:
         return
-    design = state.read_upload(upload, _design_of, "The current design is kept.")
+    design = state.read_upload(upload, lambda u: state.admit(_design_of(u)), "The current design is kept.")
     if design is not None:
         state.replace_design(design, f"Opened {upload.name}.")
 
 
 def _named(key: str, path: str, label: str) -> None:
-    state.edit(lambda d: with_value(d, path, st.session_state[key]), label)
+    # A text refused stays in its box, to be shortened or copied; the design keeps the one it had.
+    text = st.session_state[key]
+    state.edit(lambda d: with_value(d, path, text), label, path,
+               kept=f"the {path} it had; your text stays in the box")
 
 
 def render_design_file(design: Design) -> None:
@@ -70,7 +74,9 @@ def render_design_file(design: Design) -> None:
     st.session_state.setdefault(name_key, design.name)
     st.session_state.setdefault(notes_key, design.notes)
     st.text_input("Design name", key=name_key, on_change=_named, args=(name_key, "name", "Design name"))
-    st.text_area("Notes", key=notes_key, height=90, on_change=_named, args=(notes_key, "notes", "Notes"))
+    st.text_area("Notes", key=notes_key, height=90, on_change=_named, args=(notes_key, "notes", "Notes"),
+                 help=f"Kept with the design in the page address, which holds {ADDRESS_MAX:,} characters: "
+                      "several pages of notes. Longer notes are refused; keep long text in a file")
     choice_control(st.checkbox, "Guards people or property", "protective", is_protective(design),
                    with_protective, help="A disconnect, cut-off, alarm or interlock: brings the usual "
                    "cautions. Ticked from the name and notes until you choose; your choice is saved in the "

@@ -50,7 +50,7 @@ class Sheet:
 
 @st.fragment
 def _panel(panel: ModuleType, sheet: Sheet) -> None:
-    design = state.current_design()
+    design = state.begin_run()
     if design is not sheet.design:
         # A rerun of the panel alone gets the arguments of the last full run: after the panel's own
         # controls changed the design, work from the design as it is now.

@@ -6,6 +6,7 @@ import streamlit as st
 
 from bandcalc.model.operating import OperatingPoint
 from bandcalc.model.units import format_si, format_value
+from bandcalc.page.literal import literal
 from bandcalc.page.names import part_name
 
 TITLE = "Currents and power"
@@ -21,7 +22,7 @@ def _amps(amps: float | None) -> str:
 
 
 def _at(op: OperatingPoint, watched: float | None = None, unit: str | None = None) -> str:
-    where = "" if watched is None else f" ({format_value(watched, unit, 4)} watched)"
+    where = "" if watched is None else f" ({format_value(watched, literal(unit), 4)} watched)"
     return f"{format_si(op.signal, 'V', 4)} in{where}, output {op.state} before switching"
 
 

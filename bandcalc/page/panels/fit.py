@@ -32,10 +32,12 @@ from bandcalc.model.design_file import design_from_json, design_to_json
 from bandcalc.model.front_end import front_end_of
 from bandcalc.model.parts import part, resistors_of, value_at
 from bandcalc.model.standard_values import SERIES
-from bandcalc.model.units import format_code, format_si, format_value, parse_quantity, parse_resistance
+from bandcalc.model.units import format_code, format_si, format_value, parse_resistance
 from bandcalc.page import state
 from bandcalc.page.compute import guarded
 from bandcalc.page.controls import SERIES_KEY
+from bandcalc.page.inputs import read_value
+from bandcalc.page.literal import literal
 
 TITLE = "Fit to target points"
 
@@ -99,7 +101,7 @@ def _take_points(upper: str, lower: str) -> None:
 
 def _form(sheet, kept: dict) -> bool:
     """The settings; returns whether "Find values" was pressed."""
-    design, unit = sheet.design, sheet.design.unit
+    design, unit = sheet.design, literal(sheet.design.unit)
     what = f"{front_end_of(design).quantity}, {unit}"
     with st.form("fit.form", border=False):
         row = st.columns(4)
@@ -138,11 +140,11 @@ def _read(design: Design, kept: dict) -> tuple[dict, list[str]]:
     """The fit's arguments from the settings, and a message for each field that cannot be read."""
     unit, args, wrong = design.unit, {}, []
     for field in ("upper", "lower"):
-        text = str(kept[field]).replace("°", "").strip()
+        text = str(kept[field]).strip()
         try:
             if not text:
                 raise BandcalcError(f"{_LABELS[field]}: needs a value in {unit}")
-            args[field] = parse_quantity(text, unit, _LABELS[field])
+            args[field] = read_value(text, unit, _LABELS[field])  # as the page writes it: "313.62 kPa"
         except ValueError as exc:
             wrong.append(str(exc))
     for field in ("min_ohms", "max_ohms"):
@@ -204,7 +206,7 @@ def latest_fit(design: Design) -> FitResult | None:
 def _find(design: Design, kept: dict) -> None:
     args, wrong = _read(design, kept)
     for line in wrong:
-        st.error(f"{line}. Nothing was searched; the design and the last results are kept.")
+        st.error(literal(f"{line}. Nothing was searched; the design and the last results are kept."))
     if wrong:
         return
     text = design_to_json(design)
@@ -246,7 +248,7 @@ def _in_use(design: Design, c: Candidate) -> bool:
 
 
 def _table(r: FitResult, design: Design) -> dict[str, list[str]]:
-    unit = design.unit
+    unit = literal(design.unit)
     rows = r.candidates
     table = {"Rank": [str(i) for i in range(1, len(rows) + 1)]}
     table.update({part(p).label: [format_code(c.value(p), 3) for c in rows] for p in r.fitted})
@@ -277,7 +279,7 @@ def _results(sheet) -> None:
         st.info("The stage has changed since the last search in more than resistor values; press Find "
                 "values to search for the design as it is now.")
         return
-    unit = design.unit
+    unit = literal(design.unit)
     fitted = ", ".join(part(p).label.lower() for p in r.fitted)
     targets = f"upper {format_value(r.upper, unit, 4)}, lower {format_value(r.lower, unit, 4)}"
     span = f"{format_code(r.min_ohms, 4)} to {format_code(r.max_ohms, 4)}"
@@ -285,21 +287,21 @@ def _results(sheet) -> None:
     if r.stopped:
         st.warning(r.stopped)
     for line in r.problems:
-        st.warning(f"Cannot meet the targets exactly: {line}")
+        st.warning(literal(f"Cannot meet the targets exactly: {line}"))
     if r.candidates:
         st.table(_table(r, design), hide_index=True)
         with st.container(horizontal=True):
             for rank, c in enumerate(r.candidates, 1):
                 if st.button(f"Apply {rank}", key=f"{_WIDGET}apply.{rank}",
                              help="Put this candidate's values on the sliders"):
-                    state.apply_design(apply_candidate(design, c), _applied(r, rank, c, unit))
+                    state.apply_design(apply_candidate(design, c), _applied(r, rank, c, design.unit))
     if r.exact is not None:
         exact = ", ".join(f"{part(p).label.lower()} {format_si(r.exact.value(p), 'Ohm', 4)}"
                           for p in r.fitted)
         st.caption(f"Exact values, not standard: {exact} (upper {format_value(r.exact.upper, unit, 4)}, "
                    f"lower {format_value(r.exact.lower, unit, 4)}).")
     for line in r.notes:
-        st.info(line)
+        st.info(literal(line))
 
 
 def render(sheet) -> None:

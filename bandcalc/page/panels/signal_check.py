@@ -21,6 +21,7 @@ from bandcalc.outputs.plots import DISPLAY_POINTS, as_figure, signal_spec, trade
 from bandcalc.page import runs, state
 from bandcalc.page.compute import guarded
 from bandcalc.page.inputs import read_value
+from bandcalc.page.literal import literal
 from bandcalc.signal_check.edges import SignalRun, run_design, run_points
 from bandcalc.signal_check.recording import read_waveform_csv
 from bandcalc.signal_check.waveform import HUM_FREQUENCIES, SHAPES, Waveform, synthesize
@@ -77,7 +78,7 @@ def _setting(name: str, unit: str) -> None:
     unit = unit if kind == "watched" else kind
     key = _PREFIX + name
     st.session_state.setdefault(key, default)
-    st.text_input(f"{label} ({unit})", key=key, placeholder=f"blank: {blank}" if blank else None,
+    st.text_input(f"{label} ({literal(unit)})", key=key, placeholder=f"blank: {blank}" if blank else None,
                   on_change=_setting_changed, args=(name, label, unit, blank is not None))
 
 
@@ -101,7 +102,7 @@ def _synthetic_settings(design: Design, unit: str) -> tuple:
     columns[1].number_input("Noise seed", 0, 2**31 - 1, key=_PREFIX + "seed",
                             help="The same seed gives the same noise")
     offset, amplitude = _value("offset", unit), _value("amplitude", unit)
-    v = lambda x: format_value(x, unit)  # noqa: E731
+    v = lambda x: format_value(x, literal(unit))  # noqa: E731
     st.caption(f"Blank centre and amplitude follow the design: centre {v(0.5 * (upper + lower))}, "
                f"amplitude {v(upper - lower)} (so the signal crosses both points).")
     return (st.session_state[_PREFIX + "shape"], 0.5 * (upper + lower) if offset is None else offset,
@@ -131,13 +132,13 @@ def _recorded_settings(unit: str) -> tuple | None:
     st.file_uploader("Recorded signal: time (s) and value columns", type=["csv", "txt", "tsv"],
                      key=_PREFIX + "upload", on_change=_uploaded, max_upload_size=MAX_CSV_MB,
                      help=f"Header optional; comma, semicolon or tab; decimal point or comma; values in "
-                          f"{unit}; up to {MAX_CSV_MB} MB")
+                          f"{literal(unit)}; up to {MAX_CSV_MB} MB")
     recorded = st.session_state.get(_PREFIX + "recorded")
     if recorded is None:
         st.caption("No recorded signal loaded yet.")
         return None
     name, file_id, wave = recorded
-    st.caption(f"Using {name}: {_described(wave)}.")
+    st.caption(f"Using {literal(name)}: {_described(wave)}.")
     return ("recorded", name, file_id)
 
 
@@ -174,10 +175,12 @@ def _figures(run: SignalRun, unit: str) -> None:
     if clean is None:
         st.caption("A recorded signal has no noise-free version to compare with: chatter and delays are "
                    "not known (—).")
-    st.caption(f"Noise {format_value(run.noise.rms, unit, 3)} RMS, about "
-               f"{format_value(run.noise.peak_to_peak, unit, 3)} peak-to-peak ({run.noise.source}).")
+    shown_unit = literal(unit)
+    st.caption(f"Noise {format_value(run.noise.rms, shown_unit, 3)} RMS, about "
+               f"{format_value(run.noise.peak_to_peak, shown_unit, 3)} peak-to-peak "
+               f"({literal(run.noise.source)}).")
     for line in run.findings:
-        st.info(line, icon=":material/info:")
+        st.info(literal(line), icon=":material/info:")
 
 
 def _tradeoff(sweep: Sweep, run: SignalRun, unit: str) -> None:
@@ -189,7 +192,7 @@ def _tradeoff(sweep: Sweep, run: SignalRun, unit: str) -> None:
         st.caption(f"No width in the sweep gives exactly one edge per crossing of the noise-free "
                    f"signal{why}.")
     else:
-        v = lambda x: format_value(x, unit, 3)  # noqa: E731
+        v = lambda x: format_value(x, literal(unit), 3)  # noqa: E731
         s = lambda x: "not known" if x is None else format_si(x, "s", 3)  # noqa: E731  (no edge: no delay)
         st.caption(f"Narrowest width with one clean edge per crossing: {v(sweep.best_width)}, mean delay "
                    f"{s(sweep.best_mean_delay)}, largest {s(sweep.best_max_delay)}. "
@@ -199,8 +202,8 @@ def _tradeoff(sweep: Sweep, run: SignalRun, unit: str) -> None:
 def render(sheet) -> None:
     """Signal settings, the run, and its figures, time plot and trade-off curve."""
     design, unit = sheet.design, sheet.design.unit
-    st.caption(f"Runs a signal in {front_end_of(design).quantity} ({unit}) through the design's switching "
-               "points and reports every output edge.")
+    st.caption(f"Runs a signal in {front_end_of(design).quantity} ({literal(unit)}) through the design's "
+               "switching points and reports every output edge.")
     st.session_state.setdefault(_PREFIX + "source", "synthetic")
     source = st.radio("Signal", tuple(_SOURCES), key=_PREFIX + "source", format_func=_SOURCES.get,
                       horizontal=True, label_visibility="collapsed")
