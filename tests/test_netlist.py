@@ -105,6 +105,28 @@ def test_random_designs_of_every_kind_agree_with_analyze(tmp_path, stage, dual, 
     check_points(design, ngspice(netlist(design), tmp_path))
 
 
+@st.composite
+def with_the_parts_own_hysteresis(draw):
+    """A design of any kind whose comparator has hysteresis built in and an offset current."""
+    design = draw(st.one_of(designs(), designs_with_loads(), designs_with_front_ends()))
+    part_data = replace(design.comparator, hysteresis=draw(st.floats(1e-3, 0.05)),
+                        offset_current=draw(st.floats(-1e-7, 1e-7)))
+    return replace(design, comparator=part_data)
+
+
+@needs_ngspice
+@settings(max_examples=12, deadline=None, suppress_health_check=[HealthCheck.too_slow,
+                                                                 HealthCheck.function_scoped_fixture])
+@given(design=with_the_parts_own_hysteresis())
+def test_the_parts_own_hysteresis_and_offset_current_agree(tmp_path, design):
+    # The part's trip points (offset -/+ half its hysteresis, by the output's state) add to the
+    # network's; each pin draws the bias current -/+ half the offset current.
+    assume(_inside(design))
+    text = netlist(design)
+    assert "*u(v(state)-0.5))" in text.split("BDEC dec 0 V=")[1].splitlines()[0]
+    check_points(design, ngspice(text, tmp_path))
+
+
 @needs_ngspice
 def test_steinhart_hart_thermistor_agrees(tmp_path, demo):
     # A 10 kOhm NTC's Steinhart-Hart coefficients as commonly published for such parts (A = 1.009249522e-3,
@@ -132,6 +154,20 @@ def test_signal_bench_edges_agree_with_the_signal_check_within_one_sample(each_d
     measured = ngspice(netlist(each_demo, wave), tmp_path)
     assert run.edge_count >= 3
     got = np.array([measured[f"edge_{k + 1}"] for k in range(run.edge_count)])
+    assert np.abs(got - (run.edge_times - wave.t[0])) == pytest.approx(0, abs=1 / 100e3)
+
+
+@needs_ngspice
+def test_a_run_starting_inside_the_band_starts_in_the_signal_checks_state(demo, tmp_path):
+    # A push-pull output with no output resistance is an ideal source on the output node, where a
+    # .nodeset cannot act: the run started low where the signal check starts high (a sine from the
+    # centre), and every edge after was counted one off.
+    sump = replace(demo("sump_level_switch"), output=PushPull(0.05, 0.05, 0.0))
+    wave = _short_signal(sump)
+    run = run_design(sump, wave)
+    assert bool(run.output_high[0])
+    measured = ngspice(netlist(sump, wave), tmp_path)
+    got = np.array([measured.get(f"edge_{k + 1}", np.nan) for k in range(run.edge_count)])
     assert np.abs(got - (run.edge_times - wave.t[0])) == pytest.approx(0, abs=1 / 100e3)
 
 

@@ -53,8 +53,9 @@ from bandcalc.cli.visible_text import visible_text
 from bandcalc.errors import BandcalcError
 from bandcalc.model.design import Design, DividerReference, FixedReference, OpenDrain
 from bandcalc.model.front_end import DividerFrontEnd, LinearFrontEnd, ThermistorFrontEnd
+from bandcalc.model.network import minus_pin_current, plus_pin_current
 from bandcalc.model.operating import Analysis, analyze
-from bandcalc.model.parts import part, resistors_of
+from bandcalc.model.parts import parameters, part, resistors_of
 from bandcalc.model.points import input_range, volts_for
 from bandcalc.model.thermistor import KELVIN_AT_0C, KELVIN_AT_25C
 from bandcalc.model.units import format_si, format_value
@@ -259,20 +260,43 @@ def _stage(d: Design, node: str) -> tuple[list[str], str]:
     return lines, minus
 
 
-def _decision(d: Design, minus: str, high: bool) -> str:
-    """1 where the output is high (``high``) or low, else 0: a unit step of V+ - V- - offset."""
-    off = d.comparator.offset
-    x = f"v(plus,{minus})" if off == 0 else f"v(plus,{minus})-({_n(off)})"
-    return f"u({x})" if high else f"(1-u({x}))"
+# The state as the output and the threshold read it: a step again, so that the solver's Jacobian
+# holds no term in it.  Read as a plain number, a state moving between iterations entered the
+# open-drain sink's current as 1e6 x v(out) x its change, and the solver swung out of reach.
+_STATE = "u(v(state)-0.5)"
+
+
+def _decision(d: Design, minus: str) -> list[str]:
+    """The comparator's decision as node ``state``: 1 while its output is high, 0 while low.
+
+    A unit step of V+ - V- against the threshold of the present state (the offset, -/+ half the
+    part's own hysteresis): the state feeds back into its own threshold.  It reaches ``state``
+    through 1 ohm, not straight from its source, so that a ``.nodeset`` can set the state a run
+    starts in (a node an ideal source drives ignores one).
+    """
+    c = d.comparator
+    hysteresis = c.hysteresis or 0.0
+    leave_low = c.offset + 0.5 * hysteresis  # the threshold while low; while high, offset - hysteresis/2
+    x = f"v(plus,{minus})" if leave_low == 0 else f"v(plus,{minus})-({_n(leave_low)})"
+    if hysteresis:
+        x += f"+{_n(hysteresis)}*{_STATE}"
+        said = (f"It turns high where v(plus) - v({minus}) rises above {_n(leave_low)} V, the offset plus "
+                f"half the part's own hysteresis of {_n(hysteresis)} V, and low where it falls below "
+                f"{_n(c.offset - 0.5 * hysteresis)} V.")
+    else:
+        said = f"It is high where v(plus) - v({minus}) is above the offset, {_n(c.offset)} V, low below."
+    return [_comment(f"The decision, node state: 1 while the output is high, 0 while low. {said} RDEC is "
+                     "part of the model, no part of the board."),
+            f"BDEC dec 0 V=u({x})", "RDEC dec state 1"]
 
 
 def _comparator(d: Design, minus: str) -> list[str]:
-    c, out = d.comparator, d.output
-    lines = [_comment(f"Comparator: a behavioural model of the part. Its output is high where v(plus) - "
-                      f"v({minus}) is above the offset ({_n(c.offset)} V), low below; each input draws "
-                      "the bias current.")]
-    if c.bias_current:
-        lines += [f"IBP plus 0 DC {_n(c.bias_current)}", f"IBM {minus} 0 DC {_n(c.bias_current)}"]
+    out, p = d.output, parameters(d)
+    lines = ["* Comparator: a behavioural model of the part", *_decision(d, minus)]
+    currents = (("IBP", "plus", plus_pin_current(p)), ("IBM", minus, minus_pin_current(p)))
+    if any(amps for _, _, amps in currents):
+        lines.append("* The current each input draws: the bias current, and half the offset current each way")
+        lines += [f"{name} {node} 0 DC {_n(amps)}" for name, node, amps in currents]
     if isinstance(out, OpenDrain):
         low = "neg" if out.low_volts is None else "low"
         pullup = "pos" if out.pullup_volts is None else "pu"
@@ -281,13 +305,13 @@ def _comparator(d: Design, minus: str) -> list[str]:
             lines.append(f"VLOW low 0 DC {_n(out.low_volts)}")
         if out.pullup_volts is not None:
             lines.append(f"VPU pu 0 DC {_n(out.pullup_volts)}")
-        lines += [f"BCMP out {low} I=v(out,{low})*{_n(SINK_SIEMENS)}*{_decision(d, minus, False)}",
+        lines += [f"BCMP out {low} I=v(out,{low})*{_n(SINK_SIEMENS)}*(1-{_STATE})",
                   _r("output.pullup", "out", pullup, out.pullup)]
     else:
         drive = "drv" if _written(out.resistance) else "out"
         span = f"(v(pos)-v(neg)-{_n(out.high_drop + out.low_drop)})"
         lines += ["* Push-pull output: its two levels follow the rails, behind its output resistance",
-                  f"BCMP {drive} 0 V=v(neg)+{_n(out.low_drop)}+{span}*{_decision(d, minus, True)}",
+                  f"BCMP {drive} 0 V=v(neg)+{_n(out.low_drop)}+{span}*{_STATE}",
                   *_series("Rout", "drv", "out", out.resistance)]
     if out.load_capacitance > 0:
         lines.append(f"CL out 0 {_n(out.load_capacitance)}")
@@ -334,9 +358,12 @@ def _header(d: Design, a: Analysis) -> list[str]:
         w, unit = a.points, _unit(d)
         lines += ["* bandcalc's points in the watched quantity:",
                   f"*   upper {format_value(w.upper, unit, 6)}, lower {format_value(w.lower, unit, 6)}"]
-    lines.append(_comment("The comparator model has no hysteresis of its own (both points come from the "
-                          "network, as in bandcalc's model), no propagation delay, slew limit or recovery "
-                          "time."))
+    own = d.comparator.hysteresis
+    lines.append(_comment(("The comparator model has the part's own hysteresis as the design gives it, "
+                           f"{_n(own)} V, beside the network's" if own else
+                           "The comparator model has no hysteresis of its own (both points come from the "
+                           "network, as in bandcalc's model)")
+                          + "; it has no propagation delay, slew limit or recovery time."))
     if d.comparator.delay > 0:
         delay = format_si(d.comparator.delay, "s", 3, micro="u")
         lines.append(_comment(f"Add the part's delay ({delay}) to edge times, as the signal check does."))
@@ -381,9 +408,11 @@ def _edge_level(d: Design, a: Analysis) -> float:
 
 
 def _start(a: Analysis, output_high: bool) -> str:
-    """The output's level in the state a run starts in, for the solver's first operating point."""
+    """The state a run starts in, for the solver's first operating point: the decision and the
+    output's level in that state (the output alone is not enough where an ideal source drives it)."""
     level = a.output_high if output_high else a.output_low
-    return f".nodeset v(out)={_n(level if math.isfinite(level) else 0.0)}"
+    return (f".nodeset v(state)={1 if output_high else 0} "
+            f"v(out)={_n(level if math.isfinite(level) else 0.0)}")
 
 
 def _measures(circuit: _Circuit, d: Design, mid: float) -> list[str]:
