@@ -15,15 +15,18 @@ filter and the load where the design has them.  A front end sits ahead of the st
 parts: a divider as its two resistors, a thermistor as a behavioural resistor whose value follows
 the temperature (node ``watched`` carries degrees C as volts), a linear sensor as a source.
 
-The comparator is a behavioural model of the design's part: an ideal decision, the unit step
-``u()`` of V+ - V- - offset, sets its output to one of its two levels behind its output resistance
-(push-pull), or sinks the output to its low level through :data:`SINK_SIEMENS` (open drain, with
-the design's pull-up); each input pin draws the bias current.  It has no memory: both switching
-points come from the resistor network alone.  A step rather than a steep smooth curve: the
-solver then never settles between the two states (a curve a microvolt wide is narrower than its
-convergence tolerance on node voltages of volts), and holds a state from one iteration to the next
-until the network moves the pins past the offset, which is bandcalc's model exactly.  The model
-has no propagation delay, slew limit or recovery time; the netlist's header says so.
+The comparator is a behavioural model of the design's part.  Its decision, node ``state``, is a
+unit step ``u()`` of V+ - V- against the threshold of its present state: the offset, less half the
+part's own hysteresis while high and plus half of it while low (none unless the design gives one),
+so that both switching points come from the resistor network and the part's hysteresis alone.  The
+state sets the output to one of its two levels behind its output resistance (push-pull), or sinks
+the output to its low level through :data:`SINK_SIEMENS` (open drain, with the design's pull-up);
+each input pin draws the bias current, less or plus half the offset current.  A step rather than
+a steep smooth curve: the solver then never settles between the two states (a curve a microvolt
+wide is narrower than its convergence tolerance on node voltages of volts), and holds a state from
+one iteration to the next until the network moves the pins past the threshold, which is bandcalc's
+model exactly.  The model has no propagation delay, slew limit or recovery time; the netlist's
+header says so.
 
 The benches
 -----------

@@ -371,7 +371,8 @@ NETLIST_NOTE = (
     "up and back and measures both points: python -m bandcalc netlist FILE -o stage.cir, then "
     "ngspice -b stage.cir prints upper and lower (and the watched points with a front end); on the page, "
     "download it beside this summary. Its resistors carry the designators above; its comparator has the "
-    "offset, bias current and output levels given and no propagation delay, slew limit or recovery time."
+    "offset, input currents, output levels and any hysteresis of its own given, and no propagation delay, "
+    "slew limit or recovery time."
 )
 
 
