@@ -16,6 +16,7 @@ from bandcalc.model.validation import finite, not_negative, positive
 
 if TYPE_CHECKING:
     from bandcalc.model.front_end import FrontEnd
+    from bandcalc.model.signal_settings import SignalSettings
     from bandcalc.model.tolerances import Tolerances
 
 __all__ = [
@@ -28,6 +29,7 @@ __all__ = [
     "DesignError",
     "DividerReference",
     "FixedReference",
+    "InputFilter",
     "OpenDrain",
     "PushPull",
     "Resistors",
@@ -152,9 +154,13 @@ class OpenDrain:
 
 @dataclass(frozen=True)
 class Comparator:
-    """The comparator's input errors, optional common-mode input range and propagation delay.
+    """The comparator's input errors, optional common-mode input range and its timing.
 
     The stage switches where V+ - V- = offset; ``bias_current`` flows into each input pin.
+    ``delay`` is the propagation delay as the data sheet gives it, at an input overdrive of
+    ``delay_overdrive`` volts (None: not stated).  An op-amp used as a comparator moves its output
+    at most ``slew_rate`` (V/s) and needs ``recovery`` (s) to come out of saturation (None: a
+    comparator, not limited).
     """
 
     offset: float = 0.0
@@ -162,11 +168,19 @@ class Comparator:
     common_mode_low: float | None = None
     common_mode_high: float | None = None
     delay: float = 0.0
+    delay_overdrive: float | None = None
+    slew_rate: float | None = None
+    recovery: float | None = None
 
     def __post_init__(self) -> None:
         finite(self.offset, "comparator.offset")
         finite(self.bias_current, "comparator.bias_current")
         not_negative(self.delay, "comparator.delay")
+        for key in ("delay_overdrive", "slew_rate"):
+            if getattr(self, key) is not None:
+                positive(getattr(self, key), f"comparator.{key}")
+        if self.recovery is not None:
+            not_negative(self.recovery, "comparator.recovery")
         for key in ("common_mode_low", "common_mode_high"):
             if getattr(self, key) is not None:
                 finite(getattr(self, key), f"comparator.{key}")
@@ -196,6 +210,23 @@ class Source:
 
 
 @dataclass(frozen=True)
+class InputFilter:
+    """A first-order RC low-pass ahead of the stage: ``resistance`` (ohms) in series after the
+    source, ``capacitance`` (farads) from the stage's input node to ground.
+
+    At DC its resistance adds to the source's (the switching points move with it); its pole is set
+    by the capacitance and the whole resistance that drives it (:mod:`bandcalc.model.input_filter`).
+    """
+
+    resistance: float
+    capacitance: float
+
+    def __post_init__(self) -> None:
+        not_negative(self.resistance, "filter.resistance")
+        positive(self.capacitance, "filter.capacitance")
+
+
+@dataclass(frozen=True)
 class Design:
     """A complete comparator stage with hysteresis."""
 
@@ -211,6 +242,8 @@ class Design:
     notes: str = ""
     tolerances: Tolerances | None = None  # spread of the parts; None: see bandcalc.spread.propagation
     protective: bool | None = None  # guards people or property; None: judged from name and notes
+    filter: InputFilter | None = None  # an RC low-pass ahead of the stage; None: none
+    signal: SignalSettings | None = None  # noise, hum and slope the signal brings; None: not given
 
     def __post_init__(self) -> None:
         if self.stage not in STAGES:

@@ -20,6 +20,7 @@ from bandcalc.model.design import (
     Design,
     DividerReference,
     FixedReference,
+    InputFilter,
     OpenDrain,
     PushPull,
     Resistors,
@@ -27,6 +28,7 @@ from bandcalc.model.design import (
     Supply,
 )
 from bandcalc.model.front_end import front_end_from_dict
+from bandcalc.model.signal_settings import signal_settings_from_dict, signal_settings_to_dict
 from bandcalc.model.tolerances import ToleranceError, Tolerances, tolerances_from_dict, tolerances_to_dict
 from bandcalc.model.units import UnitError, parse_quantity, parse_resistance
 from bandcalc.model.validation import section
@@ -41,8 +43,9 @@ __all__ = [
 ]
 
 _TOP_KEYS = ("format", "name", "notes", "stage", "supply", "reference", "resistors", "output",
-             "comparator", "source", "tolerances", "front_end", "protective")
+             "comparator", "source", "tolerances", "front_end", "protective", "filter", "signal")
 _UNITS = {"volts": "V", "offset": "V", "bias_current": "A", "delay": "s", "load_capacitance": "F",
+          "capacitance": "F", "recovery": "s", "delay_overdrive": "V",
           "high_drop": "V", "low_drop": "V", "pullup_volts": "V", "low_volts": "V",
           "positive": "V", "negative": "V", "common_mode_low": "V", "common_mode_high": "V",
           "low": "V", "high": "V"}
@@ -129,6 +132,9 @@ def design_from_dict(data: Any) -> Design:
         notes=data.get("notes", ""),
         protective=data.get("protective"),
         tolerances=_tolerances_from(data.get("tolerances")),
+        filter=None if data.get("filter") is None else _plain_section(
+            InputFilter, data["filter"], "filter", ("resistance", "capacitance")),
+        signal=None if data.get("signal") is None else signal_settings_from_dict(data["signal"]),
     )
 
 
@@ -161,6 +167,10 @@ def design_to_dict(design: Design) -> dict:
         out["tolerances"] = tolerances_to_dict(design.tolerances)
     if design.front_end is not None:
         out["front_end"] = design.front_end.to_dict()
+    if design.filter is not None:
+        out["filter"] = _dropping_none(design.filter)
+    if design.signal is not None:
+        out["signal"] = signal_settings_to_dict(design.signal)
     return out
 
 

@@ -43,7 +43,7 @@ import numpy as np
 from bandcalc.errors import DesignError
 from bandcalc.model.design import Design, Source
 from bandcalc.model.front_end import DirectInput, DividerFrontEnd, FrontEnd, ThermistorFrontEnd, front_end_of
-from bandcalc.model.network import TwoPoints, difference_line, node_voltages
+from bandcalc.model.network import TwoPoints, difference_line, node_voltages, signal_path
 from bandcalc.model.parts import parameters
 
 __all__ = [
@@ -240,7 +240,7 @@ def front_end_power(design: Design, x: float, state: str) -> dict[str, float]:
         drawn = design.comparator.bias_current
     else:
         plus = float(node_voltages(stage, parameters(stage), volts, state).plus)
-        drawn = (volts - plus) / (float(total) + design.resistors.input)
+        drawn = (volts - plus) / float(signal_path(parameters(stage)))
     node = volts - drawn * (float(total) - design.source.resistance)
     if isinstance(fe, DividerFrontEnd):
         return {"front_end.top": (x - node) ** 2 / fe.top, "front_end.bottom": node**2 / fe.bottom}
