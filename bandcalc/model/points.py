@@ -53,6 +53,7 @@ __all__ = [
     "front_end_power",
     "input_at",
     "input_range",
+    "pin_margin",
     "stage_design",
     "stage_targets",
     "volts_for",
@@ -112,13 +113,29 @@ def input_range(design: Design) -> tuple[float, float]:
     return (rails[0] if fe.low is None else fe.low, rails[1] if fe.high is None else fe.high)
 
 
+def _margin(design: Design, fe: Ahead, p: Mapping[str, ArrayLike], t: ArrayLike, state: str) -> ArrayLike:
+    """V+ - V- - offset with the front end at coordinate ``t`` and the output in ``state``."""
+    q = dict(p)
+    signal, q["source.resistance"] = _source(fe, p, t)
+    return node_voltages(design, q, signal, state).difference - p["comparator.offset"]
+
+
+def pin_margin(design: Design, x: ArrayLike, state: str,
+               values: Mapping[str, ArrayLike] | None = None) -> ArrayLike:
+    """How far past its switching condition the comparator sits, volts at its pins (V+ - V- less
+    the offset), with the input at ``x`` in the design's unit and the output in ``state``: 0 at a
+    switching point; its size beyond a point is the comparator's input overdrive there."""
+    fe = front_end_of(design)
+    p = _merged(design, values)
+    return _margin(design, fe, p, fe.coordinate(p, x), state)
+
+
 def _root(design: Design, fe: Ahead, p: Mapping[str, ArrayLike], state: str) -> ArrayLike:
     """Coordinate t where the stage switches in ``state``: the zero of a Moebius function of t."""
     q = dict(p)
 
     def residual(t: float) -> ArrayLike:
-        signal, q["source.resistance"] = _source(fe, p, t)
-        return node_voltages(design, q, signal, state).difference - p["comparator.offset"]
+        return _margin(design, fe, p, t, state)
 
     # As numpy values, so that a degenerate case (a residual that does not move) divides to inf
     # or NaN, "no watched value switches it", where Python floats would raise.

@@ -15,6 +15,7 @@ from bandcalc.errors import BandcalcError
 __all__ = [
     "UnitError",
     "format_code",
+    "format_interval",
     "format_ohms",
     "format_si",
     "format_value",
@@ -175,3 +176,22 @@ def format_code(ohms: float, digits: int = 3) -> str:
 def format_ohms(ohms: float, code: bool = False, digits: int = 3) -> str:
     """A resistance the trade's way: "4.7 kOhm", or with ``code`` the IEC 60062 code "4k7"."""
     return format_code(ohms, digits) if code else format_si(ohms, "Ohm", digits)
+
+
+# Spans of time people read more easily than seconds, longest first (a Julian year of 365.25 days).
+_INTERVALS = ((365.25 * 86400.0, "year"), (86400.0, "day"), (3600.0, "hour"), (60.0, "minute"))
+
+
+def format_interval(seconds: float, digits: int = 2) -> str:
+    """A mean time between events for people: "3.2 years", "5.1 days", "12 ms", "never" (infinite)."""
+    seconds = float(seconds)
+    if math.isnan(seconds):
+        return "n/a"
+    if math.isinf(seconds):
+        return "never"
+    for span, name in _INTERVALS:
+        if seconds >= span:
+            count = _round(seconds / span, digits)
+            text = f"{count:.3g}" if count < 1e6 else f"{count:.{digits}e}"
+            return f"{text} {name}{'' if count == 1 else 's'}"
+    return format_si(seconds, "s", digits)
