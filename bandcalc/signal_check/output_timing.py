@@ -33,9 +33,8 @@ import math
 from dataclasses import dataclass
 
 from bandcalc.model.design import Design, OpenDrain
-from bandcalc.model.network import node_voltages
-from bandcalc.model.parts import parameters
-from bandcalc.model.points import design_points, pin_margin, volts_for
+from bandcalc.model.operating import analyze
+from bandcalc.model.points import design_points, pin_margin
 from bandcalc.model.units import format_si, format_value
 
 __all__ = ["OutputTiming", "output_timing"]
@@ -59,14 +58,10 @@ class OutputTiming:
 
 
 def _levels(design: Design) -> tuple[float, float]:
-    """The output's low and high levels (V) the stage model gives, at the centre of the points."""
-    pts = design_points(design)
-    x = 0.5 * (float(pts.at_stage_upper) + float(pts.at_stage_lower))
-    if not math.isfinite(x):
-        x = float(pts.at_stage_upper) if math.isfinite(float(pts.at_stage_upper)) else 0.0
-    volts, ohms = volts_for(design, x)
-    p = {**parameters(design), "source.resistance": ohms}
-    return tuple(float(node_voltages(design, p, volts, s).output) for s in ("low", "high"))
+    """The output's low and high levels (V) as the stage model gives them at the switching points
+    (:func:`bandcalc.model.operating.analyze`), loads included."""
+    a = analyze(design)
+    return a.output_low, a.output_high
 
 
 def _rc_time(tau: float, start: float, target: float, threshold: float) -> float:
