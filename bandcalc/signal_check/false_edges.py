@@ -72,9 +72,9 @@ SIMPLIFICATIONS = (
 )
 
 _WINDOW_SIGMAS = 10.0  # beyond 10 sigma from both points the crossing intensity is below e^-50
-_CELLS = (500, 200, 500)  # cells of the passage: about the lower point, between, about the upper
-_HUM_PHASES = 32  # hum phases averaged in a passage
-_FINEST_HUM_STEP = 2.0**-12  # noise below 1/4096 of the hum's span is taken as that much
+_CELLS = (300, 150, 300)  # cells of the passage: about the lower point, between, about the upper
+_HUM_PHASES = 16  # hum phases averaged in a passage
+_FINEST_HUM_STEP = 2.0**-10  # noise below 1/1024 of the hum's span is taken as that much
 
 
 def crossing_rate(noise: NoiseSpectrum, distance: np.ndarray | float) -> np.ndarray:
@@ -109,7 +109,7 @@ def mean_path_crossings(level: float | np.ndarray, mean: np.ndarray, slope: np.n
 
 
 def _hum_sigma(noise: NoiseSpectrum, hum: Hum) -> tuple[float, float]:
-    """(sigma, sigma') for averaging over the hum's phase: at least 1/4096 of the hum's span, so
+    """(sigma, sigma') for averaging over the hum's phase: at least 1/1024 of the hum's span, so
     that the phase grid resolves each crossing; sigma' keeps the noise's own ratio to sigma."""
     sigma, sigma_d = math.sqrt(noise.m0), math.sqrt(noise.m2)
     floor = _FINEST_HUM_STEP * hum.span() if hum.present else 0.0
@@ -121,7 +121,8 @@ def _hum_sigma(noise: NoiseSpectrum, hum: Hum) -> tuple[float, float]:
 
 def _phases(hum: Hum, sigma: float) -> np.ndarray:
     """Times over one hum period, fine enough for crossings of width ``sigma``."""
-    n = 256 if not hum.present else int(np.clip(64.0 * hum.span() / max(sigma, 1e-300), 256, 1 << 18))
+    # The hum moves at most pi x span / n between phases: a fifth of sigma or less.
+    n = 256 if not hum.present else int(np.clip(16.0 * hum.span() / max(sigma, 1e-300), 256, 1 << 14))
     return (np.arange(n) + 0.5) / (n * hum.frequency)
 
 
