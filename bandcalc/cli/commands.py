@@ -22,10 +22,21 @@ from bandcalc.fit.selection import FitResult, fit, fit_to_dict
 from bandcalc.model.design import Design
 from bandcalc.model.design_file import load_design
 from bandcalc.model.operating import Analysis, analysis_to_dict, analyze
-from bandcalc.model.units import format_ohms, format_si, format_value, parse_quantity, parse_resistance
+from bandcalc.model.units import (
+    format_interval,
+    format_ohms,
+    format_si,
+    format_value,
+    parse_quantity,
+    parse_resistance,
+)
+from bandcalc.signal_check.disturbance import NoiseSpectrum
 from bandcalc.signal_check.edges import run_design, run_points
-from bandcalc.signal_check.waveform import synthesize
-from bandcalc.signal_check.width_trade import sweep_design
+from bandcalc.signal_check.hysteresis_choice import filter_table_for
+from bandcalc.signal_check.noise import Disturbance
+from bandcalc.signal_check.signal_json import signal_to_dict
+from bandcalc.signal_check.waveform import DEFAULT_NOISE_BANDWIDTH, SyntheticSignal
+from bandcalc.signal_check.width_trade import DEFAULT_SEEDS, sweep_design
 from bandcalc.spread.factors import QUANTITIES, Factor
 from bandcalc.spread.propagation import (
     DEFAULT_SAMPLES,
@@ -112,31 +123,27 @@ def _print_results(results: list, status: int, as_json: bool) -> int:
     return status
 
 
+def _signal_settings(design: Design):
+    """The design's own signal settings, or empty ones."""
+    from bandcalc.model.signal_settings import SignalSettings
+
+    return design.signal or SignalSettings()
+
+
 def _synthetic(args: argparse.Namespace, design: Design):
-    """The synthetic signal of the options; offset and amplitude default to the design's band."""
+    """The synthetic signal of the options; offset and amplitude default to the design's band,
+    noise and hum to the design's signal settings."""
+    given = _signal_settings(design)
     upper, lower, _ = run_points(design)
-    offset = 0.5 * (upper + lower) if args.offset is None else args.offset
-    amplitude = upper - lower if args.amplitude is None else args.amplitude
-    return synthesize(args.shape, offset, amplitude, args.frequency, args.duration, args.rate,
-                      noise_rms=args.noise, hum_amplitude=args.hum, hum_frequency=args.hum_frequency,
-                      seed=args.seed)
-
-
-def _signal_dict(run, sweep, unit: str) -> dict:
-    out = {
-        "unit": unit, "upper": run.upper, "lower": run.lower, "edges": run.edge_count,
-        "edge_times": run.edge_times.tolist(), "edge_directions": run.edge_directions.tolist(),
-        "clean_edges": run.clean_edge_count, "extra_edges": run.extra_edges, "missed": run.missed_count,
-        "delay_mean": run.delay_mean, "delay_max": run.delay_max,
-        "output_high_fraction": run.output_high_fraction,
-        "noise_rms": run.noise.rms, "noise_peak_to_peak": run.noise.peak_to_peak,
-        "findings": list(run.findings),
-    }
-    if sweep is not None:
-        out["sweep"] = {"centre": sweep.centre, "widths": sweep.widths.tolist(),
-                        "edge_counts": sweep.edge_counts.tolist(), "best_width": sweep.best_width,
-                        "best_mean_delay": sweep.best_mean_delay, "best_max_delay": sweep.best_max_delay}
-    return out
+    harmonics = dict(given.hum_harmonics) | dict(args.hum_harmonic)
+    return SyntheticSignal(
+        args.shape, 0.5 * (upper + lower) if args.offset is None else args.offset,
+        upper - lower if args.amplitude is None else args.amplitude, args.frequency, args.duration, args.rate,
+        noise_rms=(given.noise or 0.0) if args.noise is None else args.noise,
+        hum_amplitude=(given.hum or 0.0) if args.hum is None else args.hum,
+        hum_frequency=given.hum_frequency if args.hum_frequency is None else args.hum_frequency,
+        seed=args.seed, noise_bandwidth=given.noise_bandwidth if args.noise_bandwidth is None
+        else args.noise_bandwidth, hum_harmonics=tuple(sorted(harmonics.items())))
 
 
 def _signal_table(path: str, d: dict) -> str:
@@ -146,15 +153,41 @@ def _signal_table(path: str, d: dict) -> str:
             ("edges", f"{d['edges']} (noise-free signal: {d['clean_edges']})"),
             ("delay mean / max", f"{s(d['delay_mean'])} / {s(d['delay_max'])}"),
             ("output high", f"{100 * d['output_high_fraction']:.1f} % of the time"),
-            ("noise", f"{v(d['noise_rms'])} RMS, about {v(d['noise_peak_to_peak'])} peak-to-peak")]
+            ("noise", f"{v(d['noise_rms'])} RMS, flat to {format_si(d['noise_bandwidth'], 'Hz')} "
+                      f"({d['noise_source']})"),
+            ("noise at the stage", f"{v(d['noise_rms_at_stage'])} RMS" + (
+                "" if d["filter_pole"] is None else f", behind the filter's pole at "
+                                                    f"{format_si(d['filter_pole'], 'Hz')}")),
+            ("parked false switching", "never expected" if d["parked_mean_time_between"] is None else
+             f"once every {format_interval(d['parked_mean_time_between'])}")]
+    extra = d["extra_edges_per_crossing"]
+    rows.append(("extra edges per crossing", " / ".join(
+        "n/a" if extra[k] is None else f"{extra[k]:.3g}" for k in ("upper", "lower")) + " (upper / lower)"))
     if d["unit"] != "V":
         rows.insert(0, ("signal", f"the watched quantity, in {d['unit']}"))
     if "sweep" in d:
-        best = d["sweep"]["best_width"]
-        rows.append(("narrowest clean width", "none in the sweep" if best is None else
-                     f"{v(best)} (mean delay {s(d['sweep']['best_mean_delay'])})"))
-    lines = [f"signal check  [{path}]"] + [f"  {k:<22} {val}" for k, val in rows]
+        sweep = d["sweep"]
+        best, predicted = sweep["best_width"], sweep["predicted_best_width"]
+        drawn = [w for w in sweep["run_best_widths"] if w is not None]
+        spread = f"; each draw: {v(min(drawn))} to {v(max(drawn))}" if drawn else ""
+        clean = "none in the sweep" if best is None else (
+            f"{v(best)} in all {sweep['seeds']} noise draws (mean delay {s(sweep['best_mean_delay'])})")
+        rows.append(("narrowest clean width", clean + spread))
+        rows.append(("predicted (Rice)", "none in the sweep" if predicted is None else v(predicted)))
+    lines = [f"signal check  [{path}]"] + [f"  {k:<26} {val}" for k, val in rows]
+    if "filter_table" in d:
+        table = d["filter_table"]
+        lines.append(f"  hysteresis and filter for at most {table['false_edges_per_year']:g} false edge(s) "
+                     f"a year (slope {format_value(table['slope'], d['unit'] + '/s', 3)}):")
+        lines.append(f"    {'time constant':>14} {'pole':>10} {'hysteresis':>12} {'delay':>10}")
+        for i, row in enumerate(table["rows"]):
+            mark = "  <- least delay" if i == table["least_delay"] else ""
+            budget = "" if row["within_budget"] else "  (over the delay budget)"
+            pole = "none" if row["pole"] is None else format_si(row["pole"], "Hz")
+            lines.append(f"    {format_si(row['time_constant'], 's'):>14} {pole:>10} "
+                         f"{v(row['hysteresis']):>12} {format_si(row['delay'], 's'):>10}{mark}{budget}")
     lines += ["  findings:"] + [f"    - {f}" for f in d["findings"]]
+    lines += ["  model:"] + [f"    - {x}" for x in d["simplifications"]]
     return "\n".join(lines)
 
 
@@ -172,9 +205,20 @@ def _cmd_signal(args: argparse.Namespace) -> int:
             return EXIT_BAD_INPUT
 
     def work(path: str, design: Design) -> object:
-        wave = recorded if recorded is not None else _synthetic(args, design)
-        unit = design.unit
-        d = _signal_dict(run_design(design, wave), sweep_design(design, wave) if args.sweep else None, unit)
+        given = _signal_settings(design)
+        if recorded is not None:
+            wave, disturbance, signal = recorded, None, recorded
+        else:
+            spec = _synthetic(args, design)
+            wave, signal = spec.make(), spec
+            disturbance = Disturbance(NoiseSpectrum(spec.noise_rms, spec.bandwidth), spec.hum, "given")
+        run = run_design(design, wave, disturbance=disturbance)
+        sweep = (sweep_design(design, signal, seeds=args.seeds, disturbance=run.check.source)
+                 if args.sweep else None)
+        target = args.false_edges_per_year or given.false_edges_per_year
+        budget = args.delay_budget or given.delay_budget
+        table = None if target is None else filter_table_for(run.check, target, budget)
+        d = signal_to_dict(run, design.unit, sweep, table)
         return {"file": path, **d} if args.json else _signal_table(path, d)
 
     return _print_results(*_for_each_file([args.file], work), as_json=args.json)
@@ -277,6 +321,40 @@ def _samples(text: str) -> int:
         raise argparse.ArgumentTypeError(f"must be a whole number from {MIN_SAMPLES:,} to {MAX_SAMPLES:,}, "
                                          f"got {text!r}")
     return n
+
+
+def _positive(unit: str) -> Callable[[str], float]:
+    """An argparse type: a number above 0, SI prefixes and ``unit`` read ("10k", "2.5 kHz")."""
+
+    def read(text: str) -> float:
+        try:
+            value = parse_quantity(text, unit, "value")
+        except ValueError:
+            value = math.nan
+        if not value > 0:
+            raise argparse.ArgumentTypeError(f"must be a number above 0{' in ' + unit if unit else ''}, "
+                                             f"got {text!r}")
+        return value
+
+    return read
+
+
+def _harmonic(text: str) -> tuple[int, float]:
+    order, sep, amplitude = text.partition("=")
+    try:
+        k, a = int(order), float(amplitude)
+    except ValueError:
+        k, a = 0, math.nan
+    if not sep or not 2 <= k <= 40 or not (math.isfinite(a) and a >= 0):
+        raise argparse.ArgumentTypeError(f"write ORDER=AMPLITUDE, an order from 2 to 40 and an amplitude of "
+                                         f"at least 0, e.g. 3=0.01; got {text!r}")
+    return k, a
+
+
+def _count(text: str) -> int:
+    if not text.isdigit() or not 1 <= int(text) <= 50:
+        raise argparse.ArgumentTypeError(f"must be a whole number from 1 to 50, got {text!r}")
+    return int(text)
 
 
 def _seed(text: str) -> int:
@@ -393,12 +471,25 @@ def _parser() -> argparse.ArgumentParser:
     p.add_argument("--amplitude", type=float, default=None, help="V (default: the design's hysteresis)")
     p.add_argument("--frequency", type=float, default=50.0, help="Hz")
     p.add_argument("--duration", type=float, default=0.1, help="s")
-    p.add_argument("--rate", type=float, default=100e3, help="samples per second")
-    p.add_argument("--noise", type=float, default=0.0, help="Gaussian noise, V RMS")
-    p.add_argument("--hum", type=float, default=0.0, help="mains hum amplitude, V")
-    p.add_argument("--hum-frequency", type=float, default=50.0, choices=[50.0, 60.0])
+    p.add_argument("--rate", type=float, default=100e3,
+                   help="samples per second (raised to 10 x the noise bandwidth where noise is added)")
+    p.add_argument("--noise", type=float, default=None,
+                   help="Gaussian noise, V RMS (default: the design's signal settings, else none)")
+    p.add_argument("--noise-bandwidth", type=_positive("Hz"), default=None, metavar="HZ",
+                   help=f"the noise is flat from 0 to here (default: the design's, else "
+                        f"{DEFAULT_NOISE_BANDWIDTH:g} Hz); 10k, 2.5 kHz read too")
+    p.add_argument("--hum", type=float, default=None, help="mains hum amplitude, V (default: the design's)")
+    p.add_argument("--hum-frequency", type=float, default=None, choices=[50.0, 60.0])
+    p.add_argument("--hum-harmonic", action="append", default=[], type=_harmonic, metavar="N=V",
+                   help="a hum harmonic's amplitude, e.g. 3=0.01 (repeat for more)")
     p.add_argument("--seed", type=int, default=1, help="noise generator seed (runs repeat)")
     p.add_argument("--sweep", action="store_true", help="also sweep the hysteresis width")
+    p.add_argument("--seeds", type=_count, default=DEFAULT_SEEDS, metavar="N",
+                   help=f"noise draws the sweep runs (default {DEFAULT_SEEDS})")
+    p.add_argument("--false-edges-per-year", type=_positive(""), default=None, metavar="N",
+                   help="also tabulate the narrowest hysteresis for this target over filter time constants")
+    p.add_argument("--delay-budget", type=_positive("s"), default=None, metavar="S",
+                   help="mark the table's rows whose delay is within this")
     p.add_argument("--json", action="store_true", help="print JSON instead of a table")
     p.set_defaults(run=_cmd_signal)
 

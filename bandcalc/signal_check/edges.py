@@ -476,9 +476,12 @@ def run_design(design: Design, wave: Waveform, *, disturbance: Disturbance | Non
     disturbance = disturbance_of(wave) if disturbance is None else disturbance
     staged, pole = stage_input(design, wave)
     slow = _smooth(staged, disturbance)
+    centre = 0.5 * (upper + lower)
+    passes = np.count_nonzero(np.diff(slow >= centre)) / wave.duration
     check = false_edge_check(disturbance, upper, lower, pole=None if pole is None else pole.pole,
                              slope_upper=crossing_slope(wave.t, slow, upper),
-                             slope_lower=crossing_slope(wave.t, slow, lower), unit=design.unit)
+                             slope_lower=crossing_slope(wave.t, slow, lower),
+                             crossings_per_second=passes, unit=design.unit)
     timing: OutputTiming = output_timing(design, (float(slow.min()), float(slow.max())))
     run = run_stage(staged, upper, lower, inverting=inverting, delay=timing.delay, rise_time=timing.rise,
                     fall_time=timing.fall, noise=disturbance.level, wanted=wave.clean)

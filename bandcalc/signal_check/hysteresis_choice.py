@@ -28,8 +28,16 @@ from bandcalc.errors import BandcalcError
 from bandcalc.model.validation import real
 from bandcalc.signal_check.disturbance import Hum, NoiseSpectrum
 from bandcalc.signal_check.false_edges import SECONDS_PER_YEAR, extra_edges_per_crossing, parked_rate
+from bandcalc.signal_check.noise import FalseEdgeCheck
 
-__all__ = ["FilterTable", "false_edge_rate", "filter_table", "filter_table_to_dict", "narrowest_hysteresis"]
+__all__ = [
+    "FilterTable",
+    "false_edge_rate",
+    "filter_table",
+    "filter_table_for",
+    "filter_table_to_dict",
+    "narrowest_hysteresis",
+]
 
 _LOWEST = 1e-4  # the narrowest hysteresis tried, in noise RMS
 _PRECISION = 1.01  # the bisection stops within 1 %
@@ -161,6 +169,18 @@ def filter_table(noise: NoiseSpectrum, hum: Hum, slope: float, *, crossings_per_
     return FilterTable(time_constants=taus, noise_rms=rms, hysteresis=widths,
                        delays=widths / (2.0 * slope) + taus, target_per_year=false_edges_per_year,
                        slope=slope, crossings_per_second=crossings, delay_budget=budget, unit=unit)
+
+
+def filter_table_for(check: FalseEdgeCheck, false_edges_per_year: float,
+                     delay_budget: float | None = None) -> FilterTable:
+    """The table for the signal a check was made on: its noise and hum at the source, the slower of
+    its slopes at the points and how often it passes them."""
+    if check.slope is None:
+        raise BandcalcError("the signal never crosses either switching point, so its slope there is not "
+                            "known; run a signal that passes through the points")
+    return filter_table(check.source.noise, check.source.hum, check.slope,
+                        crossings_per_second=check.crossings_per_second,
+                        false_edges_per_year=false_edges_per_year, delay_budget=delay_budget, unit=check.unit)
 
 
 def filter_table_to_dict(table: FilterTable) -> dict:

@@ -115,6 +115,7 @@ class FalseEdgeCheck:
     point, Rice); ``parked_upward_per_second``: held at the lower point.  ``extra_upper`` /
     ``extra_lower``: expected extra edges each time the signal passes that point at its slope
     ``slope_upper`` / ``slope_lower`` (unit/s); None where the signal does not cross it.
+    ``crossings_per_second``: how often the signal passes through the points.
     """
 
     upper: float
@@ -130,6 +131,13 @@ class FalseEdgeCheck:
     slope_lower: float | None
     extra_upper: float | None
     extra_lower: float | None
+    crossings_per_second: float = 0.0
+
+    @property
+    def slope(self) -> float | None:
+        """The slower of the signal's slopes at the two points (unit/s), None if neither is known."""
+        known = [k for k in (self.slope_upper, self.slope_lower) if k is not None]
+        return min(known) if known else None
 
     @property
     def hysteresis(self) -> float:
@@ -182,10 +190,10 @@ class FalseEdgeCheck:
 
 def false_edge_check(disturbance: Disturbance, upper: float, lower: float, *, pole: float | None = None,
                      slope_upper: float | None = None, slope_lower: float | None = None,
-                     unit: str = "V") -> FalseEdgeCheck:
+                     crossings_per_second: float = 0.0, unit: str = "V") -> FalseEdgeCheck:
     """False edges for points ``upper`` > ``lower`` under ``disturbance``, behind a first-order
     filter with its pole at ``pole`` Hz (None: no filter), the signal passing the points at
-    ``slope_upper`` / ``slope_lower`` (unit/s; None: not known)."""
+    ``slope_upper`` / ``slope_lower`` (unit/s; None: not known), ``crossings_per_second`` times."""
     upper, lower = real("upper", upper), real("lower", lower, high=upper)
     noise = disturbance.noise.filtered(pole)
     hum = disturbance.hum.filtered(noise)
@@ -198,4 +206,5 @@ def false_edge_check(disturbance: Disturbance, upper: float, lower: float, *, po
         parked_per_second=float(parked_rate(noise, h, hum)),
         parked_upward_per_second=float(parked_rate(noise, h, hum, upward=True)),
         slope_upper=slope_upper, slope_lower=slope_lower,
-        extra_upper=extra["upper"], extra_lower=extra["lower"])
+        extra_upper=extra["upper"], extra_lower=extra["lower"],
+        crossings_per_second=real("crossings_per_second", crossings_per_second, low=0.0))
