@@ -32,9 +32,9 @@ from bandcalc.model.units import (
 )
 from bandcalc.signal_check.disturbance import NoiseSpectrum
 from bandcalc.signal_check.edges import run_design, run_points
-from bandcalc.signal_check.hysteresis_choice import filter_table_for
+from bandcalc.signal_check.hysteresis_choice import filter_table_for, filter_table_to_dict
 from bandcalc.signal_check.noise import Disturbance
-from bandcalc.signal_check.signal_json import signal_to_dict
+from bandcalc.signal_check.signal_json import check_to_dict, signal_to_dict
 from bandcalc.signal_check.waveform import DEFAULT_NOISE_BANDWIDTH, SyntheticSignal
 from bandcalc.signal_check.width_trade import DEFAULT_SEEDS, sweep_design
 from bandcalc.spread.factors import QUANTITIES, Factor
@@ -217,11 +217,51 @@ def _cmd_signal(args: argparse.Namespace) -> int:
                  if args.sweep else None)
         target = args.false_edges_per_year or given.false_edges_per_year
         budget = args.delay_budget or given.delay_budget
-        table = None if target is None else filter_table_for(run.check, target, budget)
+        table = None if target is None else filter_table_for(
+            run.check, target, budget, slope=given.slope,
+            crossings_per_second=given.crossings_per_second or 0.0)
         d = signal_to_dict(run, design.unit, sweep, table)
         return {"file": path, **d} if args.json else _signal_table(path, d)
 
     return _print_results(*_for_each_file([args.file], work), as_json=args.json)
+
+
+def _cmd_from_recording(args: argparse.Namespace) -> int:
+    from bandcalc.model.design_file import save_design
+    from bandcalc.signal_check.from_recording import design_from_recording
+    from bandcalc.signal_check.recording import read_waveform_csv
+
+    try:
+        wave = read_waveform_csv(args.csv)
+    except ValueError as exc:
+        print(f"bandcalc: {args.csv}: {exc}", file=sys.stderr)
+        return EXIT_BAD_INPUT
+
+    def work(path: str, design: Design) -> object:
+        unit = design.unit
+        where = {k: parse_quantity(getattr(args, k), unit, f"--{k}") for k in ("centre", "upper", "lower")
+                 if getattr(args, k) is not None}
+        made = design_from_recording(design, wave, **where, false_edges_per_year=args.false_edges_per_year,
+                                     delay_budget=args.delay_budget, allow_filter=not args.no_filter,
+                                     series=args.series)
+        return made
+
+    results, status = _for_each_file([args.file], work)
+    if not results:
+        return status
+    made = results[0]
+    try:
+        save_design(made.design, args.output)
+    except OSError as exc:
+        print(f"bandcalc: {args.output}: cannot write the design ({exc.strerror})", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    if args.json:
+        _emit_json([{"file": args.output, "steps": list(made.steps),
+                     "filter_table": filter_table_to_dict(made.table),
+                     "check": check_to_dict(made.check)}])
+    else:
+        print(f"wrote {args.output}\n" + "\n".join(f"  {i}. {step}" for i, step in enumerate(made.steps, 1)))
+    return status
 
 
 def _cmd_report(args: argparse.Namespace) -> int:
@@ -492,6 +532,26 @@ def _parser() -> argparse.ArgumentParser:
                    help="mark the table's rows whose delay is within this")
     p.add_argument("--json", action="store_true", help="print JSON instead of a table")
     p.set_defaults(run=_cmd_signal)
+
+    p = sub.add_parser("from-recording",
+                       help="choose hysteresis and filter for a recorded signal and write the design")
+    p.add_argument("file", metavar="FILE",
+                   help="design file (JSON): the stage as drawn; its values are a start")
+    p.add_argument("--csv", required=True, metavar="WAVE.csv",
+                   help="the recorded signal (as for signal --csv)")
+    where = p.add_mutually_exclusive_group(required=True)
+    where.add_argument("--centre", metavar="X", help="centre of the two points wanted (design's unit)")
+    where.add_argument("--upper", metavar="X", help="or the upper point wanted")
+    where.add_argument("--lower", metavar="X", help="or the lower point wanted")
+    p.add_argument("--false-edges-per-year", type=_positive(""), default=1.0, metavar="N",
+                   help="false edges allowed a year (default 1)")
+    p.add_argument("--delay-budget", type=_positive("s"), default=None, metavar="S",
+                   help="longest delay allowed from the centre crossing to the switching")
+    p.add_argument("--no-filter", action="store_true", help="do not add an input filter")
+    p.add_argument("--series", default="E24", help="IEC 60063 series for the stage's resistors (default E24)")
+    p.add_argument("-o", "--output", required=True, metavar="OUT.json", help="the design file to write")
+    p.add_argument("--json", action="store_true", help="print JSON instead of the steps")
+    p.set_defaults(run=_cmd_from_recording)
 
     p = sub.add_parser("report", help="write the design summary (Markdown)")
     p.add_argument("file", metavar="FILE", help="design file (JSON)")

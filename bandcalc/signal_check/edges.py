@@ -40,9 +40,9 @@ from bandcalc.signal_check.noise import (
     Disturbance,
     FalseEdgeCheck,
     NoiseLevel,
-    crossing_slope,
     disturbance_of,
     false_edge_check,
+    slow_part,
 )
 from bandcalc.signal_check.output_timing import OutputTiming, output_timing
 from bandcalc.signal_check.waveform import Waveform
@@ -442,22 +442,18 @@ def run_points(design: Design) -> tuple[float, float, bool]:
 def stage_input(design: Design, wave: Waveform) -> tuple[Waveform, FilterPole | None]:
     """``wave`` as it reaches the stage: through the design's input filter at its pole (the mean
     time constant of its two points, :class:`~bandcalc.model.input_filter.FilterPole`), noise-free
-    twin included; unchanged without a filter."""
+    twin included; unchanged without a filter.  The filter starts settled at the noise-free
+    signal's first value, or a recording's mean over its first time constant (one noisy sample
+    would start it off by the whole noise)."""
     pole = filter_pole(design)
     if pole is None:
         return wave, None
     tau = pole.time_constant
-    clean = None if wave.clean is None else low_pass(wave.t, wave.clean, tau)
-    return Waveform(wave.t, low_pass(wave.t, wave.v, tau), clean), pole
-
-
-def _smooth(wave: Waveform, disturbance: Disturbance) -> np.ndarray:
-    """The signal's slow part: the noise-free twin, or a recording through a low-pass well below
-    the noise's bandwidth and the mains (a tenth of the lower)."""
-    if wave.clean is not None:
-        return wave.clean
-    corner = 0.1 * min(disturbance.noise.bandwidth, disturbance.hum.frequency)
-    return low_pass(wave.t, wave.v, 1.0 / (2.0 * np.pi * corner))
+    if wave.clean is None:
+        first = float(wave.v[: max(1, int(np.searchsorted(wave.t, wave.t[0] + tau)))].mean())
+        return Waveform(wave.t, low_pass(wave.t, wave.v, tau, first)), pole
+    clean = low_pass(wave.t, wave.clean, tau)
+    return Waveform(wave.t, low_pass(wave.t, wave.v, tau, float(wave.clean[0])), clean), pole
 
 
 def run_design(design: Design, wave: Waveform, *, disturbance: Disturbance | None = None) -> SignalRun:
@@ -475,14 +471,12 @@ def run_design(design: Design, wave: Waveform, *, disturbance: Disturbance | Non
                          "point the watched quantity cannot reach); fix the stage first")
     disturbance = disturbance_of(wave) if disturbance is None else disturbance
     staged, pole = stage_input(design, wave)
-    slow = _smooth(staged, disturbance)
-    centre = 0.5 * (upper + lower)
-    passes = np.count_nonzero(np.diff(slow >= centre)) / wave.duration
+    slow = slow_part(staged, disturbance)
+    passes = slow.crossings(0.5 * (upper + lower))[1] / wave.duration
     check = false_edge_check(disturbance, upper, lower, pole=None if pole is None else pole.pole,
-                             slope_upper=crossing_slope(wave.t, slow, upper),
-                             slope_lower=crossing_slope(wave.t, slow, lower),
+                             slope_upper=slow.crossings(upper)[0], slope_lower=slow.crossings(lower)[0],
                              crossings_per_second=passes, unit=design.unit)
-    timing: OutputTiming = output_timing(design, (float(slow.min()), float(slow.max())))
+    timing: OutputTiming = output_timing(design, (float(slow.x.min()), float(slow.x.max())))
     run = run_stage(staged, upper, lower, inverting=inverting, delay=timing.delay, rise_time=timing.rise,
                     fall_time=timing.fall, noise=disturbance.level, wanted=wave.clean)
     return replace(run, findings=run.findings + check.findings + timing.findings, check=check, pole=pole)

@@ -84,12 +84,12 @@ def _equal_steps(r: float, u: np.ndarray) -> np.ndarray:
     return w.reshape(-1)[:n]
 
 
-def low_pass(t: np.ndarray, x: np.ndarray, tau: float) -> np.ndarray:
+def low_pass(t: np.ndarray, x: np.ndarray, tau: float, start: float | None = None) -> np.ndarray:
     """The samples ``x`` at times ``t`` through a first-order low-pass of time constant ``tau`` (s).
 
     Exact for an input that runs straight from each sample to the next (as the edge times of the
-    signal check assume); the filter starts settled at the first sample (the signal has been
-    there for a long time).  ``tau`` = 0 returns the input.
+    signal check assume); the filter starts settled at ``start`` (default: the first sample, as if
+    the signal had been there a long time).  ``tau`` = 0 returns the input.
 
     The step from sample n-1 to n, of length dt, with a = exp(-dt / tau) and the input's slope
     s = (x[n] - x[n-1]) / dt, is the RC response to a ramp (first principles):
@@ -103,6 +103,7 @@ def low_pass(t: np.ndarray, x: np.ndarray, tau: float) -> np.ndarray:
     x = np.asarray(x, dtype=np.float64)
     if tau == 0.0 or x.size < 2:
         return x.copy()
+    first = x[0] if start is None else float(start)
     t = np.asarray(t, dtype=np.float64)
     dt = np.diff(t)
     if dt.max() - dt.min() <= 1e-9 * dt.mean():  # even sampling: one step for all
@@ -110,7 +111,7 @@ def low_pass(t: np.ndarray, x: np.ndarray, tau: float) -> np.ndarray:
         one_minus_a = -math.expm1(-r)
         g = r * (0.5 - r * (1.0 / 6.0 - r / 24.0)) if r < 1e-3 else 1.0 - one_minus_a / r
         u = np.empty_like(x)
-        u[0] = x[0]
+        u[0] = first
         np.multiply(x[:-1], one_minus_a - g, out=u[1:])
         u[1:] += g * x[1:]
         return decaying_sum(r, u)
@@ -120,6 +121,6 @@ def low_pass(t: np.ndarray, x: np.ndarray, tau: float) -> np.ndarray:
     small = r < 1e-3
     g = np.where(small, r * (0.5 - r * (1.0 / 6.0 - r / 24.0)), 1.0 - one_minus_a / np.where(small, 1.0, r))
     u = np.empty_like(x)
-    u[0] = x[0]
+    u[0] = first
     u[1:] = one_minus_a * x[:-1] + g * np.diff(x)
     return decaying_sum(np.concatenate(([0.0], r)), u)

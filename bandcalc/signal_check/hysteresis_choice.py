@@ -171,16 +171,19 @@ def filter_table(noise: NoiseSpectrum, hum: Hum, slope: float, *, crossings_per_
                        slope=slope, crossings_per_second=crossings, delay_budget=budget, unit=unit)
 
 
-def filter_table_for(check: FalseEdgeCheck, false_edges_per_year: float,
-                     delay_budget: float | None = None) -> FilterTable:
+def filter_table_for(check: FalseEdgeCheck, false_edges_per_year: float, delay_budget: float | None = None,
+                     *, slope: float | None = None, crossings_per_second: float = 0.0) -> FilterTable:
     """The table for the signal a check was made on: its noise and hum at the source, the slower of
-    its slopes at the points and how often it passes them."""
-    if check.slope is None:
-        raise BandcalcError("the signal never crosses either switching point, so its slope there is not "
-                            "known; run a signal that passes through the points")
-    return filter_table(check.source.noise, check.source.hum, check.slope,
-                        crossings_per_second=check.crossings_per_second,
-                        false_edges_per_year=false_edges_per_year, delay_budget=delay_budget, unit=check.unit)
+    its slopes at the points and how often it passes them; where the signal does not pass the
+    points, ``slope`` and ``crossings_per_second`` as given (a design's signal settings)."""
+    if check.slope is not None:
+        slope, crossings_per_second = check.slope, check.crossings_per_second
+    if slope is None:
+        raise BandcalcError("the signal does not pass the switching points at the stage, so its slope there "
+                            "is not known; run a signal that passes them, or give signal.slope in the design")
+    return filter_table(check.source.noise, check.source.hum, slope,
+                        crossings_per_second=crossings_per_second, false_edges_per_year=false_edges_per_year,
+                        delay_budget=delay_budget, unit=check.unit)
 
 
 def filter_table_to_dict(table: FilterTable) -> dict:

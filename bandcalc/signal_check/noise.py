@@ -33,6 +33,7 @@ from bandcalc.signal_check.false_edges import (
     extra_edges_per_crossing,
     parked_rate,
 )
+from bandcalc.signal_check.first_order import low_pass
 from bandcalc.signal_check.spectrum import estimate_noise
 from bandcalc.signal_check.waveform import Waveform
 
@@ -41,9 +42,10 @@ __all__ = [
     "Disturbance",
     "FalseEdgeCheck",
     "NoiseLevel",
-    "crossing_slope",
+    "SlowPart",
     "disturbance_of",
     "false_edge_check",
+    "slow_part",
 ]
 
 PEAK_TO_PEAK_PER_RMS = 6.6
@@ -93,16 +95,47 @@ def disturbance_of(wave: Waveform) -> Disturbance:
     return Disturbance(est.noise, est.hum, source, est.notes)
 
 
-def crossing_slope(t: np.ndarray, x: np.ndarray, level: float) -> float | None:
-    """The median size of the slope (unit/s) where ``x`` crosses ``level``; None if it never does."""
-    x = np.asarray(x, dtype=np.float64)
-    above = x >= level
-    at = np.flatnonzero(above[1:] != above[:-1])
-    if at.size == 0:
-        return None
-    slopes = np.abs(np.diff(x)[at] / np.diff(t)[at])
-    slope = float(np.median(slopes))
-    return slope if slope > 0 else None
+@dataclass(frozen=True, eq=False)
+class SlowPart:
+    """The signal without its noise and hum, sampled at ``t``: ``x``, with what is left of the noise
+    and hum in it within +/- ``band`` (0 for a noise-free twin)."""
+
+    t: np.ndarray
+    x: np.ndarray
+    band: float
+
+    def crossings(self, level: float) -> tuple[float | None, int]:
+        """(median slope size where it passes ``level``, unit/s, or None; how many times it passes).
+
+        Without a band, the slope between the two samples about each crossing.  With one, each
+        passage is a transit from ``level - band`` to ``level + band`` or back (what is left of the
+        noise may cross ``level`` itself several times), its slope 2 band / its duration.
+        """
+        x, t = self.x, self.t
+        if self.band == 0.0:
+            above = x >= level
+            at = np.flatnonzero(above[1:] != above[:-1])
+            slopes = np.abs(np.diff(x)[at] / np.diff(t)[at])
+        else:
+            high, low = x >= level + self.band, x <= level - self.band
+            ends = np.flatnonzero(high | low)  # samples outside the band, in order
+            side = high[ends]
+            turn = np.flatnonzero(side[1:] != side[:-1])  # last sample on one side, first on the other
+            slopes = 2.0 * self.band / (t[ends[turn + 1]] - t[ends[turn]])
+        slope = float(np.median(slopes)) if slopes.size else 0.0
+        return (slope if slope > 0 else None), int(slopes.size)
+
+
+def slow_part(wave: Waveform, disturbance: Disturbance) -> SlowPart:
+    """The signal without its noise and hum: the noise-free twin where known, else the samples
+    through a first-order low-pass at a tenth of the lower of the noise's bandwidth and the mains
+    frequency, with a band of 4 x the noise left after it plus twice the hum left."""
+    if wave.clean is not None:
+        return SlowPart(wave.t, wave.clean, 0.0)
+    corner = 0.1 * min(disturbance.noise.bandwidth, disturbance.hum.frequency)
+    left = disturbance.noise.filtered(corner)
+    band = 4.0 * left.rms_at_stage + 2.0 * disturbance.hum.filtered(left).peak
+    return SlowPart(wave.t, low_pass(wave.t, wave.v, 1.0 / (2.0 * math.pi * corner)), band)
 
 
 @dataclass(frozen=True)

@@ -31,7 +31,7 @@ from bandcalc.signal_check.edges import (
     stage_input,
 )
 from bandcalc.signal_check.false_edges import extra_edges_per_crossing
-from bandcalc.signal_check.noise import PEAK_TO_PEAK_PER_RMS, Disturbance, crossing_slope, disturbance_of
+from bandcalc.signal_check.noise import PEAK_TO_PEAK_PER_RMS, Disturbance, SlowPart, disturbance_of
 from bandcalc.signal_check.output_timing import output_timing
 from bandcalc.signal_check.waveform import SyntheticSignal, Waveform
 
@@ -258,7 +258,8 @@ def _predicted(wave: Waveform, centre: float, widths: np.ndarray, disturbance: D
         if count == 0:
             continue
         levels = centre + sign * 0.5 * widths
-        slopes = np.array([crossing_slope(wave.t, wave.clean, x) or np.nan for x in levels])
+        slow = SlowPart(wave.t, wave.clean, 0.0)
+        slopes = np.array([slow.crossings(x)[0] or np.nan for x in levels])
         known = np.isfinite(slopes) & (widths > 0)
         if known.any():
             out[known] += count * extra_edges_per_crossing(noise, widths[known], slopes[known], hum)
