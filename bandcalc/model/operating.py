@@ -64,7 +64,7 @@ def branch_currents(design: Design, nodes: Nodes, signal: float, state: str) -> 
     plus = float(nodes.plus)
     cur: dict[str, float] = {}
     drawn = (signal - plus) / signal_path(p) if not design.inverting else design.comparator.bias_current
-    if design.filter is not None:
+    if design.filter is not None and design.filter.resistance > 0:
         cur["filter.resistance"] = drawn
     if r.input is not None:
         cur["input"] = drawn

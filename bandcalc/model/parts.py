@@ -105,7 +105,7 @@ def resistors_of(design: Design) -> dict[str, float]:
     """Every resistor the design has (ohms) by key: the stage's, an input filter's, a reference
     divider, a pull-up, then the front end's; in that order."""
     values = dict(design.resistors.present())
-    if design.filter is not None:
+    if design.filter is not None and design.filter.resistance > 0:  # 0 ohm: the capacitor alone
         values["filter.resistance"] = design.filter.resistance
     if isinstance(design.reference, DividerReference):
         values["reference.top"], values["reference.bottom"] = design.reference.top, design.reference.bottom
