@@ -238,3 +238,16 @@ def test_typed_value_errors_name_the_field():
         read_value("warm", "K", "Beta (front_end.beta)")
     assert shown(3950.0, "K") == "3950 K" and shown(1.5e-3, "W/K") == "1.5 mW/K"
     assert shown(8.775468e-8, "") == "8.775468e-08" and shown(25.0, "C") == "25 C"
+
+
+def test_with_filter_adds_the_starting_filter_and_takes_it_away(demo):
+    from bandcalc.model.design import InputFilter
+    from bandcalc.page.edit import STARTING_FILTER, filter_kind, with_filter
+
+    d = demo("sump_level_switch")
+    on = with_filter(d, "rc")
+    assert on.filter == STARTING_FILTER == InputFilter(10e3, 100e-9) and filter_kind(on) == "rc"
+    assert with_filter(on, "rc") is on
+    assert with_filter(on, "none").filter is None
+    with pytest.raises(ValueError, match="filter: 'lc' is not a filter kind; allowed: none, rc"):
+        with_filter(d, "lc")

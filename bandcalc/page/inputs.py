@@ -39,7 +39,7 @@ __all__ = ["PREFIXED_UNITS", "choice_control", "quantity_field", "read_value", "
            "value_field"]
 
 #: Units written with SI prefixes in the boxes ("10 mV", "1.5 mW/K"); others as plain figures.
-PREFIXED_UNITS = (*SI_UNITS, "W/K", "V/K")
+PREFIXED_UNITS = (*SI_UNITS, "W/K", "V/K", "V/s")
 
 
 def shown(value: float | None, unit: str) -> str:

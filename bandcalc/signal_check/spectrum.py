@@ -156,9 +156,11 @@ def estimate_noise(wave: Waveform, values: np.ndarray | None = None) -> NoiseEst
     f, density = welch_density(x, rate)
     df = float(f[1])
     notes = []
-    if df > HUM_FREQUENCIES[0] / 4:
+    finest = HUM_FREQUENCIES[0] / 4  # a step of a quarter of the mains frequency separates its lines
+    if df > finest:
+        shortest = (MIN_SEGMENTS + 1) / 2 / finest  # that many half-overlapping segments of 1 / step
         notes.append(f"The record is too short to tell hum from noise: the spectrum's step is {df:.3g} Hz; "
-                     f"a record of at least {4 * 8 / HUM_FREQUENCIES[0] * 1.2:.2g} s separates mains lines.")
+                     f"a record of at least {shortest:.2g} s separates mains lines.")
     mains, lines = _hum_lines(f, density)
     cleaned = density.copy()
     for order in lines:
