@@ -127,3 +127,28 @@ def test_the_design_class_checks_its_filter():
     with pytest.raises(ValueError, match="filter.capacitance"):
         InputFilter(1e3, -1e-9)
     assert Design.__dataclass_fields__["filter"].default is None
+
+
+def test_the_signal_section_reads_writes_and_names_its_keys(demo):
+    from bandcalc.model.signal_settings import SignalSettings
+
+    data = design_to_dict(demo("sump_level_switch"))
+    section = {"noise": "20m", "noise_bandwidth": "2 kHz", "hum": 0.005, "hum_frequency": 60,
+               "hum_harmonics": {"3": "1m"}, "slope": 0.5, "crossings_per_second": 1e-3,
+               "false_edges_per_year": 1, "delay_budget": "500m"}
+    d = design_from_dict({**data, "signal": section})
+    assert d.signal == SignalSettings(noise=0.02, noise_bandwidth=2e3, hum=0.005, hum_frequency=60.0,
+                                      hum_harmonics=((3, 0.001),), slope=0.5, crossings_per_second=1e-3,
+                                      false_edges_per_year=1.0, delay_budget=0.5)
+    assert design_from_dict(design_to_dict(d)) == d
+    for bad, message in [
+        ({"noise": -1}, "signal.noise: must be zero or more"),
+        ({"noise_bandwidth": 0}, "signal.noise_bandwidth: must be greater than zero"),
+        ({"hum_frequency": 55}, "signal.hum_frequency: 55.0 Hz is not a mains frequency; allowed: 50, 60"),
+        ({"hum_harmonics": {"1": 0.1}}, "signal.hum_harmonics.1: a harmonic order is a whole number from 2"),
+        ({"hum_harmonics": [0.1]}, "signal.hum_harmonics: must be an object of order to amplitude"),
+        ({"slope": "fast"}, "signal.slope: cannot read 'fast'"),
+        ({"target": 1}, "signal.target: unknown key"),
+    ]:
+        with pytest.raises(ValueError, match=message):
+            design_from_dict({**data, "signal": bad})
