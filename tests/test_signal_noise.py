@@ -141,3 +141,11 @@ def test_the_sweep_runs_several_seeds_beside_one_prediction(demo):
     assert len(predicted) == 1 and None not in predicted
     drawn = [w for s in sweeps for w in s.run_best_widths]
     assert min(drawn) - 2 * step <= predicted.pop() <= max(drawn) + 2 * step
+
+
+def test_a_sweep_too_long_is_refused_at_once(demo):
+    # 5 draws of 10 s at 1 MS/s: 50 M samples, each through every width; refused before any is made.
+    spec = SyntheticSignal("sine", 2.5, 1.0, 1.0, 10.0, 1e6, noise_rms=0.1, seed=1)
+    with pytest.raises(ValueError, match=r"5 noise draws of 10,000,001 samples, more than 20,000,000 in "
+                                         r"all; 1 draw\(s\) fit: lower the seeds"):
+        sweep_design(demo("sump_level_switch"), spec)

@@ -35,7 +35,8 @@ from bandcalc.signal_check.noise import PEAK_TO_PEAK_PER_RMS, Disturbance, SlowP
 from bandcalc.signal_check.output_timing import output_timing
 from bandcalc.signal_check.waveform import SyntheticSignal, Waveform
 
-__all__ = ["DEFAULT_SEEDS", "MAX_SEEDS", "MAX_WIDTHS", "Sweep", "hysteresis_sweep", "sweep_design"]
+__all__ = ["DEFAULT_SEEDS", "MAX_SEEDS", "MAX_SWEPT_SAMPLES", "MAX_WIDTHS", "Sweep", "hysteresis_sweep",
+           "sweep_design"]
 
 MAX_WIDTHS = 1000
 """Most widths one sweep may try (each costs a run over the whole waveform)."""
@@ -45,6 +46,9 @@ DEFAULT_SEEDS = 5
 
 MAX_SEEDS = 50
 """Most noise draws one sweep may run."""
+
+MAX_SWEPT_SAMPLES = 20_000_000
+"""Most samples over all of a sweep's noise draws (each runs through every width): a bound on time."""
 
 
 @dataclass(frozen=True, eq=False)
@@ -283,7 +287,14 @@ def sweep_design(design: Design, signal: Waveform | SyntheticSignal, widths: obj
         if seeds > MAX_SEEDS:
             raise BandcalcError(f"seeds must be a whole number from 1 to {MAX_SEEDS}, got {seeds}")
         first = 0 if signal.seed is None else signal.seed
-        waves = [signal.with_seed(first + i).make() for i in range(seeds if signal.noise_rms > 0 else 1)]
+        draws = seeds if signal.noise_rms > 0 else 1
+        samples = int(signal.duration * signal.rate_used) + 1
+        if draws * samples > MAX_SWEPT_SAMPLES:
+            raise BandcalcError(
+                f"the sweep would run {draws} noise draws of {samples:,} samples, more than "
+                f"{MAX_SWEPT_SAMPLES:,} in all; {max(1, MAX_SWEPT_SAMPLES // samples)} draw(s) fit: lower "
+                "the seeds or shorten the record")
+        waves = [signal.with_seed(first + i).make() for i in range(draws)]
         if disturbance is None:
             disturbance = Disturbance(NoiseSpectrum(signal.noise_rms, signal.bandwidth), signal.hum, "given")
     else:
