@@ -25,9 +25,8 @@ from bandcalc.model.units import format_si, format_value
 from bandcalc.outputs.summary import design_summary
 from bandcalc.page.names import factor_name
 from bandcalc.page.panels import spread as spread_panel
-from bandcalc.signal_check.disturbance import NoiseSpectrum
 from bandcalc.signal_check.edges import run_design, run_points
-from bandcalc.signal_check.noise import Disturbance
+from bandcalc.signal_check.noise import given_disturbance
 from bandcalc.signal_check.recording import read_waveform_csv
 from bandcalc.signal_check.waveform import SyntheticSignal, synthesize
 from bandcalc.signal_check.width_trade import sweep_design
@@ -172,7 +171,7 @@ def test_synthetic_signal_check_matches_the_package(design, noise):
     spec = SyntheticSignal("sine", 0.5 * (upper + lower), upper - lower, 50.0, 0.1, 100e3, noise_rms=noise,
                            seed=1)
     wave = spec.make()
-    given = Disturbance(NoiseSpectrum(noise, spec.bandwidth), spec.hum, "given")
+    given = given_disturbance(spec)
     run = run_design(design, wave, disturbance=given)
     sweep = sweep_design(design, spec, disturbance=given)
     shown = figures(at)

@@ -30,10 +30,9 @@ from bandcalc.model.units import (
     parse_quantity,
     parse_resistance,
 )
-from bandcalc.signal_check.disturbance import NoiseSpectrum
 from bandcalc.signal_check.edges import run_design, run_points
 from bandcalc.signal_check.hysteresis_choice import filter_table_for, filter_table_to_dict
-from bandcalc.signal_check.noise import Disturbance
+from bandcalc.signal_check.noise import given_disturbance
 from bandcalc.signal_check.signal_json import check_to_dict, signal_to_dict
 from bandcalc.signal_check.waveform import DEFAULT_NOISE_BANDWIDTH, SyntheticSignal
 from bandcalc.signal_check.width_trade import DEFAULT_SEEDS, sweep_design
@@ -191,18 +190,21 @@ def _signal_table(path: str, d: dict) -> str:
     return "\n".join(lines)
 
 
-def _cmd_signal(args: argparse.Namespace) -> int:
-    from bandcalc.signal_check.recording import (
-        read_waveform_csv,  # pandas: imported only when a command needs it
-    )
+def _recording(path: str):
+    """The recorded signal in ``path``, or None after naming the file and the line at fault."""
+    from bandcalc.signal_check.recording import read_waveform_csv  # pandas: only when a command needs it
 
-    recorded = None
-    if args.csv:
-        try:
-            recorded = read_waveform_csv(args.csv)
-        except ValueError as exc:
-            print(f"bandcalc: {args.csv}: {exc}", file=sys.stderr)
-            return EXIT_BAD_INPUT
+    try:
+        return read_waveform_csv(path)
+    except ValueError as exc:
+        print(f"bandcalc: {path}: {exc}", file=sys.stderr)
+        return None
+
+
+def _cmd_signal(args: argparse.Namespace) -> int:
+    recorded = _recording(args.csv) if args.csv else None
+    if args.csv and recorded is None:
+        return EXIT_BAD_INPUT
 
     def work(path: str, design: Design) -> object:
         given = _signal_settings(design)
@@ -211,7 +213,7 @@ def _cmd_signal(args: argparse.Namespace) -> int:
         else:
             spec = _synthetic(args, design)
             wave, signal = spec.make(), spec
-            disturbance = Disturbance(NoiseSpectrum(spec.noise_rms, spec.bandwidth), spec.hum, "given")
+            disturbance = given_disturbance(spec)
         run = run_design(design, wave, disturbance=disturbance)
         sweep = (sweep_design(design, signal, seeds=args.seeds, disturbance=run.check.source)
                  if args.sweep else None)
@@ -229,12 +231,9 @@ def _cmd_signal(args: argparse.Namespace) -> int:
 def _cmd_from_recording(args: argparse.Namespace) -> int:
     from bandcalc.model.design_file import save_design
     from bandcalc.signal_check.from_recording import design_from_recording
-    from bandcalc.signal_check.recording import read_waveform_csv
 
-    try:
-        wave = read_waveform_csv(args.csv)
-    except ValueError as exc:
-        print(f"bandcalc: {args.csv}: {exc}", file=sys.stderr)
+    wave = _recording(args.csv)
+    if wave is None:
         return EXIT_BAD_INPUT
 
     def work(path: str, design: Design) -> object:

@@ -35,7 +35,7 @@ from bandcalc.signal_check.false_edges import (
 )
 from bandcalc.signal_check.first_order import low_pass
 from bandcalc.signal_check.spectrum import estimate_noise
-from bandcalc.signal_check.waveform import Waveform
+from bandcalc.signal_check.waveform import SyntheticSignal, Waveform
 
 __all__ = [
     "PEAK_TO_PEAK_PER_RMS",
@@ -45,6 +45,7 @@ __all__ = [
     "SlowPart",
     "disturbance_of",
     "false_edge_check",
+    "given_disturbance",
     "slow_part",
 ]
 
@@ -80,6 +81,11 @@ class Disturbance:
     @property
     def level(self) -> NoiseLevel:
         return NoiseLevel(self.noise.rms, self.source)
+
+
+def given_disturbance(signal: SyntheticSignal) -> Disturbance:
+    """The noise and hum a synthetic signal is made with, as given."""
+    return Disturbance(NoiseSpectrum(signal.noise_rms, signal.bandwidth), signal.hum, "given")
 
 
 def disturbance_of(wave: Waveform) -> Disturbance:

@@ -31,7 +31,13 @@ from bandcalc.signal_check.edges import (
     stage_input,
 )
 from bandcalc.signal_check.false_edges import extra_edges_per_crossing
-from bandcalc.signal_check.noise import PEAK_TO_PEAK_PER_RMS, Disturbance, SlowPart, disturbance_of
+from bandcalc.signal_check.noise import (
+    PEAK_TO_PEAK_PER_RMS,
+    Disturbance,
+    SlowPart,
+    disturbance_of,
+    given_disturbance,
+)
 from bandcalc.signal_check.output_timing import output_timing
 from bandcalc.signal_check.waveform import SyntheticSignal, Waveform
 
@@ -296,7 +302,7 @@ def sweep_design(design: Design, signal: Waveform | SyntheticSignal, widths: obj
                 "the seeds or shorten the record")
         waves = [signal.with_seed(first + i).make() for i in range(draws)]
         if disturbance is None:
-            disturbance = Disturbance(NoiseSpectrum(signal.noise_rms, signal.bandwidth), signal.hum, "given")
+            disturbance = given_disturbance(signal)
     else:
         waves = [signal]
         disturbance = disturbance_of(signal) if disturbance is None else disturbance

@@ -26,11 +26,10 @@ from bandcalc.outputs.plots import DISPLAY_POINTS, as_figure, signal_spec, trade
 from bandcalc.page import runs, state
 from bandcalc.page.compute import guarded
 from bandcalc.page.inputs import read_value
-from bandcalc.signal_check.disturbance import NoiseSpectrum
 from bandcalc.signal_check.edges import SignalRun, run_design, run_points
 from bandcalc.signal_check.from_recording import design_from_recording
 from bandcalc.signal_check.hysteresis_choice import FilterTable, filter_table_for
-from bandcalc.signal_check.noise import Disturbance, FalseEdgeCheck, disturbance_of
+from bandcalc.signal_check.noise import Disturbance, FalseEdgeCheck, disturbance_of, given_disturbance
 from bandcalc.signal_check.recording import read_waveform_csv
 from bandcalc.signal_check.waveform import (
     DEFAULT_NOISE_BANDWIDTH,
@@ -233,7 +232,7 @@ def _run(design: Design, settings: tuple, sweep: bool) -> None:
     with st.spinner("Running the signal…"):
         if isinstance(source, SyntheticSignal):
             wave: Waveform | None = guarded("Signal", source.make)
-            disturbance = Disturbance(NoiseSpectrum(source.noise_rms, source.bandwidth), source.hum, "given")
+            disturbance = given_disturbance(source)
             described, signal = f"synthetic {source.shape} signal", source
         else:
             wave, disturbance = st.session_state[_PREFIX + "recorded"][2:4]
