@@ -84,7 +84,7 @@ def crossing_rate(noise: NoiseSpectrum, distance: np.ndarray | float) -> np.ndar
     """
     d = np.asarray(distance, dtype=np.float64)
     if noise.m0 == 0.0:
-        return np.where(d == 0.0, np.inf, 0.0) if np.any(d == 0.0) else np.zeros_like(d)
+        return np.zeros_like(d)
     with np.errstate(under="ignore"):
         return noise.zero_crossing_frequency * np.exp(-d * d / (2.0 * noise.m0))
 
