@@ -34,7 +34,7 @@ def main(n: int = 1_000_000, loop_n: int = 2_000) -> None:
     per_vector, per_loop = vector / n, loop / loop_n
     print(f"design: {design.name} ({design.stage}, {design.output.kind})")
     print(f"vectorized: {n:,} variants in {vector * 1e3:.1f} ms ({per_vector * 1e9:.0f} ns per variant)")
-    print(f"scalar loop: {per_loop * 1e6:.1f} us per variant (over {loop_n:,} variants)")
+    print(f"scalar loop: {per_loop * 1e6:.1f} µs per variant (over {loop_n:,} variants)")
     print(f"speed-up per variant: {per_loop / per_vector:,.0f}x  (target: >= 100x, and < 500 ms for 1M)")
 
 

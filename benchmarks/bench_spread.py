@@ -37,7 +37,7 @@ def main(loop_n: int = 2_000) -> None:
     k = len(model.factors)
     print(f"design: {design.name} ({design.stage}, {design.output.kind}), {k} varied factors")
     per_loop = scalar_loop_time(model, loop_n)
-    print(f"scalar loop: {per_loop * 1e6:.1f} us per sample (over {loop_n:,} samples)")
+    print(f"scalar loop: {per_loop * 1e6:.1f} µs per sample (over {loop_n:,} samples)")
     for n, target, repeats in ((100_000, 0.05, 7), (1_000_000, 0.5, 3)):
         t = best_of(lambda n=n: monte_carlo(design, samples=n, seed=1), repeats)
         print(f"Monte Carlo {n:>9,} samples: {t * 1e3:7.1f} ms (target < {target * 1e3:.0f} ms); "

@@ -61,12 +61,33 @@ def netlist(design: Design, state: str, capacitor: bool = False) -> tuple[str, s
         else:
             lines.append(f"Vdrv o 0 {level!r}")
     lines.append(f"Rfb o p {r.feedback!r}")
+    if d.load is not None and d.load.resistance is not None:  # the load: output to its own voltage
+        lines += [f"Vload lv 0 {d.load.volts!r}", f"Rload o lv {d.load.resistance!r}"]
     ib = d.comparator.bias_current
     if ib:
         # lcapy's "I a b x" drives x into node a (checked: 1 mA into 1 kOhm gives +1 V), so the
         # bias current drawn by a pin is a source from the pin's node to ground written "I 0 pin".
         lines += [f"Ibp 0 p {ib!r}", f"Ibm 0 {minus} {ib!r}"]
     return "\n".join(lines), minus
+
+
+def output_at(design: Design, state: str, signal: float) -> float:
+    """The output node's voltage (the level the loaded output reaches) at a signal, in ``state``."""
+    from lcapy import Circuit
+
+    text, _ = netlist(design, state)
+    out = Circuit(text)["o"].V.dc.sympy
+    return float(out.subs({s: sympy.Rational(repr(signal)) for s in out.free_symbols if s.name == "vs"}))
+
+
+def pin_resistances(design: Design, state: str) -> tuple[float, float]:
+    """Resistance (ohms) the network presents to the + pin and to the - pin, every source at rest
+    (lcapy's impedance between the node and ground)."""
+    from lcapy import Circuit
+
+    text, minus = netlist(design, state)
+    cct = Circuit(text)
+    return tuple(float(cct.impedance(node, 0).sympy) for node in ("p", minus))  # type: ignore[return-value]
 
 
 def switching_point(design: Design, state: str) -> float:

@@ -59,7 +59,9 @@ def design_on(at: AppTest):
     return address_to_design(at.query_params[PARAM])
 
 
-CAUTIONS = ("Hazardous voltage", "Protective function")  # bandcalc.model.operating cautions, not input errors
+# bandcalc.model.operating cautions, not input errors
+CAUTIONS = ("Hazardous voltage", "Creepage and clearance", "Protective function",
+            "Power-up of a protective stage")
 
 
 def errors(at: AppTest) -> list[str]:

@@ -5,13 +5,18 @@ Import them from here (tests/ is on sys.path through conftest): ``from strategie
 
 from __future__ import annotations
 
+import json
+from typing import Any
+
 from hypothesis import strategies as st
 
+from bandcalc.demos import demo_paths
 from bandcalc.model.design import (
     Comparator,
     Design,
     DividerReference,
     FixedReference,
+    Load,
     OpenDrain,
     PushPull,
     Resistors,
@@ -20,7 +25,8 @@ from bandcalc.model.design import (
 )
 from bandcalc.model.front_end import DividerFrontEnd, LinearFrontEnd, ThermistorFrontEnd
 
-__all__ = ["designs", "designs_with_front_ends", "front_ends", "ohms", "three_resistor_stages"]
+__all__ = ["designs", "designs_with_front_ends", "designs_with_loads", "front_ends", "hostile_design_files",
+           "ohms", "three_resistor_stages"]
 
 # Resistances from 1 kOhm to 1 MOhm, rounded to four significant figures as a part value is written.
 ohms = st.floats(1e3, 1e6).map(lambda x: float(f"{x:.4g}"))
@@ -79,6 +85,16 @@ def designs_with_front_ends(draw):
     return Design(**{**design.__dict__, "front_end": draw(front_ends(design))})
 
 
+@st.composite
+def designs_with_loads(draw):
+    """A stage from :func:`designs` whose output drives a resistive load (100 Ohm to 1 MOhm) to a
+    voltage between the rails or beyond them."""
+    design = draw(designs())
+    vn, vp = design.supply.negative, design.supply.positive
+    load = Load(resistance=draw(st.floats(100.0, 1e6)), volts=draw(st.floats(vn - 5.0, vp + 5.0)))
+    return Design(**{**design.__dict__, "load": load})
+
+
 def three_resistor_stages():
     """Three-resistor stages of either kind on 5 V (resistor values fixed), with any output,
     offset, bias and, non-inverting, source resistance."""
@@ -96,3 +112,77 @@ def three_resistor_stages():
                                  resistors=Resistors(to_positive=1e4, to_ground=1e4, feedback=1e5)),
         output, comparator)
     return st.one_of(non_inverting, inverting)
+
+
+# --- design files as a careless or hostile user writes them ---------------------------------------
+
+# Numbers no part has, and the edges of a float: the largest and smallest, an integer no float
+# holds, infinities and NaN (which Python's json writes and reads, though JSON has neither).
+EXTREME_NUMBERS = (0, -1, 1e308, -1e308, 1e-308, 5e-324, 1e23, -1e23, 1e15, 3e-12, 10**400, -(10**400),
+                   float("nan"), float("inf"), float("-inf"))
+# Text a value may hold: codes and prefixes, a lone surrogate, a terminal escape, a number as text.
+ODD_TEXT = ("4k7", "1e400", "nan", "-0", "1M5", "\ud800", "\x1b[2J", "", " ", "1e-400", "0x10", "true")
+
+_leaves = (st.none() | st.booleans() | st.integers() | st.floats(allow_nan=True, allow_infinity=True)
+           | st.text(max_size=12) | st.sampled_from(ODD_TEXT) | st.sampled_from(EXTREME_NUMBERS))
+#: Anything JSON holds, nested a little: what replaces a value or a whole section.
+junk = st.recursive(_leaves, lambda inner: st.lists(inner, max_size=3)
+                    | st.dictionaries(st.text(max_size=6), inner, max_size=3), max_leaves=6)
+
+
+def _paths(data: Any, prefix: tuple = ()) -> list[tuple]:
+    """Every path (keys and indexes) to a value inside ``data``, sections and their entries."""
+    items = data.items() if isinstance(data, dict) else enumerate(data) if isinstance(data, list) else ()
+    out = []
+    for key, value in items:
+        out.append((*prefix, key))
+        out += _paths(value, (*prefix, key))
+    return out
+
+
+# Numbers at and near the edges of what a design file takes (bandcalc.model.validation's bounds), and
+# factors a value may be scaled by: designs that are accepted but odd.
+EDGE_NUMBERS = (0.0, 1e-3, 1e12, 99_999.0, -99_999.0, 1e-12, 1e-9, 0.999, 1.0, -1.0, 1e6, 2e4, 100.0,
+                -273.0, 499.0, 5e-324, 1e-300)
+SCALES = (0.0, -1.0, 1e-6, 1e-3, 0.5, 2.0, 1e3, 1e6)
+
+
+def _numbers(data: Any) -> list[tuple]:
+    """Paths of the values written as numbers inside ``data``: numbers (not booleans) and text that
+    starts with a digit ("4k7", "150k")."""
+    out = []
+    for path in _paths(data):
+        value = data
+        for key in path:
+            value = value[key]
+        if (isinstance(value, (int, float)) and not isinstance(value, bool) and abs(value) < 1e300) or (
+                isinstance(value, str) and value[:1].isdigit()):
+            out.append(path)
+    return out
+
+
+@st.composite
+def hostile_design_files(draw) -> str:
+    """A shipped demo's design file, as JSON text, after one to three edits: a number moved to an
+    edge or scaled; a value (or a whole section) replaced by an extreme number, null, text, a
+    boolean or nested junk; a key deleted; an unknown key added."""
+    data = json.loads(demo_paths()[draw(st.sampled_from(sorted(demo_paths())))].read_text())
+    for _ in range(draw(st.sampled_from((1, 1, 2, 3)))):
+        numbers = _numbers(data)
+        action = draw(st.sampled_from(("number", "number", "number", "replace", "replace", "delete", "add")))
+        path = draw(st.sampled_from(numbers if action == "number" and numbers else _paths(data)))
+        parent = data
+        for key in path[:-1]:
+            parent = parent[key]
+        if action == "number" and numbers:
+            old = parent[path[-1]]
+            scaled = (st.sampled_from(SCALES).map(lambda k, old=old: k * old) if not isinstance(old, str)
+                      else st.nothing())
+            parent[path[-1]] = draw(st.sampled_from(EDGE_NUMBERS) | scaled)
+        elif action in ("number", "replace"):
+            parent[path[-1]] = draw(st.sampled_from(EXTREME_NUMBERS) | junk)
+        elif action == "delete":
+            del parent[path[-1]]
+        elif isinstance(parent, dict):
+            parent[draw(st.text(max_size=8))] = draw(junk)
+    return json.dumps(data)

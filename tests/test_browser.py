@@ -4,7 +4,8 @@ Starts ``streamlit run app.py`` on a free port on 127.0.0.1, then loads the page
 resistor slider with the keyboard, checks that the switching-point figures and the chart
 change, saves the design file, downloads the design summary (Markdown) and reads it back, and
 reloads to find the same design in the address.  A second test edits a tolerance in the spread
-panel (which reruns on its own, as a fragment) and runs the spread.  Skipped,
+panel (which reruns on its own, as a fragment) and runs the spread; a third stops a long fit
+with its Stop button.  Skipped,
 with the reason, where /usr/bin/chromium or Playwright is absent; browsers are never
 downloaded.
 """
@@ -19,7 +20,7 @@ import sys
 import time
 import urllib.request
 from pathlib import Path
-from urllib.parse import parse_qs, urlsplit
+from urllib.parse import parse_qs, urlencode, urlsplit
 
 import pytest
 
@@ -29,7 +30,7 @@ from bandcalc.model.operating import analyze
 from bandcalc.model.parts import with_value
 from bandcalc.model.units import format_si
 from bandcalc.outputs.summary import design_from_summary
-from bandcalc.page.address import PARAM, address_to_design
+from bandcalc.page.address import PARAM, address_to_design, design_to_address
 
 pytestmark = pytest.mark.browser
 
@@ -208,4 +209,29 @@ def test_spread_panel_edits_the_design_and_runs(server, browser):
     page.keyboard.press("ArrowRight")
     wait_for(lambda: feedback_in_address(address(page)) == 43e3, "the sidebar slider after a panel's edit")
     assert design_in_address(address(page)).tolerances.supply == 3.0
+    page.close()
+
+
+def test_a_long_fit_shows_progress_and_stops_on_stop(server, browser):
+    # Four free values from 100 Ohm to 100 MOhm over E24: the search runs to its limit (about
+    # 2 million combinations, some seconds); Stop must end it, keeping the design.
+    design = with_value(with_value(SUMP, "resistors.to_ground", 100e3), "resistors.to_positive", 100e3)
+    page = browser.new_page(viewport={"width": 1500, "height": 1400})
+    page.goto(f"{server}?{urlencode({PARAM: design_to_address(design)})}")
+    page.wait_for_selector("[data-testid='stMetricValue']", timeout=60_000)
+    page.get_by_role("tab", name="Fit to target points").click()
+    settle(page)
+    for label, text in (("Upper point wanted (V)", "3"), ("Lower point wanted (V)", "2"),
+                        ("Smallest resistor (Ω)", "100"), ("Largest resistor (Ω)", "100M")):
+        page.get_by_role("textbox", name=label).fill(text)
+    page.get_by_role("button", name="Find values").click()
+    stop = page.get_by_role("button", name="Stop the search")
+    stop.wait_for(timeout=30_000)
+    page.get_by_text("combinations checked", exact=False).wait_for(timeout=30_000)
+    stop.click()
+    page.get_by_text("The search was stopped before it finished", exact=False).wait_for(timeout=30_000)
+    settle(page)
+    assert page.get_by_role("button", name="Apply 1").count() == 0
+    assert page.get_by_role("button", name="Stop the search").count() == 0
+    assert design_in_address(address(page)) == design
     page.close()

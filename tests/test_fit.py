@@ -2,6 +2,7 @@
 
 import dataclasses
 import json
+import re
 
 import numpy as np
 import pytest
@@ -269,6 +270,24 @@ def test_impossible_targets_are_refused_plainly(upper, lower, message, demo):
         fit(demo("sump_level_switch"), upper, lower)
 
 
+@pytest.mark.parametrize(("stem", "upper", "lower", "message"), [
+    # The greenhouse thermistor watches -10 C to 50 C, the solar divider 0 V to 16 V of battery.
+    ("greenhouse_fan_thermostat", 300.0, 200.0,
+     r"the upper point 300 C is above the highest value the front end watches \(50 C\); a rising "
+     r"input would never reach it \(set front_end\.high if it goes higher\)"),
+    ("greenhouse_fan_thermostat", 30.0, -30.0,
+     r"the lower point -30 C is below the lowest value the front end watches \(-10 C\); a falling "
+     r"input would never reach it \(set front_end\.low if it goes lower\)"),
+    ("solar_battery_disconnect", 30.0, 20.0, r"above the highest value the front end watches \(16 V\)"),
+])
+def test_targets_beyond_the_watched_range_name_the_front_end_key(stem, upper, lower, message, demo):
+    # The key to change is the front end's, in the watched quantity; the stage's own source
+    # range (source.low / source.high) is not something a front-end design lets the user set.
+    with pytest.raises(FitError, match=message) as refused:
+        fit(demo(stem), upper, lower)
+    assert "source." not in str(refused.value)
+
+
 def test_hysteresis_wider_than_the_output_swing(demo):
     # Inverting stage: the + pin sees only a fraction of the output swing (0.02 V to 4.98 V).
     with pytest.raises(FitError, match=r"hysteresis of 4\.96 V is wider than the output swing allows.*"
@@ -298,7 +317,7 @@ def test_reference_beyond_the_rail():
     ({"min_ohms": 0}, "min_ohms: must be a positive number of ohms"),
     ({"min_ohms": 1e6, "max_ohms": 1e3}, r"min_ohms \(1 MOhm\) must be below max_ohms \(1 kOhm\)"),
     ({"min_ohms": 1.01e3, "max_ohms": 1.05e3, "series": "E6"}, "no E6 value lies between"),
-    ({"count": 0}, "count: must be a whole number of 1 or more"),
+    ({"count": 0}, "count: must be a whole number from 1 to 100, got 0"),
     ({"fixed": {"pullup": 1e3}}, "fixed.pullup: not a resistor of this design; allowed: input, feedback"),
     ({"fixed": {"feedback": "4k7x"}}, r"fixed\.feedback: cannot read '4k7x'"),
     ({"fixed": {"feedback": 1e5, "input": 1e4}}, "nothing to fit"),
@@ -309,6 +328,21 @@ def test_bad_settings_name_the_setting(kwargs, message, demo):
 
 
 # --- Command line ----------------------------------------------------------------------------------
+
+@pytest.mark.parametrize(("options", "message"), [
+    (["--series", "E25"], "--series: unknown series 'E25'; allowed: E3"),
+    (["--min-ohms", "1M", "--max-ohms", "1k"], r"--min-ohms \(1 MOhm\) must be below --max-ohms \(1 kOhm\)"),
+    (["--min-ohms", "1.01k", "--max-ohms", "1.05k", "--series", "E6"], "--series: no E6 value lies between"),
+    (["--hold", "pullup=1k"], "--hold pullup: not a resistor of this design; allowed: input, feedback"),
+    (["--hold", "feedback=-1k"], "--hold feedback: must be greater than zero"),
+])
+def test_cli_messages_name_the_options_typed(options, message, capsys, demo_path):
+    # The user typed --min-ohms and --hold, never the function's min_ohms or fixed.
+    assert main(["fit", demo_path("sump_level_switch"), "--upper", "3.1", "--lower", "1.9", *options]) == 2
+    err = capsys.readouterr().err
+    assert re.search(message, err), err
+    assert not re.search(r"(?<!-)\b(min_ohms|max_ohms|fixed)\b", err)
+
 
 def test_cli_json_shape(capsys, demo_path):
     sump = demo_path("sump_level_switch")

@@ -2,6 +2,7 @@
 watched switching points round-tripping through the stage model, the design-file section and the CLI."""
 
 import copy
+import dataclasses
 import json
 import math
 
@@ -262,8 +263,8 @@ def test_greenhouse_reads_in_celsius_with_the_direction_turned(demo):
     assert a.lower == pytest.approx(5 * r / (r + 10e3), abs=1e-9)
     # The fan (output high) comes on as the temperature rises through the upper watched point.
     assert a.rising_output == "high"
-    heating = "Self-heating: at its switching points the thermistor dissipates up to 622 uW (at 27.94 C)"
-    assert any(f.startswith(heating) for f in a.findings)
+    heating = "Self-heating: at its switching points the thermistor dissipates up to 622 µW (at 27.94 C)"
+    assert any(f.startswith(heating) for f in a.warnings)
 
 
 def test_thermistor_dissipation_by_hand(demo):
@@ -279,23 +280,24 @@ def test_thermistor_dissipation_by_hand(demo):
 def test_no_self_heating_finding_for_a_high_value_divider(demo):
     design = demo(GREENHOUSE)
     cool = Design(**{**design.__dict__, "front_end": ThermistorFrontEnd(fixed=100e3, r25=100e3, beta=4250.0)})
-    assert not any(f.startswith("Self-heating") for f in analyze(cool).findings)
+    assert not any(f.startswith("Self-heating") for f in analyze(cool).warnings)
 
 
 def test_latch_is_judged_in_the_watched_quantity(demo):
     design = demo(SOLAR)
     short = Design(**{**design.__dict__, "front_end": DividerFrontEnd(240e3, 62e3, low=0.0, high=12.0)})
-    (latch,) = [f for f in analyze(short).findings if f.startswith("Latches")]
+    (latch,) = [f for f in analyze(short).warnings if f.startswith("Latches")]
     assert "upper switching point" in latch
     assert "12.78 V (2.623 V at the stage) is above the highest value the input reaches (12 V)" in latch
-    assert not any(f.startswith("Latches") for f in analyze(design).findings)
+    assert not any(f.startswith("Latches") for f in analyze(design).warnings)
 
 
 def test_caution_when_the_front_end_watches_a_hazardous_voltage(demo):
     # A rectified 230 V mains bus (325 V peak) watched through a 1 MOhm / 10 kOhm divider.
     design = _stage(front_end=DividerFrontEnd(1e6, 10e3, low=0.0, high=400.0),
                     resistors=Resistors(input=10e3, feedback=1e6))
-    (caution,) = analyze(design).cautions
+    caution, spacing = analyze(design).cautions
+    assert "IEC 60664-1" in spacing and "400 V" in spacing
     assert "400 V" in caution and "not a safety-rated protection" in caution and "local codes" in caution
     assert not any(c.startswith("Hazardous") for c in analyze(demo(SOLAR)).cautions)
 
@@ -324,6 +326,30 @@ def test_unreached_point_is_null_in_json():
     data = analysis_to_dict(analyze(design))
     assert data["upper_watched"] is None and data["lower_watched"] is None
     assert any("no value the input reaches switches the stage" in f for f in data["warnings"])
+
+
+@pytest.mark.parametrize(("change", "named"), [
+    # 5.15 K: the Beta model's resistance overflows a float (exp(3950 (1/5.15 - 1/298.15)), by hand).
+    ({"low": -268.0}, "front_end.low: at -268 C the thermistor's resistance would be more than"),
+    # A Beta of 1.3e7 K is no part's; it would overflow already at -10 C, the greenhouse's lowest.
+    ({"beta": 1.3e7}, "front_end.beta: must be from 100 K to 20000 K"),
+    ({"beta": 1.3e7, "low": None}, "front_end.beta: must be from 100 K to 20000 K"),
+])
+def test_a_range_the_front_end_cannot_reach_is_named_by_its_own_key(change, named, demo):
+    d = demo(GREENHOUSE)
+    with pytest.raises(DesignError) as refused:  # refused when the front end is built
+        dataclasses.replace(d, front_end=dataclasses.replace(d.front_end, **change))
+    assert named in str(refused.value)
+    assert "source." not in str(refused.value)  # a key the user never wrote
+
+
+def test_a_sensor_whose_output_cannot_move_is_named_as_the_front_end():
+    # 0.5 V + 1e-300 V per kPa: in floating point the output never leaves 0.5 V; no sensor has it.
+    # The message names the front end's own key, not "source.resistance: ... nan" or "source: low
+    # must be below high" (keys the user never wrote).
+    with pytest.raises(DesignError, match=r"front_end\.volts_per_unit: must be from 1 nV") as refused:
+        LinearFrontEnd(volts_per_unit=1e-300, unit="kPa", offset=0.5, low=0.0, high=16.0)
+    assert "source." not in str(refused.value)
 
 
 # --- the design-file section -----------------------------------------------------------------------
@@ -416,3 +442,65 @@ def test_a_thermistor_fed_from_a_zero_volt_reference_switches_at_no_temperature(
     d = replace(demo(SUMP), reference=FixedReference(0.0), source=Source(), front_end=thermistor)
     w = design_points(d)
     assert np.isnan(float(w.upper)) and np.isnan(float(w.lower))
+
+
+# --- front ends no real part has: refused at load, naming the key the user wrote ------------------
+
+GREENHOUSE_FE = BASE["front_end"]
+SH_ONLY = {k: v for k, v in GREENHOUSE_FE.items() if k not in ("r25", "beta", "beta_tolerance")}
+
+
+@pytest.mark.parametrize("coefficients", [
+    [1129.241, 2.341077e-4, 8.775468e-8],  # A typed without its exponent (PROBE's A is 1.129241e-3)
+    [1.129241e3, 2.341077e-4, 8.775468e-8],  # A a million times too large
+    [1.129241e-3, 2.341077e4, 8.775468e-8],  # B likewise
+])
+def test_steinhart_hart_typos_are_refused_naming_the_coefficients(coefficients):
+    with pytest.raises(DesignError, match=r"front_end\.steinhart_hart: these coefficients give "):
+        design_from_dict(_with_front_end({**SH_ONLY, "steinhart_hart": coefficients}))
+
+
+@pytest.mark.parametrize(("change", "message"), [
+    # Near absolute zero the Beta model's resistance passes any float (exp(3950 / 5 K)).
+    ({"low": -268}, r"front_end\.low: at -268 C the thermistor's resistance would be"),
+    ({"high": 1e6}, r"front_end\.high: must be from -273\.15 C to 500 C"),
+    # NTC parts have Betas of a few thousand kelvin (common practice).
+    ({"beta": 1.3e7}, r"front_end\.beta: must be from 100 K to 20000 K, got 1\.3e\+07"),
+    ({"fixed": 1e23}, r"front_end\.fixed: must be from 1 mOhm to 1 TOhm"),
+    ({"excitation": 1e308}, r"front_end\.excitation: must be from 0 V to 100 kV"),
+    ({"dissipation_constant": 1e9}, r"front_end\.dissipation_constant: must be from"),
+])
+def test_thermistor_values_no_part_has_are_refused_naming_the_key_written(change, message):
+    with pytest.raises(DesignError, match=message):
+        design_from_dict(_with_front_end({**GREENHOUSE_FE, **change}))
+
+
+def test_a_steep_curve_over_the_default_range_names_that_range():
+    # R25 1 TOhm is allowed, but at -55 C (the default low end) a Beta of 4000 K takes it past 1 TOhm.
+    with pytest.raises(DesignError, match=r"front_end: over the default watched range -55 C to 150 C"):
+        design_from_dict(_with_front_end({"kind": "thermistor", "r25": 1e12, "beta": 4000, "fixed": "10k"}))
+
+
+@pytest.mark.parametrize(("front_end", "message"), [
+    ({"kind": "linear", "volts_per_unit": 1e-300, "unit": "kPa"},
+     r"front_end\.volts_per_unit: must be from 1 nV to 1 MV per unit"),
+    ({"kind": "linear", "volts_per_unit": 1e300, "unit": "kPa"}, r"front_end\.volts_per_unit: must be from"),
+    ({"kind": "linear", "volts_per_unit": 0.01, "unit": "kPa", "high": 1e300},
+     r"front_end\.high: the sensor would give .* there; it must stay from -100 kV to 100 kV"),
+    ({"kind": "linear", "volts_per_unit": 0.01, "unit": "kPa", "offset": 1e6},
+     r"front_end\.offset: must be from -100 kV to 100 kV"),
+    ({"kind": "linear", "volts_per_unit": 0.01, "unit": "k\ud800"}, r"front_end\.unit: .*lone surrogate"),
+    ({"kind": "divider", "top": "10k", "bottom": 1e300}, r"front_end\.bottom: must be from 1 mOhm to 1 TOhm"),
+    ({"kind": "divider", "top": "10k", "bottom": "1k", "high": 1e308},
+     r"front_end\.high: must be from -100 kV to 100 kV"),
+])
+def test_other_front_ends_no_part_has_are_refused_naming_the_key(front_end, message):
+    with pytest.raises(DesignError, match=message):
+        design_from_dict(_with_front_end(front_end))
+
+
+def test_a_required_front_end_value_given_as_null_is_refused_and_an_optional_one_left_out():
+    with pytest.raises(DesignError, match=r"front_end\.fixed: required"):
+        design_from_dict(_with_front_end({**GREENHOUSE_FE, "fixed": None}))
+    d = design_from_dict(_with_front_end({**GREENHOUSE_FE, "low": None}))
+    assert d.front_end.low is None

@@ -1,6 +1,7 @@
 """The input filter: its resistor at DC through the one stage model, its pole against lcapy, its file
 section and its place in the table of parts."""
 
+import re
 from dataclasses import replace
 
 import pytest
@@ -106,10 +107,13 @@ def test_the_filter_section_reads_writes_and_names_its_keys(demo):
         ({"resistance": "10k"}, "filter.capacitance: missing"),
         ({"resistance": "10k", "capacitance": 0}, "filter.capacitance: must be greater than zero"),
         ({"resistance": -1, "capacitance": "1u"}, "filter.resistance: must be zero or more"),
+        # Bounds as every part's (common practice): resistors to a teraohm, capacitors to a millifarad.
+        ({"resistance": 1e15, "capacitance": "1u"}, "filter.resistance: must be from 0 Ohm to 1 TOhm"),
+        ({"resistance": "10k", "capacitance": 1.0}, "filter.capacitance: must be from 0 F to 1 mF, got 1"),
         ({"resistance": "10k", "capacitance": "1u", "pole": 5}, "filter.pole: unknown key"),
         ({"resistance": "10k", "capacitance": "1 uV"}, "filter.capacitance: cannot read"),
     ]:
-        with pytest.raises(ValueError, match=message):
+        with pytest.raises(ValueError, match=re.escape(message)):
             design_from_dict({**data, "filter": section})
 
 
@@ -142,7 +146,15 @@ def test_the_signal_section_reads_writes_and_names_its_keys(demo):
                                       false_edges_per_year=1.0, delay_budget=0.5)
     assert design_from_dict(design_to_dict(d)) == d
     for bad, message in [
-        ({"noise": -1}, "signal.noise: must be zero or more"),
+        ({"noise": -1}, "signal.noise: must be from 0 to 1e+06, got -1"),
+        # Bounds (common practice, generous): amounts in the design's unit under a million, rates
+        # under 1 GHz, a delay budget within an hour.
+        ({"hum": 1e9}, "signal.hum: must be from 0 to 1e+06, got 1e+09"),
+        ({"noise_bandwidth": 1e12}, "signal.noise_bandwidth: must be from 0 Hz to 1 GHz"),
+        ({"crossings_per_second": 1e10}, "signal.crossings_per_second: must be from 0 to 1e+09"),
+        ({"false_edges_per_year": 1e300}, "signal.false_edges_per_year: must be from 0 to 1e+18"),
+        ({"delay_budget": 1e5}, "signal.delay_budget: must be from 0 s to 3600 s"),
+        ({"hum_harmonics": {"3": -1}}, "signal.hum_harmonics.3: must be from 0 to 1e+06, got -1"),
         ({"noise_bandwidth": 0}, "signal.noise_bandwidth: must be greater than zero"),
         ({"hum_frequency": 55}, "signal.hum_frequency: 55.0 Hz is not a mains frequency; allowed: 50, 60"),
         ({"hum_harmonics": {"1": 0.1}}, "signal.hum_harmonics.1: a harmonic order is a whole number from 2"),
@@ -150,5 +162,5 @@ def test_the_signal_section_reads_writes_and_names_its_keys(demo):
         ({"slope": "fast"}, "signal.slope: cannot read 'fast'"),
         ({"target": 1}, "signal.target: unknown key"),
     ]:
-        with pytest.raises(ValueError, match=message):
+        with pytest.raises(ValueError, match=re.escape(message)):
             design_from_dict({**data, "signal": bad})

@@ -6,7 +6,7 @@ import numpy as np
 import pytest
 from hypothesis import HealthCheck, assume, given, settings
 from hypothesis import strategies as st
-from strategies import designs
+from strategies import designs, designs_with_loads
 
 from bandcalc.errors import DesignError
 from bandcalc.model.design import (
@@ -14,13 +14,14 @@ from bandcalc.model.design import (
     Design,
     DividerReference,
     FixedReference,
+    Load,
     OpenDrain,
     PushPull,
     Resistors,
     Source,
     Supply,
 )
-from bandcalc.model.network import switching_points
+from bandcalc.model.network import pin_resistances, switching_points
 from bandcalc.model.parts import parameters
 
 
@@ -116,16 +117,21 @@ def test_open_drain_high_level_is_loaded_by_feedback():
 
 # --- Independent solver: lcapy on random designs of every kind --------------------------------
 
-@settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.too_slow])
-@given(designs())
+@settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(st.one_of(designs(), designs_with_loads()))
 def test_agrees_with_lcapy_nodal_analysis(design):
+    # lcapy (PyPI, independent linear circuit solver; netlist in tests/circuit_reference.py, a load
+    # a resistor from the output node to its own source): the switching points, and the level the
+    # output reaches at each of them, loaded by the feedback, a pull-up and any load.
     pytest.importorskip("lcapy")
-    from circuit_reference import switching_point
+    from circuit_reference import output_at, switching_point
 
     p = switching_points(design)
     upper_state, lower_state = ("high", "low") if design.inverting else ("low", "high")
     assert float(p.upper) == pytest.approx(switching_point(design, upper_state), abs=1e-6)
     assert float(p.lower) == pytest.approx(switching_point(design, lower_state), abs=1e-6)
+    assert float(p.at_upper.output) == pytest.approx(output_at(design, upper_state, float(p.upper)), abs=1e-6)
+    assert float(p.at_lower.output) == pytest.approx(output_at(design, lower_state, float(p.lower)), abs=1e-6)
 
 
 # --- Invariants --------------------------------------------------------------------------------
@@ -197,3 +203,36 @@ def test_supply_variation_moves_default_pullup_and_divider():
     # Everything scales with a single supply: points scale by 5.5/5 (first principles).
     assert float(moved.upper) == pytest.approx(float(nominal.upper) * 1.1)
     assert not math.isclose(float(moved.lower), float(nominal.lower))
+
+
+def test_load_pulls_an_open_drain_high_level_down_by_hand():
+    # First principles (Thevenin, Millman): a 10 kOhm pull-up to 5 V with a 10 kOhm load to ground
+    # is 2.5 V behind 5 kOhm.  Inverting stage, 100k to +5 V, 100k to ground, 100k feedback: with
+    # the output high the + pin sits at (5/100k + 2.5/105k) / (2/100k + 1/105k) = 2.5 V, so the
+    # upper point is 2.5 V (no hysteresis left on that side); unloaded it is 3.0238 V.
+    base = Design(stage="inverting", supply=Supply(5.0), output=OpenDrain(pullup=10e3),
+                  resistors=Resistors(to_positive=100e3, to_ground=100e3, feedback=100e3))
+    loaded = Design(**{**base.__dict__, "load": Load(resistance=10e3)})
+    unloaded = (5 / 100e3 + 5 / 110e3) / (2 / 100e3 + 1 / 110e3)
+    assert float(switching_points(base).upper) == pytest.approx(unloaded)
+    assert float(switching_points(loaded).upper) == pytest.approx(2.5, abs=1e-12)
+    assert float(switching_points(loaded).at_upper.output) == pytest.approx(2.5, abs=1e-12)
+    # A stiff push-pull output (no output resistance) is not moved by any load.
+    stiff = Design(**{**loaded.__dict__, "output": PushPull()})
+    assert float(switching_points(stiff).upper) == pytest.approx(float(switching_points(
+        Design(**{**stiff.__dict__, "load": None})).upper), abs=1e-12)
+
+
+@settings(max_examples=25, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(designs_with_loads())
+def test_pin_resistances_agree_with_lcapy(design):
+    # lcapy (PyPI): the impedance between each pin's node and ground with every source at rest is
+    # the resistance a clamp at that pin works against (the clamp current of the range checks).
+    pytest.importorskip("lcapy")
+    from circuit_reference import pin_resistances as reference
+
+    for state in ("high", "low"):
+        plus, minus = pin_resistances(design, parameters(design), state)
+        want_plus, want_minus = reference(design, state)
+        assert float(plus) == pytest.approx(want_plus, rel=1e-9, abs=1e-9)
+        assert float(minus) == pytest.approx(want_minus, rel=1e-9, abs=1e-9)

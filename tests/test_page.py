@@ -277,3 +277,39 @@ def test_an_internal_error_in_the_page_is_explained(monkeypatch):
     assert not at.exception
     assert any(e.value.startswith("The page ran into an internal error") for e in at.error)
     assert not any("boom" in e.value for e in at.error)
+
+
+def test_protective_checkbox_starts_from_the_words_and_is_saved():
+    at = page()
+    box = at.checkbox(key="in.protective")
+    assert box.value is False  # "Sump level switch": no protective word
+    at.text_input(key="in.name").input("Sump overflow alarm").run()
+    assert at.checkbox(key="in.protective").value is True  # "alarm", judged from the words
+    assert design_on(at).protective is None
+    assert any(e.value.startswith("Protective function") for e in at.error)
+    at.checkbox(key="in.protective").uncheck().run()
+    assert design_on(at).protective is False  # saved as the user's choice
+    assert not any(e.value.startswith("Protective function") for e in at.error)
+    assert not at.exception and not errors(at)
+
+
+def test_load_controls_change_the_levels_and_check_the_logic():
+    at = page()
+    at.session_state["page.section.load"] = True
+    at.session_state["page.section.output"] = True
+    at.run()
+    at.text_input(key="in.output.resistance").input("100").run()
+    at.text_input(key="in.load.resistance").input("1k").run()
+    loaded = design_on(at)
+    assert loaded.load.resistance == 1e3 and loaded.load.volts == 0.0
+    assert figures(at) == expected(loaded) and figures(at) != expected(SUMP)
+    at.text_input(key="in.load.logic_high_min").input("4.9").run()
+    assert design_on(at).load.logic_high_min == 4.9
+    assert any(w.value.startswith("Logic levels: the output's high level falls to") for w in at.warning)
+    at.text_input(key="in.load.logic_low_max").input("5.5").run()  # above the high threshold: refused
+    assert "load: logic_low_max (5.5 V) must be below logic_high_min (4.9 V)" in errors(at)[0]
+    assert design_on(at).load.logic_low_max is None  # the design kept what it had
+    at.text_input(key="in.load.resistance").input("").run()
+    at.text_input(key="in.load.logic_high_min").input("").run()
+    assert design_on(at).load is None
+    assert not at.exception

@@ -8,11 +8,20 @@ import pytest
 
 from bandcalc.demos import load_demo
 from bandcalc.errors import DesignError
-from bandcalc.model.design import DividerReference, FixedReference, OpenDrain, PushPull
+from bandcalc.model.design import DividerReference, FixedReference, Load, OpenDrain, PushPull
 from bandcalc.model.parts import value_at, with_value
 from bandcalc.model.standard_values import series_values
 from bandcalc.page.address import address_to_design, design_to_address
-from bandcalc.page.edit import slider_options, with_legs, with_output, with_reference, with_stage
+from bandcalc.page.edit import (
+    slider_options,
+    with_legs,
+    with_load_value,
+    with_output,
+    with_protective,
+    with_reference,
+    with_resistor_size,
+    with_stage,
+)
 
 SUMP = load_demo("sump_level_switch")  # also used at import time, in parametrize
 
@@ -251,3 +260,24 @@ def test_with_filter_adds_the_starting_filter_and_takes_it_away(demo):
     assert with_filter(on, "none").filter is None
     with pytest.raises(ValueError, match="filter: 'lc' is not a filter kind; allowed: none, rc"):
         with_filter(d, "lc")
+
+
+def test_load_edits_make_and_drop_the_section():
+    d = with_load_value(SUMP, "logic_high_min", 2.0)
+    assert d.load == Load(logic_high_min=2.0)
+    d = with_load_value(d, "resistance", 4.7e3)
+    assert d.load.resistance == 4.7e3 and d.load.volts == 0.0
+    assert with_load_value(d, "volts", None).load.volts == 0.0  # blank: ground
+    d = with_load_value(with_load_value(d, "resistance", None), "logic_high_min", None)
+    assert d.load is None
+    with pytest.raises(DesignError, match="load.nothing: not a value of the load"):
+        with_load_value(SUMP, "nothing", 1.0)
+
+
+def test_protective_and_size_edits():
+    assert with_protective(SUMP, True).protective is True
+    with pytest.raises(DesignError, match="protective: must be true or false"):
+        with_protective(SUMP, "yes")
+    assert with_resistor_size(SUMP, "1206").ratings.size == "1206"
+    with pytest.raises(DesignError, match="ratings.size: '0601' is not a size"):
+        with_resistor_size(SUMP, "0601")

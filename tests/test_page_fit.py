@@ -13,6 +13,7 @@ from streamlit.testing.v1 import AppTest
 from test_page import expected
 
 from bandcalc.demos import load_demo
+from bandcalc.fit import selection
 from bandcalc.fit.selection import apply_candidate, fit
 from bandcalc.model.design import Resistors
 from bandcalc.model.design_file import design_to_json
@@ -252,3 +253,68 @@ def test_latest_fit_holds_for_the_design_while_only_resistor_values_change():
     at.run()
     assert at.session_state["held"] == [True, True, False]
     assert with_value(SUMP, "resistors.feedback", 1e6) != SUMP
+
+
+# --- A search that is too large, stopped at its limit, or stopped by the user ---------------------
+
+ALL_LEGS = with_value(with_value(with_value(SUMP, "resistors.to_ground", 100e3), "resistors.to_positive",
+                                            100e3), "resistors.to_negative", 1e6)
+
+
+def test_a_search_too_large_is_refused_with_a_plain_message(monkeypatch):
+    # Five free values over E24 (bandcalc.fit.selection refuses them before searching); the
+    # search itself must not start.
+    def started(*args, **kwargs):
+        raise AssertionError("the search started")
+
+    monkeypatch.setattr(selection, "search", started)
+    at = fit_tab({PARAM: design_to_address(ALL_LEGS)})
+    find(at, "3", "2")
+    assert not at.exception
+    (shown,) = errors(at)
+    assert shown.startswith("Find values: too many combinations to search: 5 free values")
+    assert "hold 1 of them" in shown and "coarser series" in shown
+    assert design_on(at) == ALL_LEGS and not at.table
+    assert at.text_input(key="fit.upper").value == "3"
+
+
+def test_a_search_stopped_at_its_limit_is_marked_not_proven(monkeypatch):
+    # Four free values over E24 (with the leg the fit adds): about 800,000 checks to finish.
+    def small(*args, **kwargs):
+        return fit(*args, **kwargs, budget=200_000)
+
+    monkeypatch.setattr(panel, "fit", small)
+    design = with_value(SUMP, "resistors.to_ground", 100e3)
+    at = fit_tab({PARAM: design_to_address(design)})
+    find(at, "3", "2")
+    result = fit(design, 3.0, 2.0, budget=200_000)
+    assert result.stopped and not errors(at)
+    assert [w.value for w in at.warning] == [result.stopped]
+    assert candidates_shown(at)["Upper"] == [format_value(c.upper, "V", 4) for c in result.candidates]
+
+
+def test_the_search_shows_its_progress_and_a_stop_button_and_a_stop_keeps_everything(monkeypatch):
+    seen = []
+
+    def interrupted(*args, progress, **kwargs):
+        # What Streamlit does when Stop (or any other widget) is pressed while the search runs:
+        # the script stops at its next Streamlit call, here the progress update.
+        progress(1000, 2_000_000)
+        seen.append("progress shown")
+        st.stop()
+
+    at = find(fit_tab(), "3.1", "1.9")
+    before = candidates_shown(at)
+    monkeypatch.setattr(panel, "fit", interrupted)
+    find(at, "3.2", "1.9")
+    assert seen == ["progress shown"] and not at.exception
+    (bar,) = at.get("progress")
+    assert "1,000 of at most 2,000,000 combinations checked" in bar.proto.text
+    stop = button(at, "Stop the search")
+    stop.click().run()  # the rerun the click asks for
+    assert not at.exception and not errors(at)
+    assert any(i.value.startswith("The search was stopped before it finished") for i in at.info)
+    assert not at.get("progress") and not [b for b in at.button if b.label == "Stop the search"]
+    assert candidates_shown(at) == before and design_on(at) == SUMP
+    at.run()  # said once
+    assert not any(i.value.startswith("The search was stopped") for i in at.info)

@@ -195,6 +195,14 @@ def test_synthetic_signal_check_matches_the_package(design, noise):
     assert marks["This design"]["x0"] == pytest.approx(upper - lower)
 
 
+def test_a_sweep_without_edges_says_the_delay_is_not_known():
+    # A signal far below the points: no edges at any width, so no delay to print (not "n/a s").
+    at = run_signal(SUMP, {"offset": "0", "amplitude": "10m"})
+    assert not at.exception and not errors(at)
+    (said,) = [c for c in captions(at) if c.startswith("Narrowest width with one clean edge per crossing")]
+    assert "mean delay not known, largest not known" in said and "n/a" not in said
+
+
 def test_bad_signal_settings_are_named_and_the_old_value_kept():
     at = page(panel="Signal check")
     at.text_input(key="page.signal.frequency").input("fast").run()

@@ -6,7 +6,16 @@ import pytest
 from markdown_it import MarkdownIt
 
 from bandcalc.cli.commands import main
-from bandcalc.model.design import Design, FixedReference, Resistors, Source, Supply
+from bandcalc.model.design import (
+    Design,
+    DividerReference,
+    FixedReference,
+    Load,
+    OpenDrain,
+    Resistors,
+    Source,
+    Supply,
+)
 from bandcalc.model.network import switching_points
 from bandcalc.model.operating import analyze
 from bandcalc.model.units import format_code, format_si, format_value
@@ -98,6 +107,16 @@ def test_user_text_is_escaped(hostile):
 def test_escape_text_keeps_plain_words():
     assert escape_text("Sump level switch, 5 V") == "Sump level switch, 5 V"
     assert escape_text("<b>") == "&lt;b&gt;"
+    # Figures stay as they are; only what would open a block is escaped (CommonMark 5.2, 4.1).
+    assert escape_text("3.136 V, -270 mV, +5 V") == "3.136 V, -270 mV, +5 V"
+    assert [escape_text(t) for t in ("1. one", "2) two", "- item", "+ item", "---", "==")] == [
+        "1\\. one", "2\\) two", "\\- item", "\\+ item", "\\---", "\\=="]
+
+
+def test_escape_text_shows_controls_as_escapes():
+    # An escape sequence (ESC [2J clears a terminal) and a right-to-left override read as text.
+    (paragraph,) = [t for t in _tokens(escape_text("a\x1b[2Jb\u202ec")) if t.type == "inline"]
+    assert "".join(c.content for c in paragraph.children) == "a\\u001b[2Jb\\u202ec"
 
 
 def test_summary_is_commonmark_without_extensions(demo):
@@ -115,10 +134,14 @@ def test_caution_section_for_hazardous_voltage():
 
 def test_signal_section(demo):
     d = demo("greenhouse_fan_thermostat")
-    a = analyze(d)
-    run = run_design(d, synthesize("sine", a.centre, a.hysteresis, 50, 0.1, 50e3, noise_rms=0.01, seed=1))
+    w = analyze(d).points  # the signal is in the design's unit, degrees C here
+    wave = synthesize("sine", float(w.centre), float(w.hysteresis), 50, 0.1, 50e3, noise_rms=0.05, seed=1)
+    run = run_design(d, wave)
     text = design_summary(d, type("Inputs", (), {"signal": run, "spread": None, "fit": None})())
     assert "## Noise and delay" in text and f"| Output edges | {run.edge_count} |" in text
+    # The noise is in the signal's unit too, not in volts.
+    c = lambda x: format_value(x, "C", 4)  # noqa: E731
+    assert f"| Noise | {c(run.noise.rms)} RMS, about {c(run.noise.peak_to_peak)} peak-to-peak |" in text
 
 
 def test_report_command_writes_file(tmp_path, demo, demo_path):
@@ -168,12 +191,38 @@ def test_the_filter_and_the_signal_settings_are_in_the_summary(demo):
                 signal=SignalSettings(noise=0.5, noise_bandwidth=2e3, hum=0.02, slope=1.0,
                                       false_edges_per_year=1.0))
     text = design_summary(d)
-    assert "| Cflt | input filter, from the stage's input node to ground | 1 uF |" in text
+    assert "| Cflt | input filter, from the stage's input node to ground | 1 µF |" in text
     assert "| Rflt | in series with the signal, ahead of the filter capacitor | 4.7 kOhm (4k7) |" in text
-    assert "An input filter (4.7 kOhm (4k7) in series and 1 uF from the stage's input to ground) has its " \
+    assert "An input filter (4.7 kOhm (4k7) in series and 1 µF from the stage's input to ground) has its " \
            "pole at" in text
     assert "## Noise and false edges expected" in text
     assert "Parked at a point: false switching | about once every" in text
     assert "Noise is taken as Gaussian and stationary" in text  # the model's simplifications
     assert "Target: at most 1 false edge(s) a year." in text
     assert design_from_summary(text) == d
+
+
+def test_power_rating_in_the_table_and_the_findings_derate_the_same_way():
+    # By hand: a 600 / 600 Ohm divider on 12 V dissipates 60 mW in each half; derated twice (common
+    # practice) that needs 120 mW, more than the 100 mW of the default 0603 size.  The component
+    # table and the findings say the same; before, the table asked for a 1/8 W rating while the
+    # findings, comparing 60 mW with 0.1 W, said nothing.
+    d = Design(stage="non-inverting", supply=Supply(12.0), reference=DividerReference(600.0, 600.0),
+               resistors=Resistors(input=10e3, feedback=100e3))
+    text = design_summary(d)
+    (row,) = [line for line in text.splitlines() if line.startswith("| Rtop |")]
+    assert f"{format_si(0.06, 'W')}, needs {format_si(0.12, 'W')}" in row and "too small" in row
+    findings = text.split("## Findings")[1].split("##")[0]
+    said = f"Power: the divider, upper resistor (reference.top, Rtop) dissipates up to {format_si(0.06, 'W')}"
+    assert said in findings
+
+
+def test_the_load_and_the_receiving_logic_are_described():
+    d = Design(stage="inverting", supply=Supply(5.0), output=OpenDrain(pullup=10e3),
+               resistors=Resistors(to_positive=100e3, to_ground=100e3, feedback=1e6),
+               load=Load(resistance=10e3, volts=0.0, logic_low_max=0.8, logic_high_min=3.5))
+    text = design_summary(d)
+    stage = text.split("## The stage")[1].split("##")[0]
+    assert "drives a load of 10 kOhm (10k) to 0 V" in stage and "reads below 800 mV as low" in stage
+    assert "Logic levels: the output's high level falls to" in text
+    assert "- Note: Power-up: the input can rest between" in text

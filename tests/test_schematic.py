@@ -119,3 +119,19 @@ def test_the_input_filter_sits_between_the_source_and_the_input_resistor(demo):
     assert found["IN"] < found["Rsrc 100R"] < found["Rflt 4k7"] < found["Cflt 100 nF"] < found["Rin 10k"]
     capacitor_only = texts(stage_svg(replace(demo("sump_level_switch"), filter=InputFilter(0.0, 1e-7))))
     assert "Cflt 100 nF" in capacitor_only and not any(t.startswith("Rflt") for t in capacitor_only)
+
+
+def test_the_load_hangs_from_the_output(demo):
+    from bandcalc.model.design import Design, Load
+
+    sump = demo("sump_level_switch")
+    to_rail = Design(**{**sump.__dict__, "load": Load(resistance=4.7e3, volts=3.3)})
+    found = texts(stage_svg(to_rail))
+    assert "RL 4k7" in found and "3.3 V" in found
+    to_ground = Design(**{**sump.__dict__, "load": Load(resistance=2.2e3)})
+    found = texts(stage_svg(to_ground))
+    assert "RL 2k2" in found and "0 V" in found  # 0 V: the negative rail of the supply pins
+    assert not any(t.startswith("RL") for t in texts(stage_svg(sump)))
+    # Logic thresholds alone draw nothing.
+    thresholds = Design(**{**sump.__dict__, "load": Load(logic_high_min=2.0)})
+    assert texts(stage_svg(thresholds)) == texts(stage_svg(sump))

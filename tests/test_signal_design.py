@@ -2,6 +2,7 @@
 
 import json
 import math
+import re
 from dataclasses import replace
 
 import pytest
@@ -134,3 +135,55 @@ def test_signal_options_are_checked(option, message, capsys, demo_path):
         main(["signal", demo_path("sump_level_switch"), *option])
     assert stop.value.code == 2
     assert message in capsys.readouterr().err
+
+
+def _strict_json(text):
+    """json.loads that refuses NaN and Infinity, which are not JSON (RFC 8259, section 6)."""
+    def refuse(name):
+        raise AssertionError(f"{name} in JSON output")
+    return json.loads(text, parse_constant=refuse)
+
+
+def test_recorded_signal_table_says_what_is_not_known(tmp_path, capsys, demo_path):
+    wave = tmp_path / "w.csv"
+    wave.write_text("time,volts\n" + "\n".join(f"{i * 1e-3},{4.5 if (i // 100) % 2 else 0.5}"
+                                               for i in range(1000)) + "\n")
+    assert main(["signal", demo_path("sump_level_switch"), "--csv", str(wave), "--sweep"]) == 0
+    out = capsys.readouterr().out
+    assert "None" not in out
+    assert "(noise-free signal: not known, a recorded signal has none)" in out
+
+
+def test_a_time_that_does_not_exist_is_not_printed_with_a_unit(capsys, demo_path):
+    # A signal that never reaches the points: no edges, so no delay at any width of the sweep.
+    args = ["signal", demo_path("sump_level_switch"), "--offset", "0", "--amplitude", "0.01", "--sweep"]
+    assert main(args) == 0
+    out = capsys.readouterr().out
+    assert "n/a s" not in out and "nan" not in out.lower()
+    assert main([*args, "--json"]) == 0
+    sweep = _strict_json(capsys.readouterr().out)["sweep"]
+    assert sweep["best_mean_delay"] is None and sweep["best_max_delay"] is None
+
+
+@pytest.mark.parametrize(("options", "message"), [
+    (["--frequency", "0"], "--frequency must be greater than 0 Hz, got 0"),
+    (["--rate", "10"], r"--frequency must be below --rate / 2 = 5 Hz \(Nyquist\), got 50 Hz"),
+    (["--noise", "-1"], "--noise must be at least 0 V, got -1"),
+    (["--hum", "0.1", "--rate", "90", "--frequency", "1"], "--hum-frequency 50 Hz needs --rate above 100 Hz"),
+    (["--seed", "-1"], "--seed must be a whole number of at least 0, got -1"),
+    (["--duration", "100", "--rate", "1e6"], "--duration x --rate gives more than 10,000,000 samples"),
+    (["--offset", "nan"], "--offset must be a finite number, got nan"),
+])
+def test_signal_options_are_named_as_typed(options, message, capsys, demo_path):
+    # The messages name the options the user typed (--rate), not the function's arguments
+    # (sample_rate) the user never wrote.
+    assert main(["signal", demo_path("sump_level_switch"), *options]) == 2
+    err = capsys.readouterr().err
+    assert re.search(message, err), err
+    assert not re.search(r"(?<!-)\b(sample_rate|noise_rms|hum_amplitude|hum_frequency)\b", err)
+
+
+def test_signal_options_of_a_front_end_design_are_in_its_unit(capsys, demo_path):
+    # The greenhouse signal runs in degrees C, so its noise does too.
+    assert main(["signal", demo_path("greenhouse_fan_thermostat"), "--noise", "-1"]) == 2
+    assert "--noise must be at least 0 C, got -1" in capsys.readouterr().err

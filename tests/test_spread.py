@@ -378,6 +378,16 @@ def test_cli_table(capsys, demo_path):
         assert text in out
 
 
+def test_cli_table_writes_kelvin_without_a_prefix(capsys, demo_path):
+    # Beta is in kelvin and reads as data sheets print it, 3950 K (never "3.95 kK"); the offset
+    # drift in µV/K keeps its prefix.
+    assert main(["spread", demo_path("greenhouse_fan_thermostat"), "--samples", "1000"]) == 0
+    out = capsys.readouterr().out
+    assert "front_end.beta 3910 K to 3990 K (1 %)" in out and "kK" not in out
+    assert main(["spread", demo_path(SOLAR), "--samples", "1000"]) == 0
+    assert "comparator.offset_drift -7 µV/K to 7 µV/K" in capsys.readouterr().out
+
+
 def test_cli_bad_samples_and_bad_file(tmp_path, capsys, demo_path):
     with pytest.raises(SystemExit) as exit_:
         main(["spread", demo_path(SUMP), "--samples", "lots"])
@@ -421,3 +431,23 @@ def test_thermistor_front_end_tolerances_are_varied_in_the_watched_quantity(demo
     s = spread(design, samples=2_000)
     assert s.unit == "C" and spread_to_dict(s)["unit"] == "C"
     assert 25 < s.monte_carlo.upper.mean < 40
+
+
+# --- corners where the stage has no switching point --------------------------------------------
+
+@pytest.mark.parametrize(("bias", "failing"), [(1e-4, 128), (5e-5, 68)])
+def test_corners_without_a_switching_point_are_named_with_the_reason(demo, bias, failing):
+    # The greenhouse thermistor divider runs from the 5 V rail to ground, so it gives the stage 0 V to
+    # 5 V and no more at any temperature (first principles); 100 uA of bias current through its
+    # 5 kOhm asks for more at some corners, and no temperature switches the stage there.
+    design = with_tolerances(demo("greenhouse_fan_thermostat"), Tolerances(bias_current=bias))
+    s = spread(design, samples=1_000)
+    assert math.isnan(s.worst_case.upper.min) and math.isnan(s.worst_case.upper.max)
+    note = next(n for n in s.notes if "no upper switching point" in n)
+    assert f"{failing} of 128 corners" in note and "comparator.bias_current" in note
+    assert "beyond the 0 V to 5 V the front end gives" in note
+    # The corner the note names has no point in the model either.
+    corner = s.worst_case.upper.min_corner
+    assert math.isnan(float(design_points(design, corner).upper))
+    if failing < 128:
+        assert "over the other corners it runs from" in note

@@ -69,13 +69,13 @@ def test_files_without_the_section_still_load_and_round_trip():
     ({"resistors": 60}, "tolerances.resistors: must be from 0 to 50 percent, got 60.0"),
     ({"resistors": {"default": 1, "input": -1}}, "tolerances.resistors.input: must be from 0 to 50 percent"),
     ({"supply": "5%"}, "tolerances.supply: cannot read '5%'"),
-    ({"offset": -0.001}, "tolerances.offset: must be 0 or more V, got -0.001"),
+    ({"offset": -0.001}, "tolerances.offset: must be from 0 to 100000 V, got -0.001"),
     ({"bias_current": "10nV"}, "tolerances.bias_current: cannot read '10nV'"),
     ({"distribution": "triangular"}, "tolerances.distribution: 'triangular' is not a distribution; "
                                      "allowed: normal, uniform"),
     ({"temperature": [70, -20]}, "tolerances.temperature: the lowest temperature must be below the highest"),
     ({"temperature": 25}, "tolerances.temperature: give [lowest, highest] in degrees Celsius"),
-    ({"temperature": [-300, 25]}, "tolerances.temperature: must be -273.15 or more"),
+    ({"temperature": [-300, 25]}, "tolerances.temperature: must be from -273.15 to 500 degrees C"),
     ({"limits": {"upper": [3.3, 3.0]}}, "tolerances.limits.upper: the lowest value (3.3 V) must be below"),
     ({"limits": {"width": [1, 2]}}, "tolerances.limits.width: unknown key; allowed: upper, lower"),
     ({"limits": {"upper": [None, None]}}, "tolerances.limits.upper: give [lowest, highest] in volts"),
@@ -121,3 +121,32 @@ def test_series_tolerance_agrees_with_the_eseries_package(ohms):
             break
     else:
         pytest.fail(f"{ohms} ohm is in no series from E24 up")
+
+
+# --- tolerances that would take a part where none goes --------------------------------------------
+
+@pytest.mark.parametrize("section, message", [
+    # No electronic part works at 1e300 C; beyond about 500 C nothing of a circuit board survives
+    # (common practice: high-temperature parts are rated to about 200 to 225 C).
+    ({"temperature": [0, 1e300]}, r"tolerances\.temperature: must be from -273\.15 to 500 degrees C"),
+    # A tempco of -10,000 ppm/K takes a resistor to 1 - 0.01 x (125 - 25) = 0 at 125 C.
+    ({"temperature": [-40, 125], "resistor_tempco": -10000},
+     r"tolerances\.resistor_tempco: -10000 ppm/K over -40 to 125 C takes a resistor to 0 % of its value at "
+     r"125 C"),
+    ({"temperature": [-40, 125], "resistor_tempco": {"default": 50, "feedback": 20000}},
+     r"tolerances\.resistor_tempco\.feedback: must be from -10000 to 10000 ppm/K"),
+    ({"temperature": [-200, 125], "resistor_tempco": {"default": 50, "feedback": 5000}},
+     r"tolerances\.resistor_tempco\.feedback: 5000 ppm/K over -200 to 125 C takes a resistor to -12\.5 %"),
+    ({"temperature": [-40, 400], "reference_drift": 9000},
+     r"tolerances\.reference_drift: 9000 ppm/K over -40 to 400 C takes the reference to -237\.5 %"),
+    ({"bias_current": 1e3}, r"tolerances\.bias_current: must be from 0 to 1 A"),
+    ({"offset": 1e300}, r"tolerances\.offset: must be from 0 to 100000 V"),
+    ({"offset_drift": 1e300}, r"tolerances\.offset_drift: must be from 0 to 1 V/K"),
+    ({"reference": None, "supply": 2}, None),  # null leaves a value out, as elsewhere in the file
+])
+def test_tolerances_no_part_follows_are_refused_naming_the_key(section, message):
+    if message is None:
+        assert design_from_dict(with_tolerances(section)).tolerances.reference == 0.0
+        return
+    with pytest.raises(DesignError, match=message):
+        design_from_dict(with_tolerances(section))

@@ -7,6 +7,7 @@ from bandcalc.model.units import (
     format_code,
     format_ohms,
     format_si,
+    format_value,
     parse_quantity,
     parse_resistance,
 )
@@ -59,6 +60,31 @@ def test_format_si(value, unit, text):
     assert format_si(value, unit) == text
 
 
+# The SI prefix micro is written µ (SI Brochure, 9th edition, Table 7); bandcalc writes the MICRO
+# SIGN U+00B5, which Latin-1, Windows-1252 and the old DOS code page 437 all hold (from memory).
+MICRO = "\u00b5"
+
+
+@pytest.mark.parametrize(("value", "unit", "text"), [
+    (1.2e-6, "A", "1.2 µA"), (622e-6, "W", "622 µW"), (-2.7e-6, "s", "-2.7 µs"), (1e-6, "V", "1 µV"),
+])
+def test_micro_is_written_mu_for_people(value, unit, text):
+    assert format_si(value, unit) == text and MICRO in text
+
+
+def test_micro_in_ascii_where_only_ascii_will_do():
+    assert format_si(1.2e-6, "A", micro="u") == "1.2 uA"
+    with pytest.raises(UnitError, match="micro: write"):
+        format_si(1.2e-6, "A", micro="mu")
+
+
+@pytest.mark.parametrize("value", [4.7e-6, 1.23456e-5, 2e-7, 999.9e-6])
+def test_what_is_written_reads_back(value):
+    # The page writes values in its boxes with format_si and reads what the user leaves there.
+    assert parse_quantity(format_si(value, "A", 6), "A") == pytest.approx(value, rel=1e-12)
+    assert parse_quantity(format_si(value, "A", 6, micro="u"), "A") == pytest.approx(value, rel=1e-12)
+
+
 @pytest.mark.parametrize(("ohms", "code"), [
     (4700, "4k7"), (2.2, "2R2"), (1.5e6, "1M5"), (0.47, "R47"), (470, "470R"), (10e3, "10k"),
     (8660, "8k66"), (1e6, "1M"),
@@ -76,3 +102,44 @@ def test_format_code_round_trips(ohms, code):
 def test_format_ohms_either_way(ohms, si, code):
     assert format_ohms(ohms) == si
     assert format_ohms(ohms, code=True) == code
+
+
+@pytest.mark.parametrize("unit", ["V", "s", "Ohm", "C", "kPa", ""])
+def test_a_value_that_does_not_exist_prints_without_a_unit(unit):
+    assert format_si(float("nan"), unit) == "n/a"
+    assert format_value(float("nan"), unit) == "n/a"
+
+
+@pytest.mark.parametrize(("value", "unit", "text"), [
+    # Beyond the prefixes (pico to tera) a figure goes to E notation, never to "0 pV" or 300 digits.
+    (1e-300, "V", "1e-300 V"), (-2.5e-16, "A", "-2.5e-16 A"), (3.2e20, "Ohm", "3.2e+20 Ohm"),
+    (2.5e-13, "A", "0.25 pA"), (999e12, "V", "999 TV"),
+])
+def test_format_si_beyond_the_prefixes(value, unit, text):
+    assert format_si(value, unit) == text
+
+
+@pytest.mark.parametrize(("value", "text"), [
+    (2.499e300, "2.499e+300 kPa"), (-1.5e16, "-1.5e+16 kPa"), (3e-13, "3e-13 kPa"),
+    (31.91, "31.91 kPa"), (0.0012346, "0.001235 kPa"), (123456789, "123500000 kPa"),
+])
+def test_format_value_beyond_plain_figures(value, text):
+    assert format_value(value, "kPa", 4) == text
+
+
+@pytest.mark.parametrize(("value", "unit", "text"), [
+    # Kelvin (a thermistor's Beta) and degrees take no prefix; volts per kelvin and watts per
+    # kelvin (drift, dissipation constant) do, as data sheets write them (common practice).
+    (3950.0, "K", "3950 K"), (25.0, "C", "25 C"), (7e-6, "V/K", "7 µV/K"), (1.5e-3, "W/K", "1.5 mW/K"),
+])
+def test_which_units_take_a_prefix(value, unit, text):
+    assert format_value(value, unit) == text
+
+
+@pytest.mark.parametrize(("value", "unit", "text"), [
+    # -0.0 comes out of sums and products (0 * -1); people read "0", never "-0".
+    (-0.0, "kPa", "0 kPa"), (-0.0, "C", "0 C"), (-0.0, "V", "0 V"),
+    (-0.00001, "kPa", "-0.00001 kPa"), (-0.00001, "V", "-10 µV"),
+])
+def test_zero_has_no_sign(value, unit, text):
+    assert format_value(value, unit) == text

@@ -85,7 +85,7 @@ def test_sources_path_bytes_text_and_open_file(tmp_path):
 
 
 def test_missing_file_and_wrong_source_type(tmp_path):
-    with pytest.raises(WaveformError, match="cannot read .*nothing.csv"):
+    with pytest.raises(WaveformError, match="nothing.csv: cannot read the file"):
         read_waveform_csv(tmp_path / "nothing.csv")
     with pytest.raises(WaveformError, match="cannot read"):
         read_waveform_csv(tmp_path)
@@ -111,8 +111,18 @@ def test_caps_on_rows_and_bytes(monkeypatch, tmp_path):
         read_waveform_csv(b"0,1\n1,1\n2,1\n")
     path = tmp_path / "big.csv"
     path.write_bytes(b"0,1\n1,1\n2,1\n")
-    with pytest.raises(WaveformError, match="big.csv: 12 bytes; at most 10 are read"):
+    with pytest.raises(WaveformError, match=r"big.csv: cannot read the file \(12 bytes; at most 10 are read"):
         read_waveform_csv(path)
+
+
+def test_only_regular_files_are_read(tmp_path):
+    # /dev/zero never ends and a named pipe without a writer never answers: both are refused at once.
+    import os
+    pipe = tmp_path / "pipe.csv"
+    os.mkfifo(pipe)
+    for path in ("/dev/zero", pipe):
+        with pytest.raises(WaveformError, match="cannot read the file .*not a regular file"):
+            read_waveform_csv(path)
 
 
 def test_header_line_cap(monkeypatch):

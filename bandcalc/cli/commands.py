@@ -1,14 +1,14 @@
 """The command line: ``python -m bandcalc COMMAND ...``.
 
-Each command reads design files, calls the package and prints a readable table, or JSON with
-``--json``.  A file that cannot be used gets a message on stderr naming it and the problem;
-the other files are still processed and the exit status is 2.
+Each command reads design files, calls the package and prints a readable table, or strict JSON
+with ``--json``.  A file that cannot be used gets a message on stderr naming it and the problem;
+the other files are still processed and the exit status is 2.  Text the user wrote is printed
+with control characters escaped ("\\x1b"), so a name cannot drive the terminal.
 """
 
 from __future__ import annotations
 
 import argparse
-import json
 import math
 import sys
 import textwrap
@@ -17,8 +17,9 @@ from pathlib import Path
 
 from bandcalc import __version__
 from bandcalc.cli.page_server import add_page_command
+from bandcalc.cli.visible_text import visible_text
 from bandcalc.errors import BandcalcError
-from bandcalc.fit.selection import FitResult, fit, fit_to_dict
+from bandcalc.fit.selection import MAX_COUNT, FitResult, fit, fit_to_dict
 from bandcalc.model.design import Design
 from bandcalc.model.design_file import load_design
 from bandcalc.model.operating import Analysis, analysis_to_dict, analyze
@@ -30,13 +31,14 @@ from bandcalc.model.units import (
     parse_quantity,
     parse_resistance,
 )
+from bandcalc.outputs.strict_json import dumps
 from bandcalc.signal_check.edges import run_design, run_points
 from bandcalc.signal_check.hysteresis_choice import filter_table_for, filter_table_to_dict
 from bandcalc.signal_check.noise import given_disturbance
 from bandcalc.signal_check.signal_json import check_to_dict, signal_to_dict
 from bandcalc.signal_check.waveform import DEFAULT_NOISE_BANDWIDTH, SyntheticSignal
-from bandcalc.signal_check.width_trade import DEFAULT_SEEDS, sweep_design
-from bandcalc.spread.factors import QUANTITIES, Factor
+from bandcalc.signal_check.width_trade import DEFAULT_SEEDS, MAX_SEEDS, sweep_design
+from bandcalc.spread.factors import QUANTITIES
 from bandcalc.spread.propagation import (
     DEFAULT_SAMPLES,
     DEFAULT_SEED,
@@ -50,6 +52,15 @@ from bandcalc.spread.propagation import (
 __all__ = ["main"]
 
 EXIT_BAD_INPUT = 2
+
+# C0 controls but tab and line feed, DEL, C1 controls (ECMA-48), and lone surrogates (no UTF-8 form).
+
+
+def _complain(path: str | None, message: str) -> None:
+    """A message on stderr, naming the file unless the message starts with it already."""
+    if path is not None and not message.startswith(path):
+        message = f"{path}: {message}"
+    print(f"bandcalc: {visible_text(message)}", file=sys.stderr)
 
 
 def _describe(d: Design) -> str:
@@ -71,18 +82,31 @@ def _analysis_table(path: str, a: Analysis) -> str:
     ]
     if a.design.front_end is not None:  # the points in the watched quantity, above the stage's volts
         rows[1:1] = _watched_rows(a)
-    lines = [f"{a.design.name or '(unnamed design)'}  [{path}]"]
+    lines = [_heading(a.design, path)]
     lines += [f"  {k:<18} {val}" for k, val in rows]
-    for title, items in (("findings", a.findings), ("cautions", a.cautions)):
+    lines += _listed((("findings", a.warnings), ("cautions", a.cautions)))
+    return "\n".join(lines)
+
+
+def _heading(design: Design, path: str) -> str:
+    """A table's first line: the design's name and its file, as text (user text: visible_text)."""
+    return f"{visible_text(design.name) or '(unnamed design)'}  [{visible_text(path)}]"
+
+
+def _listed(sections, form: Callable[[str], str] = lambda text: f"    - {text}") -> list[str]:
+    """Titled lists (findings, cautions, notes); their texts may quote a name or a unit, so each
+    goes through visible_text."""
+    lines: list[str] = []
+    for title, items in sections:
         if items:
             lines.append(f"  {title}:")
-            lines += [f"    - {item}" for item in items]
-    return "\n".join(lines)
+            lines += [form(visible_text(item)) for item in items]
+    return lines
 
 
 def _watched_rows(a: Analysis) -> list[tuple[str, str]]:
     """The points in the watched quantity, each with the volts point it comes from."""
-    w, unit = a.points, a.design.unit
+    w, unit = a.points, visible_text(a.design.unit)
     stage_up, stage_low = ("upper", "lower") if w.rises else ("lower", "upper")
     rising = a.rising_output
     falling = "low" if rising == "high" else "high"
@@ -96,20 +120,28 @@ def _watched_rows(a: Analysis) -> list[tuple[str, str]]:
 
 
 def _for_each_file(paths: Sequence[str], work: Callable[[str, Design], object]) -> tuple[list, int]:
-    """Run ``work`` on each loadable design; report bad files on stderr and keep going."""
+    """Run ``work`` on each loadable design; report bad files on stderr and keep going.
+
+    Anything else that goes wrong with one file is named with the file too, and the batch goes on:
+    one file never costs the others their results.
+    """
     results, status = [], 0
     for path in paths:
         try:
             results.append(work(path, load_design(path)))
         except ValueError as exc:
-            msg = str(exc)
-            print(f"bandcalc: {msg if msg.startswith(path) else f'{path}: {msg}'}", file=sys.stderr)
+            _complain(path, str(exc))
+            status = EXIT_BAD_INPUT
+        except Exception as exc:  # noqa: BLE001 - the per-file boundary: report it, keep the batch
+            _complain(path, f"internal error ({type(exc).__name__}: {exc}); the file could not be "
+                            "analysed. Please report it with the file.")
             status = EXIT_BAD_INPUT
     return results, status
 
 
 def _emit_json(objects: list) -> None:
-    print(json.dumps(objects[0] if len(objects) == 1 else objects, indent=2))
+    """Strict JSON: NaN and infinities become null, listed under "not_finite" (outputs.strict_json)."""
+    print(dumps(objects[0] if len(objects) == 1 else objects, indent=2))
 
 
 def _print_results(results: list, status: int, as_json: bool) -> int:
@@ -118,7 +150,7 @@ def _print_results(results: list, status: int, as_json: bool) -> int:
         if results:
             _emit_json(results)
     else:
-        print("\n\n".join(results))
+        print(visible_text("\n\n".join(results), keep_lines=True))
     return status
 
 
@@ -129,6 +161,11 @@ def _signal_settings(design: Design):
     return design.signal or SignalSettings()
 
 
+# synthesize's settings by the options that set them, so its messages name what the user typed.
+_SIGNAL_OPTIONS = {"shape": "--shape", "offset": "--offset", "amplitude": "--amplitude",
+                   "frequency": "--frequency", "duration": "--duration", "sample_rate": "--rate",
+                   "noise_rms": "--noise", "hum_amplitude": "--hum", "hum_frequency": "--hum-frequency",
+                   "seed": "--seed", "noise_bandwidth": "--noise-bandwidth"}
 def _synthetic(args: argparse.Namespace, design: Design):
     """The synthetic signal of the options; offset and amplitude default to the design's band,
     noise and hum to the design's signal settings."""
@@ -142,14 +179,17 @@ def _synthetic(args: argparse.Namespace, design: Design):
         hum_amplitude=(given.hum or 0.0) if args.hum is None else args.hum,
         hum_frequency=given.hum_frequency if args.hum_frequency is None else args.hum_frequency,
         seed=args.seed, noise_bandwidth=given.noise_bandwidth if args.noise_bandwidth is None
-        else args.noise_bandwidth, hum_harmonics=tuple(sorted(harmonics.items())))
+        else args.noise_bandwidth, hum_harmonics=tuple(sorted(harmonics.items())),
+        names=tuple(_SIGNAL_OPTIONS.items()), unit=design.unit)
 
 
 def _signal_table(path: str, d: dict) -> str:
-    v = lambda x: format_value(x, d["unit"])  # noqa: E731
+    unit = visible_text(d["unit"])
+    v = lambda x: format_value(x, unit)  # noqa: E731
     s = lambda x: "n/a" if x is None else format_si(x, "s")  # noqa: E731
+    clean = "not known, a recorded signal has none" if d["clean_edges"] is None else d["clean_edges"]
     rows = [("points", f"{v(d['upper'])} / {v(d['lower'])}"),
-            ("edges", f"{d['edges']} (noise-free signal: {d['clean_edges']})"),
+            ("edges", f"{d['edges']} (noise-free signal: {clean})"),
             ("delay mean / max", f"{s(d['delay_mean'])} / {s(d['delay_max'])}"),
             ("output high", f"{100 * d['output_high_fraction']:.1f} % of the time"),
             ("noise", f"{v(d['noise_rms'])} RMS, flat to {format_si(d['noise_bandwidth'], 'Hz')} "
@@ -163,7 +203,7 @@ def _signal_table(path: str, d: dict) -> str:
     rows.append(("extra edges per crossing", " / ".join(
         "n/a" if extra[k] is None else f"{extra[k]:.3g}" for k in ("upper", "lower")) + " (upper / lower)"))
     if d["unit"] != "V":
-        rows.insert(0, ("signal", f"the watched quantity, in {d['unit']}"))
+        rows.insert(0, ("signal", f"the watched quantity, in {unit}"))
     if "sweep" in d:
         sweep = d["sweep"]
         best, predicted = sweep["best_width"], sweep["predicted_best_width"]
@@ -173,11 +213,11 @@ def _signal_table(path: str, d: dict) -> str:
             f"{v(best)} in all {sweep['seeds']} noise draws (mean delay {s(sweep['best_mean_delay'])})")
         rows.append(("narrowest clean width", clean + spread))
         rows.append(("predicted (Rice)", "none in the sweep" if predicted is None else v(predicted)))
-    lines = [f"signal check  [{path}]"] + [f"  {k:<26} {val}" for k, val in rows]
+    lines = [f"signal check  [{visible_text(path)}]"] + [f"  {k:<26} {val}" for k, val in rows]
     if "filter_table" in d:
         table = d["filter_table"]
         lines.append(f"  hysteresis and filter for at most {table['false_edges_per_year']:g} false edge(s) "
-                     f"a year (slope {format_value(table['slope'], d['unit'] + '/s', 3)}):")
+                     f"a year (slope {format_value(table['slope'], unit + '/s', 3)}):")
         lines.append(f"    {'time constant':>14} {'pole':>10} {'hysteresis':>12} {'delay':>10}")
         for i, row in enumerate(table["rows"]):
             mark = "  <- least delay" if i == table["least_delay"] else ""
@@ -185,8 +225,7 @@ def _signal_table(path: str, d: dict) -> str:
             pole = "none" if row["pole"] is None else format_si(row["pole"], "Hz")
             lines.append(f"    {format_si(row['time_constant'], 's'):>14} {pole:>10} "
                          f"{v(row['hysteresis']):>12} {format_si(row['delay'], 's'):>10}{mark}{budget}")
-    lines += ["  findings:"] + [f"    - {f}" for f in d["findings"]]
-    lines += ["  model:"] + [f"    - {x}" for x in d["simplifications"]]
+    lines += _listed([("findings", d["findings"]), ("model", d["simplifications"])])
     return "\n".join(lines)
 
 
@@ -197,7 +236,7 @@ def _recording(path: str):
     try:
         return read_waveform_csv(path)
     except ValueError as exc:
-        print(f"bandcalc: {path}: {exc}", file=sys.stderr)
+        _complain(path, str(exc))
         return None
 
 
@@ -252,14 +291,15 @@ def _cmd_from_recording(args: argparse.Namespace) -> int:
     try:
         save_design(made.design, args.output)
     except OSError as exc:
-        print(f"bandcalc: {args.output}: cannot write the design ({exc.strerror})", file=sys.stderr)
+        _complain(args.output, f"cannot write the design ({exc.strerror})")
         return EXIT_BAD_INPUT
     if args.json:
         _emit_json([{"file": args.output, "steps": list(made.steps),
                      "filter_table": filter_table_to_dict(made.table),
                      "check": check_to_dict(made.check)}])
     else:
-        print(f"wrote {args.output}\n" + "\n".join(f"  {i}. {step}" for i, step in enumerate(made.steps, 1)))
+        print(visible_text(f"wrote {args.output}\n" + "\n".join(
+            f"  {i}. {step}" for i, step in enumerate(made.steps, 1)), keep_lines=True))
     return status
 
 
@@ -277,10 +317,10 @@ def _cmd_report(args: argparse.Namespace) -> int:
         try:
             Path(args.output).write_text(results[0], encoding="utf-8")
         except OSError as exc:
-            print(f"bandcalc: {args.output}: cannot write the summary ({exc.strerror})", file=sys.stderr)
+            _complain(args.output, f"cannot write the summary ({exc.strerror})")
             return EXIT_BAD_INPUT
     else:
-        print(results[0], end="")
+        print(visible_text(results[0], keep_lines=True), end="")
     return status
 def _cmd_analyze(args: argparse.Namespace) -> int:
     def work(path: str, design: Design) -> object:
@@ -288,14 +328,6 @@ def _cmd_analyze(args: argparse.Namespace) -> int:
         return {"file": path, **analysis_to_dict(a)} if args.json else _analysis_table(path, a)
 
     return _print_results(*_for_each_file(args.files, work), as_json=args.json)
-
-
-def _factor_value(f: Factor, value: float) -> str:
-    if f.unit == "degC":
-        return f"{value:g} C"
-    if f.unit == "ppm/K":
-        return f"{value:+g} ppm/K"
-    return format_si(value, f.unit, 4)
 
 
 def _window(quantity: str, low: float, high: float, unit: str) -> str:
@@ -310,12 +342,13 @@ def _short(name: str) -> str:
 
 
 def _spread_table(path: str, s: Spread) -> str:
-    v = lambda x: format_value(x, s.unit, 4)  # noqa: E731
+    unit = visible_text(s.unit)
+    v = lambda x: format_value(x, unit, 4)  # noqa: E731
     wc, mc, se = s.worst_case, s.monte_carlo, s.sensitivity
     wrap = lambda text: textwrap.fill(text, 100, initial_indent="    ", subsequent_indent="      ")  # noqa: E731
     by_name = {f.name: f for f in s.factors}
-    lines = [f"{s.design.name or '(unnamed design)'}  [{path}]", "  varied:"]
-    lines += [wrap(f"{_short(f.name)} {_factor_value(f, f.low)} to {_factor_value(f, f.high)} ({f.origin})")
+    lines = [_heading(s.design, path), "  varied:"]
+    lines += [wrap(f"{_short(f.name)} {f.format(f.low)} to {f.format(f.high)} ({f.origin})")
               for f in s.factors] or ["    nothing: every part is exact"]
     rows = [("nominal", wc.nominal), ("worst-case min", {q: getattr(wc, q).min for q in QUANTITIES}),
             ("worst-case max", {q: getattr(wc, q).max for q in QUANTITIES}),
@@ -330,24 +363,21 @@ def _spread_table(path: str, s: Spread) -> str:
     lines += [f"  {label:<18} " + " ".join(f"{v(vals[q]):>12}" for q in QUANTITIES) for label, vals in rows]
     y = mc.build_yield
     if y is not None:
-        windows = ", ".join(_window(q, lo, hi, s.unit) for q, (lo, hi) in y.windows.items())
+        windows = ", ".join(_window(q, lo, hi, unit) for q, (lo, hi) in y.windows.items())
         lines.append(wrap(f"yield: {100 * y.fraction:.3f} % of builds inside {windows} "
                           f"(95 % interval {100 * y.low:.3f} % to {100 * y.high:.3f} %)")[2:])
     lines.append(f"  worst corners ({wc.method}):")
     for q in QUANTITIES:
         for end in ("min", "max"):
             corner = getattr(getattr(wc, q), f"{end}_corner")
-            at = ", ".join(f"{_short(k)} {_factor_value(by_name[k], x)}" for k, x in corner.items())
+            at = ", ".join(f"{_short(k)} {by_name[k].format(x)}" for k, x in corner.items())
             lines.append(wrap(f"{q} {end} {v(getattr(getattr(wc, q), end))} at: {at or 'nominal'}"))
     lines.append("  largest shares of the variance (first order):")
     for q in QUANTITIES:
         top = [f"{_short(sh.factor)} {100 * sh.share:.0f} %" for sh in getattr(se, q)[:4]
                if sh.share >= 0.005]
         lines.append(wrap(f"{q}: {', '.join(top) or 'none'}"))
-    for title, items in (("notes", s.notes), ("cautions", s.cautions)):
-        if items:
-            lines.append(f"  {title}:")
-            lines += [wrap(f"- {item}") for item in items]
+    lines += _listed((("notes", s.notes), ("cautions", s.cautions)), lambda text: wrap(f"- {text}"))
     return "\n".join(lines)
 
 
@@ -390,14 +420,10 @@ def _harmonic(text: str) -> tuple[int, float]:
     return k, a
 
 
-def _count(text: str) -> int:
-    if not text.isdigit() or not 1 <= int(text) <= 50:
-        raise argparse.ArgumentTypeError(f"must be a whole number from 1 to 50, got {text!r}")
-    return int(text)
-
-
 def _seed(text: str) -> int:
-    if not text.isdigit():
+    # Digits 0-9 only: str.isdigit() also passes "²", which int() refuses, and argparse would
+    # then name this function in its message.
+    if not (text.isascii() and text.isdigit()):
         raise argparse.ArgumentTypeError(f"must be a whole number, 0 or more, got {text!r}")
     return int(text)
 
@@ -417,7 +443,7 @@ def _cmd_spread(args: argparse.Namespace) -> int:
 
 
 def _fit_table(path: str, r: FitResult, code: bool) -> str:
-    unit = r.design.unit
+    unit = visible_text(r.design.unit)
     v = lambda x: format_value(x, unit, 4)  # noqa: E731
     ohms = lambda x: format_ohms(x, code)  # noqa: E731
 
@@ -426,20 +452,36 @@ def _fit_table(path: str, r: FitResult, code: bool) -> str:
              format_value(c.worst_error, unit, 3), format_si(c.network_current, "A")]
             for i, c in enumerate(r.candidates, 1)]
     widths = [max(len(row[j]) for row in [head, *rows]) for j in range(len(head))]
-    lines = [f"{r.design.name or '(unnamed design)'}  [{path}]",
+    lines = [_heading(r.design, path),
              f"  targets   upper {v(r.upper)}, lower {v(r.lower)}",
              f"  fitting   {', '.join(r.fitted)} from {r.series}, {format_ohms(r.min_ohms, code)} to "
              f"{format_ohms(r.max_ohms, code)}"]
-    for title, items in (("cannot meet the targets exactly", r.problems), ("notes", r.notes)):
-        if items:
-            lines.append(f"  {title}:")
-            lines += [f"    - {item}" for item in items]
+    lines += _listed((("cannot meet the targets exactly", r.problems),
+                      ("not proven the best", (r.stopped,) if r.stopped else ()), ("notes", r.notes)))
     lines += ["  " + "  ".join(cell.ljust(w) for cell, w in zip(row, widths, strict=True)).rstrip()
               for row in [head, *rows]]
     if r.exact is not None:
         exact = ", ".join(f"{p} {format_ohms(r.exact.value(p), code, 4)}" for p in r.fitted)
         lines.append(f"  exact     {exact}")
     return "\n".join(lines)
+
+
+# fit's settings by the options that set them, so its messages name what the user typed.
+_FIT_OPTIONS = {"series": "--series", "min_ohms": "--min-ohms", "max_ohms": "--max-ohms", "count": "--count",
+                "fixed": "--hold "}
+
+
+def _count(most: int) -> Callable[[str], int]:
+    """An argparse type: a whole number from 1 to ``most`` (--count, --seeds), refused at once
+    outside."""
+
+    def read(text: str) -> int:
+        count = int(text) if text.isascii() and text.isdigit() and len(text) <= 6 else 0
+        if not 1 <= count <= most:
+            raise argparse.ArgumentTypeError(f"must be a whole number from 1 to {most}, got {text!r}")
+        return count
+
+    return read
 
 
 def _cmd_fit(args: argparse.Namespace) -> int:
@@ -453,7 +495,7 @@ def _cmd_fit(args: argparse.Namespace) -> int:
                 raise BandcalcError(f"--hold: write KEY=R, e.g. feedback=1M2; got {item!r}")
             fixed[key.strip()] = parse_resistance(text, f"--hold {key.strip()}")
     except ValueError as exc:
-        print(f"bandcalc: {exc}", file=sys.stderr)
+        _complain(None, str(exc))
         return EXIT_BAD_INPUT
 
     def work(path: str, design: Design) -> FitResult:
@@ -461,7 +503,7 @@ def _cmd_fit(args: argparse.Namespace) -> int:
         upper = parse_quantity(args.upper, unit, "--upper")
         lower = parse_quantity(args.lower, unit, "--lower")
         return fit(design, upper, lower, series=args.series, min_ohms=low_ohms, max_ohms=high_ohms,
-                   count=args.count, fixed=fixed, add_leg=not args.no_extra_leg)
+                   count=args.count, fixed=fixed, add_leg=not args.no_extra_leg, names=_FIT_OPTIONS)
 
     results, status = _for_each_file([args.file], work)
     if not results:
@@ -470,7 +512,7 @@ def _cmd_fit(args: argparse.Namespace) -> int:
     if args.json:
         _emit_json([{"file": args.file, **fit_to_dict(result)}])
     else:
-        print(_fit_table(args.file, result, args.code))
+        print(visible_text(_fit_table(args.file, result, args.code), keep_lines=True))
     return EXIT_BAD_INPUT if result.problems else 0
 
 
@@ -493,7 +535,8 @@ def _parser() -> argparse.ArgumentParser:
     p.add_argument("--series", default="E24", help="IEC 60063 series, E3 to E192 (default E24)")
     p.add_argument("--min-ohms", default="1k", metavar="R", help="smallest value allowed (default 1k)")
     p.add_argument("--max-ohms", default="10M", metavar="R", help="largest value allowed (default 10M)")
-    p.add_argument("--count", type=int, default=5, metavar="N", help="candidates to list (default 5)")
+    p.add_argument("--count", type=_count(MAX_COUNT), default=5, metavar="N",
+                   help=f"candidates to list, 1 to {MAX_COUNT} (default 5)")
     p.add_argument("--hold", action="append", default=[], metavar="KEY=R",
                    help="hold a resistor at a value, e.g. feedback=1M2 (repeat for more)")
     p.add_argument("--no-extra-leg", action="store_true",
@@ -506,24 +549,29 @@ def _parser() -> argparse.ArgumentParser:
     p.add_argument("file", metavar="FILE", help="design file (JSON)")
     p.add_argument("--csv", metavar="WAVE.csv", help="recorded signal: time (s) and volts columns")
     p.add_argument("--shape", default="sine", choices=["sine", "triangle", "ramp", "steps"])
-    p.add_argument("--offset", type=float, default=None, help="V (default: the design's centre)")
-    p.add_argument("--amplitude", type=float, default=None, help="V (default: the design's hysteresis)")
+    p.add_argument("--offset", type=float, default=None,
+                   help="in the design's unit, V or the watched quantity's (default: the design's centre)")
+    p.add_argument("--amplitude", type=float, default=None,
+                   help="in the design's unit (default: the design's hysteresis)")
     p.add_argument("--frequency", type=float, default=50.0, help="Hz")
     p.add_argument("--duration", type=float, default=0.1, help="s")
     p.add_argument("--rate", type=float, default=100e3,
                    help="samples per second (raised to 10 x the noise bandwidth where noise is added)")
     p.add_argument("--noise", type=float, default=None,
-                   help="Gaussian noise, V RMS (default: the design's signal settings, else none)")
+                   help="Gaussian noise, RMS, in the design's unit (default: the design's signal "
+                        "settings, else none)")
     p.add_argument("--noise-bandwidth", type=_positive("Hz"), default=None, metavar="HZ",
                    help=f"the noise is flat from 0 to here (default: the design's, else "
                         f"{DEFAULT_NOISE_BANDWIDTH:g} Hz); 10k, 2.5 kHz read too")
-    p.add_argument("--hum", type=float, default=None, help="mains hum amplitude, V (default: the design's)")
+    p.add_argument("--hum", type=float, default=None,
+                   help="mains hum amplitude (peak), in the design's unit (default: the design's)")
     p.add_argument("--hum-frequency", type=float, default=None, choices=[50.0, 60.0])
     p.add_argument("--hum-harmonic", action="append", default=[], type=_harmonic, metavar="N=V",
-                   help="a hum harmonic's amplitude, e.g. 3=0.01 (repeat for more)")
+                   help="a hum harmonic's amplitude (peak, in the design's unit), e.g. 3=0.01 "
+                        "(repeat for more)")
     p.add_argument("--seed", type=int, default=1, help="noise generator seed (runs repeat)")
     p.add_argument("--sweep", action="store_true", help="also sweep the hysteresis width")
-    p.add_argument("--seeds", type=_count, default=DEFAULT_SEEDS, metavar="N",
+    p.add_argument("--seeds", type=_count(MAX_SEEDS), default=DEFAULT_SEEDS, metavar="N",
                    help=f"noise draws the sweep runs (default {DEFAULT_SEEDS})")
     p.add_argument("--false-edges-per-year", type=_positive(""), default=None, metavar="N",
                    help="also tabulate the narrowest hysteresis for this target over filter time constants")
@@ -583,3 +631,9 @@ def main(argv: Sequence[str] | None = None) -> int:
     except BrokenPipeError:  # output piped into a reader that stopped early (| head)
         sys.stderr.close()
         return 0
+    except ValueError as exc:  # a user error outside the files (every one is a BandcalcError)
+        _complain(None, str(exc))
+        return EXIT_BAD_INPUT
+    except Exception as exc:  # noqa: BLE001 - never a traceback on the command line
+        _complain(None, f"internal error ({type(exc).__name__}: {exc}). Please report it with the command.")
+        return EXIT_BAD_INPUT

@@ -42,7 +42,7 @@ def solve(evaluate: Evaluate, log: np.ndarray, targets: tuple[float, float], sta
         The values each start reached, and the larger of its two errors (volts).
     """
     to_z = lambda v: np.where(log, np.log(np.where(log, v, 1.0)), v)  # noqa: E731
-    to_v = lambda z: np.where(log, np.exp(z), z)  # noqa: E731
+    to_v = lambda z: np.where(log, np.exp(np.where(log, z, 0.0)), z)  # noqa: E731 - exp of log ohms only
     z_lo, z_hi = to_z(low), to_z(high)
     m, k = starts.shape
 

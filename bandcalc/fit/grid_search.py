@@ -22,17 +22,34 @@ evaluations for each combination of the others, takes a bound ``t`` from the bes
 predicted values, lists every combination whose predicted errors are within ``t`` plus a
 margin, and evaluates only those with the model.  The ranking uses the model's values only;
 the predictions only choose what to evaluate.  Should a prediction ever miss the model by
-more than a quarter of the margin, the search falls back to evaluating everything.
+more than a quarter of the margin, the search falls back to evaluating everything; where that
+would not fit in what is left of its budget (rounding over ranges of ten decades and more
+gives such misses), it searches again with a margin of at least four times the miss.
+
+A budget.  The search counts the combinations it checks: each evaluated with the model and
+each predicted from the samples counts one.  It never starts a step that would take it past
+its budget (``BUDGET`` unless the caller gives another); where it would, it stops and returns
+the best combinations evaluated so far, marked not proven (``Found.proven``).  Seeds (say, the
+grid values around the exact continuous solution) are evaluated first, so a stopped search
+keeps at least those.  Before searching, :func:`search_size` estimates the work: at most every
+combination of all values but the last (the last follows from the others through a sorted
+search); on stages of four and five free values the checks made came within a factor of two
+of it.  A caller may report progress: ``progress(checked, budget)`` is called before each
+step, and may raise to stop the search (the page's Stop does).
 """
 
 from __future__ import annotations
 
+import math
 from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
 
+from bandcalc.errors import BandcalcError
+
 __all__ = [
+    "BUDGET",
     "ERROR_STEP",
     "Curve",
     "Evaluate",
@@ -40,6 +57,7 @@ __all__ = [
     "exhaustive",
     "ranking",
     "search",
+    "search_size",
 ]
 
 # Errors are compared in steps of 0.1 nV; within one step the lower current ranks first.
@@ -53,9 +71,15 @@ _DIRECT_LIMIT = 4096
 _OUTER_LIMIT = 1024
 # Model evaluations per call of the full enumeration.
 _CHUNK = 1 << 18
+# Combinations a search checks at most (evaluated or predicted): about a second or two of work
+# on one core of a shared machine (benchmarks/bench_fit.py prints the time of runs that reach it).
+BUDGET = 2_000_000
 
 Evaluate = Callable[[np.ndarray], tuple[np.ndarray, np.ndarray, np.ndarray]]
 """values (m, k) in ohms -> (upper, lower, current), each of shape (m,)."""
+
+Progress = Callable[[int, int], None]
+"""(combinations checked so far, budget); called before each step of a search; may raise to stop it."""
 
 
 @dataclass(frozen=True)
@@ -66,7 +90,42 @@ class Found:
     upper: np.ndarray
     lower: np.ndarray
     current: np.ndarray
-    evaluations: int  # model evaluations spent
+    evaluations: int  # model evaluations spent by the search that gave these values
+    checked: int  # combinations checked, evaluated or predicted: what the budget counts
+    proven: bool  # False where the search stopped at its budget: the best evaluated, not proven best
+
+
+def search_size(n: int, k: int) -> int:
+    """Combinations a search of k values over n grid values may have to check: every combination
+    of all values but the last (the last follows from the others), and the n values of one alone."""
+    return n ** max(k - 1, 1)
+
+
+class _OutOfBudget(BandcalcError):
+    """The next step would take the search past its budget; caught in the search, which then
+    returns the best found, not proven (a BandcalcError like every error class of the package)."""
+
+
+class _Budget:
+    """Combinations checked so far against the most a search may check."""
+
+    def __init__(self, limit: int | None, progress: Progress | None) -> None:
+        self.limit, self.progress, self.checked = limit, progress, 0
+
+    def left(self) -> float:
+        return math.inf if self.limit is None else self.limit - self.checked
+
+    def fits(self, count: int) -> None:
+        """Raise _OutOfBudget where ``count`` more checks would not fit."""
+        if count > self.left():
+            raise _OutOfBudget(f"the search reached its limit of {self.limit:,} combinations checked")
+
+    def spend(self, count: int) -> None:
+        """Count ``count`` checks about to be made, or raise _OutOfBudget where they do not fit."""
+        self.fits(count)
+        self.checked += count
+        if self.progress is not None and self.limit is not None:
+            self.progress(self.checked, self.limit)
 
 
 def ranking(worst: np.ndarray, current: np.ndarray) -> np.ndarray:
@@ -77,8 +136,9 @@ def ranking(worst: np.ndarray, current: np.ndarray) -> np.ndarray:
 class _Pool:
     """The best ``count`` points offered so far, plus any tied with the last of them."""
 
-    def __init__(self, grid: np.ndarray, k: int, upper: float, lower: float, count: int) -> None:
-        self.grid, self.targets, self.count = grid, (upper, lower), count
+    def __init__(self, grid: np.ndarray, k: int, upper: float, lower: float, count: int,
+                 budget: _Budget) -> None:
+        self.grid, self.targets, self.count, self.budget = grid, (upper, lower), count, budget
         self.values = np.empty((0, k))
         self.u = self.l = self.cur = np.empty(0)
         self.evaluations = 0
@@ -87,6 +147,7 @@ class _Pool:
         return np.maximum(np.abs(u - self.targets[0]), np.abs(l - self.targets[1]))
 
     def offer(self, values: np.ndarray, evaluate: Evaluate) -> tuple[np.ndarray, np.ndarray]:
+        self.budget.spend(len(values))
         u, l, cur = evaluate(values)  # noqa: E741
         self.evaluations += len(values)
         values = np.concatenate([self.values, values])
@@ -108,9 +169,10 @@ class _Pool:
             return np.inf
         return float(np.partition(self.worst(self.u, self.l), self.count - 1)[self.count - 1])
 
-    def found(self) -> Found:
+    def found(self, proven: bool = True) -> Found:
         order = ranking(self.worst(self.u, self.l), self.cur)[: self.count]
-        return Found(self.values[order], self.u[order], self.l[order], self.cur[order], self.evaluations)
+        return Found(self.values[order], self.u[order], self.l[order], self.cur[order], self.evaluations,
+                     self.budget.checked, proven)
 
 
 def _combinations(grid: np.ndarray, k: int, start: int, stop: int) -> np.ndarray:
@@ -122,12 +184,24 @@ def _combinations(grid: np.ndarray, k: int, start: int, stop: int) -> np.ndarray
 
 
 def exhaustive(evaluate: Evaluate, grid: np.ndarray, k: int, upper: float, lower: float,
-               count: int) -> Found:
-    """Evaluate every combination with the model, in blocks; the reference the search must equal."""
-    pool = _Pool(grid, k, upper, lower, count)
+               count: int, budget: int | None = None, progress: Progress | None = None) -> Found:
+    """Evaluate every combination with the model, in blocks; the reference the search must equal.
+
+    With a ``budget`` (combinations) it stops before a block that would exceed it and returns the
+    best of the blocks evaluated, not proven; without one it evaluates everything.
+    """
+    return _exhaustive(evaluate, grid, k, upper, lower, count, _Budget(budget, progress))
+
+
+def _exhaustive(evaluate: Evaluate, grid: np.ndarray, k: int, upper: float, lower: float, count: int,
+                budget: _Budget) -> Found:
+    pool = _Pool(grid, k, upper, lower, count, budget)
     total = len(grid) ** k
-    for start in range(0, total, _CHUNK):
-        pool.offer(_combinations(grid, k, start, min(total, start + _CHUNK)), evaluate)
+    try:
+        for start in range(0, total, _CHUNK):
+            pool.offer(_combinations(grid, k, start, min(total, start + _CHUNK)), evaluate)
+    except _OutOfBudget:
+        return pool.found(proven=False)
     return pool.found()
 
 
@@ -256,6 +330,7 @@ class _Branching:
             mid, last = np.meshgrid(self.xs, self.xs, indexing="ij")
             tail = np.tile(np.stack([mid.ravel(), last.ravel()], axis=1), (len(new), 1))
             pts = np.concatenate([np.repeat(self.grid[rows], 9, axis=0), tail], axis=1)
+            self.pool.budget.spend(len(pts))
             u, l, _ = self.evaluate(pts)  # noqa: E741
             self.pool.evaluations += len(pts)
             keys_all = np.concatenate([self.keys, new])
@@ -267,6 +342,7 @@ class _Branching:
 
     def curves(self, index: np.ndarray) -> tuple[Curve, Curve]:
         """Curves of both points along the last resistor at combinations ``index`` (m, k - 1)."""
+        self.pool.budget.spend(len(index))
         rows = self._rows(index[:, :-1])
         x = self.grid[index[:, -1]][:, None]
         return tuple(Curve.through(self.xs, c.take(rows).at(x)) for c in self.along_mid)
@@ -287,8 +363,9 @@ class _Branching:
             ok |= inside
         return ok
 
-    def run(self, lo: np.ndarray, hi: np.ndarray, margin: float) -> bool:
-        """Search the boxes [lo, hi] (index rows); False if a prediction missed the model."""
+    def run(self, lo: np.ndarray, hi: np.ndarray, margin: float) -> float | None:
+        """Search the boxes [lo, hi] (index rows); None, or by how much a prediction missed the model
+        where that was more than a quarter of the margin (the search then stops)."""
         grid, pool = self.grid, self.pool
         up, down = pool.targets
         while len(lo):
@@ -302,14 +379,16 @@ class _Branching:
                 j, guess = np.where(w < guess, jj, j), np.minimum(w, guess)
             best = np.argsort(guess)[: pool.count]
             u, l = pool.offer(np.column_stack([grid[lo[best]], grid[j[best]]]), self.evaluate)  # noqa: E741
-            if not np.max(np.abs(np.maximum(np.abs(u - up), np.abs(l - down)) - guess[best])) <= margin / 4:
-                return False
+            miss = float(np.max(np.abs(np.maximum(np.abs(u - up), np.abs(l - down)) - guess[best])))
+            if not miss <= margin / 4:
+                return miss
             bound = pool.bound() + margin
             single = np.all(lo == hi, axis=1)
             if single.any():
                 curves = tuple(c.take(single) for c in at_lo)
-                if not self._runs(lo[single], curves, bound, margin):
-                    return False
+                miss = self._runs(lo[single], curves, bound)
+                if not miss <= margin / 4:
+                    return miss
             lo, hi = lo[~single], hi[~single]
             if not len(lo):
                 break
@@ -330,27 +409,28 @@ class _Branching:
             lo2, hi1 = lo.copy(), hi.copy()
             hi1[rows, dim], lo2[rows, dim] = cut, cut + 1
             lo, hi = np.concatenate([lo, lo2]), np.concatenate([hi1, hi])
-        return True
+        return None
 
-    def _runs(self, index: np.ndarray, curves: tuple[Curve, Curve], bound: float, margin: float) -> bool:
-        """Evaluate each combination's run of last values within bound; False if a prediction missed."""
+    def _runs(self, index: np.ndarray, curves: tuple[Curve, Curve], bound: float) -> float:
+        """Evaluate each combination's run of last values within bound; the largest miss of a prediction."""
         (cu, cl), (up, down) = curves, self.pool.targets
         fu, lu = cu.band(self.grid, up - bound, up + bound)
         fl, ll = cl.band(self.grid, down - bound, down + bound)
         first, last = np.maximum(fu, fl), np.minimum(lu, ll)
         runs = np.maximum(last - first + 1, 0)
         if not runs.any():
-            return True
+            return 0.0
+        self.pool.budget.fits(int(runs.sum()))  # before the arrays of that size are built
         row = np.repeat(np.arange(len(runs)), runs)
         j = first[row] + np.arange(len(row)) - np.repeat(np.cumsum(runs) - runs, runs)
         x = self.grid[j]
         u, l = self.pool.offer(np.column_stack([self.grid[index[row]], x]), self.evaluate)  # noqa: E741
-        miss = max(np.max(np.abs(u - cu.take(row).at(x))), np.max(np.abs(l - cl.take(row).at(x))))
-        return bool(miss <= margin / 4)
+        return float(max(np.max(np.abs(u - cu.take(row).at(x))), np.max(np.abs(l - cl.take(row).at(x)))))
 
 
 def search(evaluate: Evaluate, grid: np.ndarray, k: int, upper: float, lower: float,
-           count: int) -> Found:
+           count: int, budget: int = BUDGET, progress: Progress | None = None,
+           seeds: np.ndarray | None = None) -> Found:
     """The best ``count`` combinations of k grid values, equal to :func:`exhaustive`.
 
     Parameters
@@ -365,11 +445,22 @@ def search(evaluate: Evaluate, grid: np.ndarray, k: int, upper: float, lower: fl
         Target switching points, volts.
     count : int
         Combinations to return, best first.
+    budget : int
+        Combinations the search may check (evaluated or predicted).  A search that would need
+        more stops before the step that would pass it and returns the best combinations it has
+        evaluated, with ``proven`` False.
+    progress : callable, optional
+        ``progress(checked, budget)`` before each step; it may raise to stop the search.
+    seeds : numpy.ndarray, optional
+        Combinations of grid values (m, k) likely to rank well, evaluated first: they tighten the
+        bound from the start, and a search stopped at its budget keeps them.  The result of a
+        search that finishes does not depend on them.
     """
     n = len(grid)
+    spent = _Budget(budget, progress)
     if k < 2 or n < 3 or n**k <= _DIRECT_LIMIT:
-        return exhaustive(evaluate, grid, k, upper, lower, count)
-    pool = _Pool(grid, k, upper, lower, count)
+        return _exhaustive(evaluate, grid, k, upper, lower, count, spent)
+    pool = _Pool(grid, k, upper, lower, count, spent)
     margin = _MARGIN * max(1.0, abs(upper), abs(lower)) + ERROR_STEP
     # Start from every combination of as many leading resistors as stay few (sampling them all at
     # once is cheaper than bisecting them, and leaves fewer corners per box); bisect the rest.
@@ -380,6 +471,17 @@ def search(evaluate: Evaluate, grid: np.ndarray, k: int, upper: float, lower: fl
         np.empty((1, 0), dtype=np.intp)
     lo = np.column_stack([starts, np.zeros((len(starts), k - 1 - lead), dtype=np.intp)])
     hi = np.column_stack([starts, np.full((len(starts), k - 1 - lead), n - 1)])
-    if not _Branching(evaluate, grid, k, pool).run(lo.astype(np.intp), hi.astype(np.intp), margin):
-        return exhaustive(evaluate, grid, k, upper, lower, count)
+    branching = _Branching(evaluate, grid, k, pool)
+    try:
+        if seeds is not None and len(seeds):
+            pool.offer(np.asarray(seeds, dtype=float), evaluate)
+        while (miss := branching.run(lo.astype(np.intp), hi.astype(np.intp), margin)) is not None:
+            # A prediction missed the model (rounding, over very wide ranges): evaluate everything
+            # where that fits in the budget left; otherwise search again with a margin of at least
+            # four times the miss (the pool keeps the combinations evaluated so far).
+            if n**k <= spent.left():
+                return _exhaustive(evaluate, grid, k, upper, lower, count, spent)
+            margin = max(2 * margin, 8 * miss)
+    except _OutOfBudget:
+        return pool.found(proven=False)
     return pool.found()

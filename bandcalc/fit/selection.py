@@ -6,6 +6,13 @@ values.  The fit chooses which resistors are free, adds a + pin leg where the st
 cannot place both points, finds the exact continuous solution, and lists the best standard
 values, ranked by the larger of the two errors (ties: lower network current).
 
+Every fit answers within seconds or refuses at once: before searching, the number of
+combinations the search may have to check is estimated from the grid's size and the number of
+free values (:func:`bandcalc.fit.grid_search.search_size`); beyond ten times the search's budget
+the fit refuses and says what would help (hold values, narrow the range, a coarser series).
+Otherwise the search runs with its budget and, where it reaches it, the candidates are the best
+it found, marked not proven (``FitResult.stopped``).
+
 Every number reported comes from the general model (:func:`bandcalc.model.network.switching_points`),
 so open-drain loading, offset, bias current and source resistance are always included.
 """
@@ -20,7 +27,7 @@ import numpy as np
 
 from bandcalc.errors import BandcalcError
 from bandcalc.fit.exact import solve
-from bandcalc.fit.grid_search import Evaluate, search
+from bandcalc.fit.grid_search import BUDGET, Evaluate, Progress, search, search_size
 from bandcalc.model.design import (
     RESISTOR_KEYS,
     Design,
@@ -32,11 +39,12 @@ from bandcalc.model.design import (
 )
 from bandcalc.model.network import Points, signal_path, switching_points
 from bandcalc.model.parts import parameters, part, value_at, with_values
-from bandcalc.model.points import design_points, stage_design, stage_targets
-from bandcalc.model.standard_values import EseriesError, series_values
+from bandcalc.model.points import design_points, input_range, stage_design, stage_targets
+from bandcalc.model.standard_values import SERIES, EseriesError, series_values
 from bandcalc.model.units import UnitError, format_si, format_value, parse_resistance
 
 __all__ = [
+    "MAX_COUNT",
     "Candidate",
     "FitError",
     "FitResult",
@@ -49,6 +57,11 @@ __all__ = [
 # Both points within this many volts (relative to the larger target, at least 1 V) count as exact.
 _EXACT = 1e-9
 _WIDE = (1e-3, 1e15)  # ohms: the bounds of "any value at all" when explaining a failure
+# Candidates a fit lists at most.
+MAX_COUNT = 100
+# A search estimated at more than this many times its budget is refused before it starts: it
+# would stop having checked only a small part of what it may have to.
+_REFUSE_BEYOND = 10
 
 
 class FitError(BandcalcError):
@@ -95,6 +108,8 @@ class FitResult:
     added_leg: str | None
     notes: tuple[str, ...]
     problems: tuple[str, ...]  # why the targets cannot be met exactly, and what would help
+    checked: int  # combinations the search checked (evaluated with the model or predicted)
+    stopped: str | None  # None, or why the candidates are the best found, not proven the best
 
 
 def _ohms(value: float, digits: int = 3) -> str:
@@ -182,18 +197,20 @@ def _is_number(value: object) -> bool:
     return isinstance(value, (int, float)) and not isinstance(value, bool) and math.isfinite(value)
 
 
-def _grid(series: str, min_ohms: float, max_ohms: float) -> np.ndarray:
+def _grid(series: str, min_ohms: float, max_ohms: float, named: Mapping[str, str]) -> np.ndarray:
     for key, value in (("min_ohms", min_ohms), ("max_ohms", max_ohms)):
         if not _is_number(value) or value <= 0:
-            raise FitError(f"{key}: must be a positive number of ohms, got {value!r}")
+            raise FitError(f"{named[key]}: must be a positive number of ohms, got {value!r}")
     if min_ohms >= max_ohms:
-        raise FitError(f"min_ohms ({_ohms(min_ohms)}) must be below max_ohms ({_ohms(max_ohms)})")
+        raise FitError(f"{named['min_ohms']} ({_ohms(min_ohms)}) must be below {named['max_ohms']} "
+                       f"({_ohms(max_ohms)})")
     try:
         grid = series_values(series, min_ohms, max_ohms)
     except EseriesError as exc:
-        raise FitError(f"series: {exc}") from None
+        raise FitError(f"{named['series']}: {exc}") from None
     if not len(grid):
-        raise FitError(f"series: no {series} value lies between {_ohms(min_ohms)} and {_ohms(max_ohms)}")
+        raise FitError(f"{named['series']}: no {series} value lies between {_ohms(min_ohms)} and "
+                       f"{_ohms(max_ohms)}")
     return grid
 
 
@@ -215,18 +232,26 @@ def _check_order(upper: float, lower: float, unit: str) -> None:
                        "point, a falling one at the lower")
 
 
-def _check_targets(design: Design, upper: float, lower: float) -> None:
-    """The stage's own targets (volts at its source) against what the stage can see and do."""
-    _check_order(upper, lower, "V")
-    low, high = design.signal_range()
+def _check_range(design: Design, upper: float, lower: float) -> None:
+    """Targets in the design's unit against the range its input reaches, naming the key that sets
+    it: ``front_end.low`` / ``high`` with a front end, ``source.low`` / ``high`` without one."""
+    low, high = input_range(design)
+    q = lambda x: format_value(x, design.unit, 4)  # noqa: E731
+    if design.front_end is None:
+        key, reach, signal, it = "source", "signal the stage can see", "signal", "the signal"
+    else:
+        key, reach, signal, it = "front_end", "value the front end watches", "input", "it"
     if upper > high:
-        raise FitError(f"the upper point {_volts(upper)} is above the highest signal the stage can see "
-                       f"({_volts(high)}); a rising signal would never reach it (set source.high if the "
-                       "signal goes higher)")
+        raise FitError(f"the upper point {q(upper)} is above the highest {reach} ({q(high)}); a rising "
+                       f"{signal} would never reach it (set {key}.high if {it} goes higher)")
     if lower < low:
-        raise FitError(f"the lower point {_volts(lower)} is below the lowest signal the stage can see "
-                       f"({_volts(low)}); a falling signal would never reach it (set source.low if the "
-                       "signal goes lower)")
+        raise FitError(f"the lower point {q(lower)} is below the lowest {reach} ({q(low)}); a falling "
+                       f"{signal} would never reach it (set {key}.low if {it} goes lower)")
+
+
+def _check_targets(design: Design, upper: float, lower: float) -> None:
+    """The stage's own targets (volts at its source) against what the stage can do."""
+    _check_order(upper, lower, "V")
     if design.inverting:
         out_high, out_low = _output_levels(design)
         if upper - lower >= out_high - out_low:
@@ -236,20 +261,21 @@ def _check_targets(design: Design, upper: float, lower: float) -> None:
                            "output swing (higher rails or pull-up supply)")
 
 
-def _held(design: Design, fixed: Mapping[str, float | str]) -> dict[str, float]:
+def _held(design: Design, fixed: Mapping[str, float | str], named: Mapping[str, str]) -> dict[str, float]:
     """Held values by parameter name; keys may be positions ("feedback") or paths ("resistors.feedback")."""
     allowed = _positions(design) + (["input"] if design.inverting and design.resistors.input else [])
     out = {}
     for key, value in fixed.items():
         position = str(key).removeprefix("resistors.")
+        where = f"{named['fixed']}{key}"
         if position not in allowed:
-            raise FitError(f"fixed.{key}: not a resistor of this design; allowed: {', '.join(allowed)}")
+            raise FitError(f"{where}: not a resistor of this design; allowed: {', '.join(allowed)}")
         try:
-            ohms = parse_resistance(value, f"fixed.{key}")
+            ohms = parse_resistance(value, where)
         except UnitError as exc:
             raise FitError(str(exc)) from None
         if ohms <= 0:
-            raise FitError(f"fixed.{key}: must be greater than zero, got {value!r}")
+            raise FitError(f"{where}: must be greater than zero, got {value!r}")
         out[part(position).path] = ohms
     return out
 
@@ -314,6 +340,36 @@ def _names(params: list[str]) -> str:
     return names[0] if len(names) == 1 else f"{', '.join(names[:-1])} and {names[-1]}"
 
 
+_WHAT_HELPS = "hold a value, narrow the range or use a coarser series"
+
+
+def _check_size(params: list[str], grid: np.ndarray, series: str, bounds: tuple[float, float], budget: int,
+                added: str | None = None) -> None:
+    """Refuse, saying what would help, a search too large to finish within ten times its budget."""
+    n, k, limit = len(grid), len(params), _REFUSE_BEYOND * budget
+    size = search_size(n, k)
+    if size <= limit:
+        return
+    leg = ", a leg the fit added to place both points" if added else ""
+    helps = []
+    hold = next((h for h in range(1, k) if search_size(n, k - h) <= limit), None)
+    if hold is not None:
+        helps.append(f"hold {hold} of them at a given value")
+    most = next(m for m in range(n, 0, -1) if search_size(m, k) <= limit)
+    decades = f" (about {most / len(SERIES[series]):.2g} decades)" if most > 1 else ""
+    helps.append(f"narrow the range to at most {most:,} {series} values{decades}" if most > 1
+                 else "narrow the range")
+    order = list(SERIES)
+    coarser = [e for e in order[:order.index(series)]
+               if search_size(len(series_values(e, *bounds)), k) <= limit]
+    helps.append(f"use a coarser series ({coarser[-1]} or coarser)" if coarser else "use a coarser series")
+    raise FitError(f"too many combinations to search: {k} free values ({_names(params)}{leg}), each one "
+                   f"of {n:,} {series} values from {_ohms(bounds[0])} to {_ohms(bounds[1])}; the search may "
+                   f"have to check about {size:,} combinations of all but one of them, more than "
+                   f"{_REFUSE_BEYOND} times its limit of {budget:,} (a few seconds of work). To search, "
+                   f"{', '.join(helps[:-1])} or {helps[-1]}")
+
+
 def _standing_notes(design: Design, held: Mapping[str, float]) -> list[str]:
     notes = []
     if held:
@@ -364,6 +420,13 @@ def _leg_options(design: Design, params: list[str], targets: tuple[float, float]
     return []
 
 
+def _neighbours(grid: np.ndarray, values: np.ndarray) -> np.ndarray:
+    """Every combination of the grid values next below and next above each value: (2**k, k)."""
+    at = np.clip(np.searchsorted(grid, values), 1, len(grid) - 1)
+    pairs = np.stack([grid[at - 1], grid[at]], axis=1)  # (k, 2)
+    return np.stack(np.meshgrid(*pairs, indexing="ij"), axis=-1).reshape(-1, len(values))
+
+
 def _search_order(design: Design, params: list[str], values: np.ndarray) -> np.ndarray:
     """Positions by falling sensitivity of the points (per relative change) at the given values."""
     step = np.exp(np.eye(len(params)) * 1e-3)
@@ -386,7 +449,8 @@ def _offset_gain(design: Design, params: list[str], values: np.ndarray) -> float
 
 def fit(design: Design, upper: float, lower: float, *, series: str = "E24", min_ohms: float = 1e3,
         max_ohms: float = 10e6, count: int = 5, fixed: Mapping[str, float | str] | None = None,
-        add_leg: bool = True) -> FitResult:
+        add_leg: bool = True, names: Mapping[str, str] | None = None, budget: int = BUDGET,
+        progress: Progress | None = None) -> FitResult:
     """Standard resistor values that place the switching points at ``upper`` and ``lower``.
 
     Targets are in the design's unit: volts of the signal's open-circuit voltage or, for a design
@@ -403,13 +467,23 @@ def fit(design: Design, upper: float, lower: float, *, series: str = "E24", min_
     min_ohms, max_ohms : float
         Allowed range for every fitted resistor, ohms.
     count : int
-        Candidates to return, best first.
+        Candidates to return, best first: 1 to ``MAX_COUNT``.
     fixed : mapping, optional
         Resistors to hold at a given value (ohms or text such as "1M2"), by design-file key
         ("feedback", "input", "to_ground", ..., "reference.top", "reference.bottom").
     add_leg : bool
         Allow the fit to add a leg from the + pin to ground, a rail or the reference when the
         stage as drawn cannot place both points.
+    names : mapping, optional
+        What the caller's user calls a setting, for the messages: ``series``, ``min_ohms``,
+        ``max_ohms``, ``count``, and ``fixed`` the words before a held resistor's key (the
+        command line passes ``{"min_ohms": "--min-ohms", "fixed": "--hold ", ...}``).
+    budget : int
+        Combinations the search may check (:func:`bandcalc.fit.grid_search.search`).  A search
+        estimated at more than ten times as many is refused before it starts; one that reaches
+        the budget returns the best it found, with ``stopped`` saying they are not proven best.
+    progress : callable, optional
+        ``progress(checked, budget)`` before each step of the search; it may raise to stop it.
 
     Returns
     -------
@@ -421,27 +495,35 @@ def fit(design: Design, upper: float, lower: float, *, series: str = "E24", min_
     Raises
     ------
     FitError
-        Settings that cannot be used, or targets no resistor values can meet; the message says
-        why and what would make them possible.
+        Settings that cannot be used, targets no resistor values can meet, or a search too large
+        to answer within seconds; the message says why and what would help.
     """
-    if not isinstance(count, int) or isinstance(count, bool) or count < 1:
-        raise FitError(f"count: must be a whole number of 1 or more, got {count!r}")
-    settings = dict(series=series, min_ohms=min_ohms, max_ohms=max_ohms, fixed=fixed, add_leg=add_leg)
+    named = {"series": "series", "min_ohms": "min_ohms", "max_ohms": "max_ohms", "count": "count",
+             "fixed": "fixed."} | dict(names or {})
+    if not isinstance(count, int) or isinstance(count, bool) or not 1 <= count <= MAX_COUNT:
+        raise FitError(f"{named['count']}: must be a whole number from 1 to {MAX_COUNT}, got {count!r}")
+    if not isinstance(budget, int) or isinstance(budget, bool) or budget < 1:
+        raise FitError(f"budget: must be a whole number of 1 or more, got {budget!r}")
+    settings = dict(series=series, min_ohms=min_ohms, max_ohms=max_ohms, fixed=fixed, add_leg=add_leg,
+                    named=named, budget=budget, progress=progress)
     return _fit_through_input(design, upper, lower, count, settings)
 
 
 def _fit_stage(design: Design, upper: float, lower: float, count: int, *, series: str, min_ohms: float,
-               max_ohms: float, fixed: Mapping[str, float | str] | None, add_leg: bool) -> FitResult:
+               max_ohms: float, fixed: Mapping[str, float | str] | None, add_leg: bool,
+               named: Mapping[str, str], budget: int, progress: Progress | None) -> FitResult:
     """The fit of a stage without a front end (targets in volts at its signal source)."""
-    grid = _grid(series, min_ohms, max_ohms)
+    grid = _grid(series, min_ohms, max_ohms, named)
+    series = series.strip().upper()
     _check_targets(design, upper, lower)
-    held = _held(design, fixed or {})
+    held = _held(design, fixed or {}, named)
     base = with_values(design, held)
     targets, bounds = (float(upper), float(lower)), (float(min_ohms), float(max_ohms))
     params = [part(p).path for p in _positions(base) if part(p).path not in held]
     if not params:
         raise FitError("nothing to fit: every resistor of the stage is held; free at least one "
                        f"of {', '.join(_positions(base))}")
+    _check_size(params, grid, series, bounds, budget)
     notes, problems = _standing_notes(base, held), []
     solution = _exact(base, params, targets, bounds, _starts(base, params, bounds))
     added = None
@@ -462,11 +544,21 @@ def _fit_stage(design: Design, upper: float, lower: float, count: int, *, series
                 problems.append(f"A resistor from the + pin to {part(options[0][0]).far_end} would make it "
                                 "possible; the fit adds one unless told not to.")
             problems.append("The candidates are the closest the stage comes.")
+    if added:
+        _check_size(params, grid, series, bounds, budget, added)
     # Search with the resistors the points are most sensitive to outermost (much faster; the
-    # answer does not depend on the order), and report in the design's own order.
+    # answer does not depend on the order), and report in the design's own order; the standard
+    # values around the exact solution first.
     start = solution if solution is not None else _starts(base, params, bounds)[0]
     order = _search_order(base, params, start)
-    found = search(_evaluator(base, [params[i] for i in order]), grid, len(params), *targets, count)
+    found = search(_evaluator(base, [params[i] for i in order]), grid, len(params), *targets, count,
+                   budget=budget, progress=progress, seeds=_neighbours(grid, start)[:, order])
+    if not len(found.values):
+        raise FitError(f"the search reached its limit of {budget:,} combinations checked before it "
+                       f"evaluated any candidate: {_WHAT_HELPS}")
+    stopped = None if found.proven else (
+        f"The search stopped at its limit of {budget:,} combinations checked: the candidates are the best it "
+        f"found, not proven the best. For a proven ranking {_WHAT_HELPS}.")
     found = replace(found, values=found.values[:, np.argsort(order)])
     candidates = tuple(_candidate(base, params, found.values[i], targets,
                                   (found.upper[i], found.lower[i], found.current[i]))
@@ -478,10 +570,10 @@ def _fit_stage(design: Design, upper: float, lower: float, count: int, *, series
         if len(params) > 2:
             notes.append(f"With {len(params)} free values the exact solutions form a family; the one shown "
                          "is the nearest to the best candidate.")
-    return FitResult(design=base, upper=targets[0], lower=targets[1], series=series.strip().upper(),
+    return FitResult(design=base, upper=targets[0], lower=targets[1], series=series,
                      min_ohms=bounds[0], max_ohms=bounds[1], fitted=tuple(part(p).key for p in params),
                      candidates=candidates, exact=exact, added_leg=added, notes=tuple(notes),
-                     problems=tuple(problems))
+                     problems=tuple(problems), checked=found.checked, stopped=stopped)
 
 
 # With a thermistor the stage's source resistance differs a little between the two target
@@ -501,6 +593,7 @@ def _fit_through_input(design: Design, upper: float, lower: float, count: int, s
     """
     unit = design.unit
     _check_order(upper, lower, unit)
+    _check_range(design, upper, lower)
     try:
         t = stage_targets(design, upper, lower)
         stage = stage_design(design, 0.5 * (upper + lower))
@@ -551,9 +644,11 @@ def candidate_to_dict(c: Candidate) -> dict:
 
 
 def fit_to_dict(r: FitResult) -> dict:
-    """JSON shape of a fit: candidates best first, the exact solution, notes and problems."""
+    """JSON shape of a fit: candidates best first, the exact solution, notes and problems, and
+    whether the ranking is proven (``stopped`` says why not, else null)."""
     return {"targets": {"upper": r.upper, "lower": r.lower}, "series": r.series,
             "min_ohms": r.min_ohms, "max_ohms": r.max_ohms, "fitted": list(r.fitted),
             "added_leg": r.added_leg, "candidates": [candidate_to_dict(c) for c in r.candidates],
             "exact": None if r.exact is None else candidate_to_dict(r.exact),
-            "notes": list(r.notes), "problems": list(r.problems)}
+            "notes": list(r.notes), "problems": list(r.problems), "checked": r.checked,
+            "proven": r.stopped is None, "stopped": r.stopped}

@@ -2,5 +2,6 @@
 
 Start at ``design`` (the frozen record a user edits), ``design_file`` (its JSON), ``parts``
 (every part by its design-file path), ``network`` (the summing-node solution) and ``points``
-(the switching points in the design's own unit, through any front end).
+(the switching points in the design's own unit, through any front end); ``operating`` analyses
+one design, with ``range_checks`` over the whole range its input reaches.
 """

@@ -11,11 +11,22 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any
 
-from bandcalc.errors import DesignError
-from bandcalc.model.validation import finite, not_negative, positive
+from bandcalc.errors import DesignError, shown
+from bandcalc.model.validation import (
+    AMPS,
+    FARADS,
+    SECONDS,
+    SLEW_RATE,
+    positive,
+    resistance,
+    text,
+    voltage,
+    within,
+)
 
 if TYPE_CHECKING:
     from bandcalc.model.front_end import FrontEnd
+    from bandcalc.model.ratings import Ratings
     from bandcalc.model.signal_settings import SignalSettings
     from bandcalc.model.tolerances import Tolerances
 
@@ -30,6 +41,7 @@ __all__ = [
     "DividerReference",
     "FixedReference",
     "InputFilter",
+    "Load",
     "OpenDrain",
     "PushPull",
     "Resistors",
@@ -52,8 +64,8 @@ class Supply:
     negative: float = 0.0
 
     def __post_init__(self) -> None:
-        finite(self.positive, "supply.positive")
-        finite(self.negative, "supply.negative")
+        voltage(self.positive, "supply.positive")
+        voltage(self.negative, "supply.negative")
         if self.positive <= self.negative:
             raise DesignError(f"supply: the positive rail ({self.positive} V) must be above the "
                               f"negative rail ({self.negative} V)")
@@ -70,7 +82,7 @@ class FixedReference:
     volts: float
 
     def __post_init__(self) -> None:
-        finite(self.volts, "reference.volts")
+        voltage(self.volts, "reference.volts")
 
 
 @dataclass(frozen=True)
@@ -81,8 +93,8 @@ class DividerReference:
     bottom: float
 
     def __post_init__(self) -> None:
-        positive(self.top, "reference.divider.top")
-        positive(self.bottom, "reference.divider.bottom")
+        resistance(self.top, "reference.divider.top")
+        resistance(self.bottom, "reference.divider.bottom")
 
 
 def divider_thevenin(top: Any, bottom: Any, positive: Any, negative: Any) -> tuple[Any, Any]:
@@ -102,10 +114,12 @@ class Resistors:
     to_reference: float | None = None
 
     def __post_init__(self) -> None:
+        if self.feedback is None:
+            raise DesignError("resistors.feedback: required; every stage has a feedback resistor")
         for key in RESISTOR_KEYS:
             value = getattr(self, key)
             if value is not None:
-                positive(value, f"resistors.{key}")
+                resistance(value, f"resistors.{key}")
 
     def present(self) -> dict[str, float]:
         """The fitted positions and their values, in the order of RESISTOR_KEYS."""
@@ -124,8 +138,10 @@ class PushPull:
     kind = "push-pull"
 
     def __post_init__(self) -> None:
-        for key in ("high_drop", "low_drop", "resistance", "load_capacitance"):
-            not_negative(getattr(self, key), f"output.{key}")
+        for key in ("high_drop", "low_drop"):
+            voltage(getattr(self, key), f"output.{key}", low=0.0)
+        resistance(self.resistance, "output.resistance", zero=True)
+        within(self.load_capacitance, "output.load_capacitance", 0.0, FARADS, "F")
 
 
 @dataclass(frozen=True)
@@ -144,19 +160,51 @@ class OpenDrain:
     kind = "open-drain"
 
     def __post_init__(self) -> None:
-        positive(self.pullup, "output.pullup")
+        resistance(self.pullup, "output.pullup")
         if self.pullup_volts is not None:
-            finite(self.pullup_volts, "output.pullup_volts")
+            voltage(self.pullup_volts, "output.pullup_volts")
         if self.low_volts is not None:
-            finite(self.low_volts, "output.low_volts")
-        not_negative(self.load_capacitance, "output.load_capacitance")
+            voltage(self.low_volts, "output.low_volts")
+        within(self.load_capacitance, "output.load_capacitance", 0.0, FARADS, "F")
+
+
+@dataclass(frozen=True)
+class Load:
+    """What the output drives: a DC load and the receiving input's logic thresholds.
+
+    ``resistance`` (ohms) runs from the output to ``volts`` (default 0 V, ground); it is part of the
+    network, so it moves the output levels and with them the switching points.  ``logic_low_max``
+    is the highest voltage the receiving input still reads as low, ``logic_high_min`` the lowest it
+    reads as high (its data sheet's input thresholds).  Each is optional.
+    """
+
+    resistance: float | None = None
+    volts: float = 0.0
+    logic_low_max: float | None = None
+    logic_high_min: float | None = None
+
+    def __post_init__(self) -> None:
+        if self.resistance is not None:
+            resistance(self.resistance, "load.resistance")
+        voltage(self.volts, "load.volts")
+        for key in ("logic_low_max", "logic_high_min"):
+            if getattr(self, key) is not None:
+                voltage(getattr(self, key), f"load.{key}")
+        if (self.logic_low_max is not None and self.logic_high_min is not None
+                and self.logic_low_max >= self.logic_high_min):
+            raise DesignError(f"load: logic_low_max ({self.logic_low_max} V) must be below "
+                              f"logic_high_min ({self.logic_high_min} V)")
 
 
 @dataclass(frozen=True)
 class Comparator:
-    """The comparator's input errors, optional common-mode input range and its timing.
+    """The comparator's input errors, its input limits and its timing.
 
     The stage switches where V+ - V- = offset; ``bias_current`` flows into each input pin.
+    ``common_mode_low`` / ``common_mode_high`` bound the input voltage range over which the part
+    works as specified; ``input_current_limit`` (A) is the most its input protection may carry
+    (None: :data:`bandcalc.model.range_checks.INPUT_CURRENT_LIMIT`); ``differential_max`` (V) the
+    largest difference between the pins it takes (None: not checked).
     ``delay`` is the propagation delay as the data sheet gives it, at an input overdrive of
     ``delay_overdrive`` volts (None: not stated).  An op-amp used as a comparator moves its output
     at most ``slew_rate`` (V/s) and needs ``recovery`` (s) to come out of saturation (None: a
@@ -168,22 +216,29 @@ class Comparator:
     common_mode_low: float | None = None
     common_mode_high: float | None = None
     delay: float = 0.0
+    input_current_limit: float | None = None
+    differential_max: float | None = None
     delay_overdrive: float | None = None
     slew_rate: float | None = None
     recovery: float | None = None
 
     def __post_init__(self) -> None:
-        finite(self.offset, "comparator.offset")
-        finite(self.bias_current, "comparator.bias_current")
-        not_negative(self.delay, "comparator.delay")
-        for key in ("delay_overdrive", "slew_rate"):
-            if getattr(self, key) is not None:
-                positive(getattr(self, key), f"comparator.{key}")
+        voltage(self.offset, "comparator.offset")
+        within(self.bias_current, "comparator.bias_current", -AMPS, AMPS, "A")
+        within(self.delay, "comparator.delay", 0.0, SECONDS, "s")
+        if self.input_current_limit is not None:
+            within(self.input_current_limit, "comparator.input_current_limit", 1e-9, AMPS, "A")
+        if self.differential_max is not None:
+            voltage(self.differential_max, "comparator.differential_max", low=1e-3)
+        if self.delay_overdrive is not None:
+            voltage(self.delay_overdrive, "comparator.delay_overdrive", low=1e-6)
+        if self.slew_rate is not None:
+            within(self.slew_rate, "comparator.slew_rate", SLEW_RATE[0], SLEW_RATE[1], "V/s")
         if self.recovery is not None:
-            not_negative(self.recovery, "comparator.recovery")
+            within(self.recovery, "comparator.recovery", 0.0, SECONDS, "s")
         for key in ("common_mode_low", "common_mode_high"):
             if getattr(self, key) is not None:
-                finite(getattr(self, key), f"comparator.{key}")
+                voltage(getattr(self, key), f"comparator.{key}")
         if (self.common_mode_low is not None and self.common_mode_high is not None
                 and self.common_mode_low >= self.common_mode_high):
             raise DesignError("comparator: common_mode_low must be below common_mode_high")
@@ -201,10 +256,10 @@ class Source:
     high: float | None = None
 
     def __post_init__(self) -> None:
-        not_negative(self.resistance, "source.resistance")
+        resistance(self.resistance, "source.resistance", zero=True)
         for key in ("low", "high"):
             if getattr(self, key) is not None:
-                finite(getattr(self, key), f"source.{key}")
+                voltage(getattr(self, key), f"source.{key}")
         if self.low is not None and self.high is not None and self.low >= self.high:
             raise DesignError("source: low must be below high")
 
@@ -222,8 +277,9 @@ class InputFilter:
     capacitance: float
 
     def __post_init__(self) -> None:
-        not_negative(self.resistance, "filter.resistance")
+        resistance(self.resistance, "filter.resistance", zero=True)
         positive(self.capacitance, "filter.capacitance")
+        within(self.capacitance, "filter.capacitance", 0.0, FARADS, "F")
 
 
 @dataclass(frozen=True)
@@ -244,10 +300,17 @@ class Design:
     protective: bool | None = None  # guards people or property; None: judged from name and notes
     filter: InputFilter | None = None  # an RC low-pass ahead of the stage; None: none
     signal: SignalSettings | None = None  # noise, hum and slope the signal brings; None: not given
+    load: Load | None = None  # what the output drives; None: nothing but the network
+    ratings: Ratings | None = None  # resistor ratings (bandcalc.model.ratings); None: the default size
 
     def __post_init__(self) -> None:
+        text(self.name, "name")
+        text(self.notes, "notes")
+        if not (self.protective is None or self.protective is True or self.protective is False):
+            raise DesignError("protective: must be true or false (or left out), "
+                              f"got {shown(self.protective)}")
         if self.stage not in STAGES:
-            raise DesignError(f"stage: {self.stage!r} is not a stage kind; allowed: {', '.join(STAGES)}")
+            raise DesignError(f"stage: {shown(self.stage)} is not a stage kind; allowed: {', '.join(STAGES)}")
         if self.stage == "non-inverting" and self.resistors.input is None:
             raise DesignError("resistors.input: the non-inverting stage needs an input resistor "
                               "from the signal to the + pin")

@@ -24,6 +24,7 @@ parts, their models and their design-file section; :mod:`bandcalc.model.points` 
 
 from __future__ import annotations
 
+import math
 from collections.abc import Mapping
 from dataclasses import MISSING, dataclass, fields
 from typing import Any, ClassVar
@@ -40,8 +41,19 @@ from bandcalc.model.thermistor import (
     steinhart_hart_resistance,
     steinhart_hart_temperature,
 )
-from bandcalc.model.units import UnitError, parse_quantity, parse_resistance
-from bandcalc.model.validation import finite, positive, section
+from bandcalc.model.units import UnitError, format_value, parse_quantity, parse_resistance
+from bandcalc.model.validation import (
+    CELSIUS,
+    OHMS,
+    VOLTS,
+    finite,
+    positive,
+    resistance,
+    section,
+    text,
+    voltage,
+    within,
+)
 
 __all__ = [
     "DISSIPATION_CONSTANT",
@@ -70,14 +82,28 @@ SELF_HEATING_LIMIT = 0.1
 # Default watched range of a thermistor, C: the -55 to +150 C that NTC parts are commonly
 # rated over (common practice); give front_end.low / high for the application's own range.
 THERMISTOR_RANGE = (-55.0, 150.0)
+# NTC thermistors have Betas of about 2,000 to 5,000 K (common practice); 100 K to 20,000 K
+# refuses only slips of the finger (1.3e7 for 3950).
+BETA = (100.0, 20e3)
+# Dissipation constants run from about 1 mW/K (a bead in still air) to some tens of mW/K (a probe
+# in a liquid; common practice); 1 uW/K to 10 W/K refuses only slips of the finger.
+DISSIPATION = (1e-6, 10.0)
+# A linear sensor's output moves by microvolts (a thermocouple, tens of uV/K) to volts per unit
+# of what it watches (common practice); 1 nV to 1 MV per unit refuses only slips of the finger.
+VOLTS_PER_UNIT = (1e-9, 1e6)
+# Where in the watched range a thermistor's curve is checked when the design is built (0: low end).
+_CURVE_GRID = np.linspace(0.0, 1.0, 9)
 
 
 # --- the front ends -----------------------------------------------------------------------------
 
-def _range_checked(low: float | None, high: float | None) -> None:
+def _range_checked(low: float | None, high: float | None, bounds: tuple[float, float] | None = None,
+                   unit: str = "") -> None:
     for key, value in (("low", low), ("high", high)):
         if value is not None:
             finite(value, f"front_end.{key}")
+            if bounds is not None and value > bounds[0]:  # at the lower bound: the caller's message
+                within(value, f"front_end.{key}", *bounds, unit)
     if low is not None and high is not None and low >= high:
         raise DesignError(f"front_end: low ({low}) must be below high ({high})")
 
@@ -110,6 +136,12 @@ class _Base:
             if getattr(design.source, key) is not None:
                 raise DesignError(f"source.{key}: with a front end, give the range of the watched "
                                   f"quantity as front_end.low / front_end.high instead")
+        total = design.source.resistance + self.series_ohms()
+        if total > OHMS[1]:
+            raise DesignError(f"source.resistance: {format_value(design.source.resistance, 'Ohm')} plus the "
+                              f"front end's own up to {format_value(self.series_ohms(), 'Ohm')} puts "
+                              f"{format_value(total, 'Ohm')} ahead of the stage, where a part has at most "
+                              f"{format_value(OHMS[1], 'Ohm')}")
 
 
 @dataclass(frozen=True)
@@ -130,15 +162,18 @@ class DividerFrontEnd(_Base):
     affine: ClassVar[bool] = True  # fixed resistance: the switching condition is affine in x
 
     def __post_init__(self) -> None:
-        positive(self.top, "front_end.top")
-        positive(self.bottom, "front_end.bottom")
-        _range_checked(self.low, self.high)
+        resistance(self.top, "front_end.top")
+        resistance(self.bottom, "front_end.bottom")
+        _range_checked(self.low, self.high, (-VOLTS, VOLTS), "V")
 
     def parameters(self) -> dict[str, float]:
         return {"front_end.top": self.top, "front_end.bottom": self.bottom}
 
     def resistors(self) -> dict[str, float]:
         return self.parameters()
+
+    def series_ohms(self) -> float:
+        return self.top * self.bottom / (self.top + self.bottom)
 
     def ends(self, p: Mapping[str, ArrayLike]) -> tuple[ArrayLike, ...]:
         """(V0, V1, R0, R1): the Thevenin equivalent at coordinate 0 and 1 (here, volts watched)."""
@@ -170,13 +205,23 @@ class LinearFrontEnd(_Base):
         finite(self.volts_per_unit, "front_end.volts_per_unit")
         if self.volts_per_unit == 0:
             raise DesignError("front_end.volts_per_unit: must not be zero")
-        finite(self.offset, "front_end.offset")
-        finite(self.resistance, "front_end.resistance")
-        if self.resistance < 0:
-            raise DesignError(f"front_end.resistance: must be zero or more, got {self.resistance!r}")
-        if not isinstance(self.unit, str) or not self.unit.strip():
+        if not VOLTS_PER_UNIT[0] <= abs(self.volts_per_unit) <= VOLTS_PER_UNIT[1]:
+            low, high = (format_value(v, "V") for v in VOLTS_PER_UNIT)
+            raise DesignError(f"front_end.volts_per_unit: must be from {low} to {high} per unit, "
+                              f"either sign, got {self.volts_per_unit:g}")
+        voltage(self.offset, "front_end.offset")
+        resistance(self.resistance, "front_end.resistance", zero=True)
+        text(self.unit, "front_end.unit")
+        if not self.unit.strip():
             raise DesignError("front_end.unit: give the watched quantity's unit as text, e.g. \"kPa\"")
         _range_checked(self.low, self.high)
+        for key in ("low", "high"):
+            x = getattr(self, key)
+            volts = None if x is None else self.offset + self.volts_per_unit * x
+            if volts is not None and not -VOLTS <= volts <= VOLTS:
+                span = f"{format_value(-VOLTS, 'V')} to {format_value(VOLTS, 'V')}"
+                raise DesignError(f"front_end.{key}: the sensor would give {format_value(volts, 'V')} there; "
+                                  f"it must stay from {span}")
 
     @property
     def rises(self) -> bool:
@@ -185,6 +230,9 @@ class LinearFrontEnd(_Base):
     def parameters(self) -> dict[str, float]:
         return {"front_end.volts_per_unit": self.volts_per_unit, "front_end.offset": self.offset,
                 "front_end.resistance": self.resistance}
+
+    def series_ohms(self) -> float:
+        return self.resistance
 
     def ends(self, p: Mapping[str, ArrayLike]) -> tuple[ArrayLike, ...]:
         off, r = p["front_end.offset"], p["front_end.resistance"]
@@ -230,13 +278,13 @@ class ThermistorFrontEnd(_Base):
     affine: ClassVar[bool] = False  # its resistance moves with temperature
 
     def __post_init__(self) -> None:
-        positive(self.fixed, "front_end.fixed")
+        resistance(self.fixed, "front_end.fixed")
         if self.steinhart_hart is None:
             if self.r25 is None or self.beta is None:
                 raise DesignError("front_end: give the thermistor as r25 and beta, "
                                   "or as steinhart_hart [A, B, C]")
-            positive(self.r25, "front_end.r25")
-            positive(self.beta, "front_end.beta")
+            resistance(self.r25, "front_end.r25")
+            within(self.beta, "front_end.beta", *BETA, "K")
         else:
             if self.r25 is not None or self.beta is not None or self.beta_tolerance is not None:
                 raise DesignError("front_end.steinhart_hart: give either steinhart_hart or r25 and beta "
@@ -257,20 +305,69 @@ class ThermistorFrontEnd(_Base):
                 raise DesignError(f"front_end.excitation: {self.excitation!r} is not allowed; give "
                                   f"\"positive\", \"reference\" or a voltage")
         else:
-            positive(self.excitation, "front_end.excitation")
+            voltage(self.excitation, "front_end.excitation", low=0.0)
+            if self.excitation == 0:
+                raise DesignError("front_end.excitation: must be greater than zero, got 0")
         positive(self.dissipation_constant, "front_end.dissipation_constant")
+        within(self.dissipation_constant, "front_end.dissipation_constant", *DISSIPATION, "W/K")
         for key in ("r25_tolerance", "beta_tolerance"):
             value = getattr(self, key)
             if value is not None:
                 finite(value, f"front_end.{key}")
                 if not 0 <= value < 100:
                     raise DesignError(f"front_end.{key}: a percentage from 0 to below 100, got {value!r}")
-        _range_checked(self.low, self.high)
+        _range_checked(self.low, self.high, CELSIUS, "C")
         low, high = self.temperatures()
         if low <= -KELVIN_AT_0C:
             raise DesignError(f"front_end.low: {low} C is not above absolute zero")
         if low >= high:
             raise DesignError(f"front_end: low ({low} C) must be below high ({high} C)")
+        self._check_curve(low, high)
+
+    def _check_curve(self, low: float, high: float) -> None:
+        """Refuse a curve that gives no part's resistance over the watched range, or does not fall
+        as the temperature rises; name the coefficients, the Beta, or the end of the range.
+
+        Both models fall monotonically for B > 0 (and C >= 0), so the ends of the range bound the
+        resistance; the points between catch a curve the arithmetic cannot follow.
+        """
+        celsius = np.concatenate(([25.0, 50.0], low + (high - low) * _CURVE_GRID))
+        with np.errstate(all="ignore"):
+            kelvin = celsius + KELVIN_AT_0C
+            ohms = (beta_resistance(self.r25, self.beta, kelvin) if self.steinhart_hart is None
+                    else steinhart_hart_resistance(self.steinhart_hart, kelvin))
+            beta = float(np.log(ohms[0] / ohms[1]) / (1 / KELVIN_AT_25C - 1 / kelvin[1]))  # B25/50
+        at25, curve, celsius = float(ohms[0]), ohms[2:], celsius[2:]
+        bad = ~(np.isfinite(curve) & (curve >= OHMS[0]) & (curve <= OHMS[1]))
+        allowed = lambda: f"a part has {format_value(OHMS[0], 'Ohm')} to {format_value(OHMS[1], 'Ohm')}"  # noqa: E731
+        if self.steinhart_hart is not None:
+            if not OHMS[0] <= at25 <= OHMS[1]:  # NaN fails too
+                raise DesignError(f"front_end.steinhart_hart: these coefficients give {_ohms(at25)} at 25 C, "
+                                  f"where {allowed()}; check each exponent (a 10 kOhm part has A about 1e-3, "
+                                  "B about 2e-4, C about 1e-7)")
+            if bad.any() or not (np.diff(curve) < 0).all():
+                where = (f"{_ohms(curve[bad][0])} at {celsius[bad][0]:g} C, where {allowed()}" if bad.any()
+                         else "a resistance that does not fall as the temperature rises")
+                raise DesignError(f"front_end.steinhart_hart: over the watched range {low:g} C to {high:g} C "
+                                  f"these coefficients give {where}; check the coefficients, or "
+                                  "front_end.low / front_end.high")
+            if not BETA[0] <= beta <= BETA[1]:  # NaN fails too
+                raise DesignError(f"front_end.steinhart_hart: these coefficients give a Beta (25 C to 50 C) "
+                                  f"of {beta:.3g} K, where NTC parts have {BETA[0]:g} K to {BETA[1]:g} K; "
+                                  "check each exponent")
+            return
+        if not bad.any():
+            return
+        at = float(celsius[bad][0])
+        end = "low" if at == low else "high"
+        if getattr(self, end) is not None:
+            raise DesignError(f"front_end.{end}: at {at:g} C the thermistor's resistance would be "
+                              f"{_ohms(curve[bad][0])}, where {allowed()}; "
+                              f"narrow the watched range or check r25 and beta")
+        raise DesignError(f"front_end: over the default watched range {THERMISTOR_RANGE[0]:g} C to "
+                          f"{THERMISTOR_RANGE[1]:g} C the thermistor's resistance would reach "
+                          f"{_ohms(curve[bad][0])} (at {at:g} C), where {allowed()}; give front_end.low / "
+                          "front_end.high, or check r25 and beta")
 
     def temperatures(self) -> tuple[float, float]:
         """The watched range, C (defaults: :data:`THERMISTOR_RANGE`)."""
@@ -286,6 +383,9 @@ class ThermistorFrontEnd(_Base):
     @property
     def rises(self) -> bool:
         return self.position == "top"
+
+    def series_ohms(self) -> float:
+        return self.fixed  # the divider's Thevenin resistance, R_fixed R_t / (R_fixed + R_t), below it
 
     def resistors(self) -> dict[str, float]:
         return {"front_end.fixed": self.fixed}
@@ -347,6 +447,13 @@ class ThermistorFrontEnd(_Base):
             return np.where(inside, self.temperature(p, ohms), np.nan)
 
 
+def _ohms(x: float) -> str:
+    """A resistance for a message about an implausible one (no SI prefix: it may be 1e-30)."""
+    if math.isfinite(x):
+        return f"{x:.3g} Ohm"
+    return "more than 1e308 Ohm" if x > 0 else "no resistance at all (the formula has no answer)"
+
+
 FrontEnd = DividerFrontEnd | ThermistorFrontEnd | LinearFrontEnd
 
 
@@ -369,6 +476,9 @@ class DirectInput(_Base):
 
     def parameters(self) -> dict[str, float]:
         return {}
+
+    def series_ohms(self) -> float:
+        return 0.0
 
     def ends(self, p: Mapping[str, ArrayLike]) -> tuple[ArrayLike, ...]:
         return 0.0, 1.0, 0.0, 0.0
@@ -429,7 +539,7 @@ def front_end_from_dict(data: Any) -> FrontEnd | None:
     required = ("kind",) + tuple(f.name for f in fields(cls) if f.default is MISSING)
     section(data, "front_end", allowed, required)
     unit = cls.unit if isinstance(getattr(cls, "unit", None), str) else ""
-    return cls(**{k: _read(k, v, unit) for k, v in data.items() if k != "kind"})
+    return cls(**{k: _read(k, v, unit) for k, v in data.items() if k != "kind" and v is not None})
 
 
 def front_end_tolerances(front_end: FrontEnd) -> dict[str, float]:

@@ -2,8 +2,8 @@
 
 Every resistor on the + pin is a leg to a potential: the signal (non-inverting stage), the
 output (feedback), a rail, ground or the reference.  Where the far end of a leg is itself a
-node with a resistance of its own (the output behind its pull-up or output resistance, a
-reference divider), that node is replaced by its Thevenin equivalent, so the + pin is solved
+node with a resistance of its own (the output behind its pull-up or output resistance, and any
+load it drives; a reference divider), that node is replaced by its Thevenin equivalent, so the + pin is solved
 by Millman's theorem with the current drawn by the pin:
 
     V+ = (sum(V_k / R_k) - I_bias) / sum(1 / R_k)
@@ -34,6 +34,7 @@ __all__ = [
     "difference_line",
     "input_load",
     "node_voltages",
+    "pin_resistances",
     "signal_path",
     "switching_points",
 ]
@@ -42,8 +43,8 @@ ArrayLike = float | np.ndarray
 STATES = ("high", "low")
 
 
-def _driver(design: Design, p: Mapping[str, ArrayLike], state: str) -> tuple[ArrayLike, ArrayLike]:
-    """Thevenin equivalent (volts, ohms) of the output node, without the feedback leg."""
+def _output_stage(design: Design, p: Mapping[str, ArrayLike], state: str) -> tuple[ArrayLike, ArrayLike]:
+    """Thevenin equivalent (volts, ohms) of the output stage alone in one state."""
     if isinstance(design.output, OpenDrain):
         if state == "high":
             return p.get("output.pullup_volts", p["supply.positive"]), p["output.pullup"]
@@ -51,6 +52,20 @@ def _driver(design: Design, p: Mapping[str, ArrayLike], state: str) -> tuple[Arr
     if state == "high":
         return p["supply.positive"] - p["output.high_drop"], p["output.resistance"]
     return p["supply.negative"] + p["output.low_drop"], p["output.resistance"]
+
+
+def _driver(design: Design, p: Mapping[str, ArrayLike], state: str) -> tuple[ArrayLike, ArrayLike]:
+    """Thevenin equivalent (volts, ohms) of the output node, without the feedback leg.
+
+    A load (``load.resistance`` to ``load.volts``) is a second Thevenin source on the node, in
+    parallel with the output stage: V = (V_o R_L + V_L R_o) / (R_o + R_L), R = R_o R_L / (R_o + R_L),
+    which also holds for a stiff output (R_o = 0: the load changes nothing).
+    """
+    volts, ohms = _output_stage(design, p, state)
+    if "load.resistance" not in p:
+        return volts, ohms
+    r_load, v_load = p["load.resistance"], p["load.volts"]
+    return (volts * r_load + v_load * ohms) / (ohms + r_load), ohms * r_load / (ohms + r_load)
 
 
 def _reference(design: Design, p: Mapping[str, ArrayLike]) -> tuple[ArrayLike, ArrayLike]:
@@ -108,6 +123,7 @@ class _PlusNode:
     r_drv: ArrayLike
     signal_path: ArrayLike  # ohms from the signal's source to its pin
     others: ArrayLike  # ohms from the + pin to its other legs' Thevenin sources, in parallel
+    ohms: ArrayLike  # the + node's Thevenin resistance: 1 / (sum of its legs' conductances)
 
 
 def _plus_node(design: Design, p: Mapping[str, ArrayLike], state: str) -> _PlusNode:
@@ -126,7 +142,8 @@ def _plus_node(design: Design, p: Mapping[str, ArrayLike], state: str) -> _PlusN
     g_others = sum(1.0 / r for _, r in legs)
     total_g = g_others + g_signal
     plus0 = (sum(v / r for v, r in legs) - p["comparator.bias_current"]) / total_g
-    return _PlusNode(plus0, g_signal / total_g, v_ref, r_ref, v_drv, r_drv, path, 1.0 / g_others)
+    return _PlusNode(plus0, g_signal / total_g, v_ref, r_ref, v_drv, r_drv, path, 1.0 / g_others,
+                     1.0 / total_g)
 
 
 def input_load(design: Design, p: Mapping[str, ArrayLike], state: str) -> ArrayLike:
@@ -155,6 +172,28 @@ def node_voltages(design: Design, p: Mapping[str, ArrayLike], signal: ArrayLike,
     else:
         minus = reference
     return Nodes(plus=plus, minus=minus, output=output, reference=reference)
+
+
+def _parallel(a: ArrayLike, b: ArrayLike) -> ArrayLike:
+    return a * b / (a + b)
+
+
+def pin_resistances(design: Design, p: Mapping[str, ArrayLike], state: str) -> tuple[ArrayLike, ArrayLike]:
+    """Thevenin resistance (ohms) the network presents to the + pin and to the - pin in one state.
+
+    A pin forced to a voltage V (by its input clamp at a rail) draws (V_open - V) / R from the
+    network, V_open being its voltage from :func:`node_voltages`.  The + pin sees its node's legs
+    in parallel; the - pin sees the signal's path (inverting stage) or the reference node, which in
+    parallel with its own resistance reaches the + node through the to_reference leg.
+    """
+    n = _plus_node(design, p, state)
+    if design.inverting:
+        return n.ohms, n.signal_path
+    if "resistors.to_reference" not in p:
+        return n.ohms, n.r_ref
+    leg = n.r_ref + p["resistors.to_reference"]
+    rest = 1.0 / (1.0 / n.ohms - 1.0 / leg)  # the + node without the leg to the reference
+    return n.ohms, _parallel(n.r_ref, p["resistors.to_reference"] + rest)
 
 
 def difference_line(design: Design, p: Mapping[str, ArrayLike], state: str) -> tuple[ArrayLike, ArrayLike]:

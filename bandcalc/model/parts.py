@@ -87,6 +87,7 @@ PARTS: tuple[Part, ...] = (
     Part("front_end.fixed", "Rfix", "Thermistor's fixed resistor", "Fixed",
          "thermistor divider, fixed resistor"),
     Part("front_end.resistance", "Rsen", "Sensor output resistance", "Sensor", "sensor output", bought=False),
+    Part("load.resistance", "RL", "Load on the output", "Load", "output to the load's voltage", bought=False),
 )
 _BY_PATH = {p.path: p for p in PARTS}
 #: Keys of the resistors that take a tolerance (the keys of the tolerances section).
@@ -119,7 +120,8 @@ def parameters(design: Design) -> dict[str, float]:
     """Every numeric value the model reads, flat, keyed by path: the stage's and its front end's.
 
     ``output.pullup_volts`` and ``output.low_volts`` appear only when set, so that by default
-    they follow their rail when ``supply.*`` is varied.
+    they follow their rail when ``supply.*`` is varied; ``load.resistance`` and ``load.volts`` only
+    where the output drives a resistive load.
     """
     p: dict[str, float] = {
         "supply.positive": design.supply.positive,
@@ -148,6 +150,10 @@ def parameters(design: Design) -> dict[str, float]:
         p["output.high_drop"] = out.high_drop
         p["output.low_drop"] = out.low_drop
         p["output.resistance"] = out.resistance
+    load = design.load
+    if load is not None and load.resistance is not None:
+        p["load.resistance"] = load.resistance
+        p["load.volts"] = load.volts
     p.update(front_end_of(design).parameters())
     return p
 

@@ -110,7 +110,13 @@ def input_range(design: Design) -> tuple[float, float]:
         return fe.temperatures()
     rails = sorted(float(v) for v in input_at(design, np.array([design.supply.negative,
                                                                    design.supply.positive])))
-    return (rails[0] if fe.low is None else fe.low, rails[1] if fe.high is None else fe.high)
+    ends = (rails[0] if fe.low is None else fe.low, rails[1] if fe.high is None else fe.high)
+    for key, end in zip(("low", "high"), ends, strict=True):
+        if not np.isfinite(end):  # not given, and the output (nearly) never moves
+            raise DesignError(f"front_end.{key}: not given, and no finite value brings the front end's "
+                              f"output to a rail (it hardly moves with the watched value); give "
+                              f"front_end.{key} or check the front end's values")
+    return ends
 
 
 def _margin(design: Design, fe: Ahead, p: Mapping[str, ArrayLike], t: ArrayLike, state: str) -> ArrayLike:
@@ -195,7 +201,9 @@ def design_points(design: Design, values: Mapping[str, ArrayLike] | None = None)
     p = _merged(design, values)
     v0, v1, _, _ = fe.ends(p)
     upper_state, lower_state = ("high", "low") if design.inverting else ("low", "high")
-    t_up, t_low = _root(design, fe, p, upper_state), _root(design, fe, p, lower_state)
+    # A root at infinity (a front end whose output does not move) is no switching value either.
+    t_up, t_low = (np.where(np.isfinite(t), t, np.nan) for t in (_root(design, fe, p, upper_state),
+                                                                  _root(design, fe, p, lower_state)))
     return DesignPoints(at_stage_upper=fe.watched(p, t_up), at_stage_lower=fe.watched(p, t_low),
                         stage_upper=v0 + (v1 - v0) * t_up, stage_lower=v0 + (v1 - v0) * t_low,
                         rises=fe.rises, unit=fe.unit)
@@ -239,8 +247,28 @@ def stage_design(design: Design, x: float | None = None) -> Design:
             raise DesignError("front_end: a thermistor's stage depends on the temperature; give x")
         x = 0.0
     _, ohms = volts_for(design, x)
-    ends = sorted(float(v) for v in volts_for(design, np.array(input_range(design)))[0])
+    ends = sorted(_range_volts(design, fe))
     return replace(design, front_end=None, source=Source(resistance=float(ohms), low=ends[0], high=ends[1]))
+
+
+def _range_volts(design: Design, fe: FrontEnd) -> list[float]:
+    """The stage's source volts at the two ends of the watched range, refused by the front end's
+    own key where one cannot be computed (a thermistor's resistance overflowing a float)."""
+    rng = input_range(design)
+    with np.errstate(over="ignore", invalid="ignore"):
+        volts = [float(v) for v in volts_for(design, np.array(rng))[0]]
+    for key, x, v in zip(("low", "high"), rng, volts, strict=True):
+        if not np.isfinite(v):
+            given = getattr(fe, key, None) is not None
+            where = (f"front_end.{key}" if given else
+                     f"the default {'lowest' if key == 'low' else 'highest'} value; set front_end.{key} "
+                     "to the range the design needs")
+            raise DesignError(f"front_end: at {x:g} {fe.unit} ({where}) the front end's output cannot be "
+                              "computed (it overflows); narrow the range or check the front end's values")
+    if volts[0] == volts[1]:
+        raise DesignError(f"front_end: its output is {volts[0]:.6g} V at both {rng[0]:g} and {rng[1]:g} "
+                          f"{fe.unit} (it hardly moves with the watched value); check the front end's values")
+    return volts
 
 
 def front_end_power(design: Design, x: float, state: str) -> dict[str, float]:

@@ -20,7 +20,7 @@ from typing import Any
 
 from bandcalc.errors import DesignError
 from bandcalc.model.units import UnitError, parse_quantity
-from bandcalc.model.validation import not_negative, positive, section
+from bandcalc.model.validation import AMOUNT, DELAY, HERTZ, PER_YEAR, not_negative, positive, section, within
 
 __all__ = ["HUM_MAINS", "SignalSettings", "signal_settings_from_dict", "signal_settings_to_dict"]
 
@@ -47,18 +47,29 @@ class SignalSettings:
     delay_budget: float | None = None
 
     def __post_init__(self) -> None:
-        for key in ("noise", "hum", "crossings_per_second", "false_edges_per_year", "delay_budget"):
+        for key in ("noise", "hum"):
             if getattr(self, key) is not None:
-                not_negative(getattr(self, key), f"signal.{key}")
-        for key in ("noise_bandwidth", "slope"):
-            if getattr(self, key) is not None:
-                positive(getattr(self, key), f"signal.{key}")
+                within(getattr(self, key), f"signal.{key}", 0.0, AMOUNT, "")
+        if self.noise_bandwidth is not None:
+            positive(self.noise_bandwidth, "signal.noise_bandwidth")
+            within(self.noise_bandwidth, "signal.noise_bandwidth", 0.0, HERTZ, "Hz")
+        if self.slope is not None:
+            positive(self.slope, "signal.slope")
+            within(self.slope, "signal.slope", 0.0, AMOUNT * HERTZ, "")
+        if self.crossings_per_second is not None:
+            within(self.crossings_per_second, "signal.crossings_per_second", 0.0, HERTZ, "")
+        if self.false_edges_per_year is not None:
+            within(self.false_edges_per_year, "signal.false_edges_per_year", 0.0, PER_YEAR, "")
+        if self.delay_budget is not None:  # in seconds, not kiloseconds, in the message
+            not_negative(self.delay_budget, "signal.delay_budget")
+            if self.delay_budget > DELAY:
+                raise DesignError(f"signal.delay_budget: must be from 0 s to {DELAY:g} s (an hour), "
+                                  f"got {self.delay_budget:g} s")
         if self.hum_frequency not in HUM_MAINS:
             raise DesignError(f"signal.hum_frequency: {self.hum_frequency!r} Hz is not a mains frequency; "
                               "allowed: 50, 60")
         for order, amplitude in self.hum_harmonics:
-            not_negative(amplitude, f"signal.hum_harmonics.{order}")
-
+            within(amplitude, f"signal.hum_harmonics.{order}", 0.0, AMOUNT, "")
 
 def _harmonics_from(data: Any) -> tuple[tuple[int, float], ...]:
     if not isinstance(data, dict):

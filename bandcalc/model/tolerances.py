@@ -20,6 +20,7 @@ from typing import Any
 from bandcalc.errors import BandcalcError
 from bandcalc.model.parts import TOLERANCED
 from bandcalc.model.units import UnitError, parse_quantity
+from bandcalc.model.validation import AMPS, CELSIUS, VOLTS
 
 __all__ = [
     "DISTRIBUTIONS",
@@ -38,7 +39,13 @@ DISTRIBUTIONS = ("normal", "uniform")
 NOMINAL_CELSIUS = 25.0
 #: Largest percent tolerance taken; beyond it a normal draw at 3 sigma could make a part negative.
 MAX_PERCENT = 50.0
-_ABSOLUTE_ZERO_CELSIUS = -273.15
+#: Largest temperature coefficient taken, ppm/K, either sign: film and wirewound resistors stay
+#: within some hundreds and a fixed reference within some tens (common practice); 1 %/K refuses
+#: only slips of the finger.  A thermistor is a front end, not a resistor with a tempco.
+MAX_PPM_PER_K = 10_000.0
+#: Largest offset drift taken, volts per kelvin: comparators drift some microvolts per kelvin
+#: (common practice).
+MAX_OFFSET_DRIFT = 1.0
 #: A part value that is in no series from E24 up is taken as a precision part (common practice).
 
 
@@ -80,11 +87,14 @@ class PerResistor:
         """The value for resistor ``name`` (e.g. "feedback", "reference.top"), else the default."""
         return dict(self.parts).get(name, self.default)
 
+    def named(self, where: str) -> list[tuple[str, float]]:
+        """Each value given with the key it sits at in the file ("tolerances.resistors.feedback")."""
+        out = [] if self.default is None else [(f"{where}.default" if self.parts else where, self.default)]
+        return out + [(f"{where}.{name}", value) for name, value in self.parts]
+
     def check(self, where: str, low: float | None, high: float | None, unit: str) -> None:
-        if self.default is not None:
-            _check(self.default, f"{where}.default" if self.parts else where, low, high, unit)
-        for name, value in self.parts:
-            _check(value, f"{where}.{name}", low, high, unit)
+        for key, value in self.named(where):
+            _check(value, key, low, high, unit)
 
 
 @dataclass(frozen=True)
@@ -170,12 +180,13 @@ class Tolerances:
 
     def __post_init__(self) -> None:
         self.resistors.check("tolerances.resistors", 0.0, MAX_PERCENT, "percent")
-        self.resistor_tempco.check("tolerances.resistor_tempco", None, None, "ppm/K")
+        self.resistor_tempco.check("tolerances.resistor_tempco", -MAX_PPM_PER_K, MAX_PPM_PER_K, "ppm/K")
         for key in ("reference", "supply"):
             _check(getattr(self, key), f"tolerances.{key}", 0.0, MAX_PERCENT, "percent")
-        for key, unit in (("offset", "V"), ("bias_current", "A"), ("reference_drift", "ppm/K"),
-                          ("offset_drift", "V/K")):
-            _check(getattr(self, key), f"tolerances.{key}", 0.0, None, unit)
+        for key, unit, high in (("offset", "V", VOLTS), ("bias_current", "A", AMPS),
+                                ("reference_drift", "ppm/K", MAX_PPM_PER_K),
+                                ("offset_drift", "V/K", MAX_OFFSET_DRIFT)):
+            _check(getattr(self, key), f"tolerances.{key}", 0.0, high, unit)
         if self.distribution not in DISTRIBUTIONS:
             raise ToleranceError(f"tolerances.distribution: {self.distribution!r} is not a distribution; "
                                  f"allowed: {', '.join(DISTRIBUTIONS)}")
@@ -184,10 +195,34 @@ class Tolerances:
             if len(self.temperature) != 2:
                 raise ToleranceError(f"{where}: give [lowest, highest] in degrees Celsius")
             for v in self.temperature:
-                _check(v, where, _ABSOLUTE_ZERO_CELSIUS)
+                _check(v, where, *CELSIUS, "degrees C")
             if self.temperature[0] >= self.temperature[1]:
                 raise ToleranceError(f"{where}: the lowest temperature must be below the highest")
             object.__setattr__(self, "temperature", tuple(float(v) for v in self.temperature))
+            self._check_drifts_keep_parts_positive()
+
+    def _check_drifts_keep_parts_positive(self) -> None:
+        """Refuse a drift that takes a part to zero or below somewhere in the temperature range.
+
+        Over temperature a resistor is R25 (1 + tempco (T - 25 C)) and a fixed reference
+        V25 (1 +/- drift (T - 25 C)) (:mod:`bandcalc.spread.factors`); a tolerance of at most
+        :data:`MAX_PERCENT` never makes the part's value at 25 C zero, so the factor decides.
+        """
+        low, high = self.temperature  # type: ignore[misc]
+        span = f"over {low:g} to {high:g} C"
+        for key, ppm in self.resistor_tempco.named("tolerances.resistor_tempco"):
+            at = min((low, high), key=lambda t: 1 + ppm * 1e-6 * (t - NOMINAL_CELSIUS))
+            factor = 1 + ppm * 1e-6 * (at - NOMINAL_CELSIUS)
+            if factor <= 0:
+                raise ToleranceError(f"{key}: {ppm:g} ppm/K {span} takes a resistor to {100 * factor:.4g} "
+                                     f"% of its value at {at:g} C, and no resistor goes to zero or below; "
+                                     "check the sign and that the unit is ppm/K")
+        at = max((low, high), key=lambda t: abs(t - NOMINAL_CELSIUS))
+        factor = 1 - self.reference_drift * 1e-6 * abs(at - NOMINAL_CELSIUS)
+        if factor <= 0:
+            raise ToleranceError(f"tolerances.reference_drift: {self.reference_drift:g} ppm/K {span} takes "
+                                 f"the reference to {100 * factor:.4g} % of its value at {at:g} C; a "
+                                 "reference drifts far less: check that the unit is ppm/K")
 
 
 # --- JSON ------------------------------------------------------------------------------------
@@ -210,8 +245,9 @@ def _per_resistor(data: Any, where: str, names: Sequence[str]) -> PerResistor:
     if not isinstance(data, dict):
         return PerResistor(default=_number(data, where))
     data = _object(data, where, ("default", *names))
-    parts = tuple((k, _number(v, f"{where}.{k}")) for k, v in data.items() if k != "default")
-    default = _number(data["default"], f"{where}.default") if "default" in data else None
+    parts = tuple((k, _number(v, f"{where}.{k}")) for k, v in data.items()
+                  if k != "default" and v is not None)
+    default = _number(data["default"], f"{where}.default") if data.get("default") is not None else None
     return PerResistor(default=default, parts=parts)
 
 
@@ -234,6 +270,8 @@ def tolerances_from_dict(data: Any, resistor_keys: Sequence[str]) -> Tolerances:
     kwargs: dict[str, Any] = {}
     for key, raw in data.items():
         where = f"tolerances.{key}"
+        if raw is None:  # left out, as elsewhere in the design file
+            continue
         if key in ("resistors", "resistor_tempco"):
             kwargs[key] = _per_resistor(raw, where, names)
         elif key == "temperature":

@@ -10,15 +10,19 @@ from __future__ import annotations
 import math
 import re
 
-from bandcalc.errors import BandcalcError
+from bandcalc.errors import BandcalcError, shown
 
 __all__ = [
+    "MICRO",
+    "PREFIXED_UNITS",
+    "SI_UNITS",
     "UnitError",
     "format_code",
     "format_interval",
     "format_ohms",
     "format_si",
     "format_value",
+    "format_volts",
     "parse_quantity",
     "parse_resistance",
 ]
@@ -50,10 +54,14 @@ def _scaled(number: str, exponent: int) -> float:
 def _check_number(value: float, what: str) -> float:
     if isinstance(value, bool):
         raise UnitError(f"{what}: expected a number, got {value!r}")
-    value = float(value)
-    if not math.isfinite(value):
-        raise UnitError(f"{what}: must be a finite number, got {value!r}")
-    return value
+    try:
+        number = float(value)
+    except OverflowError:  # an integer beyond the largest float, about 1.8e308
+        raise UnitError(f"{what}: the integer written is too large for a number (more than 308 digits); "
+                        "write the value in SI units, e.g. 4.7e3 or 4k7") from None
+    if not math.isfinite(number):
+        raise UnitError(f"{what}: must be a finite number, got {number!r}")
+    return number
 
 
 def parse_quantity(value: float | int | str, unit: str = "", what: str = "value") -> float:
@@ -77,15 +85,15 @@ def parse_quantity(value: float | int | str, unit: str = "", what: str = "value"
         except (TypeError, ValueError) as exc:
             if isinstance(exc, UnitError):
                 raise
-            raise UnitError(f"{what}: expected a number, got {value!r}") from None
+            raise UnitError(f"{what}: expected a number, got {shown(value)}") from None
     m = _SI_RE.match(value)
     if m and (m["unit"] in ("", unit) or (unit and m["unit"].lower() == unit.lower())):
         return _check_number(_scaled(m["num"], _PREFIX[m["prefix"]]), what)
     if m and m["prefix"] == "" and m["unit"] and m["unit"][0] in _PREFIX and m["unit"][1:] in ("", unit):
         return _check_number(_scaled(m["num"], _PREFIX[m["unit"][0]]), what)
-    shown = f" {unit}" if unit else ""
-    raise UnitError(f"{what}: cannot read {value!r}; write a number, optionally with an SI prefix "
-                    f"(e.g. 2.5, 50m, 100n){shown and ' and the unit' + shown}")
+    with_unit = f" and the unit {unit}" if unit else ""
+    raise UnitError(f"{what}: cannot read {shown(value)}; write a number, optionally with an SI prefix "
+                    f"(e.g. 2.5, 50m, 100n){with_unit}")
 
 
 def parse_resistance(value: float | int | str, what: str = "resistance") -> float:
@@ -100,7 +108,7 @@ def parse_resistance(value: float | int | str, what: str = "resistance") -> floa
     code = _CODE_RE.match(text)
     if code and (code["int"] or code["frac"]) and _is_ohm_unit(code["unit"]):
         if code["letter"] in "Rr" and not code["frac"] and not code["int"]:
-            raise UnitError(f"{what}: cannot read {value!r}; {_RES_HINT}")
+            raise UnitError(f"{what}: cannot read {shown(value)}; {_RES_HINT}")
         digits = f"{code['int'] or '0'}.{code['frac'] or '0'}"
         return _check_number(_scaled(digits, _CODE_LETTER[code["letter"]]), what)
     m = _SI_RE.match(text)
@@ -108,14 +116,18 @@ def parse_resistance(value: float | int | str, what: str = "resistance") -> floa
         return _check_number(_scaled(m["num"], _PREFIX[m["prefix"]]), what)
     if m and m["prefix"] == "" and m["unit"][:1] in _PREFIX and _is_ohm_unit(m["unit"][1:]):
         return _check_number(_scaled(m["num"], _PREFIX[m["unit"][0]]), what)
-    raise UnitError(f"{what}: cannot read {value!r}; {_RES_HINT}")
+    raise UnitError(f"{what}: cannot read {shown(value)}; {_RES_HINT}")
 
 
 def _is_ohm_unit(unit: str) -> bool:
     return unit in ("",) + _OHM_UNITS
 
 
-_SI_STEPS = ((12, "T"), (9, "G"), (6, "M"), (3, "k"), (0, ""), (-3, "m"), (-6, "u"),
+#: The prefix micro as people read it (SI Brochure, 9th edition, Table 7): the MICRO SIGN U+00B5.
+MICRO = "\u00b5"
+_MICROS = (MICRO, "u")
+
+_SI_STEPS = ((12, "T"), (9, "G"), (6, "M"), (3, "k"), (0, ""), (-3, "m"), (-6, MICRO),
              (-9, "n"), (-12, "p"))
 
 
@@ -125,39 +137,74 @@ def _round(value: float, digits: int) -> float:
 
 def _plain(value: float, digits: int) -> str:
     text = f"{value:.{digits}f}".rstrip("0").rstrip(".")
-    return text or "0"
+    return "0" if text in ("", "-0") else text  # no "-0" from -0.0
 
 
-def format_si(value: float, unit: str, digits: int = 3) -> str:
+# Magnitudes written with a prefix (0.1 p to 999 T) or as a plain figure; anything beyond is
+# written in E notation ("1e-300 V"), never as "0 pV" or a figure of 300 digits.
+_PREFIXED_SPAN = (1e-13, 1e15)
+_PLAIN_SPAN = (1e-9, 1e15)
+
+
+def _beyond(value: float, unit: str, digits: int, span: tuple[float, float]) -> str | None:
+    """The text of a value no prefix or plain figure reads well: none, infinite, or out of ``span``."""
+    if math.isnan(value):
+        return "n/a"  # no unit: there is no value to have one
+    if math.isinf(value):
+        return f"{'+' if value > 0 else '-'}inf {unit}".strip()
+    mag = _round(abs(value), digits)
+    if mag and not span[0] <= mag < span[1]:
+        return f"{value:.{digits}g} {unit}".strip()
+    return None
+
+
+def format_si(value: float, unit: str, digits: int = 3, *, micro: str = MICRO) -> str:
     """Format a value with an SI prefix and `digits` significant figures: "4.7 kOhm", "50 mV".
 
-    Trailing zeros are dropped; zero prints as "0 V"; NaN and infinities print as words.
+    Micro is written "µ" ("1.2 µA"), or with ``micro="u"`` in plain ASCII ("1.2 uA") for text
+    only a program reads; :func:`parse_quantity` reads either.  Trailing zeros are dropped; zero
+    prints as "0 V"; NaN prints as "n/a" and infinities as "+inf V"; magnitudes beyond the
+    prefixes pico to tera in E notation ("1e-300 V").
     """
+    if micro not in _MICROS:
+        raise UnitError(f"micro: write {MICRO!r} or 'u', got {micro!r}")
     value = float(value)
-    if math.isnan(value):
-        return f"n/a {unit}".strip()
-    if math.isinf(value):
-        return ("+" if value > 0 else "-") + f"inf {unit}".strip()
+    special = _beyond(value, unit, digits, _PREFIXED_SPAN)
+    if special is not None:
+        return special
     mag = _round(abs(value), digits)
     if mag == 0:
         return f"0 {unit}".strip()
     exponent, prefix = next(((e, p) for e, p in _SI_STEPS if mag >= 10.0**e), _SI_STEPS[-1])
     scaled = _round(mag / 10.0**exponent, digits)
     sign = "-" if value < 0 else ""
+    prefix = micro if prefix == MICRO else prefix
     return f"{sign}{_plain(scaled, digits)} {prefix}{unit}".rstrip()
 
 
-# Units that take SI prefixes; any other unit (C, kPa, %) prints as a plain figure.
+def format_volts(volts: float) -> str:
+    """A voltage as findings and summaries write it: four significant figures, "2.949 V"."""
+    return format_si(volts, "V", 4)
+
+
+#: SI units that the parser reads after a prefix ("100 nA").
 SI_UNITS = ("V", "A", "Ohm", "s", "F", "W", "Hz")
+#: Units written with an SI prefix ("10 mV", "1.5 mW/K"); any other unit (K, C, kPa, %) prints as
+#: a plain figure ("3950 K", "32.01 C").
+PREFIXED_UNITS = (*SI_UNITS, "W/K", "V/K", "V/s")
 
 
 def format_value(value: float, unit: str, digits: int = 4) -> str:
-    """A value for people: SI prefixes for SI units ("2.95 V"), plain figures otherwise ("32.01 C")."""
+    """A value for people: prefixed in :data:`PREFIXED_UNITS` ("2.95 V"), else plain ("3950 K").
+
+    NaN prints as "n/a"; magnitudes a plain figure cannot show well in E notation ("2.5e+300 kPa").
+    """
     value = float(value)
-    if unit in SI_UNITS:
+    if unit in PREFIXED_UNITS:
         return format_si(value, unit, digits)
-    if not math.isfinite(value):
-        return "n/a" if math.isnan(value) else f"{'+' if value > 0 else '-'}inf {unit}"
+    special = _beyond(value, unit, digits, _PLAIN_SPAN)
+    if special is not None:
+        return special
     return f"{_plain(_round(value, digits), max(digits, 12))} {unit}".strip()
 
 

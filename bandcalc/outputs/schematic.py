@@ -1,6 +1,7 @@
 """A schematic of the current stage as SVG text, drawn with schemdraw's SVG canvas.
 
-The comparator sits in the middle with its - input above the + input.  The - input's wiring
+The comparator sits in the middle with its - input above the + input; a load on the output hangs
+from the output terminal down to its voltage (or ground).  The - input's wiring
 runs to the left above the comparator (the reference in a non-inverting stage, the signal in
 an inverting one); the + pin's summing node runs to the left below it, with each leg hanging
 down from it, and the feedback resistor runs underneath from the output back to the + pin.
@@ -34,7 +35,7 @@ __all__ = ["stage_labels", "stage_svg", "stage_template"]
 # Every value label the drawing can hold, in a fixed order (a placeholder's number is its index).
 _SLOTS = (*(p.path for p in PARTS), "supply.positive", "supply.negative", "reference.volts",
           "output.pullup_volts", "front_end.thermistor", "front_end.excitation", "front_end.sensor",
-          "filter.capacitance")
+          "load.volts", "filter.capacitance")
 # Placeholders for the longer labels are longer, so the drawing leaves room for them.
 _WIDTH = {"front_end.thermistor": 14, "front_end.sensor": 14}
 _INK = "#1d2433"
@@ -43,6 +44,7 @@ _MINUS_Y = 2.2   # height of the - input's wiring above the comparator's axis
 _PLUS_Y = -2.6   # height of the + pin's summing node and of the feedback path
 _LEG_STEP = 3.0  # horizontal spacing of the legs on the + node
 _FRONT_END_DROP = 2.6  # length of the front end's element from its node to ground
+_LOAD_DROP = 2.0  # length of the load from the output terminal down to its voltage
 
 
 def _v(volts: float) -> str:
@@ -61,6 +63,11 @@ def stage_labels(design: Design) -> dict[str, str]:
     if isinstance(design.output, OpenDrain):
         labels["output.pullup_volts"] = _v(vp if design.output.pullup_volts is None
                                            else design.output.pullup_volts)
+    load = design.load
+    if load is not None and load.resistance is not None:
+        ohms["load.resistance"] = load.resistance
+        if load.volts != 0:  # a load to ground is drawn to a ground symbol
+            labels["load.volts"] = _v(load.volts)
     ohms.update(_front_end_labels(design, labels))
     if design.filter is not None:
         labels["filter.capacitance"] = f"Cflt {format_si(design.filter.capacitance, 'F')}"
@@ -203,8 +210,15 @@ def stage_template(stage: str, slots: frozenset[str], layout: str = "") -> str:
     # Output node, output terminal and (open drain) the pull-up.
     out_node = d.add(elm.Line().at(op.out).right().length(1.0)).end
     d.add(elm.Dot().at(out_node))
-    d.add(elm.Line().at(out_node).right().length(1.0))
+    terminal = d.add(elm.Line().at(out_node).right().length(1.0)).end
     d.add(elm.Dot(open=True).label("OUT", loc="right", color=_INK))
+    if "load.resistance" in slots:  # what the output drives, down to its voltage or ground
+        load = d.add(_value(elm.Resistor().at(terminal).down().length(_LOAD_DROP), "load.resistance",
+                            "bottom"))
+        if "load.volts" in slots:
+            _rail(d, load.end, "load.volts", loc="right")
+        else:
+            d.add(elm.Ground().at(load.end))
     if "output.pullup" in slots:
         pullup = d.add(_value(elm.Resistor().at(out_node).up(), "output.pullup", "bottom"))
         _rail(d, pullup.end, "output.pullup_volts", loc="right")

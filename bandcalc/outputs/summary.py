@@ -1,9 +1,12 @@
 """The design summary: one Markdown document a designer files with the schematic.
 
-``design_summary`` builds it from a design and whatever analyses were run.  Every text the
-user typed is escaped, so a name or a note can neither inject HTML nor break a table; the
-design file itself closes the document in a fenced ``json`` block, so the summary alone
-rebuilds the design.
+``design_summary`` builds it from a design and whatever analyses were run.  bandcalc writes the
+markup (headings, tables, list bullets) and every piece of text inside it goes through
+:func:`escape_text`: a name, a note or a unit, and any sentence of bandcalc's that shows one, can
+neither inject HTML, links or images nor open a heading, break a table or open a code block.  The
+design file itself closes the document in a fenced ``json`` block whose fence is longer than any
+run of backticks before it, so the summary alone rebuilds the design, and
+:func:`design_from_summary` reads only that closing block.
 """
 
 from __future__ import annotations
@@ -14,12 +17,15 @@ import re
 from dataclasses import dataclass
 
 from bandcalc import __version__
+from bandcalc.cli.visible_text import visible_text
+from bandcalc.errors import DesignError
 from bandcalc.model.design import Design, DividerReference, FixedReference, OpenDrain
-from bandcalc.model.design_file import design_to_dict
+from bandcalc.model.design_file import design_from_json, design_to_dict
 from bandcalc.model.front_end import DividerFrontEnd, LinearFrontEnd, ThermistorFrontEnd
 from bandcalc.model.input_filter import filter_pole
 from bandcalc.model.operating import Analysis, analyze
 from bandcalc.model.parts import part, resistors_of, tolerance_of
+from bandcalc.model.ratings import power_needed, rating_of, series_count, size_for
 from bandcalc.model.units import format_code, format_interval, format_si, format_value
 
 __all__ = [
@@ -31,32 +37,36 @@ __all__ = [
     "stage_in_words",
 ]
 
-# Standard power ratings of common resistor packages (W), smallest first (common practice).
-POWER_RATINGS = ((0.0625, "1/16 W"), (0.1, "1/10 W"), (0.125, "1/8 W"), (0.25, "1/4 W"),
-                 (0.5, "1/2 W"), (1.0, "1 W"), (2.0, "2 W"))
-# Choose a rating at least twice the worst dissipation (common practice derating).
-DERATING = 2.0
-
 # Characters that can open markup anywhere in a line (GFM tables and strikethrough included);
 # < > & become entities instead, so no HTML can pass.
 _MD_INLINE = re.compile(r"([\\`*_\[\]|~#])")
-# Line starts that open a block: list items, headings, quotes, rules, setext underlines.
-_MD_LINE_START = re.compile(r"^([-+=]|\d+(?=[.)]))")
+# Line starts that open a block the inline escapes leave open (CommonMark 0.31, sections 4.1, 4.3,
+# 5.2): a bullet or an ordered-list marker followed by a space, a rule or setext underline of
+# - or = alone.  Headings (#), quotes (>), fences (` ~) and * _ are escaped inline already.
+_MD_LINE_START = re.compile(r"^(?:[-+](?=\s|$)|[-=](?=[-=\s]*$)|\d{1,9}(?=[.)](?:\s|$)))")
 
 
 def escape_text(text: str) -> str:
-    """Escape user text for CommonMark: HTML characters become entities, markup is escaped.
+    """Escape text for CommonMark: HTML characters become entities, markup is escaped.
 
-    Line breaks survive as hard breaks.  Only user text goes through here; bandcalc's own
-    sentences are written to be valid Markdown as they stand.
+    Line breaks survive as hard breaks; controls and bidirectional controls show as their
+    escapes (:func:`~bandcalc.cli.visible_text.visible_text`).  The result reads as the text.
     """
     out = []
     for line in str(text).splitlines() or [""]:
-        line = line.strip().replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
+        line = visible_text(line.strip()).replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
         line = _MD_INLINE.sub(r"\\\1", line)
-        out.append(_MD_LINE_START.sub(r"\\\1", line) if not line[:1].isdigit() else
-                   re.sub(r"^(\d+)([.)])", r"\1\\\2", line))
+        marker = _MD_LINE_START.match(line)
+        if marker:  # escape the bullet or rule, or the . or ) after a number (a digit cannot be)
+            at = marker.end() if line[:1].isdigit() else 0
+            line = f"{line[:at]}\\{line[at:]}"
+        out.append(line)
     return "  \n".join(out)
+
+
+def _line(text: str) -> str:
+    """Text for one line of the summary (a heading, a table cell, a list item), escaped."""
+    return escape_text(" ".join(str(text).split()))
 
 
 def _v(x: float) -> str:
@@ -76,21 +86,35 @@ class SummaryInputs:
     signal: object | None = None
 
 
-def _rating(watts: float) -> str:
-    need = watts * DERATING
-    for watts_rated, label in POWER_RATINGS:
-        if watts_rated >= need:
-            return label
-    return "above 2 W: use a power resistor"
+def _power_cell(watts: float, volts: float, design: Design, key: str) -> str:
+    """Worst power, what it needs derated, and whether the part's rating takes it (the findings'
+    rule, :func:`bandcalc.model.ratings.power_needed`)."""
+    rating, needed = rating_of(design, key), power_needed(watts)
+    held = f"{format_si(rating.watts, 'W')} as {rating.size}" if rating.size else format_si(rating.watts, "W")
+    if needed <= rating.watts:
+        return f"{format_si(watts, 'W')}, needs {format_si(needed, 'W')} ({held}: enough)"
+    bigger = size_for(volts, watts)
+    return (f"{format_si(watts, 'W')}, needs {format_si(needed, 'W')} ({held}: too small; "
+            f"{f'a {bigger} takes it' if bigger else 'use a power resistor'})")
+
+
+def _voltage_cell(volts: float, design: Design, key: str) -> str:
+    """Worst voltage across the part against its working voltage, and how many in series would do."""
+    rating = rating_of(design, key)
+    text = f"{_v(volts)} (rated {_v(rating.volts)})"
+    if volts > rating.volts:
+        text += f": too high, {series_count(volts, rating.volts)} in series"
+    return text
 
 
 def component_rows(a: Analysis) -> list[dict[str, str]]:
-    """One row per part: designator, position, value, series, tolerance, power."""
+    """One row per part: designator, position, value, series, tolerance, power and voltage."""
     d = a.design
     rows = []
     for key, ohms in resistors_of(d).items():
         row, t = part(key), tolerance_of(d, key)
         watts = a.power.get(key, 0.0)
+        volts = (watts * ohms) ** 0.5
         rows.append({
             "designator": row.designator,
             "position": row.position.format(pin="-" if d.inverting else "+"),
@@ -98,13 +122,15 @@ def component_rows(a: Analysis) -> list[dict[str, str]]:
             "value": _ohm(ohms),
             "series": t.series or "none",
             "tolerance": f"{t.percent:g} % ({t.why})",
-            "power": f"{format_si(watts, 'W')} (rate {_rating(watts)})",
+            "power": _power_cell(watts, volts, d, key),
+            "voltage": _voltage_cell(volts, d, key),
         })
     if d.filter is not None:
         rows.append({
             "designator": "Cflt", "position": "input filter, from the stage's input node to ground",
             "key": "filter.capacitance", "value": format_si(d.filter.capacitance, "F"),
             "series": "n/a", "tolerance": "not given", "power": "n/a",
+            "voltage": "not checked: rate it for the input's highest voltage",
         })
     fe = d.front_end
     if isinstance(fe, ThermistorFrontEnd):
@@ -116,8 +142,9 @@ def component_rows(a: Analysis) -> list[dict[str, str]]:
             "designator": "TH1", "position": f"NTC thermistor, {fe.position} of its divider",
             "key": "front_end.thermistor", "value": f"{format_si(fe.nominal_r25, 'Ohm')} at 25 C, {model}",
             "series": "n/a", "tolerance": ", ".join(t for t in tol if t) or "not given",
-            "power": "see the self-heating finding" if any("Self-heating" in f for f in a.findings)
+            "power": "see the self-heating finding" if any(f.kind == "self_heating" for f in a.findings)
             else "negligible self-heating",
+            "voltage": "n/a",
         })
     return rows
 
@@ -153,7 +180,7 @@ def stage_in_words(d: Design) -> str:
         parts.append(f"Push-pull output, {_v(out.high_drop)} below the positive rail when high, "
                      f"{_v(out.low_drop)} above the negative rail when low, "
                      f"{format_si(out.resistance, 'Ohm')} output resistance.")
-    parts += _front_end_words(d)
+    parts += _front_end_words(d) + _load_words(d)
     pole = filter_pole(d)
     if pole is not None:
         resistor = f"{_ohm(d.filter.resistance)} in series and " if d.filter.resistance > 0 else ""
@@ -167,6 +194,21 @@ def stage_in_words(d: Design) -> str:
                  f"into each pin, propagation delay {format_si(c.delay, 's')}; "
                  f"source resistance {format_si(d.source.resistance, 'Ohm')}.")
     return " ".join(parts)
+
+
+def _load_words(d: Design) -> list[str]:
+    load = d.load
+    if load is None:
+        return []
+    out = []
+    if load.resistance is not None:
+        out.append(f"The output drives a load of {_ohm(load.resistance)} to {_v(load.volts)}, solved with "
+                   f"the network (it moves the output levels and the points).")
+    reads = [f"reads below {_v(load.logic_low_max)} as low" if load.logic_low_max is not None else "",
+             f"needs {_v(load.logic_high_min)} for a high" if load.logic_high_min is not None else ""]
+    if any(reads):
+        out.append(f"The receiving input {' and '.join(r for r in reads if r)}.")
+    return out
 
 
 def _front_end_words(d: Design) -> list[str]:
@@ -219,14 +261,15 @@ def _spread_section(spread) -> list[str]:
     mc, se = spread.monte_carlo, spread.sensitivity
     kind = ("normal, a tolerance taken as 3 sigma" if spread.tolerances.distribution == "normal"
             else "uniform within each tolerance")
-    lines = [f"Worst case over {spread.worst_case.method} ({spread.worst_case.evaluated:,} evaluations); "
-             f"Monte Carlo over {mc.samples:,} builds, {kind}, seed {mc.seed}.", ""]
+    wc = spread.worst_case
+    lines = [_line(f"Worst case over {wc.method} ({wc.evaluated:,} evaluations); "
+                   f"Monte Carlo over {mc.samples:,} builds, {kind}, seed {mc.seed}."), ""]
     varied = ", ".join(f"{f.name} ({f.origin})" for f in spread.factors) or "nothing: every part exact"
-    lines += [f"Varied: {varied}.", ""]
+    lines += [_line(f"Varied: {varied}."), ""]
     y = mc.build_yield
     if y is not None:
-        lines += [f"Yield against the limits: {100 * y.fraction:.3f} % of builds "
-                  f"(95 % interval {100 * y.low:.3f} % to {100 * y.high:.3f} %).", ""]
+        lines += [_line(f"Yield against the limits: {100 * y.fraction:.3f} % of builds "
+                        f"(95 % interval {100 * y.low:.3f} % to {100 * y.high:.3f} %)."), ""]
     rows = []
     for name in ("upper", "lower", "hysteresis"):
         top = [f"{sh.factor} {100 * sh.share:.0f} %" for sh in getattr(se, name)[:3] if sh.share >= 0.005]
@@ -236,9 +279,14 @@ def _spread_section(spread) -> list[str]:
 
 
 def _table(header: list[str], rows: list[list[str]]) -> list[str]:
-    lines = ["| " + " | ".join(header) + " |", "|" + "---|" * len(header)]
-    lines += ["| " + " | ".join(row) + " |" for row in rows]
-    return lines
+    """A GFM table; every cell is escaped here, so callers pass plain text."""
+    cells = lambda row: "| " + " | ".join(_line(c) for c in row) + " |"  # noqa: E731
+    return [cells(header), "|" + "---|" * len(header), *(cells(row) for row in rows)]
+
+
+def _items(texts) -> list[str]:
+    """A bullet list of plain texts, each escaped."""
+    return [f"- {_line(t)}" for t in texts]
 
 
 def _check_rows(check) -> list[list[str]]:
@@ -260,9 +308,10 @@ def _check_rows(check) -> list[list[str]]:
     return rows
 
 
-def _signal_section(run) -> list[str]:
-    """Table and findings of a signal run (bandcalc.signal_check.edges.SignalRun)."""
+def _signal_section(run, unit: str) -> list[str]:
+    """Table and findings of a signal run (bandcalc.signal_check.edges.SignalRun) in ``unit``."""
     t = lambda x: format_si(x, "s")  # noqa: E731
+    q = lambda x: format_value(x, unit, 4)  # noqa: E731
     clean = "not known (recorded signal)" if run.clean_edge_count is None else str(run.clean_edge_count)
     rows = [
         ["Signal", f"{len(run.wave)} samples over {t(run.wave.duration)}"],
@@ -271,10 +320,11 @@ def _signal_section(run) -> list[str]:
         ["Edge delay after the centre crossing, mean / max",
          "not known" if run.delay_mean is None else f"{t(run.delay_mean)} / {t(run.delay_max)}"],
         ["Time the output is high", f"{100 * run.output_high_fraction:.1f} %"],
+        ["Noise", f"{q(run.noise.rms)} RMS, about {q(run.noise.peak_to_peak)} peak-to-peak"],
     ]
-    if run.check is not None:
+    if run.check is not None:  # the prediction: the disturbance as given or estimated, at the stage
         rows += _check_rows(run.check)
-    return _table(["Quantity", "Value"], rows) + [""] + [f"- {f}" for f in run.findings]
+    return _table(["Quantity", "Value"], rows) + [""] + _items(run.findings)
 
 
 def _settings_section(d: Design) -> list[str]:
@@ -295,9 +345,10 @@ def _settings_section(d: Design) -> list[str]:
                              crossings_per_second=given.crossings_per_second or 0.0, unit=d.unit)
     lines = _table(["Quantity", "Value"], _check_rows(check))
     if given.false_edges_per_year is not None:
-        lines += ["", f"Target: at most {given.false_edges_per_year:g} false edge(s) a year"
-                  + (f", delay within {format_si(given.delay_budget, 's')}." if given.delay_budget else ".")]
-    return lines + [""] + [f"- {x}" for x in check.simplifications]
+        lines += ["", _line(f"Target: at most {given.false_edges_per_year:g} false edge(s) a year"
+                            + (f", delay within {format_si(given.delay_budget, 's')}." if given.delay_budget
+                               else "."))]
+    return lines + [""] + _items(check.simplifications)
 
 
 def _fit_section(result) -> list[str]:
@@ -305,9 +356,9 @@ def _fit_section(result) -> list[str]:
     unit = result.design.unit
     q = lambda x: format_value(x, unit, 4)  # noqa: E731
 
-    lines = [f"Targets: upper {q(result.upper)}, lower {q(result.lower)}; fitted "
-             f"{', '.join(result.fitted)} from {result.series}, {format_si(result.min_ohms, 'Ohm')} to "
-             f"{format_si(result.max_ohms, 'Ohm')}.", ""]
+    lines = [_line(f"Targets: upper {q(result.upper)}, lower {q(result.lower)}; fitted "
+                   f"{', '.join(result.fitted)} from {result.series}, {format_si(result.min_ohms, 'Ohm')} to "
+                   f"{format_si(result.max_ohms, 'Ohm')}."), ""]
     header = ["Rank", *result.fitted, "Upper", "Lower", "Worst error", "Network current"]
     rows = [[str(i), *(format_code(c.value(p)) for p in result.fitted), q(c.upper), q(c.lower),
              format_value(c.worst_error, unit, 3), format_si(c.network_current, "A")]
@@ -315,8 +366,9 @@ def _fit_section(result) -> list[str]:
     lines += _table(header, rows)
     if result.exact is not None:
         exact = ", ".join(f"{p} {format_si(result.exact.value(p), 'Ohm', 4)}" for p in result.fitted)
-        lines += ["", f"Exact (continuous) solution: {exact}."]
-    lines += [""] + [f"- {n}" for n in (*result.notes, *result.problems)]
+        lines += ["", _line(f"Exact (continuous) solution: {exact}.")]
+    stopped = (f"Not proven the best: {result.stopped}",) if result.stopped else ()
+    lines += [""] + _items((*stopped, *result.notes, *result.problems))
     return lines
 
 
@@ -332,8 +384,16 @@ ASSUMPTIONS = (
     "pull-up for an open-drain output high and an ideal sink at the low level.",
     "Switching points are in volts of the signal source's open-circuit voltage, or in the watched "
     "quantity where a front end is given (the stage then sees the front end's Thevenin equivalent).",
-    "Resistor power is the largest over the signal's range in either output state (conservative); "
-    "ratings are chosen at twice that (common practice).",
+    "Resistor power and voltage are the largest over the signal's range in either output state "
+    "(conservative); a part is rated for at least twice its power (common practice) and for its "
+    "voltage as it is; sizes stand for typical data-sheet figures (from memory) unless the design gives "
+    "the part's own.",
+    "Pins, the difference between them and the output levels are checked over the whole range the input "
+    "reaches, at its ends and at the switching points, where their extremes lie (each node voltage is "
+    "monotonic in the input within one output state).",
+    "A pin driven past a rail is taken as held at the rail by its input clamp, the diode's drop "
+    "neglected (the clamp current is then a little overstated), each pin on its own; within 0.3 V of a "
+    "rail it counts as at the rail.",
 )
 
 
@@ -353,13 +413,14 @@ def design_summary(design: Design, inputs: SummaryInputs | None = None, *,
     a = analyze(design)
     d = design
     title = " ".join(d.name.split()) or "Unnamed design"  # a heading is one line
-    md: list[str] = [f"# {escape_text(title)}", ""]
+    md: list[str] = [f"# {_line(title)}", ""]
     md += ["## Purpose and notes", "", escape_text(d.notes) if d.notes.strip() else "_No notes given._", ""]
-    md += ["## The stage", "", stage_in_words(d), ""]
+    md += ["## The stage", "", _line(stage_in_words(d)), ""]
     md += ["## Components", ""]
-    md += _table(["Designator", "Position", "Value", "Series", "Tolerance", "Power (worst)"],
-                  [[r["designator"], r["position"], r["value"], r["series"], r["tolerance"], r["power"]]
-                  for r in component_rows(a)])
+    md += _table(["Designator", "Position", "Value", "Series", "Tolerance", "Power (worst)",
+                  "Voltage (worst)"],
+                  [[r["designator"], r["position"], r["value"], r["series"], r["tolerance"], r["power"],
+                    r["voltage"]] for r in component_rows(a)])
     md += ["", "## Switching points", ""]
     md += _table(*_points_rows(a, inputs.spread))
     if inputs.spread is not None:
@@ -370,31 +431,41 @@ def design_summary(design: Design, inputs: SummaryInputs | None = None, *,
     if settings:
         md += ["", "## Noise and false edges expected", ""] + settings
     if inputs.signal is not None:
-        md += ["", "## Noise and delay", ""] + _signal_section(inputs.signal)
+        md += ["", "## Noise and delay", ""] + _signal_section(inputs.signal, d.unit)
     findings_extra = list(inputs.spread.notes) if inputs.spread is not None else []
     md += ["", "## Findings", ""]
-    md += [f"- {f}" for f in (*a.findings, *findings_extra)] or [
-        "No findings: the checks found nothing to report."]
-    md += ["", "## Assumptions", ""] + [f"- {x}" for x in ASSUMPTIONS]
+    said = [f"{'Note: ' if f.level == 'note' else ''}{f.message}" for f in a.findings]
+    md += _items((*said, *findings_extra)) or ["No findings: the checks found nothing to report."]
+    md += ["", "## Assumptions", ""] + _items(ASSUMPTIONS)
     if a.cautions:
-        md += ["", "## Cautions", ""] + [f"> **Caution.** {c}" for c in a.cautions]
+        md += ["", "## Cautions", ""] + [f"> **Caution.** {_line(c)}" for c in a.cautions]
     date = (today or _dt.date.today()).isoformat()
     md += ["", "---", "", f"Made with bandcalc {__version__} on {date}.", ""]
-    body = json.dumps(design_to_dict(d), indent=2, ensure_ascii=False)
-    fence = _fence(body)
-    md += ["## Design file", "", f"{fence}json", body, fence, ""]
-    return "\n".join(md)
+    body = "\n".join(visible_text(line) for line in
+                     json.dumps(design_to_dict(d), indent=2, ensure_ascii=False).split("\n"))
+    prose = "\n".join(md)
+    fence = _fence(prose + body)  # longer than any run of backticks in the document
+    return "\n".join([prose, _CLOSING_HEADING, "", f"{fence}json", body, fence, ""])
 
 
-_JSON_BLOCK = re.compile(r"^## Design file\n\n(?P<fence>`{3,})json\n(?P<body>.*?)\n(?P=fence)$", re.S | re.M)
+_CLOSING_HEADING = "## Design file"
+_NO_CLOSING_BLOCK = (f"summary: no closing design file block; a summary ends with its '{_CLOSING_HEADING}' "
+                     "section, the design as JSON between two lines of backticks (the first followed by "
+                     "'json'), with nothing after it")
 
 
 def design_from_summary(text: str) -> Design:
-    """Rebuild the design from a summary's closing ``json`` block."""
-    from bandcalc.errors import DesignError
-    from bandcalc.model.design_file import design_from_json
+    """Rebuild the design from a summary's closing ``json`` block.
 
-    m = _JSON_BLOCK.search(text)
-    if m is None:
-        raise DesignError("summary: no '## Design file' section with a json block was found")
-    return design_from_json(m["body"], "summary design file")
+    Only the block that closes the document counts: the last line is its closing fence, the
+    nearest line above made of that fence and ``json`` opens it, under the design file heading.
+    A block anywhere else (text a user typed, or pasted into an edited summary) is never read.
+    """
+    lines = str(text).replace("\r\n", "\n").replace("\r", "\n").rstrip().split("\n")
+    fence = lines[-1]
+    if not re.fullmatch("`{3,}", fence):
+        raise DesignError(_NO_CLOSING_BLOCK)
+    opening = next((i for i in range(len(lines) - 2, -1, -1) if lines[i] == f"{fence}json"), None)
+    if opening is None or opening < 2 or lines[opening - 2:opening] != [_CLOSING_HEADING, ""]:
+        raise DesignError(_NO_CLOSING_BLOCK)
+    return design_from_json("\n".join(lines[opening + 1:-1]), "summary design file")

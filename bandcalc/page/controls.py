@@ -14,6 +14,8 @@ from bandcalc.model.design import LEG_KEYS, STAGES, Design, OpenDrain
 from bandcalc.model.front_end import POSITIONS, THERMISTOR_RANGE, ThermistorFrontEnd
 from bandcalc.model.input_filter import filter_pole
 from bandcalc.model.parts import part, value_at, with_value
+from bandcalc.model.range_checks import INPUT_CURRENT_LIMIT
+from bandcalc.model.ratings import DEFAULT_SIZE, PACKAGES
 from bandcalc.model.standard_values import SERIES
 from bandcalc.model.units import format_si
 from bandcalc.page import state
@@ -33,12 +35,14 @@ from bandcalc.page.edit import (
     with_filter,
     with_front_end,
     with_legs,
+    with_load_value,
     with_output,
     with_reference,
+    with_resistor_size,
     with_stage,
     with_thermistor_model,
 )
-from bandcalc.page.inputs import choice_control, quantity_field, resistor_control
+from bandcalc.page.inputs import choice_control, quantity_field, resistor_control, value_field
 
 __all__ = ["SECTION_PREFIX", "SERIES_KEY", "render_controls"]
 
@@ -88,6 +92,16 @@ def _resistors(design: Design, series: str) -> None:
             options=LEG_KEYS, format_func=lambda key: part(key).far_end)
     for key in fitted:
         resistor_control(part(key).name, part(key).path, design, series)
+    size = design.ratings.size if design.ratings is not None else DEFAULT_SIZE
+    choice_control(st.selectbox, "Resistor size", "ratings.size", size, with_resistor_size,
+                   options=tuple(PACKAGES), format_func=_size_name,
+                   help="Sets each resistor's working voltage and power rating (typical figures, from "
+                        "memory); a part's own rating goes in the design file's ratings section")
+
+
+def _size_name(size: str) -> str:
+    volts, watts = PACKAGES[size]
+    return f"{size}: {format_si(volts, 'V')}, {format_si(watts, 'W')}"
 
 
 def _reference(design: Design, series: str) -> None:
@@ -137,6 +151,31 @@ def _comparator(design: Design) -> None:
                    optional=True, blank="blank: no limit given")
     quantity_field("Common-mode range, high end", "comparator.common_mode_high", design, "V",
                    optional=True, blank="blank: no limit given")
+    quantity_field("Input current limit", "comparator.input_current_limit", design, "A", optional=True,
+                   blank=f"blank: {format_si(INPUT_CURRENT_LIMIT, 'A')}, a cautious default",
+                   help="The most the input protection may carry when a pin is driven past a rail")
+    quantity_field("Largest differential input", "comparator.differential_max", design, "V", optional=True,
+                   blank="blank: not checked", help="The largest V+ − V− the part takes")
+
+
+def _load_field(label: str, name: str, design: Design, *, blank: str, help: str) -> None:
+    unit = "Ohm" if name == "resistance" else "V"
+    value_field(label, f"load.{name}", design, unit,
+                lambda d: None if d.load is None else getattr(d.load, name),
+                lambda d, v: with_load_value(d, name, v), where=f"load.{name}", optional=True, blank=blank,
+                help=help)
+
+
+def _load(design: Design) -> None:
+    _load_field("Load resistance", "resistance", design, blank="blank: no load",
+                help="A DC load from the output to a voltage; it moves the output levels and the points")
+    if design.load is not None and design.load.resistance is not None:
+        _load_field("Load returns to", "volts", design, blank="blank: 0 V (ground)",
+                    help="The voltage at the far end of the load")
+    _load_field("Receiving input: highest low", "logic_low_max", design, blank="blank: not checked",
+                help="The highest voltage the receiving input still reads as low (its data sheet's V_IL max)")
+    _load_field("Receiving input: lowest high", "logic_high_min", design, blank="blank: not checked",
+                help="The lowest voltage the receiving input reads as high (its data sheet's V_IH min)")
 
 
 def _source(design: Design) -> None:
@@ -245,6 +284,7 @@ def render_controls(design: Design) -> None:
         ("resistors", "Resistors", True, lambda: _resistors(design, series)),
         ("reference", "Reference", True, lambda: _reference(design, series)),
         ("output", "Output stage", False, lambda: _output(design, series)),
+        ("load", "Output load and receiving logic", False, lambda: _load(design)),
         ("comparator", "Comparator", False, lambda: _comparator(design)),
         ("source", "Signal source", False, lambda: _source(design)),
         ("filter", "Input filter", False, lambda: _filter(design)),

@@ -19,11 +19,13 @@ from bandcalc.model.design import (
     DividerReference,
     FixedReference,
     InputFilter,
+    Load,
     OpenDrain,
     PushPull,
     divider_thevenin,
 )
 from bandcalc.model.front_end import DividerFrontEnd, LinearFrontEnd, ThermistorFrontEnd
+from bandcalc.model.ratings import PACKAGES, Ratings
 from bandcalc.model.standard_values import SERIES, nearest, series_values
 from bandcalc.model.thermistor import beta_between, beta_to_steinhart_hart
 
@@ -47,7 +49,10 @@ __all__ = [
     "with_filter",
     "with_front_end",
     "with_legs",
+    "with_load_value",
     "with_output",
+    "with_protective",
+    "with_resistor_size",
     "with_reference",
     "with_stage",
     "with_thermistor_model",
@@ -261,3 +266,35 @@ def with_excitation(design: Design, kind: str) -> Design:
         return design
     value: str | float = design.supply.positive if kind == "volts" else kind
     return replace(design, front_end=replace(_thermistor(design), excitation=value))
+
+
+def with_protective(design: Design, guards: bool) -> Design:
+    """Say whether the stage guards people or property (saved as ``protective``, so the words of its
+    name and notes no longer decide)."""
+    if not isinstance(guards, bool):
+        raise DesignError(f"protective: must be true or false, got {guards!r}")
+    return replace(design, protective=guards)
+
+
+_LOAD_FIELDS = ("resistance", "volts", "logic_low_max", "logic_high_min")
+
+
+def with_load_value(design: Design, name: str, value: float | None) -> Design:
+    """Set one value of the ``load`` section (``None`` empties an optional one), making the section
+    where there is none and dropping it when it no longer holds a resistance or a threshold."""
+    if name not in _LOAD_FIELDS:
+        raise DesignError(f"load.{name}: not a value of the load; allowed: {', '.join(_LOAD_FIELDS)}")
+    if name == "volts" and value is None:
+        value = 0.0  # blank: ground
+    load = replace(design.load or Load(), **{name: value})
+    if load.resistance is None and load.logic_low_max is None and load.logic_high_min is None:
+        return replace(design, load=None)
+    return replace(design, load=load)
+
+
+def with_resistor_size(design: Design, size: str) -> Design:
+    """Give every resistor the package ``size`` (``ratings.size``), keeping any part's own rating."""
+    if size not in PACKAGES:
+        raise DesignError(f"ratings.size: {size!r} is not a size bandcalc knows; "
+                          f"allowed: {', '.join(PACKAGES)}")
+    return replace(design, ratings=replace(design.ratings or Ratings(), size=size))

@@ -27,7 +27,6 @@ from bandcalc.model.units import (
     SI_UNITS,
     UnitError,
     format_code,
-    format_si,
     format_value,
     parse_quantity,
     parse_resistance,
@@ -35,11 +34,8 @@ from bandcalc.model.units import (
 from bandcalc.page import state
 from bandcalc.page.edit import slider_options
 
-__all__ = ["PREFIXED_UNITS", "choice_control", "quantity_field", "read_value", "resistor_control", "shown",
+__all__ = ["choice_control", "quantity_field", "read_value", "resistor_control", "shown",
            "value_field"]
-
-#: Units written with SI prefixes in the boxes ("10 mV", "1.5 mW/K"); others as plain figures.
-PREFIXED_UNITS = (*SI_UNITS, "W/K", "V/K", "V/s")
 
 
 def shown(value: float | None, unit: str) -> str:
@@ -51,7 +47,7 @@ def shown(value: float | None, unit: str) -> str:
         return format_code(value, 4) if value > 0 else "0"
     if not unit:
         return f"{value:.7g}"
-    return format_si(value, unit, 6) if unit in PREFIXED_UNITS else format_value(value, unit, 6)
+    return format_value(value, unit, 6)
 
 
 def read_value(text: str, unit: str, what: str) -> float:

@@ -68,7 +68,8 @@ def figure_texts(analysis: Analysis) -> list[tuple[str, str, str | None, str]]:
 
 
 def render_figures(analysis: Analysis) -> None:
-    """The six figures, then the findings and cautions."""
+    """The six figures, then the cautions, the findings (each sentence holds its numbers) and,
+    quieter, the notes."""
     texts = figure_texts(analysis)
     for column, (label, value, stage, meaning) in zip(st.columns(len(texts)), texts, strict=True):
         column.metric(label, value, help=meaning)
@@ -81,10 +82,15 @@ def render_figures(analysis: Analysis) -> None:
                    f"as the watched quantity rises through {format_value(float(w.upper), unit, 4)}.")
     for line in analysis.cautions:
         st.error(line, icon=":material/warning:")
-    for line in analysis.findings:
-        st.warning(line, icon=":material/info:")
-    if not analysis.findings and not analysis.cautions:
-        st.caption("No findings: both points are reachable, inside the rails and the given ranges.")
+    problems = [f for f in analysis.findings if f.level == "warning"]
+    for f in problems:
+        st.warning(f.message, icon=":material/info:")
+    if not problems and not analysis.cautions:
+        st.caption("No findings: both points are reachable; over the input's whole range the pins stay "
+                   "inside the rails and the given ranges, and every part within its rating.")
+    for f in analysis.findings:
+        if f.level == "note":
+            st.caption(f":material/info: {f.message}")
 
 
 def _axis(design: Design) -> tuple[bool, str | None]:

@@ -1,4 +1,5 @@
-"""The design as a whole: its name and notes, a demo to start from, opening and saving the file."""
+"""The design as a whole: its name and notes, whether it guards people or property, a demo to start
+from, opening and saving the file."""
 
 from __future__ import annotations
 
@@ -10,8 +11,11 @@ from bandcalc.demos import demo_designs
 from bandcalc.errors import DesignError
 from bandcalc.model.design import Design
 from bandcalc.model.design_file import design_from_json, design_to_json
+from bandcalc.model.operating import is_protective
 from bandcalc.model.parts import with_value
 from bandcalc.page import state
+from bandcalc.page.edit import with_protective
+from bandcalc.page.inputs import choice_control
 
 __all__ = ["MAX_UPLOAD_MB", "file_name", "render_design_file"]
 
@@ -67,6 +71,10 @@ def render_design_file(design: Design) -> None:
     st.session_state.setdefault(notes_key, design.notes)
     st.text_input("Design name", key=name_key, on_change=_named, args=(name_key, "name", "Design name"))
     st.text_area("Notes", key=notes_key, height=90, on_change=_named, args=(notes_key, "notes", "Notes"))
+    choice_control(st.checkbox, "Guards people or property", "protective", is_protective(design),
+                   with_protective, help="A disconnect, cut-off, alarm or interlock: brings the usual "
+                   "cautions. Ticked from the name and notes until you choose; your choice is saved in the "
+                   "design file.")
     st.download_button("Save the design file", data=design_to_json(design), file_name=file_name(design),
                        mime="application/json", on_click="ignore", icon=":material/download:",
                        width="stretch")

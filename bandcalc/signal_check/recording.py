@@ -30,6 +30,7 @@ import pandas as pd
 
 from bandcalc.errors import BandcalcError
 from bandcalc.signal_check.waveform import MAX_SAMPLES, Waveform
+from bandcalc.user_files import read_regular_file
 
 __all__ = ["CHUNK_BYTES", "MAX_BYTES", "MAX_HEADER_LINES", "MAX_ROWS", "WaveformError", "read_waveform_csv"]
 
@@ -62,15 +63,7 @@ def _raw_bytes(source: object) -> bytes:
     if isinstance(source, str) and ("\n" in source or "\r" in source):
         data = source.encode("utf-8")
     elif isinstance(source, (str, os.PathLike)):
-        path = os.fspath(source)
-        try:
-            size = os.path.getsize(path)
-            if size > MAX_BYTES:
-                raise WaveformError(f"{path}: {size:,} bytes; at most {MAX_BYTES:,} are read")
-            with open(path, "rb") as fh:
-                data = fh.read()
-        except OSError as exc:
-            raise WaveformError(f"cannot read {path!r}: {exc.strerror or exc}") from None
+        data = read_regular_file(source, MAX_BYTES, WaveformError)
     elif isinstance(source, (bytes, bytearray, memoryview)):
         data = bytes(source)
     else:

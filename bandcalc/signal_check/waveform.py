@@ -17,6 +17,7 @@ are all seen.  Hum is a sine with optional harmonics, not noise.
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass, replace
 
 import numpy as np
@@ -176,7 +177,8 @@ def band_limited_noise(n: int, sample_rate: float, rms: float, bandwidth: float,
 @dataclass(frozen=True)
 class SyntheticSignal:
     """What :func:`synthesize` builds, kept so that the same signal can be made with other seeds
-    (the width sweep runs several).  Fields as the arguments of :func:`synthesize`."""
+    (the width sweep runs several).  Fields as the arguments of :func:`synthesize` (``names`` as
+    pairs, so that the signal stays hashable)."""
 
     shape: str
     offset: float
@@ -190,6 +192,8 @@ class SyntheticSignal:
     seed: int | None = None
     noise_bandwidth: float | None = None
     hum_harmonics: tuple[tuple[int, float], ...] = ()
+    names: tuple[tuple[str, str], ...] = ()
+    unit: str = "V"
 
     @property
     def bandwidth(self) -> float:
@@ -213,14 +217,17 @@ class SyntheticSignal:
         return synthesize(self.shape, self.offset, self.amplitude, self.frequency, self.duration,
                           self.sample_rate, self.noise_rms, self.hum_amplitude, self.hum_frequency,
                           self.seed, noise_bandwidth=self.noise_bandwidth,
-                          hum_harmonics=dict(self.hum_harmonics))
+                          hum_harmonics=dict(self.hum_harmonics), names=dict(self.names), unit=self.unit)
 
 
+_SETTINGS = ("shape", "offset", "amplitude", "frequency", "duration", "sample_rate", "noise_rms",
+             "hum_amplitude", "hum_frequency", "seed", "noise_bandwidth")
 def synthesize(shape: str, offset: float, amplitude: float, frequency: float,
                duration: float, sample_rate: float, noise_rms: float = 0.0,
                hum_amplitude: float = 0.0, hum_frequency: float = 50.0,
                seed: int | None = None, *, noise_bandwidth: float | None = None,
-               hum_harmonics: dict[int, float] | None = None) -> Waveform:
+               hum_harmonics: dict[int, float] | None = None, names: Mapping[str, str] | None = None,
+               unit: str = "V") -> Waveform:
     """Build a synthetic input: a shape plus band-limited Gaussian noise and mains hum.
 
     Parameters
@@ -258,35 +265,44 @@ def synthesize(shape: str, offset: float, amplitude: float, frequency: float,
         ``DEFAULT_NOISE_BANDWIDTH``).
     hum_harmonics : dict of int to float, optional
         Peak amplitude (V) of hum harmonics by order (2 to 40), in phase with the fundamental.
+    names : mapping, optional
+        What the caller's user calls a setting, by parameter name, for the messages (the command
+        line passes ``{"sample_rate": "--rate", ...}``); the parameter names by default.
+    unit : str
+        The signal's unit in the messages: "V", or a front end's watched unit ("C").
 
     Returns
     -------
     Waveform
         ``v`` with noise and hum, ``clean`` without them.
     """
-    choice("shape", shape, SHAPES)
-    offset = real("offset", offset, unit="V")
-    amplitude = real("amplitude", amplitude, low=0.0, unit="V")
-    frequency = real("frequency", frequency, low=0.0, low_open=True, unit="Hz")
-    duration = real("duration", duration, low=0.0, low_open=True, unit="s")
-    sample_rate = real("sample_rate", sample_rate, low=0.0, low_open=True, unit="Hz")
-    noise_rms = real("noise_rms", noise_rms, low=0.0, unit="V")
+    named = {key: key for key in _SETTINGS} | dict(names or {})
+    choice(named["shape"], shape, SHAPES)
+    offset = real(named["offset"], offset, unit=unit)
+    amplitude = real(named["amplitude"], amplitude, low=0.0, unit=unit)
+    frequency = real(named["frequency"], frequency, low=0.0, low_open=True, unit="Hz")
+    duration = real(named["duration"], duration, low=0.0, low_open=True, unit="s")
+    sample_rate = real(named["sample_rate"], sample_rate, low=0.0, low_open=True, unit="Hz")
+    noise_rms = real(named["noise_rms"], noise_rms, low=0.0, unit=unit)
     bandwidth = DEFAULT_NOISE_BANDWIDTH if noise_bandwidth is None else real(
-        "noise_bandwidth", noise_bandwidth, low=0.0, low_open=True, unit="Hz")
+        named["noise_bandwidth"], noise_bandwidth, low=0.0, low_open=True, unit="Hz")
+    hum_amplitude = real(named["hum_amplitude"], hum_amplitude, low=0.0, unit=unit)
+    hum_frequency = float(choice(named["hum_frequency"], hum_frequency, HUM_FREQUENCIES))
     hum = Hum(hum_amplitude, hum_frequency, tuple((hum_harmonics or {}).items()))
     if seed is not None:
-        seed = whole("seed", seed)
+        seed = whole(named["seed"], seed)
     nyquist = sample_rate / 2.0
     if shape != "ramp" and frequency >= nyquist:
         raise BandcalcError(
-            f"frequency must be below sample_rate / 2 = {nyquist:g} Hz (Nyquist), "
+            f"{named['frequency']} must be below {named['sample_rate']} / 2 = {nyquist:g} Hz (Nyquist), "
             f"got {frequency:g} Hz"
         )
     if hum.present and hum.highest_frequency >= nyquist:
-        raise BandcalcError(
-            f"hum at {hum.highest_frequency:g} Hz (hum_frequency {hum.frequency:g} Hz or a harmonic) "
-            f"needs sample_rate above {2 * hum.highest_frequency:g} Hz, got {sample_rate:g} Hz"
-        )
+        top = hum.highest_frequency
+        what = (f"{named['hum_frequency']} {hum.frequency:g} Hz" if top == hum.frequency else
+                f"hum at {top:g} Hz (a harmonic of {named['hum_frequency']} {hum.frequency:g} Hz)")
+        raise BandcalcError(f"{what} needs {named['sample_rate']} above {2 * top:g} Hz, "
+                            f"got {sample_rate:g} Hz")
     rate = sample_rate_for(sample_rate, noise_rms, bandwidth)
     # The small relative margin keeps t = duration when duration * rate is whole.
     product = duration * rate
@@ -299,12 +315,12 @@ def synthesize(shape: str, offset: float, amplitude: float, frequency: float,
         n = int(np.floor(product * (1.0 + 1e-12))) + 1
     if n > MAX_SAMPLES:
         raise BandcalcError(
-            f"duration x sample_rate gives more than {MAX_SAMPLES:,} samples{raised}; "
+            f"{named['duration']} x {named['sample_rate']} gives more than {MAX_SAMPLES:,} samples{raised}; "
             "shorten the duration or lower the sample rate"
         )
     if n < 2:
         raise BandcalcError(
-            f"duration x sample_rate gives {n} sample; at least 2 are needed "
+            f"{named['duration']} x {named['sample_rate']} gives {n} sample; at least 2 are needed "
             "(lengthen the duration or raise the sample rate)"
         )
 

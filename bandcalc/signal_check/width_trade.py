@@ -163,15 +163,17 @@ class Sweep:
 
     @property
     def best_mean_delay(self) -> float | None:
-        """Mean edge delay at :attr:`best_width`, in s, or None."""
-        i = self.best_index
-        return None if i is None else float(self.mean_delays[i])
+        """Mean edge delay at :attr:`best_width`, in s, or None (no such width, or no edge there)."""
+        return self._at_best(self.mean_delays)
 
     @property
     def best_max_delay(self) -> float | None:
-        """Largest edge delay at :attr:`best_width`, in s, or None."""
+        """Largest edge delay at :attr:`best_width`, in s, or None (as :attr:`best_mean_delay`)."""
+        return self._at_best(self.max_delays)
+
+    def _at_best(self, delays: np.ndarray) -> float | None:
         i = self.best_index
-        return None if i is None else float(self.max_delays[i])
+        return None if i is None or np.isnan(delays[i]) else float(delays[i])
 
 
 def _all_nan_quiet(reduce, values: np.ndarray) -> np.ndarray:

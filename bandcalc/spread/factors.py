@@ -26,7 +26,7 @@ from bandcalc.model.front_end import front_end_of, front_end_tolerances
 from bandcalc.model.parts import parameters, part, resistors_of, tolerance_of
 from bandcalc.model.points import design_points
 from bandcalc.model.tolerances import NOMINAL_CELSIUS, Tolerances
-from bandcalc.model.units import format_si
+from bandcalc.model.units import format_si, format_value
 
 __all__ = ["QUANTITIES", "Factor", "VariedModel", "factors"]
 
@@ -63,6 +63,14 @@ class Factor:
     def at(self, z: float | np.ndarray) -> float | np.ndarray:
         """The factor's value for unit variable ``z`` (-1: low, 0: centre, +1: high)."""
         return self.centre + 0.5 * (self.high - self.low) * z
+
+    def format(self, value: float) -> str:
+        """A value of this factor for people: "25 C", "+100 ppm/K", "4.7 kOhm"."""
+        if self.unit == "degC":
+            return f"{value:g} C"
+        if self.unit == "ppm/K":
+            return f"{value:+g} ppm/K"
+        return format_value(value, self.unit, 4)  # kelvin (Beta) plain, volts and amperes prefixed
 
     def draw(self, rng: np.random.Generator, n: int, out: np.ndarray | None = None) -> np.ndarray:
         """``n`` random values: normal with the bounds at +/-3 sigma, or uniform between the bounds.
@@ -221,7 +229,9 @@ class VariedModel:
         if "temperature" in names:
             t = self.factors[names.index("temperature")]
             rms = math.sqrt((t.centre - NOMINAL_CELSIUS) ** 2 + (t.high - t.low) ** 2 / 12)
-            z_rms = (NOMINAL_CELSIUS + rms - t.centre) / (0.5 * (t.high - t.low))
+            half = 0.5 * (t.high - t.low)
+            # A range narrower than a float step has no width: its centre is the rms distance away.
+            z_rms = (NOMINAL_CELSIUS + rms - t.centre) / half if half > 0 else 0.0
             for i, name in enumerate(names):
                 if name.endswith("drift"):
                     z[[i, k + i], names.index("temperature")] = z_rms

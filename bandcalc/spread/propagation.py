@@ -14,16 +14,17 @@ from __future__ import annotations
 
 import math
 from collections.abc import Callable
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
 from bandcalc.errors import BandcalcError
 from bandcalc.model.design import Design
+from bandcalc.model.front_end import front_end_of
 from bandcalc.model.operating import analyze
-from bandcalc.model.points import input_range
+from bandcalc.model.points import design_points, input_range
 from bandcalc.model.tolerances import Tolerances
-from bandcalc.model.units import format_value
+from bandcalc.model.units import format_si, format_value
 from bandcalc.spread.factors import QUANTITIES, Factor, VariedModel
 
 __all__ = [
@@ -34,6 +35,7 @@ __all__ = [
     "MAX_SAMPLES",
     "MIN_SAMPLES",
     "PERCENTILES",
+    "Missing",
     "Extreme",
     "MonteCarlo",
     "Sensitivity",
@@ -88,8 +90,27 @@ class Extreme:
 
 
 @dataclass(frozen=True)
+class Missing:
+    """Corners of the tolerance box where the stage has no such switching point.
+
+    ``count`` of ``corners`` looked at (both None where the corner was searched, not counted);
+    ``corner`` is one of them (factor name to value); ``others`` the least and greatest value
+    over the corners that do have the point (None if none has).
+    """
+
+    count: int | None
+    corners: int | None
+    corner: dict[str, float]
+    others: tuple[float, float] | None
+
+
+@dataclass(frozen=True)
 class WorstCase:
-    """Extremes of the upper point, the lower point and the hysteresis over the tolerance box."""
+    """Extremes of the upper point, the lower point and the hysteresis over the tolerance box.
+
+    Where some corner has no switching point (no value of the input switches the stage there),
+    that quantity's extremes are NaN at that corner and ``missing`` says where and how many.
+    """
 
     nominal: dict[str, float]
     upper: Extreme
@@ -97,24 +118,44 @@ class WorstCase:
     hysteresis: Extreme
     method: str
     evaluated: int
+    missing: dict[str, Missing] = field(default_factory=dict)
 
 
-def _exhaustive(model: VariedModel) -> tuple[dict[str, tuple[np.ndarray, np.ndarray]], int]:
-    """Every corner, in blocks: for each quantity, the unit vectors of its least and greatest corner."""
+def _exhaustive(model: VariedModel) -> tuple[dict[str, tuple[np.ndarray, np.ndarray]], int,
+                                             dict[str, Missing]]:
+    """Every corner, in blocks: for each quantity, the unit vectors of its least and greatest corner
+    (of a corner without the point, if there is one), and the corners without a point."""
     k = len(model.factors)
     total = 2**k
     best: dict[str, list] = {q: [math.inf, None, -math.inf, None] for q in QUANTITIES}
+    lacking: dict[str, list] = {q: [0, None] for q in QUANTITIES}
     for start in range(0, total, CHUNK):
         codes = np.arange(start, min(start + CHUNK, total), dtype=np.int64)
         z = ((codes[:, None] >> np.arange(k)) & 1) * 2.0 - 1.0
         values = model.at_unit(z)
         for q in QUANTITIES:
-            lo, hi = int(np.argmin(values[q])), int(np.argmax(values[q]))
-            if not values[q][lo] >= best[q][0]:
-                best[q][:2] = values[q][lo], z[lo]
-            if not values[q][hi] <= best[q][2]:
-                best[q][2:] = values[q][hi], z[hi]
-    return {q: (b[1], b[3]) for q, b in best.items()}, total
+            v = values[q]
+            bad = ~np.isfinite(v)
+            if bad.any():
+                lacking[q][0] += int(np.count_nonzero(bad))
+                if lacking[q][1] is None:
+                    lacking[q][1] = z[int(np.argmax(bad))]
+                if bad.all():
+                    continue
+            lo, hi = int(np.argmin(np.where(bad, np.inf, v))), int(np.argmax(np.where(bad, -np.inf, v)))
+            if v[lo] < best[q][0]:
+                best[q][:2] = v[lo], z[lo]
+            if v[hi] > best[q][2]:
+                best[q][2:] = v[hi], z[hi]
+    corners, missing = {}, {}
+    for q, (count, z_missing) in lacking.items():
+        if count:
+            others = None if best[q][1] is None else (float(best[q][0]), float(best[q][2]))
+            missing[q] = Missing(count, total, model.corner(z_missing), others)
+            corners[q] = (z_missing, z_missing)
+        else:
+            corners[q] = (best[q][1], best[q][3])
+    return corners, total, missing
 
 
 def _searched(model: VariedModel, quantity: str, sign: float, slope: np.ndarray) -> tuple[np.ndarray, int]:
@@ -143,7 +184,7 @@ def _searched(model: VariedModel, quantity: str, sign: float, slope: np.ndarray)
 def _worst_case(model: VariedModel, exhaustive_limit: int) -> WorstCase:
     nominal = {q: float(v[0]) for q, v in model.evaluate({}, 1).items()}  # every part at nominal
     if len(model.factors) <= exhaustive_limit:
-        corners, evaluated = _exhaustive(model)
+        corners, evaluated, missing = _exhaustive(model)
         method = "every corner of the box"
     else:
         slopes, corners, evaluated = model.gradient(), {}, 2 * len(model.factors)
@@ -153,12 +194,16 @@ def _worst_case(model: VariedModel, exhaustive_limit: int) -> WorstCase:
             corners[q] = (lo, hi)
             evaluated += n_lo + n_hi
         method = "corner from the signs of the partial derivatives, refined by single flips"
+        missing = {}
     extremes = {}
     for q, (lo, hi) in corners.items():
         both = model.at_unit(np.stack([lo, hi]))[q]
         extremes[q] = Extreme(min=float(both[0]), max=float(both[1]),
                               min_corner=model.corner(lo), max_corner=model.corner(hi))
-    return WorstCase(nominal=nominal, method=method, evaluated=evaluated, **extremes)
+        if q not in missing and not np.isfinite(both).all():  # a searched corner without the point
+            z = lo if not np.isfinite(both[0]) else hi
+            missing[q] = Missing(None, None, model.corner(z), None)
+    return WorstCase(nominal=nominal, method=method, evaluated=evaluated, missing=missing, **extremes)
 
 
 def worst_case(design: Design, tolerances: Tolerances | None = None, *,
@@ -395,6 +440,35 @@ class Spread:
         return self.design.unit
 
 
+def _missing_notes(model: VariedModel, wc: WorstCase) -> list[str]:
+    """Where a corner of the box has no switching point: which corner, and why."""
+    design, out = model.design, []
+    v, volts = (lambda x: format_value(x, design.unit, 4)), (lambda x: format_si(x, "V", 4))
+    by_name = {f.name: f for f in model.factors}
+    for q in ("upper", "lower"):
+        m = wc.missing.get(q)
+        if m is None:
+            continue
+        at = ", ".join(f"{k} {by_name[k].format(x)}" for k, x in m.corner.items()) or "nominal values"
+        how_many = "a corner" if m.count is None else f"{m.count:,} of {m.corners:,} corners"
+        values = model.values({k: np.asarray(x) for k, x in m.corner.items()})
+        with np.errstate(all="ignore"):
+            pts = design_points(design, values)
+            v0, v1, _, _ = front_end_of(design).ends({**model.nominal, **values})
+        stage = float(pts.stage_upper if (q == "upper") == pts.rises else pts.stage_lower)
+        if math.isfinite(stage):
+            lo, hi = sorted(float(x) for x in (v0, v1))
+            why = (f"the stage would switch at {volts(stage)} at its input, beyond the {volts(lo)} to "
+                   f"{volts(hi)} the front end gives")
+        else:
+            why = "the stage has no switching point there at all: its + and - pins never cross"
+        others = ("" if m.others is None
+                  else f"; over the other corners it runs from {v(m.others[0])} to {v(m.others[1])}")
+        out.append(f"The stage has no {q} switching point at {how_many} of the tolerance box, so its worst "
+                   f"case is not a number: at {at}, {why}. Such a build never switches there{others}.")
+    return out
+
+
 def _findings(design: Design, wc: WorstCase, mc: MonteCarlo) -> list[str]:
     out, v = [], (lambda x: format_value(x, design.unit, 4))
     low, high = input_range(design)
@@ -421,7 +495,7 @@ def spread(design: Design, tolerances: Tolerances | None = None, *, samples: int
     mc = _monte_carlo(model, samples, seed, progress, DEFAULT_BINS)
     return Spread(design=design, tolerances=model.tolerances, factors=tuple(model.factors),
                   worst_case=wc, monte_carlo=mc, sensitivity=_sensitivity(model),
-                  notes=tuple(model.notes + _findings(design, wc, mc)),
+                  notes=tuple(model.notes + _missing_notes(model, wc) + _findings(design, wc, mc)),
                   cautions=analyze(design).cautions)
 
 

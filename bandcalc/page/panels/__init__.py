@@ -14,6 +14,11 @@ the design from a panel (say, apply a candidate), call
 the design (the spread panel's tolerances) use :func:`bandcalc.page.state.edit` in callbacks as
 the sidebar does, and the panel's rerun then shows their messages and writes the address.
 Results of long runs go to :mod:`bandcalc.page.runs`, where the summary finds them.
+
+A panel may also define ``run_requested(sheet)``: work a button of the panel asked for, run in the
+page's full run ahead of the panel and outside its fragment.  A Stop button drawn there ends the
+work at its next Streamlit call (a progress update), as any widget outside a fragment does; one
+inside the fragment could not, since a fragment's rerun waits for the run in progress.
 """
 
 from __future__ import annotations
@@ -66,4 +71,6 @@ def render_panels(sheet: Sheet) -> None:
     for tab, panel in zip(tabs, PANELS, strict=True):
         if tab.open:
             with tab:
+                if hasattr(panel, "run_requested"):
+                    guarded(panel.TITLE, panel.run_requested, sheet)
                 _panel(panel, sheet)

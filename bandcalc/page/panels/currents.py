@@ -13,7 +13,7 @@ TITLE = "Currents and power"
 __all__ = ["TITLE", "render"]
 
 _RAILS = {"positive": "From the positive rail", "negative": "From the negative rail",
-          "pullup_supply": "From the pull-up supply"}
+          "pullup_supply": "From the pull-up supply", "load_supply": "From the load's voltage"}
 
 
 def _amps(amps: float | None) -> str:

@@ -3,9 +3,19 @@
 The settings are the panel's own (they are not part of the design): they stay while the design
 is edited, a candidate applied or another tab opened, and start again from the design's present
 points when a design under another name or with another watched unit comes in.  The fit runs
-only when "Find values" is pressed, cached by the design's JSON and the settings; the latest
-result is kept in ``st.session_state["page.fit_result"]`` as ``(design JSON, FitResult)``, and
-:func:`latest_fit` gives it for a design it still holds for.
+only when "Find values" is pressed; the latest result is kept in
+``st.session_state["page.fit_result"]`` as ``(design JSON, FitResult)``, and :func:`latest_fit`
+gives it for a design it still holds for.
+
+"Find values" asks for the search and reruns the whole page; the search then runs in that full
+run (:func:`run_requested`, called outside the panel's fragment), with a progress bar of the
+combinations checked against the search's limit and a Stop button.  Streamlit ends a run at its
+next Streamlit call (here, each progress update) when a widget outside a fragment asks for a
+rerun: Stop, or any change in the sidebar.  A widget inside the panel's fragment could not: a
+fragment's rerun waits for the run in progress.  The next run says the search was stopped; the
+design and the last results stay.  Finished fits are kept for the session by the design's JSON
+and the settings (not with ``st.cache_data``: a cached function may not update a progress bar
+drawn outside it), so pressing "Find values" again answers at once.
 """
 
 from __future__ import annotations
@@ -29,12 +39,16 @@ from bandcalc.page.controls import SERIES_KEY
 
 TITLE = "Fit to target points"
 
-__all__ = ["RESULT_KEY", "TITLE", "latest_fit", "render"]
+__all__ = ["RESULT_KEY", "TITLE", "latest_fit", "render", "run_requested"]
 
 RESULT_KEY = "page.fit_result"
 _KEPT = "page.fit.settings"  # the settings, kept while the panel's widgets are not drawn
 _WIDGET = "fit."  # widget keys: fit.upper, fit.lower, ...
 _COUNT_MAX = 10
+_ASKED = "page.fit.asked"  # (design JSON, arguments) of the search "Find values" asked for
+_SEARCHING = "page.fit.searching"  # set while a search runs; still set in the run after an interrupted one
+_DONE = "page.fit.done"  # finished fits of this session: {(design JSON, settings...): FitResult}
+_DONE_KEPT = 16
 _LABELS = {"upper": "Upper point wanted", "lower": "Lower point wanted", "min_ohms": "Smallest resistor",
            "max_ohms": "Largest resistor"}
 
@@ -150,11 +164,24 @@ def _read(design: Design, kept: dict) -> tuple[dict, list[str]]:
     return args, wrong
 
 
-@st.cache_data(max_entries=64, show_spinner=False)
-def _fit_of(design_json: str, upper: float, lower: float, series: str, min_ohms: float, max_ohms: float,
-            count: int, fixed: tuple[tuple[str, float], ...], add_leg: bool) -> FitResult:
-    return fit(design_from_json(design_json), upper, lower, series=series, min_ohms=min_ohms,
-               max_ohms=max_ohms, count=count, fixed=dict(fixed), add_leg=add_leg)
+def _fit_of(design: Design, args: dict) -> FitResult | None:
+    """The fit, with a progress bar and a Stop button while it runs; None after a message."""
+    slot = st.empty()
+    with slot.container():
+        bar = st.progress(0.0, text="Searching the standard values…")
+        st.button("Stop the search", key=_WIDGET + "stop", help="Stop searching; the design and the last "
+                  "results stay")
+
+    def progress(checked: int, budget: int) -> None:
+        bar.progress(min(checked / budget, 1.0),
+                     text=f"Searching: {checked:,} of at most {budget:,} combinations checked")
+
+    st.session_state[_SEARCHING] = True
+    settings = {k: dict(v) if k == "fixed" else v for k, v in args.items() if k not in ("upper", "lower")}
+    result = guarded("Find values", fit, design, args["upper"], args["lower"], **settings, progress=progress)
+    del st.session_state[_SEARCHING]  # reached only where the search was not interrupted
+    slot.empty()
+    return result
 
 
 def _holds_for(fitted: Design, design: Design) -> bool:
@@ -181,10 +208,37 @@ def _find(design: Design, kept: dict) -> None:
     if wrong:
         return
     text = design_to_json(design)
-    with st.spinner("Searching the standard values…"):
-        result = guarded("Find values", _fit_of, text, **args)
+    result = st.session_state.get(_DONE, {}).get(_done_key(text, args))
     if result is not None:
-        st.session_state[RESULT_KEY] = (text, result)
+        _keep(text, args, result)
+        return
+    st.session_state[_ASKED] = (text, args)
+    st.rerun(scope="app")  # the search runs in the full run, where Stop can end it
+
+
+def _done_key(text: str, args: dict) -> tuple:
+    return (text, *sorted(args.items()))
+
+
+def _keep(text: str, args: dict, result: FitResult) -> None:
+    """The result shown, and kept for the session (the latest last, at most _DONE_KEPT)."""
+    done = st.session_state.setdefault(_DONE, {})
+    key = _done_key(text, args)
+    done.pop(key, None)
+    done[key] = result
+    for old in list(done)[:-_DONE_KEPT]:
+        del done[old]
+    st.session_state[RESULT_KEY] = (text, result)
+
+
+def run_requested(sheet) -> None:
+    """The search "Find values" asked for, in the page's full run (outside the panel's fragment)."""
+    asked = st.session_state.pop(_ASKED, None)
+    if asked is None or asked[0] != design_to_json(sheet.design):
+        return  # nothing asked, or the design changed since
+    result = _fit_of(sheet.design, asked[1])
+    if result is not None:
+        _keep(*asked, result)
 
 
 def _in_use(design: Design, c: Candidate) -> bool:
@@ -228,6 +282,8 @@ def _results(sheet) -> None:
     targets = f"upper {format_value(r.upper, unit, 4)}, lower {format_value(r.lower, unit, 4)}"
     span = f"{format_code(r.min_ohms, 4)} to {format_code(r.max_ohms, 4)}"
     st.markdown(f"**Found for** {targets}: {fitted} from {r.series}, {span}.")
+    if r.stopped:
+        st.warning(r.stopped)
     for line in r.problems:
         st.warning(f"Cannot meet the targets exactly: {line}")
     if r.candidates:
@@ -249,6 +305,9 @@ def _results(sheet) -> None:
 def render(sheet) -> None:
     """Target points and settings, "Find values", the ranked candidates with an Apply button each."""
     kept = _settings(sheet)
+    if st.session_state.pop(_SEARCHING, False):
+        st.info("The search was stopped before it finished (by Stop, or by another change on the page); "
+                "the design and the last results are kept. Press Find values to search again.")
     if _form(sheet, kept):
         _find(sheet.design, kept)
     _results(sheet)

@@ -315,7 +315,7 @@ def _tradeoff(sweep: Sweep, run: SignalRun, unit: str) -> None:
                    f"signal{why}.")
     else:
         v = lambda x: format_value(x, unit, 3)  # noqa: E731
-        s = lambda x: format_si(x, "s", 3)  # noqa: E731
+        s = lambda x: "not known" if x is None else format_si(x, "s", 3)  # noqa: E731  (no edge: no delay)
         drawn = [w for w in sweep.run_best_widths if w is not None]
         spread = f" Each draw alone: {v(min(drawn))} to {v(max(drawn))}." if drawn and sweep.runs > 1 else ""
         predicted = sweep.predicted_best_width
