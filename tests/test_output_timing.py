@@ -47,3 +47,24 @@ def test_small_overdrive_is_reported(demo):
     assert timing.findings[0].startswith("At the upper point the signal overdrives the comparator by only")
     assert "less than the 100 mV its 200 ns delay is stated at" in timing.findings[0]
     assert output_timing(d, (a.lower - 1.0, a.upper + 1.0)).findings == ()
+
+
+def test_the_loads_logic_thresholds_time_the_edges(demo):
+    # A rising edge counts once the output reaches the lowest voltage the receiving input reads as
+    # high (load.logic_high_min), a falling one once it reaches the highest it reads as low
+    # (load.logic_low_max): the open-drain rise RC ln((V_high - V_low) / (V_high - V_th)), first
+    # principles; thresholds given to the call still win.
+    from bandcalc.model.design import Load
+
+    d = demo("solar_battery_disconnect")
+    a = analyze(d)
+    swing = a.output_high - a.output_low
+    high_min, low_max = a.output_low + 0.7 * swing, a.output_low + 0.2 * swing
+    loaded = replace(d, load=Load(logic_low_max=low_max, logic_high_min=high_min))
+    assert analyze(loaded).output_high == pytest.approx(a.output_high)  # thresholds alone load nothing
+    rc = d.output.pullup * d.output.load_capacitance
+    timing = output_timing(loaded)
+    assert timing.threshold_high == pytest.approx(high_min) and timing.threshold_low == pytest.approx(low_max)
+    assert timing.rise == pytest.approx(rc * math.log(1 / 0.3), rel=1e-6)
+    assert output_timing(loaded, threshold_high=a.output_low + 0.5 * swing).rise == pytest.approx(
+        rc * math.log(2), rel=1e-6)

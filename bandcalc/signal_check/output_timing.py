@@ -7,8 +7,9 @@ From the instant the input crosses a switching point, an output edge takes
    its saturation recovery (``comparator.recovery``);
 2. the output's own transition up to the receiving input's threshold: by default 50 % of the
    swing between the output's two levels (the midpoint a logic input is commonly taken to switch
-   at, common practice); a threshold in volts may be given (a logic input's data-sheet thresholds,
-   ``threshold_high`` for rising edges and ``threshold_low`` for falling ones):
+   at, common practice); the receiving input's data-sheet thresholds where the design's ``load``
+   gives them (``logic_high_min`` for rising edges, ``logic_low_max`` for falling ones), or
+   thresholds in volts given to the call (``threshold_high``, ``threshold_low``):
 
    * an open-drain output rises as its pull-up charges ``output.load_capacitance``,
      V(t) = V_high - (V_high - V_low) exp(-t / (R_pullup C)), so it reaches V_th after
@@ -32,7 +33,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-from bandcalc.model.design import Design, OpenDrain
+from bandcalc.model.design import Design, Load, OpenDrain
 from bandcalc.model.operating import analyze
 from bandcalc.model.points import design_points, pin_margin
 from bandcalc.model.units import format_si, format_value
@@ -105,9 +106,12 @@ def output_timing(design: Design, reach: tuple[float, float] | None = None, *,
     reach : (lowest, highest) of the signal, in the design's unit, optional
         How far the signal goes; with ``comparator.delay_overdrive`` it gives the overdrive finding.
     threshold_low, threshold_high : float, optional
-        Volts at which the receiving input reads low / high (default: half the output's swing).
+        Volts at which the receiving input reads low / high (default: the design's
+        ``load.logic_low_max`` / ``load.logic_high_min``, else half the output's swing).
     """
-    comp, out = design.comparator, design.output
+    comp, out, load = design.comparator, design.output, design.load or Load()
+    threshold_high = load.logic_high_min if threshold_high is None else threshold_high
+    threshold_low = load.logic_low_max if threshold_low is None else threshold_low
     low, high = _levels(design)
     middle = 0.5 * (low + high)
     th_high = middle if threshold_high is None else threshold_high
