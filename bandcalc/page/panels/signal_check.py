@@ -276,7 +276,7 @@ def _figures(run: SignalRun, unit: str) -> None:
 
 def _prediction(check: FalseEdgeCheck, unit: str) -> None:
     """The false edges Rice's formula predicts, with the model's simplifications."""
-    v = lambda x: format_value(x, unit, 3)  # noqa: E731
+    v = lambda x: format_value(x, literal(unit), 3)  # noqa: E731
     columns = st.columns(4)
     columns[0].metric("Noise at the stage", f"{v(check.noise.rms_at_stage)} RMS",
                       help="After the input filter, where there is one")
@@ -287,12 +287,12 @@ def _prediction(check: FalseEdgeCheck, unit: str) -> None:
                                 (columns[3], "lower", check.extra_lower)):
         column.metric(f"Extra edges per crossing, {name}", "—" if extra is None else f"{extra:.3g}",
                       help="Expected from noise and hum as the signal passes that point at its slope")
-    st.caption("Model: " + " ".join(check.simplifications))
+    st.caption("Model: " + literal(" ".join(check.simplifications)))
 
 
 def _table(table: FilterTable, unit: str) -> None:
     st.markdown(f"**Hysteresis and filter for at most {table.target_per_year:g} false edge(s) a year** "
-                f"(slope {format_value(table.slope, unit + '/s', 3)})")
+                f"(slope {format_value(table.slope, literal(unit) + '/s', 3)})")
     best = table.best_index
     rows = [{"Time constant": format_si(tau, "s", 3),
              "Pole": "none" if tau == 0 else format_si(pole, "Hz", 3),
