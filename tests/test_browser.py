@@ -16,16 +16,15 @@ from __future__ import annotations
 import json
 import os
 import socket
-import subprocess
 import sys
 import time
-import urllib.request
 from dataclasses import replace
 from pathlib import Path
 from urllib.parse import parse_qs, urlencode, urlsplit
 
 import pytest
 from page_helpers import prose
+from serving import free_port, serving
 
 from bandcalc.demos import load_demo
 from bandcalc.errors import DesignError
@@ -53,41 +52,13 @@ sync_api = pytest.importorskip("playwright.sync_api",
                                reason="browser tests need Playwright for Python (pip install playwright)")
 
 
-def free_port() -> int:
-    with socket.socket() as s:
-        s.bind(("127.0.0.1", 0))
-        return s.getsockname()[1]
-
-
 @pytest.fixture(scope="module")
 def server():
-    port = free_port()
     env = {**os.environ, "PYTHONPATH": str(ROOT)}
-    proc = subprocess.Popen(
-        [sys.executable, "-m", "streamlit", "run", "app.py", "--server.port", str(port),
-         "--server.headless", "true", "--server.address", "127.0.0.1"],
-        cwd=ROOT, env=env, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
-    url = f"http://127.0.0.1:{port}/"
-    try:
-        deadline = time.monotonic() + 60
-        while True:
-            try:
-                with urllib.request.urlopen(url + "_stcore/health", timeout=2) as reply:
-                    if reply.status == 200:
-                        break
-            except OSError:
-                pass
-            if proc.poll() is not None or time.monotonic() > deadline:
-                pytest.fail(f"streamlit did not start on {url} (exit code {proc.poll()})")
-            time.sleep(0.3)
+    port = free_port()
+    with serving([sys.executable, "-m", "streamlit", "run", "app.py", "--server.port", str(port),
+                  "--server.headless", "true", "--server.address", "127.0.0.1"], port, ROOT, env) as url:
         yield url
-    finally:
-        proc.terminate()
-        try:
-            proc.wait(timeout=15)
-        except subprocess.TimeoutExpired:
-            proc.kill()
-            proc.wait()
 
 
 @pytest.fixture(scope="module")
