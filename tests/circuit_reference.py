@@ -13,14 +13,23 @@ import sympy
 from bandcalc.model.design import Design, DividerReference, FixedReference, OpenDrain
 
 
-def netlist(design: Design, state: str) -> tuple[str, str]:
-    """SPICE-like lcapy netlist of the stage (signal = symbol ``vs``) and the - pin's node name."""
+def netlist(design: Design, state: str, capacitor: bool = False) -> tuple[str, str]:
+    """SPICE-like lcapy netlist of the stage (signal = symbol ``vs``) and the - pin's node name.
+
+    An input filter's resistor is in it; its capacitor (on node ``f``) only with ``capacitor``
+    (at DC it carries no current).
+    """
     d, r = design, design.resistors
     lines = [f"Vpos vp 0 {d.supply.positive!r}", f"Vneg vn 0 {d.supply.negative!r}", "Vs s 0 vs"]
     sig = "s"
     if d.source.resistance > 0:
         lines.append(f"Rsrc s sx {d.source.resistance!r}")
         sig = "sx"
+    if d.filter is not None:  # the input filter: its resistor in series, its capacitor to ground
+        lines.append(f"Rflt {sig} f {d.filter.resistance!r}" if d.filter.resistance > 0 else f"W {sig} f")
+        if capacitor:
+            lines.append(f"Cflt f 0 {d.filter.capacitance!r}")
+        sig = "f"
     if isinstance(d.reference, FixedReference):
         lines.append(f"Vref ref 0 {d.reference.volts!r}")
     elif isinstance(d.reference, DividerReference):
@@ -92,3 +101,18 @@ def switching_point(design: Design, state: str) -> float:
     diff = diff.subs({s: vs for s in diff.free_symbols if s.name == "vs"})
     (root,) = sympy.solve(sympy.Eq(diff, sympy.Rational(repr(design.comparator.offset))), vs)
     return float(root)
+
+
+def filter_pole(design: Design, state: str) -> float:
+    """The pole (Hz) of the filter capacitor's node, output in ``state``: the pole of the impedance
+    lcapy finds between that node and ground, every source set to zero (the signal's source
+    shorted, as a small-signal view asks)."""
+    import math
+
+    from lcapy import Circuit
+
+    text, _ = netlist(design, state, capacitor=True)
+    text = "\n".join("W s 0" if line.startswith("Vs ") else line for line in text.splitlines())
+    z = Circuit(text).impedance("f", 0)
+    (pole,) = (float(sympy.sympify(str(k))) for k in z.poles())
+    return -pole / (2 * math.pi)

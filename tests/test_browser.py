@@ -15,16 +15,15 @@ from __future__ import annotations
 import json
 import os
 import socket
-import subprocess
 import sys
 import time
-import urllib.request
 from dataclasses import replace
 from pathlib import Path
 from urllib.parse import parse_qs, urlencode, urlsplit
 
 import pytest
 from page_helpers import prose
+from serving import free_port, serving
 
 from bandcalc.demos import load_demo
 from bandcalc.errors import DesignError
@@ -36,6 +35,7 @@ from bandcalc.model.units import format_si
 from bandcalc.outputs.netlist import netlist
 from bandcalc.outputs.summary import design_from_summary
 from bandcalc.page.address import ADDRESS_MAX, PARAM, address_to_design, design_to_address
+from bandcalc.page.panels import PANELS
 
 pytestmark = pytest.mark.browser
 
@@ -52,41 +52,13 @@ sync_api = pytest.importorskip("playwright.sync_api",
                                reason="browser tests need Playwright for Python (pip install playwright)")
 
 
-def free_port() -> int:
-    with socket.socket() as s:
-        s.bind(("127.0.0.1", 0))
-        return s.getsockname()[1]
-
-
 @pytest.fixture(scope="module")
 def server():
-    port = free_port()
     env = {**os.environ, "PYTHONPATH": str(ROOT)}
-    proc = subprocess.Popen(
-        [sys.executable, "-m", "streamlit", "run", "app.py", "--server.port", str(port),
-         "--server.headless", "true", "--server.address", "127.0.0.1"],
-        cwd=ROOT, env=env, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
-    url = f"http://127.0.0.1:{port}/"
-    try:
-        deadline = time.monotonic() + 60
-        while True:
-            try:
-                with urllib.request.urlopen(url + "_stcore/health", timeout=2) as reply:
-                    if reply.status == 200:
-                        break
-            except OSError:
-                pass
-            if proc.poll() is not None or time.monotonic() > deadline:
-                pytest.fail(f"streamlit did not start on {url} (exit code {proc.poll()})")
-            time.sleep(0.3)
+    port = free_port()
+    with serving([sys.executable, "-m", "streamlit", "run", "app.py", "--server.port", str(port),
+                  "--server.headless", "true", "--server.address", "127.0.0.1"], port, ROOT, env) as url:
         yield url
-    finally:
-        proc.terminate()
-        try:
-            proc.wait(timeout=15)
-        except subprocess.TimeoutExpired:
-            proc.kill()
-            proc.wait()
 
 
 @pytest.fixture(scope="module")
@@ -324,4 +296,45 @@ def test_a_reload_keeps_every_design_the_page_takes(server, browser, tmp_path):
     page.wait_for_selector("[data-testid='stMetricValue']", timeout=60_000)
     wait_for(lambda: notes_box(page).input_value() == design.notes, "the design's own notes after a reload")
     assert page.get_by_text("too long").count() == 0
+    page.close()
+
+
+# Texts cut short: every element that ends its text with an ellipsis, measured with the ellipsis
+# lifted (text-overflow: clip on it and beneath it), whose text is wider than its own box.
+CUT_TEXTS = """() => {
+  const cut = [];
+  for (const e of document.querySelectorAll('body *')) {
+    if (getComputedStyle(e).textOverflow !== 'ellipsis' || !e.textContent.trim()
+        || e.getClientRects().length === 0) continue;
+    const lifted = [e, ...e.querySelectorAll('*')].map(x => [x, x.style.textOverflow]);
+    lifted.forEach(([x]) => { x.style.textOverflow = 'clip'; });
+    const text = document.createRange();
+    text.selectNodeContents(e);
+    if (text.getBoundingClientRect().width > e.getBoundingClientRect().width + 0.5) {
+      cut.push(e.textContent.trim());
+    }
+    lifted.forEach(([x, old]) => { x.style.textOverflow = old; });
+  }
+  return cut;
+}"""
+
+
+def cut_texts(page) -> list[str]:
+    """The texts on the page that show only in part, ending in an ellipsis."""
+    return page.evaluate(CUT_TEXTS)
+
+
+@pytest.mark.parametrize("demo", ["sump_level_switch", "solar_battery_disconnect"])
+def test_every_label_reads_in_full_at_1440_pixels(server, browser, demo):
+    """A window 1440 pixels wide (a common laptop screen, from memory) with the sidebar open: no label,
+    figure or tab name is cut short, in the live view and in every panel."""
+    page = browser.new_page(viewport={"width": 1440, "height": 900})
+    page.goto(f"{server}?{PARAM}={design_to_address(load_demo(demo))}")
+    page.wait_for_selector("[data-testid='stMetricValue']", timeout=60_000)
+    settle(page)
+    assert cut_texts(page) == []
+    for panel in PANELS:
+        page.get_by_role("tab", name=panel.TITLE).click()
+        settle(page)
+        assert cut_texts(page) == [], panel.TITLE
     page.close()

@@ -178,6 +178,13 @@ def test_null_for_an_optional_value_leaves_it_out():
     ("output.load_capacitance", 1.0, "output.load_capacitance: must be from 0 F to 1 mF"),
     ("output.resistance", 1e20, "output.resistance: must be from 0 Ohm to 1 TOhm"),
     ("source.resistance", 1e300, "source.resistance: must be from 0 Ohm to 1 TOhm"),
+    # Op-amps slew from some mV/us to some kV/us and recover in micro- to milliseconds (common
+    # practice); data sheets state delays at overdrives of millivolts to some hundred millivolts.
+    ("comparator.slew_rate", 1e15, "comparator.slew_rate: must be from 1 V/s to 1e+12 V/s, got 1e+15"),
+    ("comparator.slew_rate", 0, "comparator.slew_rate: must be from 1 V/s to 1e+12 V/s, got 0"),
+    ("comparator.recovery", 5.0, "comparator.recovery: must be from 0 s to 1 s, got 5"),
+    ("comparator.delay_overdrive", 1e6, "comparator.delay_overdrive: must be from 1 µV to 100 kV"),
+    ("comparator.delay_overdrive", 0, "comparator.delay_overdrive: must be from 1 µV to 100 kV, got 0"),
 ])
 def test_magnitudes_no_part_has_are_refused_with_the_allowed_range(key, value, message):
     with pytest.raises(DesignError) as err:

@@ -338,6 +338,19 @@ def test_a_thermistors_beta_pair_and_model_switch(demo):
     assert with_thermistor_model(hot, "steinhart_hart").front_end.beta_temperatures is None
 
 
+def test_with_filter_adds_the_starting_filter_and_takes_it_away(demo):
+    from bandcalc.model.design import InputFilter
+    from bandcalc.page.edit import STARTING_FILTER, filter_kind, with_filter
+
+    d = demo("sump_level_switch")
+    on = with_filter(d, "rc")
+    assert on.filter == STARTING_FILTER == InputFilter(10e3, 100e-9) and filter_kind(on) == "rc"
+    assert with_filter(on, "rc") is on
+    assert with_filter(on, "none").filter is None
+    with pytest.raises(ValueError, match="filter: 'lc' is not a filter kind; allowed: none, rc"):
+        with_filter(d, "lc")
+
+
 def test_load_edits_make_and_drop_the_section():
     d = with_load_value(SUMP, "logic_high_min", 2.0)
     assert d.load == Load(logic_high_min=2.0)

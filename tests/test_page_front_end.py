@@ -158,3 +158,19 @@ def test_a_refused_choice_shows_the_designs_own_again():
     assert message.startswith("Divider fed from: front_end.excitation: \"reference\" needs a fixed reference")
     assert design_on(at) == divided
     assert at.radio(key="in.front_end.excitation.kind").value == "positive"
+
+
+def test_the_input_filter_section_adds_a_filter_and_states_its_pole():
+    from bandcalc.model.input_filter import filter_pole
+
+    at = page()
+    at.session_state["page.section.filter"] = True
+    at.run()
+    at.radio(key="in.filter.kind").set_value("rc").run()
+    d = design_on(at)
+    assert d.filter is not None and not errors(at)
+    pole = filter_pole(d)
+    stated = f"Pole {format_si(pole.pole_upper, 'Hz')} at the upper point"
+    assert any(c.startswith(stated) for c in captions(at))
+    at.text_input(key="in.filter.capacitance").input("1 uF").run()
+    assert design_on(at).filter.capacitance == pytest.approx(1e-6)

@@ -27,8 +27,9 @@ from bandcalc.outputs.summary import design_summary
 from bandcalc.page.names import factor_name
 from bandcalc.page.panels import spread as spread_panel
 from bandcalc.signal_check.edges import run_design, run_points
+from bandcalc.signal_check.noise import given_disturbance
 from bandcalc.signal_check.recording import read_waveform_csv
-from bandcalc.signal_check.waveform import synthesize
+from bandcalc.signal_check.waveform import SyntheticSignal, synthesize
 from bandcalc.signal_check.width_trade import sweep_design
 from bandcalc.spread.propagation import failure_places, spread
 
@@ -215,8 +216,12 @@ def test_synthetic_signal_check_matches_the_package(design, noise):
     at = run_signal(design, {"noise": str(noise)})
     assert not at.exception and not errors(at)
     upper, lower, _ = run_points(design)
-    wave = synthesize("sine", 0.5 * (upper + lower), upper - lower, 50.0, 0.1, 100e3, noise_rms=noise, seed=1)
-    run, sweep = run_design(design, wave), sweep_design(design, wave)
+    spec = SyntheticSignal("sine", 0.5 * (upper + lower), upper - lower, 50.0, 0.1, 100e3, noise_rms=noise,
+                           seed=1)
+    wave = spec.make()
+    given = given_disturbance(spec)
+    run = run_design(design, wave, disturbance=given)
+    sweep = sweep_design(design, spec, disturbance=given)
     shown = figures(at)
     assert shown["Output edges"] == f"{run.edge_count:,}"
     assert shown["Noise-free edges"] == f"{run.clean_edge_count:,}"
@@ -333,3 +338,40 @@ def test_summary_includes_the_runs_of_this_design(monkeypatch):
                for c in captions(at))
     at.select_slider(key="in.resistors.feedback.slider").set_value(47e3).run()  # another design
     assert seen[-1].spread is None and seen[-1].signal is None
+
+
+def test_the_signal_check_shows_the_prediction_and_the_filter_table():
+    at = run_signal(SUMP, {"noise": "0.2", "noise_bandwidth": "2k", "target": "1", "budget": "10u"})
+    assert not at.exception and not errors(at)
+    shown = figures(at)
+    assert shown["Noise at the stage"] == "200 mV RMS"
+    assert shown["Parked: a false switching"].startswith("every ")
+    assert any(c.startswith("Model: Noise is taken as Gaussian and stationary") for c in captions(at))
+    (table,) = at.dataframe
+    notes = list(table.value["Note"])
+    assert notes.count("least delay") == 1 and "over the budget" in notes
+
+
+def test_a_recording_makes_a_design(tmp_path):
+    wave = synthesize("triangle", 2.5, 2.0, 0.5, 8.0, 5e3, noise_rms=0.05, noise_bandwidth=500.0,
+                      hum_amplitude=0.03, seed=2)
+    rows = "".join(f"{a:.6e},{b:.6f}\n" for a, b in zip(wave.t, wave.v, strict=True))
+    data = ("time_s,volts\n" + rows).encode()
+    at = page(panel="Signal check")
+    at.radio(key="page.signal.source").set_value("recorded").run()
+    at.file_uploader(key="page.signal.upload").set_value(("tank.csv", data, "text/csv")).run()
+    assert any("From its spectrum: noise" in c for c in captions(at))
+    at.session_state["page.signal.make"] = True
+    at.run()
+    at.text_input(key="page.signal.make.level").input("2.5")
+    at.text_input(key="page.signal.make.budget").input("bad")
+    next(b for b in at.button if b.label == "Make the design").click().run()
+    assert any(e.startswith("Delay budget: cannot read 'bad'") and e.endswith("Nothing was changed.")
+               for e in errors(at))
+    assert design_on(at) == SUMP
+    at.text_input(key="page.signal.make.budget").input("")
+    next(b for b in at.button if b.label == "Make the design").click().run()
+    assert not at.exception and not errors(at)
+    made = design_on(at)
+    assert made.filter is not None and "Made from a recording" in made.notes
+    assert made.signal.false_edges_per_year == 1.0

@@ -53,7 +53,7 @@ def test_spread_and_signal_specs_pass_plotlys_schema(demo):
 
     from bandcalc.outputs.plots import histogram_spec, sensitivity_spec, signal_spec, tradeoff_spec
     from bandcalc.signal_check.edges import run_design, run_points
-    from bandcalc.signal_check.waveform import synthesize
+    from bandcalc.signal_check.waveform import SyntheticSignal, synthesize
     from bandcalc.signal_check.width_trade import sweep_design
     from bandcalc.spread.propagation import spread
 
@@ -80,7 +80,11 @@ def test_spread_and_signal_specs_pass_plotlys_schema(demo):
     assert step.y[0] == (5.0 if run.output_high[0] else 0.0) and set(step.y) == {0.0, 5.0}
     assert np.all(np.diff(step.x) >= 0)
     trade = go.Figure(tradeoff_spec(sweep_design(d, wave), "V", upper - lower))
-    assert [s.name for s in trade.layout.shapes] == ["Narrowest clean width", "This design"]
+    assert [s.name for s in trade.layout.shapes] == ["Narrowest clean width", "Predicted", "This design"]
+    assert "Predicted edges (Rice)" in [t.name for t in trade.data]
+    spec = SyntheticSignal("sine", 0.5 * (upper + lower), upper - lower, 50, 0.1, 1e5, noise_rms=0.1, seed=1)
+    draws = go.Figure(tradeoff_spec(sweep_design(d, spec), "V", upper - lower))
+    assert [t.name for t in draws.data][:3] == ["Fewest (any draw)", "Most (any draw)", "Output edges"]
 
 
 def test_display_index_keeps_each_runs_extremes():

@@ -213,6 +213,27 @@ def test_fit_section(demo):
     assert sum(1 for line in text.splitlines() if line.startswith("| 3 |")) == 1
 
 
+def test_the_filter_and_the_signal_settings_are_in_the_summary(demo):
+    from dataclasses import replace
+
+    from bandcalc.model.design import InputFilter
+    from bandcalc.model.signal_settings import SignalSettings
+
+    d = replace(demo("sump_level_switch"), filter=InputFilter(4.7e3, 1e-6),
+                signal=SignalSettings(noise=0.5, noise_bandwidth=2e3, hum=0.02, slope=1.0,
+                                      false_edges_per_year=1.0))
+    text = design_summary(d)
+    assert "| Cflt | input filter, from the stage's input node to ground | 1 µF |" in text
+    assert "| Rflt | in series with the signal, ahead of the filter capacitor | 4.7 kOhm (4k7) |" in text
+    assert "An input filter (4.7 kOhm (4k7) in series and 1 µF from the stage's input to ground) has its " \
+           "pole at" in text
+    assert "## Noise and false edges expected" in text
+    assert "Parked at a point: false switching | about once every" in text
+    assert "Noise is taken as Gaussian and stationary" in text  # the model's simplifications
+    assert "Target: at most 1 false edge(s) a year." in text
+    assert design_from_summary(text) == d
+
+
 def test_power_rating_in_the_table_and_the_findings_derate_the_same_way():
     # By hand: a 600 / 600 Ohm divider on 12 V dissipates 60 mW in each half; derated twice (common
     # practice) that needs 120 mW, more than the 100 mW of the default 0603 size.  The component

@@ -110,6 +110,17 @@ def test_each_front_end_layout_is_drawn_once(demo):
     assert stage_template.cache_info().hits == before + 1
 
 
+def test_the_input_filter_sits_between_the_source_and_the_input_resistor(demo):
+    from dataclasses import replace
+
+    from bandcalc.model.design import InputFilter
+
+    found = positions(stage_svg(replace(demo("sump_level_switch"), filter=InputFilter(4.7e3, 1e-7))))
+    assert found["IN"] < found["Rsrc 100R"] < found["Rflt 4k7"] < found["Cflt 100 nF"] < found["Rin 10k"]
+    capacitor_only = texts(stage_svg(replace(demo("sump_level_switch"), filter=InputFilter(0.0, 1e-7))))
+    assert "Cflt 100 nF" in capacitor_only and not any(t.startswith("Rflt") for t in capacitor_only)
+
+
 def test_the_load_hangs_from_the_output(demo):
     from bandcalc.model.design import Design, Load
 

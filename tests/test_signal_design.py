@@ -3,36 +3,21 @@
 import json
 import math
 import re
+from dataclasses import replace
 
 import pytest
 
 from bandcalc.cli.commands import main
 from bandcalc.model.operating import analyze
-from bandcalc.signal_check.edges import output_rise_time, run_design
+from bandcalc.signal_check.edges import run_design
+from bandcalc.signal_check.output_timing import output_timing
 from bandcalc.signal_check.waveform import synthesize
 from bandcalc.signal_check.width_trade import sweep_design
 
 
-def test_open_drain_design_adds_2_2_rc_and_its_delay(demo):
-    # 10-90 % rise of an RC charge is RC ln 9 = 2.197 RC (Horowitz & Hill, The Art of Electronics,
-    # 3rd ed., ch. 1), commonly rounded to 2.2 RC (common practice).
-    d = demo("solar_battery_disconnect")
-    assert output_rise_time(d) == pytest.approx(2.2 * 10e3 * 1e-10)
-    a = analyze(d)
-    f, amp = 5.0, 1.0
-    wave = synthesize("sine", a.centre, amp, f, 0.4, 200e3)
-    run = run_design(d, wave)
-    # Clean sine about the centre: the upper point is crossed asin((V - c)/A)/(2 pi f) after
-    # the centre crossing (plain trigonometry), then the comparator delay and, rising, the rise time.
-    lag = math.asin((a.upper - a.centre) / amp) / (2 * math.pi * f)
-    rising = run.edge_delays[run.edge_directions > 0]
-    # The non-inverting stage's output rises as the input goes high.
-    expected = lag + d.comparator.delay + output_rise_time(d)
-    assert rising == pytest.approx(expected, abs=2e-6)
-
-
-def test_push_pull_design_has_no_rise_time(demo):
-    assert output_rise_time(demo("sump_level_switch")) == 0.0
+def test_push_pull_design_without_load_capacitance_has_no_rise_time(demo):
+    timing = output_timing(demo("sump_level_switch"))
+    assert timing.rise == timing.fall == 0.0 and timing.findings == ()
 
 
 def test_sweep_about_the_design_centre_finds_a_clean_width(demo):
@@ -75,7 +60,7 @@ def test_front_end_design_runs_in_the_watched_quantity(capsys, demo, demo_path):
     # so the inverting stage reads as non-inverting in degrees C (warmer -> output high).
     d = demo("greenhouse_fan_thermostat")
     a = analyze(d)
-    wave = synthesize("sine", a.points.centre, 6.0, 0.01, 200.0, 50.0)
+    wave = synthesize("sine", a.points.centre, 6.0, 0.01, 200.0, 50.0, noise_rms=0.05, noise_bandwidth=2.0)
     run = run_design(d, wave)
     assert (run.upper, run.lower) == pytest.approx((float(a.points.upper), float(a.points.lower)))
     assert not run.inverting
@@ -83,6 +68,73 @@ def test_front_end_design_runs_in_the_watched_quantity(capsys, demo, demo_path):
     assert main(["signal", demo_path("greenhouse_fan_thermostat"), "--json", "--frequency", "0.01",
                  "--duration", "200", "--rate", "50"]) == 0
     assert json.loads(capsys.readouterr().out)["unit"] == "C"
+
+
+def test_signal_json_reports_the_noise_at_the_stage_and_the_parked_rate(capsys, demo_path):
+    # The contract: noise_rms_at_stage (after the filter), noise_bandwidth (as given) and
+    # parked_crossings_per_second (Rice) beside today's keys; strict JSON throughout.
+    path = demo_path("sump_level_switch")
+    assert main(["signal", path, "--noise", "0.18", "--noise-bandwidth", "5k", "--frequency", "1",
+                 "--duration", "1", "--sweep", "--seeds", "3", "--false-edges-per-year", "1",
+                 "--json"]) == 0
+    text = capsys.readouterr().out
+    out = json.loads(text, parse_constant=lambda c: pytest.fail(f"not strict JSON: {c}"))
+    assert {"edges", "edge_times", "clean_edges", "extra_edges", "missed", "delay_mean", "delay_max",
+            "output_high_fraction", "noise_rms", "noise_peak_to_peak", "findings"} <= set(out)
+    assert out["noise_bandwidth"] == 5e3
+    assert out["noise_rms_at_stage"] == pytest.approx(0.18)
+    # Rice: sqrt(m2/m0)/(2 pi) = B / sqrt(3) for flat noise to B, at the hysteresis h.
+    h = out["upper"] - out["lower"]
+    expected = 5e3 / math.sqrt(3) * math.exp(-h**2 / (2 * 0.18**2))
+    assert out["parked_crossings_per_second"] == pytest.approx(expected, rel=1e-9)
+    assert out["parked_mean_time_between"] == pytest.approx(1 / expected)
+    assert out["sweep"]["seeds"] == 3 and len(out["sweep"]["run_best_widths"]) == 3
+    rows = out["filter_table"]["rows"]
+    assert rows[0]["time_constant"] == 0 and rows[0]["pole"] is None
+
+
+def test_signal_with_a_filter_reports_the_filtered_noise(capsys, demo, tmp_path):
+    from bandcalc.model.design import InputFilter
+    from bandcalc.model.design_file import save_design
+    from bandcalc.model.input_filter import filter_pole
+
+    d = replace(demo("sump_level_switch"), filter=InputFilter(0.0, 1e-6))
+    path = tmp_path / "filtered.json"
+    save_design(d, path)
+    assert main(["signal", str(path), "--noise", "0.1", "--noise-bandwidth", "10k", "--json"]) == 0
+    out = json.loads(capsys.readouterr().out)
+    pole = filter_pole(d).pole
+    x = 10e3 / pole
+    assert out["filter_pole"] == pytest.approx(pole)
+    # Flat noise to B behind one pole fc: m0 = rms^2 fc atan(B / fc) / B (first principles).
+    assert out["noise_rms_at_stage"] == pytest.approx(0.1 * math.sqrt(math.atan(x) / x), rel=1e-9)
+
+
+def test_signal_reads_noise_and_hum_from_the_design(capsys, demo, tmp_path):
+    from bandcalc.model.design_file import design_from_dict, design_to_dict, save_design
+
+    data = design_to_dict(demo("sump_level_switch"))
+    data["signal"] = {"noise": "20m", "noise_bandwidth": "2k", "hum": 0.05, "hum_frequency": 60,
+                      "hum_harmonics": {"3": 0.01}}
+    path = tmp_path / "noisy.json"
+    save_design(design_from_dict(data), path)
+    assert main(["signal", str(path), "--json"]) == 0
+    out = json.loads(capsys.readouterr().out)
+    assert out["noise_bandwidth"] == 2e3 and out["noise_rms"] == pytest.approx(0.02)
+    assert out["hum"]["frequency"] == 60 and out["hum"]["harmonics"] == {"3": 0.01}
+
+
+@pytest.mark.parametrize(("option", "message"), [
+    (["--noise-bandwidth", "-3"], "--noise-bandwidth: must be a number above 0 in Hz, got '-3'"),
+    (["--hum-harmonic", "1=0.1"], "--hum-harmonic: write ORDER=AMPLITUDE"),
+    (["--seeds", "0"], "--seeds: must be a whole number from 1 to 50"),
+    (["--false-edges-per-year", "0"], "--false-edges-per-year: must be a number above 0"),
+])
+def test_signal_options_are_checked(option, message, capsys, demo_path):
+    with pytest.raises(SystemExit) as stop:
+        main(["signal", demo_path("sump_level_switch"), *option])
+    assert stop.value.code == 2
+    assert message in capsys.readouterr().err
 
 
 def _strict_json(text):

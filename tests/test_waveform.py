@@ -71,22 +71,69 @@ def test_triangle_is_straight_between_peaks():
 
 
 def test_noise_rms_and_three_sigma_coverage():
-    rms = 0.02
-    w = synthesize("sine", 1.0, 0.5, 50, 1.0, 1e6, noise_rms=rms, seed=42)
+    rms, bandwidth = 0.02, 10e3
+    w = synthesize("sine", 1.0, 0.5, 50, 1.0, 1e6, noise_rms=rms, noise_bandwidth=bandwidth, seed=42)
     noise = w.v - w.clean
-    n = noise.size
-    # The RMS of n normal samples has a relative standard error of 1 / sqrt(2 n) = 0.07 %.
-    assert np.sqrt(np.mean(noise**2)) == pytest.approx(rms, rel=5 / math.sqrt(2 * n))
+    # The noise is made of K = B x T independent Fourier terms: its variance over one record has a
+    # relative standard error of 1 / sqrt(K) (a chi-square with 2 K degrees of freedom, first
+    # principles), its RMS half that: 0.5 % here.
+    k = bandwidth * w.duration
+    assert np.sqrt(np.mean(noise**2)) == pytest.approx(rms, rel=5 / (2 * math.sqrt(k)))
     # +/-3 sigma holds 99.73 % of a normal distribution: standard normal table,
     # Phi(3.00) = 0.99865, so 2 x 0.99865 - 1 = 0.9973 (e.g. NIST/SEMATECH e-Handbook of
     # Statistical Methods, table of the normal distribution; value from memory), checked
-    # against scipy.stats.norm.
+    # against scipy.stats.norm.  Neighbouring samples are correlated: about 2 B T independent ones.
     p = stats.norm.cdf(3) - stats.norm.cdf(-3)
     assert p == pytest.approx(0.9973, abs=5e-5)
     inside = np.mean(np.abs(noise) <= 3 * rms)
-    assert inside == pytest.approx(p, abs=6 * math.sqrt(p * (1 - p) / n))
-    # And the generated noise passes a normality test at the 1 % level.
-    assert stats.kstest(noise[:20000] / rms, "norm").pvalue > 0.01
+    assert inside == pytest.approx(p, abs=6 * math.sqrt(p * (1 - p) / (2 * k)) + 5e-4)
+    # And the generated noise passes a normality test at the 1 % level (every 50th sample:
+    # farther apart than the noise's correlation time).
+    assert stats.kstest(noise[::50] / noise.std(), "norm").pvalue > 0.01
+
+
+def test_noise_is_flat_to_its_bandwidth_and_nothing_above():
+    w = synthesize("sine", 0.0, 0.0, 1.0, 0.5, 200e3, noise_rms=0.1, noise_bandwidth=5e3, seed=4)
+    power = np.abs(np.fft.rfft(w.v)) ** 2
+    f = np.fft.rfftfreq(len(w), 1 / 200e3)
+    assert power[f > 5.2e3].sum() < 1e-3 * power.sum()  # only the edge's leakage above
+    band = power[(f > 100) & (f < 4.9e3)]
+    halves = band[: band.size // 2].mean(), band[band.size // 2:].mean()
+    assert halves[0] == pytest.approx(halves[1], rel=0.1)  # flat
+
+
+def test_noise_crosses_its_mean_as_rice_says():
+    # Rice (Bell System Technical Journal, 1944-45): flat noise to B crosses its mean upward
+    # B / sqrt(3) times a second (m2 / m0 = (2 pi B)^2 / 3).
+    bandwidth = 1e3
+    w = synthesize("sine", 0.0, 0.0, 1.0, 20.0, 50e3, noise_rms=1.0, noise_bandwidth=bandwidth, seed=9)
+    ups = np.count_nonzero((w.v[:-1] < 0) & (w.v[1:] >= 0)) / w.duration
+    assert ups == pytest.approx(bandwidth / math.sqrt(3), rel=0.03)
+
+
+def test_the_rate_is_raised_to_resolve_the_noise():
+    w = synthesize("sine", 0.0, 1.0, 10.0, 0.1, 1e3, noise_rms=0.01, noise_bandwidth=2e3)
+    assert 1 / (w.t[1] - w.t[0]) == pytest.approx(waveform.OVERSAMPLE * 2e3)
+    quiet = synthesize("sine", 0.0, 1.0, 10.0, 0.1, 1e3, noise_bandwidth=2e3)
+    assert len(quiet) == 101  # no noise, no need
+    with pytest.raises(ValueError, match=r"more than 10,000,000 samples \(the rate is raised to 2e\+07 Hz"):
+        synthesize("sine", 0.0, 1.0, 10.0, 1.0, 1e3, noise_rms=0.01, noise_bandwidth=2e6)
+    with pytest.raises(ValueError, match="noise_bandwidth 0.5 Hz is narrower than one frequency step"):
+        synthesize("sine", 0.0, 1.0, 10.0, 0.1, 1e3, noise_rms=0.01, noise_bandwidth=0.5)
+
+
+def test_hum_harmonics_are_in_phase_with_the_fundamental():
+    w = synthesize("ramp", 0, 1, 1, 0.1, 1e4, hum_amplitude=0.05, hum_frequency=60,
+                   hum_harmonics={3: 0.01, 2: 0.02})
+    t = w.t
+    expected = (0.05 * np.sin(2 * np.pi * 60 * t) + 0.02 * np.sin(2 * np.pi * 120 * t)
+                + 0.01 * np.sin(2 * np.pi * 180 * t))
+    np.testing.assert_allclose(w.v - w.clean, expected, atol=1e-12)
+    with pytest.raises(ValueError, match="hum harmonic order must be a whole number from 2 to 40"):
+        synthesize("ramp", 0, 1, 1, 0.1, 1e4, hum_amplitude=0.05, hum_harmonics={1: 0.01})
+    harmonic = r"hum at 2000 Hz \(a harmonic of hum_frequency 50 Hz\) needs sample_rate above 4000 Hz"
+    with pytest.raises(ValueError, match=harmonic):
+        synthesize("ramp", 0, 1, 1, 0.1, 3e3, hum_amplitude=0.05, hum_harmonics={40: 0.01})
 
 
 def test_noise_repeats_for_the_same_generator_state():

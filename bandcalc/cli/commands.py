@@ -24,6 +24,7 @@ from bandcalc.model.design import Design
 from bandcalc.model.design_file import load_design
 from bandcalc.model.operating import Analysis, analysis_to_dict, analyze
 from bandcalc.model.units import (
+    format_interval,
     format_ohms,
     format_probability,
     format_si,
@@ -34,8 +35,11 @@ from bandcalc.model.units import (
 from bandcalc.outputs.netlist import BENCHES, netlist
 from bandcalc.outputs.strict_json import dumps
 from bandcalc.signal_check.edges import run_design, run_points
-from bandcalc.signal_check.waveform import Waveform, synthesize
-from bandcalc.signal_check.width_trade import sweep_design
+from bandcalc.signal_check.hysteresis_choice import filter_table_for, filter_table_to_dict
+from bandcalc.signal_check.noise import given_disturbance
+from bandcalc.signal_check.signal_json import check_to_dict, signal_to_dict
+from bandcalc.signal_check.waveform import DEFAULT_NOISE_BANDWIDTH, SyntheticSignal
+from bandcalc.signal_check.width_trade import DEFAULT_SEEDS, MAX_SEEDS, sweep_design
 from bandcalc.spread.factors import QUANTITIES
 from bandcalc.spread.propagation import (
     DEFAULT_SAMPLES,
@@ -154,38 +158,33 @@ def _print_results(results: list, status: int, as_json: bool) -> int:
     return status
 
 
+def _signal_settings(design: Design):
+    """The design's own signal settings, or empty ones."""
+    from bandcalc.model.signal_settings import SignalSettings
+
+    return design.signal or SignalSettings()
+
+
 # synthesize's settings by the options that set them, so its messages name what the user typed.
 _SIGNAL_OPTIONS = {"shape": "--shape", "offset": "--offset", "amplitude": "--amplitude",
                    "frequency": "--frequency", "duration": "--duration", "sample_rate": "--rate",
                    "noise_rms": "--noise", "hum_amplitude": "--hum", "hum_frequency": "--hum-frequency",
-                   "seed": "--seed"}
-
-
+                   "seed": "--seed", "noise_bandwidth": "--noise-bandwidth"}
 def _synthetic(args: argparse.Namespace, design: Design):
-    """The synthetic signal of the options; offset and amplitude default to the design's band."""
+    """The synthetic signal of the options; offset and amplitude default to the design's band,
+    noise and hum to the design's signal settings."""
+    given = _signal_settings(design)
     upper, lower, _ = run_points(design)
-    offset = 0.5 * (upper + lower) if args.offset is None else args.offset
-    amplitude = upper - lower if args.amplitude is None else args.amplitude
-    return synthesize(args.shape, offset, amplitude, args.frequency, args.duration, args.rate,
-                      noise_rms=args.noise, hum_amplitude=args.hum, hum_frequency=args.hum_frequency,
-                      seed=args.seed, names=_SIGNAL_OPTIONS, unit=design.unit)
-
-
-def _signal_dict(run, sweep, unit: str) -> dict:
-    out = {
-        "unit": unit, "upper": run.upper, "lower": run.lower, "edges": run.edge_count,
-        "edge_times": run.edge_times.tolist(), "edge_directions": run.edge_directions.tolist(),
-        "clean_edges": run.clean_edge_count, "extra_edges": run.extra_edges, "missed": run.missed_count,
-        "delay_mean": run.delay_mean, "delay_max": run.delay_max,
-        "output_high_fraction": run.output_high_fraction,
-        "noise_rms": run.noise.rms, "noise_peak_to_peak": run.noise.peak_to_peak,
-        "findings": list(run.findings),
-    }
-    if sweep is not None:
-        out["sweep"] = {"centre": sweep.centre, "widths": sweep.widths.tolist(),
-                        "edge_counts": sweep.edge_counts.tolist(), "best_width": sweep.best_width,
-                        "best_mean_delay": sweep.best_mean_delay, "best_max_delay": sweep.best_max_delay}
-    return out
+    harmonics = dict(given.hum_harmonics) | dict(args.hum_harmonic)
+    return SyntheticSignal(
+        args.shape, 0.5 * (upper + lower) if args.offset is None else args.offset,
+        upper - lower if args.amplitude is None else args.amplitude, args.frequency, args.duration, args.rate,
+        noise_rms=(given.noise or 0.0) if args.noise is None else args.noise,
+        hum_amplitude=(given.hum or 0.0) if args.hum is None else args.hum,
+        hum_frequency=given.hum_frequency if args.hum_frequency is None else args.hum_frequency,
+        seed=args.seed, noise_bandwidth=given.noise_bandwidth if args.noise_bandwidth is None
+        else args.noise_bandwidth, hum_harmonics=tuple(sorted(harmonics.items())),
+        names=tuple(_SIGNAL_OPTIONS.items()), unit=design.unit)
 
 
 def _signal_table(path: str, d: dict) -> str:
@@ -197,46 +196,115 @@ def _signal_table(path: str, d: dict) -> str:
             ("edges", f"{d['edges']} (noise-free signal: {clean})"),
             ("delay mean / max", f"{s(d['delay_mean'])} / {s(d['delay_max'])}"),
             ("output high", f"{100 * d['output_high_fraction']:.1f} % of the time"),
-            ("noise", f"{v(d['noise_rms'])} RMS, about {v(d['noise_peak_to_peak'])} peak-to-peak")]
+            ("noise", f"{v(d['noise_rms'])} RMS, flat to {format_si(d['noise_bandwidth'], 'Hz')} "
+                      f"({d['noise_source']})"),
+            ("noise at the stage", f"{v(d['noise_rms_at_stage'])} RMS" + (
+                "" if d["filter_pole"] is None else f", behind the filter's pole at "
+                                                    f"{format_si(d['filter_pole'], 'Hz')}")),
+            ("parked false switching", "never expected" if d["parked_mean_time_between"] is None else
+             f"once every {format_interval(d['parked_mean_time_between'])}")]
+    extra = d["extra_edges_per_crossing"]
+    rows.append(("extra edges per crossing", " / ".join(
+        "n/a" if extra[k] is None else f"{extra[k]:.3g}" for k in ("upper", "lower")) + " (upper / lower)"))
     if d["unit"] != "V":
         rows.insert(0, ("signal", f"the watched quantity, in {unit}"))
     if "sweep" in d:
-        best = d["sweep"]["best_width"]
-        rows.append(("narrowest clean width", "none in the sweep" if best is None else
-                     f"{v(best)} (mean delay {s(d['sweep']['best_mean_delay'])})"))
-    lines = [f"signal check  [{visible_text(path)}]"] + [f"  {k:<22} {val}" for k, val in rows]
-    lines += _listed([("findings", d["findings"])])
+        sweep = d["sweep"]
+        best, predicted = sweep["best_width"], sweep["predicted_best_width"]
+        drawn = [w for w in sweep["run_best_widths"] if w is not None]
+        spread = f"; each draw: {v(min(drawn))} to {v(max(drawn))}" if drawn else ""
+        clean = "none in the sweep" if best is None else (
+            f"{v(best)} in all {sweep['seeds']} noise draws (mean delay {s(sweep['best_mean_delay'])})")
+        rows.append(("narrowest clean width", clean + spread))
+        rows.append(("predicted (Rice)", "none in the sweep" if predicted is None else v(predicted)))
+    lines = [f"signal check  [{visible_text(path)}]"] + [f"  {k:<26} {val}" for k, val in rows]
+    if "filter_table" in d:
+        table = d["filter_table"]
+        lines.append(f"  hysteresis and filter for at most {table['false_edges_per_year']:g} false edge(s) "
+                     f"a year (slope {format_value(table['slope'], unit + '/s', 3)}):")
+        lines.append(f"    {'time constant':>14} {'pole':>10} {'hysteresis':>12} {'delay':>10}")
+        for i, row in enumerate(table["rows"]):
+            mark = "  <- least delay" if i == table["least_delay"] else ""
+            budget = "" if row["within_budget"] else "  (over the delay budget)"
+            pole = "none" if row["pole"] is None else format_si(row["pole"], "Hz")
+            lines.append(f"    {format_si(row['time_constant'], 's'):>14} {pole:>10} "
+                         f"{v(row['hysteresis']):>12} {format_si(row['delay'], 's'):>10}{mark}{budget}")
+    lines += _listed([("findings", d["findings"]), ("model", d["simplifications"])])
     return "\n".join(lines)
 
 
-def _recording(path: str | None) -> tuple[Waveform | None, int]:
-    """The recorded signal of ``--csv`` (None without one) and a status: a file that cannot be read is
-    named on stderr, with the status for bad input."""
-    if not path:
-        return None, 0
-    from bandcalc.signal_check.recording import (
-        read_waveform_csv,  # pandas: imported only when a command needs it
-    )
+def _recording(path: str):
+    """The recorded signal in ``path``, or None after naming the file and the line at fault."""
+    from bandcalc.signal_check.recording import read_waveform_csv  # pandas: only when a command needs it
 
     try:
-        return read_waveform_csv(path), 0
+        return read_waveform_csv(path)
     except ValueError as exc:
         _complain(path, str(exc))
-        return None, EXIT_BAD_INPUT
+        return None
 
 
 def _cmd_signal(args: argparse.Namespace) -> int:
-    recorded, status = _recording(args.csv)
-    if status:
-        return status
+    recorded = _recording(args.csv) if args.csv else None
+    if args.csv and recorded is None:
+        return EXIT_BAD_INPUT
 
     def work(path: str, design: Design) -> object:
-        wave = recorded if recorded is not None else _synthetic(args, design)
-        unit = design.unit
-        d = _signal_dict(run_design(design, wave), sweep_design(design, wave) if args.sweep else None, unit)
+        given = _signal_settings(design)
+        if recorded is not None:
+            wave, disturbance, signal = recorded, None, recorded
+        else:
+            spec = _synthetic(args, design)
+            wave, signal = spec.make(), spec
+            disturbance = given_disturbance(spec)
+        run = run_design(design, wave, disturbance=disturbance)
+        sweep = (sweep_design(design, signal, seeds=args.seeds, disturbance=run.check.source)
+                 if args.sweep else None)
+        target = args.false_edges_per_year or given.false_edges_per_year
+        budget = args.delay_budget or given.delay_budget
+        table = None if target is None else filter_table_for(
+            run.check, target, budget, slope=given.slope,
+            crossings_per_second=given.crossings_per_second or 0.0)
+        d = signal_to_dict(run, design.unit, sweep, table)
         return {"file": path, **d} if args.json else _signal_table(path, d)
 
     return _print_results(*_for_each_file([args.file], work), as_json=args.json)
+
+
+def _cmd_from_recording(args: argparse.Namespace) -> int:
+    from bandcalc.model.design_file import save_design
+    from bandcalc.signal_check.from_recording import design_from_recording
+
+    wave = _recording(args.csv)
+    if wave is None:
+        return EXIT_BAD_INPUT
+
+    def work(path: str, design: Design) -> object:
+        unit = design.unit
+        where = {k: parse_quantity(getattr(args, k), unit, f"--{k}") for k in ("centre", "upper", "lower")
+                 if getattr(args, k) is not None}
+        made = design_from_recording(design, wave, **where, false_edges_per_year=args.false_edges_per_year,
+                                     delay_budget=args.delay_budget, allow_filter=not args.no_filter,
+                                     series=args.series)
+        return made
+
+    results, status = _for_each_file([args.file], work)
+    if not results:
+        return status
+    made = results[0]
+    try:
+        save_design(made.design, args.output)
+    except OSError as exc:
+        _complain(args.output, f"cannot write the design ({exc.strerror})")
+        return EXIT_BAD_INPUT
+    if args.json:
+        _emit_json([{"file": args.output, "steps": list(made.steps),
+                     "filter_table": filter_table_to_dict(made.table),
+                     "check": check_to_dict(made.check)}])
+    else:
+        print(visible_text(f"wrote {args.output}\n" + "\n".join(
+            f"  {i}. {step}" for i, step in enumerate(made.steps, 1)), keep_lines=True))
+    return status
 
 
 def _cmd_report(args: argparse.Namespace) -> int:
@@ -280,14 +348,14 @@ def _cmd_netlist(args: argparse.Namespace) -> int:
     for key, value in _signal_defaults().items():
         if not hasattr(args, key):
             setattr(args, key, value)
-    recorded, status = _recording(args.csv)
-    if status:
-        return status
+    recorded = _recording(args.csv) if args.csv else None
+    if args.csv and recorded is None:
+        return EXIT_BAD_INPUT
 
     def work(path: str, design: Design) -> str:
         if args.bench == "sweep":
             return netlist(design)
-        return netlist(design, recorded if recorded is not None else _synthetic(args, design))
+        return netlist(design, recorded if recorded is not None else _synthetic(args, design).make())
 
     results, status = _for_each_file([args.file], work)
     return _write_or_print(results[0], args.output, "the netlist") if results else status
@@ -378,6 +446,34 @@ def _samples(text: str) -> int:
     return n
 
 
+def _positive(unit: str) -> Callable[[str], float]:
+    """An argparse type: a number above 0, SI prefixes and ``unit`` read ("10k", "2.5 kHz")."""
+
+    def read(text: str) -> float:
+        try:
+            value = parse_quantity(text, unit, "value")
+        except ValueError:
+            value = math.nan
+        if not value > 0:
+            raise argparse.ArgumentTypeError(f"must be a number above 0{' in ' + unit if unit else ''}, "
+                                             f"got {text!r}")
+        return value
+
+    return read
+
+
+def _harmonic(text: str) -> tuple[int, float]:
+    order, sep, amplitude = text.partition("=")
+    try:
+        k, a = int(order), float(amplitude)
+    except ValueError:
+        k, a = 0, math.nan
+    if not sep or not 2 <= k <= 40 or not (math.isfinite(a) and a >= 0):
+        raise argparse.ArgumentTypeError(f"write ORDER=AMPLITUDE, an order from 2 to 40 and an amplitude of "
+                                         f"at least 0, e.g. 3=0.01; got {text!r}")
+    return k, a
+
+
 def _seed(text: str) -> int:
     # Digits 0-9 only: str.isdigit() also passes "²", which int() refuses, and argparse would
     # then name this function in its message.
@@ -429,12 +525,17 @@ _FIT_OPTIONS = {"series": "--series", "min_ohms": "--min-ohms", "max_ohms": "--m
                 "fixed": "--hold "}
 
 
-def _count(text: str) -> int:
-    """--count: candidates to list, refused at once outside 1 to MAX_COUNT."""
-    count = int(text) if text.isascii() and text.isdigit() and len(text) <= 6 else 0
-    if not 1 <= count <= MAX_COUNT:
-        raise argparse.ArgumentTypeError(f"must be a whole number from 1 to {MAX_COUNT}, got {text!r}")
-    return count
+def _count(most: int) -> Callable[[str], int]:
+    """An argparse type: a whole number from 1 to ``most`` (--count, --seeds), refused at once
+    outside."""
+
+    def read(text: str) -> int:
+        count = int(text) if text.isascii() and text.isdigit() and len(text) <= 6 else 0
+        if not 1 <= count <= most:
+            raise argparse.ArgumentTypeError(f"must be a whole number from 1 to {most}, got {text!r}")
+        return count
+
+    return read
 
 
 def _cmd_fit(args: argparse.Namespace) -> int:
@@ -488,7 +589,7 @@ def _parser() -> argparse.ArgumentParser:
     p.add_argument("--series", default="E24", help="IEC 60063 series, E3 to E192 (default E24)")
     p.add_argument("--min-ohms", default="1k", metavar="R", help="smallest value allowed (default 1k)")
     p.add_argument("--max-ohms", default="10M", metavar="R", help="largest value allowed (default 10M)")
-    p.add_argument("--count", type=_count, default=5, metavar="N",
+    p.add_argument("--count", type=_count(MAX_COUNT), default=5, metavar="N",
                    help=f"candidates to list, 1 to {MAX_COUNT} (default 5)")
     p.add_argument("--hold", action="append", default=[], metavar="KEY=R",
                    help="hold a resistor at a value, e.g. feedback=1M2 (repeat for more)")
@@ -502,8 +603,34 @@ def _parser() -> argparse.ArgumentParser:
     p.add_argument("file", metavar="FILE", help="design file (JSON)")
     _add_signal_options(p)
     p.add_argument("--sweep", action="store_true", help="also sweep the hysteresis width")
+    p.add_argument("--seeds", type=_count(MAX_SEEDS), default=DEFAULT_SEEDS, metavar="N",
+                   help=f"noise draws the sweep runs (default {DEFAULT_SEEDS})")
+    p.add_argument("--false-edges-per-year", type=_positive(""), default=None, metavar="N",
+                   help="also tabulate the narrowest hysteresis for this target over filter time constants")
+    p.add_argument("--delay-budget", type=_positive("s"), default=None, metavar="S",
+                   help="mark the table's rows whose delay is within this")
     p.add_argument("--json", action="store_true", help="print JSON instead of a table")
     p.set_defaults(run=_cmd_signal)
+
+    p = sub.add_parser("from-recording",
+                       help="choose hysteresis and filter for a recorded signal and write the design")
+    p.add_argument("file", metavar="FILE",
+                   help="design file (JSON): the stage as drawn; its values are a start")
+    p.add_argument("--csv", required=True, metavar="WAVE.csv",
+                   help="the recorded signal (as for signal --csv)")
+    where = p.add_mutually_exclusive_group(required=True)
+    where.add_argument("--centre", metavar="X", help="centre of the two points wanted (design's unit)")
+    where.add_argument("--upper", metavar="X", help="or the upper point wanted")
+    where.add_argument("--lower", metavar="X", help="or the lower point wanted")
+    p.add_argument("--false-edges-per-year", type=_positive(""), default=1.0, metavar="N",
+                   help="false edges allowed a year (default 1)")
+    p.add_argument("--delay-budget", type=_positive("s"), default=None, metavar="S",
+                   help="longest delay allowed from the centre crossing to the switching")
+    p.add_argument("--no-filter", action="store_true", help="do not add an input filter")
+    p.add_argument("--series", default="E24", help="IEC 60063 series for the stage's resistors (default E24)")
+    p.add_argument("-o", "--output", required=True, metavar="OUT.json", help="the design file to write")
+    p.add_argument("--json", action="store_true", help="print JSON instead of the steps")
+    p.set_defaults(run=_cmd_from_recording)
 
     p = sub.add_parser("report", help="write the design summary (Markdown)")
     p.add_argument("file", metavar="FILE", help="design file (JSON)")
@@ -550,12 +677,20 @@ def _add_signal_options(p: argparse.ArgumentParser, typed_only: bool = False) ->
                    help="in the design's unit (default: the design's hysteresis)")
     p.add_argument("--frequency", type=float, default=default(50.0), help="Hz")
     p.add_argument("--duration", type=float, default=default(0.1), help="s")
-    p.add_argument("--rate", type=float, default=default(100e3), help="samples per second")
-    p.add_argument("--noise", type=float, default=default(0.0),
-                   help="Gaussian noise, RMS, in the design's unit")
-    p.add_argument("--hum", type=float, default=default(0.0),
-                   help="mains hum amplitude (peak), in the design's unit")
-    p.add_argument("--hum-frequency", type=float, default=default(50.0), choices=[50.0, 60.0])
+    p.add_argument("--rate", type=float, default=default(100e3),
+                   help="samples per second (raised to 10 x the noise bandwidth where noise is added)")
+    p.add_argument("--noise", type=float, default=default(None),
+                   help="Gaussian noise, RMS, in the design's unit (default: the design's signal "
+                        "settings, else none)")
+    p.add_argument("--noise-bandwidth", type=_positive("Hz"), default=default(None), metavar="HZ",
+                   help=f"the noise is flat from 0 to here (default: the design's, else "
+                        f"{DEFAULT_NOISE_BANDWIDTH:g} Hz); 10k, 2.5 kHz read too")
+    p.add_argument("--hum", type=float, default=default(None),
+                   help="mains hum amplitude (peak), in the design's unit (default: the design's)")
+    p.add_argument("--hum-frequency", type=float, default=default(None), choices=[50.0, 60.0])
+    p.add_argument("--hum-harmonic", action="append", default=default([]), type=_harmonic, metavar="N=V",
+                   help="a hum harmonic's amplitude (peak, in the design's unit), e.g. 3=0.01 "
+                        "(repeat for more)")
     p.add_argument("--seed", type=int, default=default(1), help="noise generator seed (runs repeat)")
 
 

@@ -32,6 +32,7 @@ PAGE_SETTINGS: dict[str, str | bool | int] = {
     "client.showErrorDetails": "none",
     "client.toolbarMode": "minimal",
     "global.showWarningOnDirectExecution": False,
+    "runner.postScriptGC": False,
 }
 _SCRIPT_PACKAGE, _SCRIPT = "bandcalc.page.entry", "run_sheet.py"
 _EXIT_REFUSED = 2

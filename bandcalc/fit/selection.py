@@ -37,7 +37,7 @@ from bandcalc.model.design import (
     Resistors,
     divider_thevenin,
 )
-from bandcalc.model.network import Points, switching_points
+from bandcalc.model.network import Points, signal_path, switching_points
 from bandcalc.model.parts import parameters, part, value_at, with_values
 from bandcalc.model.points import design_points, input_range, stage_design, stage_targets
 from bandcalc.model.standard_values import SERIES, EseriesError, series_values
@@ -145,7 +145,7 @@ def _network_current(design: Design, p: Mapping, pts: Points) -> np.ndarray:
                "to_negative": p["supply.negative"], "to_ground": 0.0, "to_reference": nodes.reference}
         legs = [(v, p[f"resistors.{k}"]) for k, v in far.items() if f"resistors.{k}" in p]
         if not design.inverting:
-            legs.append((signal, p["source.resistance"] + p["resistors.input"]))
+            legs.append((signal, signal_path(p)))
         total = sum(np.maximum(v - nodes.plus, 0.0) / r for v, r in legs)
         if "reference.top" in p:
             total = total + (p["supply.positive"] - nodes.reference) / p["reference.top"]

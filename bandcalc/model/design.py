@@ -12,11 +12,22 @@ from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any
 
 from bandcalc.errors import DesignError, shown
-from bandcalc.model.validation import AMPS, FARADS, SECONDS, resistance, text, voltage, within
+from bandcalc.model.validation import (
+    AMPS,
+    FARADS,
+    SECONDS,
+    SLEW_RATE,
+    positive,
+    resistance,
+    text,
+    voltage,
+    within,
+)
 
 if TYPE_CHECKING:
     from bandcalc.model.front_end import FrontEnd
     from bandcalc.model.ratings import Ratings
+    from bandcalc.model.signal_settings import SignalSettings
     from bandcalc.model.tolerances import Tolerances
 
 __all__ = [
@@ -29,6 +40,7 @@ __all__ = [
     "DesignError",
     "DividerReference",
     "FixedReference",
+    "InputFilter",
     "Load",
     "OpenDrain",
     "PushPull",
@@ -186,7 +198,7 @@ class Load:
 
 @dataclass(frozen=True)
 class Comparator:
-    """The comparator's input errors, built-in hysteresis, its input limits and propagation delay.
+    """The comparator's input errors, built-in hysteresis, its input limits and its timing.
 
     The stage switches where V+ - V- = offset + hysteresis/2 while the output is low, and where it
     is offset - hysteresis/2 while the output is high (the trip points data sheets state for parts
@@ -196,6 +208,10 @@ class Comparator:
     works as specified; ``input_current_limit`` (A) is the most its input protection may carry
     (None: :data:`bandcalc.model.range_checks.INPUT_CURRENT_LIMIT`); ``differential_max`` (V) the
     largest difference between the pins it takes (None: not checked).
+    ``delay`` is the propagation delay as the data sheet gives it, at an input overdrive of
+    ``delay_overdrive`` volts (None: not stated).  An op-amp used as a comparator moves its output
+    at most ``slew_rate`` (V/s) and needs ``recovery`` (s) to come out of saturation (None: a
+    comparator, not limited).
     """
 
     offset: float = 0.0
@@ -207,6 +223,9 @@ class Comparator:
     offset_current: float | None = None
     input_current_limit: float | None = None
     differential_max: float | None = None
+    delay_overdrive: float | None = None
+    slew_rate: float | None = None
+    recovery: float | None = None
 
     def __post_init__(self) -> None:
         voltage(self.offset, "comparator.offset")
@@ -220,6 +239,12 @@ class Comparator:
             within(self.input_current_limit, "comparator.input_current_limit", 1e-9, AMPS, "A")
         if self.differential_max is not None:
             voltage(self.differential_max, "comparator.differential_max", low=1e-3)
+        if self.delay_overdrive is not None:
+            voltage(self.delay_overdrive, "comparator.delay_overdrive", low=1e-6)
+        if self.slew_rate is not None:
+            within(self.slew_rate, "comparator.slew_rate", SLEW_RATE[0], SLEW_RATE[1], "V/s")
+        if self.recovery is not None:
+            within(self.recovery, "comparator.recovery", 0.0, SECONDS, "s")
         for key in ("common_mode_low", "common_mode_high"):
             if getattr(self, key) is not None:
                 voltage(getattr(self, key), f"comparator.{key}")
@@ -249,6 +274,24 @@ class Source:
 
 
 @dataclass(frozen=True)
+class InputFilter:
+    """A first-order RC low-pass ahead of the stage: ``resistance`` (ohms) in series after the
+    source, ``capacitance`` (farads) from the stage's input node to ground.
+
+    At DC its resistance adds to the source's (the switching points move with it); its pole is set
+    by the capacitance and the whole resistance that drives it (:mod:`bandcalc.model.input_filter`).
+    """
+
+    resistance: float
+    capacitance: float
+
+    def __post_init__(self) -> None:
+        resistance(self.resistance, "filter.resistance", zero=True)
+        positive(self.capacitance, "filter.capacitance")
+        within(self.capacitance, "filter.capacitance", 0.0, FARADS, "F")
+
+
+@dataclass(frozen=True)
 class Design:
     """A complete comparator stage with hysteresis."""
 
@@ -264,6 +307,8 @@ class Design:
     notes: str = ""
     tolerances: Tolerances | None = None  # spread of the parts; None: see bandcalc.spread.propagation
     protective: bool | None = None  # guards people or property; None: judged from name and notes
+    filter: InputFilter | None = None  # an RC low-pass ahead of the stage; None: none
+    signal: SignalSettings | None = None  # noise, hum and slope the signal brings; None: not given
     load: Load | None = None  # what the output drives; None: nothing but the network
     ratings: Ratings | None = None  # resistor ratings (bandcalc.model.ratings); None: the default size
 

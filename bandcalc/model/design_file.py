@@ -28,6 +28,7 @@ from bandcalc.model.design import (
     Design,
     DividerReference,
     FixedReference,
+    InputFilter,
     Load,
     OpenDrain,
     PushPull,
@@ -37,6 +38,7 @@ from bandcalc.model.design import (
 )
 from bandcalc.model.front_end import front_end_from_dict
 from bandcalc.model.ratings import ratings_from_dict, ratings_to_dict
+from bandcalc.model.signal_settings import signal_settings_from_dict, signal_settings_to_dict
 from bandcalc.model.tolerances import ToleranceError, Tolerances, tolerances_from_dict, tolerances_to_dict
 from bandcalc.model.units import UnitError, parse_quantity, parse_resistance
 from bandcalc.model.validation import LONE_SURROGATE, section, text
@@ -55,8 +57,10 @@ __all__ = [
 ]
 
 _TOP_KEYS = ("format", "name", "notes", "stage", "supply", "reference", "resistors", "output",
-             "comparator", "source", "tolerances", "front_end", "protective", "load", "ratings")
+             "comparator", "source", "tolerances", "front_end", "protective", "load", "ratings",
+             "filter", "signal")
 _UNITS = {"volts": "V", "offset": "V", "bias_current": "A", "delay": "s", "load_capacitance": "F",
+          "capacitance": "F", "recovery": "s", "delay_overdrive": "V",
           "high_drop": "V", "low_drop": "V", "pullup_volts": "V", "low_volts": "V",
           "positive": "V", "negative": "V", "common_mode_low": "V", "common_mode_high": "V",
           "low": "V", "high": "V", "hysteresis": "V", "offset_current": "A",
@@ -157,6 +161,9 @@ def design_from_dict(data: Any) -> Design:
         tolerances=_tolerances_from(data.get("tolerances")),
         load=None if data.get("load") is None else _plain_section(Load, data["load"], "load"),
         ratings=None if data.get("ratings") is None else ratings_from_dict(data["ratings"]),
+        filter=None if data.get("filter") is None else _plain_section(
+            InputFilter, data["filter"], "filter", ("resistance", "capacitance")),
+        signal=None if data.get("signal") is None else signal_settings_from_dict(data["signal"]),
     )
 
 
@@ -193,6 +200,10 @@ def design_to_dict(design: Design) -> dict:
         out["load"] = _dropping_none(design.load)
     if design.ratings is not None:
         out["ratings"] = ratings_to_dict(design.ratings)
+    if design.filter is not None:
+        out["filter"] = _dropping_none(design.filter)
+    if design.signal is not None:
+        out["signal"] = signal_settings_to_dict(design.signal)
     return out
 
 

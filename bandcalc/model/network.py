@@ -35,10 +35,12 @@ __all__ = [
     "Points",
     "TwoPoints",
     "difference_line",
+    "input_load",
     "minus_pin_current",
     "node_voltages",
     "pin_resistances",
     "plus_pin_current",
+    "signal_path",
     "switching_points",
     "threshold",
 ]
@@ -125,6 +127,13 @@ class Nodes:
         return self.plus - self.minus
 
 
+def signal_path(p: Mapping[str, ArrayLike]) -> ArrayLike:
+    """Ohms in series from the signal's open-circuit voltage to its pin: the source's (with a front
+    end, what :mod:`bandcalc.model.points` passes as ``source.resistance``), an input filter's
+    resistor, and the input resistor.  The one place where the filter's resistor enters at DC."""
+    return p["source.resistance"] + p.get("filter.resistance", 0.0) + p.get("resistors.input", 0.0)
+
+
 @dataclass(frozen=True)
 class _PlusNode:
     """The + node of one output state, solved once: V+ = plus0 + slope x signal."""
@@ -136,6 +145,7 @@ class _PlusNode:
     v_drv: ArrayLike
     r_drv: ArrayLike
     signal_path: ArrayLike  # ohms from the signal's source to its pin
+    others: ArrayLike  # ohms from the + pin to its other legs' Thevenin sources, in parallel
     ohms: ArrayLike  # the + node's Thevenin resistance: 1 / (sum of its legs' conductances)
 
 
@@ -150,11 +160,23 @@ def _plus_node(design: Design, p: Mapping[str, ArrayLike], state: str) -> _PlusN
             legs.append((volts, p[f"resistors.{key}"]))
     if "resistors.to_reference" in p:
         legs.append((v_ref, r_ref + p["resistors.to_reference"]))
-    signal_path = p["source.resistance"] + p.get("resistors.input", 0.0)
-    g_signal = 0.0 if design.inverting else 1.0 / signal_path
-    total_g = sum(1.0 / r for _, r in legs) + g_signal
+    path = signal_path(p)
+    g_signal = 0.0 if design.inverting else 1.0 / path
+    g_others = sum(1.0 / r for _, r in legs)
+    total_g = g_others + g_signal
     plus0 = (sum(v / r for v, r in legs) - plus_pin_current(p)) / total_g
-    return _PlusNode(plus0, g_signal / total_g, v_ref, r_ref, v_drv, r_drv, signal_path, 1.0 / total_g)
+    return _PlusNode(plus0, g_signal / total_g, v_ref, r_ref, v_drv, r_drv, path, 1.0 / g_others,
+                     1.0 / total_g)
+
+
+def input_load(design: Design, p: Mapping[str, ArrayLike], state: str) -> ArrayLike:
+    """Ohms the stage puts from its input node (behind the source and an input filter's resistor)
+    to its Thevenin sources, in one output state: the input resistor and the + pin's other legs
+    in parallel for the non-inverting stage; infinite for the inverting stage, whose - pin draws
+    only its bias current."""
+    if design.inverting:
+        return np.inf
+    return p.get("resistors.input", 0.0) + _plus_node(design, p, state).others
 
 
 def _ref_share(p: Mapping[str, ArrayLike], n: _PlusNode) -> ArrayLike:

@@ -17,7 +17,14 @@ from dataclasses import dataclass, replace
 from bandcalc.model.design import Design, DividerReference, OpenDrain
 from bandcalc.model.findings import Finding, finding_to_dict
 from bandcalc.model.front_end import SELF_HEATING_LIMIT, ThermistorFrontEnd
-from bandcalc.model.network import Nodes, TwoPoints, minus_pin_current, node_voltages, switching_points
+from bandcalc.model.network import (
+    Nodes,
+    TwoPoints,
+    minus_pin_current,
+    node_voltages,
+    signal_path,
+    switching_points,
+)
 from bandcalc.model.parts import parameters, resistors_of
 from bandcalc.model.points import (
     DesignPoints,
@@ -64,9 +71,11 @@ def branch_currents(design: Design, nodes: Nodes, signal: float, state: str) -> 
     vp, vn = design.supply.positive, design.supply.negative
     plus = float(nodes.plus)
     cur: dict[str, float] = {}
+    drawn = (signal - plus) / signal_path(p) if not design.inverting else float(minus_pin_current(p))
+    if design.filter is not None and design.filter.resistance > 0:
+        cur["filter.resistance"] = drawn
     if r.input is not None:
-        cur["input"] = ((signal - plus) / (r.input + design.source.resistance) if not design.inverting
-                        else float(minus_pin_current(p)))
+        cur["input"] = drawn
     cur["feedback"] = (float(nodes.output) - plus) / r.feedback
     far = {"to_positive": vp, "to_negative": vn, "to_ground": 0.0, "to_reference": float(nodes.reference)}
     for key, volts in far.items():

@@ -64,6 +64,8 @@ class Part:
 PARTS: tuple[Part, ...] = (
     Part("source.resistance", "Rsrc", "Source resistance", "Source", "in series with the signal",
          bought=False),
+    Part("filter.resistance", "Rflt", "Input filter resistor", "Filter", "in series with the signal, "
+         "ahead of the filter capacitor"),
     Part("resistors.input", "Rin", "Input resistor", "Input", "signal to the {pin} pin"),
     Part("resistors.feedback", "Rfb", "Feedback resistor", "Feedback", "output to the + pin"),
     Part("resistors.to_positive", "Rup", "Resistor to the positive rail", "To + rail",
@@ -101,9 +103,11 @@ def part(key: str) -> Part:
 
 
 def resistors_of(design: Design) -> dict[str, float]:
-    """Every resistor the design has (ohms) by key: the stage's, a reference divider, a pull-up,
-    then the front end's; in that order."""
+    """Every resistor the design has (ohms) by key: the stage's, an input filter's, a reference
+    divider, a pull-up, then the front end's; in that order."""
     values = dict(design.resistors.present())
+    if design.filter is not None and design.filter.resistance > 0:  # 0 ohm: the capacitor alone
+        values["filter.resistance"] = design.filter.resistance
     if isinstance(design.reference, DividerReference):
         values["reference.top"], values["reference.bottom"] = design.reference.top, design.reference.bottom
     if isinstance(design.output, OpenDrain):
@@ -129,6 +133,8 @@ def parameters(design: Design) -> dict[str, float]:
         "source.resistance": design.source.resistance,
     }
     p.update({f"resistors.{k}": v for k, v in design.resistors.present().items()})
+    if design.filter is not None:
+        p["filter.resistance"] = design.filter.resistance
     ref = design.reference
     if isinstance(ref, FixedReference):
         p["reference.volts"] = ref.volts

@@ -43,7 +43,14 @@ import numpy as np
 from bandcalc.errors import DesignError
 from bandcalc.model.design import Design, Source
 from bandcalc.model.front_end import DirectInput, DividerFrontEnd, FrontEnd, ThermistorFrontEnd, front_end_of
-from bandcalc.model.network import TwoPoints, difference_line, minus_pin_current, node_voltages, threshold
+from bandcalc.model.network import (
+    TwoPoints,
+    difference_line,
+    minus_pin_current,
+    node_voltages,
+    signal_path,
+    threshold,
+)
 from bandcalc.model.parts import parameters
 
 __all__ = [
@@ -53,6 +60,7 @@ __all__ = [
     "front_end_power",
     "input_at",
     "input_range",
+    "pin_margin",
     "stage_design",
     "stage_targets",
     "volts_for",
@@ -118,13 +126,30 @@ def input_range(design: Design) -> tuple[float, float]:
     return ends
 
 
+def _margin(design: Design, fe: Ahead, p: Mapping[str, ArrayLike], t: ArrayLike, state: str) -> ArrayLike:
+    """V+ - V- less the switching threshold (the offset, and half a built-in hysteresis) with the
+    front end at coordinate ``t`` and the output in ``state``."""
+    q = dict(p)
+    signal, q["source.resistance"] = _source(fe, p, t)
+    return node_voltages(design, q, signal, state).difference - threshold(p, state)
+
+
+def pin_margin(design: Design, x: ArrayLike, state: str,
+               values: Mapping[str, ArrayLike] | None = None) -> ArrayLike:
+    """How far past its switching condition the comparator sits, volts at its pins (V+ - V- less
+    the offset), with the input at ``x`` in the design's unit and the output in ``state``: 0 at a
+    switching point; its size beyond a point is the comparator's input overdrive there."""
+    fe = front_end_of(design)
+    p = _merged(design, values)
+    return _margin(design, fe, p, fe.coordinate(p, x), state)
+
+
 def _root(design: Design, fe: Ahead, p: Mapping[str, ArrayLike], state: str) -> ArrayLike:
     """Coordinate t where the stage switches in ``state``: the zero of a Moebius function of t."""
     q = dict(p)
 
     def residual(t: float) -> ArrayLike:
-        signal, q["source.resistance"] = _source(fe, p, t)
-        return node_voltages(design, q, signal, state).difference - threshold(p, state)
+        return _margin(design, fe, p, t, state)
 
     # As numpy values, so that a degenerate case (a residual that does not move) divides to inf
     # or NaN, "no watched value switches it", where Python floats would raise.
@@ -268,7 +293,7 @@ def front_end_power(design: Design, x: float, state: str) -> dict[str, float]:
         drawn = float(minus_pin_current(parameters(design)))
     else:
         plus = float(node_voltages(stage, parameters(stage), volts, state).plus)
-        drawn = (volts - plus) / (float(total) + design.resistors.input)
+        drawn = (volts - plus) / float(signal_path(parameters(stage)))
     node = volts - drawn * (float(total) - design.source.resistance)
     if isinstance(fe, DividerFrontEnd):
         return {"front_end.top": (x - node) ** 2 / fe.top, "front_end.bottom": node**2 / fe.bottom}

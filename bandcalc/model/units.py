@@ -18,6 +18,7 @@ __all__ = [
     "SI_UNITS",
     "UnitError",
     "format_code",
+    "format_interval",
     "format_ohms",
     "format_probability",
     "format_si",
@@ -191,7 +192,7 @@ def format_volts(volts: float) -> str:
 SI_UNITS = ("V", "A", "Ohm", "s", "F", "W", "Hz")
 #: Units written with an SI prefix ("10 mV", "1.5 mW/K"); any other unit (K, C, kPa, %) prints as
 #: a plain figure ("3950 K", "32.01 C").
-PREFIXED_UNITS = (*SI_UNITS, "W/K", "V/K")
+PREFIXED_UNITS = (*SI_UNITS, "W/K", "V/K", "V/s")
 
 
 def format_value(value: float, unit: str, digits: int = 4) -> str:
@@ -237,3 +238,22 @@ def format_probability(p: float, digits: int = 3) -> str:
     decimals = max(0, digits - 1 - math.floor(math.log10(value)))
     text = f"{value:.{decimals}f}"
     return f"{text.rstrip('0').rstrip('.') if '.' in text else text} {unit}"
+
+
+# Spans of time people read more easily than seconds, longest first (a Julian year of 365.25 days).
+_INTERVALS = ((365.25 * 86400.0, "year"), (86400.0, "day"), (3600.0, "hour"), (60.0, "minute"))
+
+
+def format_interval(seconds: float, digits: int = 2) -> str:
+    """A mean time between events for people: "3.2 years", "5.1 days", "12 ms", "never" (infinite)."""
+    seconds = float(seconds)
+    if math.isnan(seconds):
+        return "n/a"
+    if math.isinf(seconds):
+        return "never"
+    for span, name in _INTERVALS:
+        if seconds >= span:
+            count = _round(seconds / span, digits)
+            text = f"{count:.3g}" if count < 1e6 else f"{count:.{digits}e}"
+            return f"{text} {name}{'' if count == 1 else 's'}"
+    return format_si(seconds, "s", digits)

@@ -23,12 +23,17 @@ from bandcalc.errors import BandcalcError, DesignError, shown
 from bandcalc.model.units import SI_UNITS, format_si
 
 __all__ = [
+    "AMOUNT",
     "AMPS",
     "CELSIUS",
+    "DELAY",
     "FARADS",
+    "HERTZ",
     "LONE_SURROGATE",
     "OHMS",
+    "PER_YEAR",
     "SECONDS",
+    "SLEW_RATE",
     "VOLTS",
     "choice",
     "finite",
@@ -55,11 +60,25 @@ VOLTS = 100e3
 AMPS = 1.0
 #: Times, seconds: comparators switch in nanoseconds to milliseconds.
 SECONDS = 1.0
+#: A delay a designer accepts, seconds: a slow watched quantity (a tank, a room) may be given
+#: minutes to answer; an hour is beyond any stage's budget.
+DELAY = 3600.0
 #: Capacitances, farads: an output drives picofarads to nanofarads of load.
 FARADS = 1e-3
 #: Temperatures, degrees Celsius: above absolute zero, and no circuit board survives beyond some
 #: hundreds of degrees (high-temperature parts are rated to about 200 to 225 C).
 CELSIUS = (-273.15, 500.0)
+#: Slew rates, volts per second: op-amps slew from some mV/us (micropower parts) to some kV/us
+#: (the fastest); 1 V/s to 1 TV/s holds them all.
+SLEW_RATE = (1.0, 1e12)
+#: Frequencies and rates, per second: a comparator stage's signal, its noise bandwidth and how
+#: often it crosses the points stay far below 1 GHz.
+HERTZ = 1e9
+#: An amount of the signal in the design's unit (volts, or a front end's watched quantity: C, kPa,
+#: a measured voltage): noise, hum, a slope per second; no stage watches a span near a million.
+AMOUNT = 1e6
+#: A count per year (false edges a designer accepts): even one edge per nanosecond is 3e16 a year.
+PER_YEAR = 1e18
 
 
 # --- design-file values -------------------------------------------------------------------------

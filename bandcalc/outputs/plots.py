@@ -323,18 +323,36 @@ def signal_spec(run: SignalRun, output_levels: tuple[float, float], unit: str,
 def tradeoff_spec(sweep: Sweep, unit: str, width: float | None = None) -> dict:
     """Output edges and delay against hysteresis width (from ``width_trade.sweep_design``).
 
-    Traces: "Output edges", "Edges of the noise-free signal" (where known), then on ``yaxis2``
-    (seconds) "Mean delay" and "Largest delay" (where known: they need the noise-free signal).
-    Shapes: the narrowest width with one clean edge per crossing ("Narrowest clean width", where
-    there is one) and the design's own ``width``.
+    Traces: "Output edges" (the median over the noise draws), with "Fewest" and "Most" of any draw
+    where there are several, "Edges of the noise-free signal" and "Predicted edges (Rice)" (where
+    known), then on ``yaxis2`` (seconds) "Mean delay" and "Largest delay" (where known: they need the
+    noise-free signal).  Shapes: the narrowest width with one clean edge per crossing in every draw
+    ("Narrowest clean width", where there is one), the prediction's ("Predicted", where there is
+    one) and the design's own ``width``.
     """
     w, unit = sweep.widths, _text(unit)
-    data = [{"type": "scatter", "mode": "lines+markers", "x": w, "y": sweep.edge_counts,
-             "name": "Output edges", "line": {"color": PALETTE["point"], "width": 2}, "marker": {"size": 4}}]
+    data = []
+    if sweep.runs > 1:
+        for name, values in (("Fewest", sweep.run_edge_counts.min(axis=0)),
+                             ("Most", sweep.run_edge_counts.max(axis=0))):
+            trace = {"type": "scatter", "mode": "lines", "x": w, "y": values, "name": f"{name} (any draw)",
+                     "line": {"color": PALETTE["band_edge"], "width": 0}}
+            if name == "Most":  # shade between the fewest and the most
+                trace.update(fill="tonexty", fillcolor=PALETTE["band"])
+            data.append(trace)
+    data.append({"type": "scatter", "mode": "lines+markers", "x": w, "y": sweep.edge_counts,
+                 "name": "Output edges", "line": {"color": PALETTE["point"], "width": 2},
+                 "marker": {"size": 4}})
     if sweep.clean_edge_counts is not None:
         data.append({"type": "scatter", "mode": "lines", "x": w, "y": sweep.clean_edge_counts,
                      "name": "Edges of the noise-free signal",
                      "line": {"color": PALETTE["clean"], "dash": "dot"}})
+        if sweep.predicted_extra is not None:
+            predicted = np.where(np.isfinite(sweep.predicted_extra),
+                                 sweep.clean_edge_counts + sweep.predicted_extra, np.nan)
+            data.append({"type": "scatter", "mode": "lines", "x": w, "y": predicted,
+                         "name": "Predicted edges (Rice)",
+                         "line": {"color": PALETTE["rising"], "dash": "dash"}})
     delays = bool(np.isfinite(sweep.mean_delays).any())  # none without a noise-free signal
     for name, values, dash in (("Mean delay", sweep.mean_delays, "solid"),
                                ("Largest delay", sweep.max_delays, "dash")):
@@ -342,7 +360,8 @@ def tradeoff_spec(sweep: Sweep, unit: str, width: float | None = None) -> dict:
             data.append({"type": "scatter", "mode": "lines", "x": w, "y": values, "name": name, "yaxis": "y2",
                          "line": {"color": PALETTE["falling"], "dash": dash, "width": 2}})
     shapes, notes = [], []
-    marks = (("Narrowest clean width", sweep.best_width, "solid"), ("This design", width, "dot"))
+    marks = (("Narrowest clean width", sweep.best_width, "solid"),
+             ("Predicted", sweep.predicted_best_width, "dash"), ("This design", width, "dot"))
     for name, x, dash in marks:
         if x is None or not math.isfinite(x):
             continue

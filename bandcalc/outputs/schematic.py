@@ -35,7 +35,7 @@ __all__ = ["stage_labels", "stage_svg", "stage_template"]
 # Every value label the drawing can hold, in a fixed order (a placeholder's number is its index).
 _SLOTS = (*(p.path for p in PARTS), "supply.positive", "supply.negative", "reference.volts",
           "output.pullup_volts", "front_end.thermistor", "front_end.excitation", "front_end.sensor",
-          "load.volts")
+          "load.volts", "filter.capacitance")
 # Placeholders for the longer labels are longer, so the drawing leaves room for them.
 _WIDTH = {"front_end.thermistor": 14, "front_end.sensor": 14}
 _INK = "#1d2433"
@@ -69,6 +69,8 @@ def stage_labels(design: Design) -> dict[str, str]:
         if load.volts != 0:  # a load to ground is drawn to a ground symbol
             labels["load.volts"] = _v(load.volts)
     ohms.update(_front_end_labels(design, labels))
+    if design.filter is not None:
+        labels["filter.capacitance"] = f"Cflt {format_si(design.filter.capacitance, 'F')}"
     labels.update({path: f"{part(path).designator} {format_code(value)}" for path, value in ohms.items()})
     return labels
 
@@ -152,11 +154,16 @@ def _front_end(d: schemdraw.Drawing, slots: frozenset[str], layout: str, at: Poi
 
 
 def _signal(d: schemdraw.Drawing, slots: frozenset[str], start: Point, layout: str = "") -> None:
-    """From ``start`` leftwards: the input resistor, the source resistance, then the input terminal
-    or the front end."""
+    """From ``start`` leftwards: the input resistor, an input filter (its capacitor from the node to
+    ground, its resistor), the source resistance, then the input terminal or the front end."""
     here = start
-    for path in ("resistors.input", "source.resistance"):
-        if path in slots:
+    for path in ("resistors.input", "filter.capacitance", "filter.resistance", "source.resistance"):
+        if path == "filter.capacitance" and path in slots:
+            here = d.add(elm.Line().at(here).left().length(1.0)).end
+            d.add(elm.Dot().at(here))
+            cap = d.add(_value(elm.Capacitor().at(here).down().length(_FRONT_END_DROP), path, "bottom"))
+            d.add(elm.Ground().at(cap.end))
+        elif path in slots:
             here = d.add(_value(elm.Resistor().at(here).left(), path)).end
     if not layout:
         d.add(elm.Dot(open=True).at(here).label("IN", loc="left", color=_INK))

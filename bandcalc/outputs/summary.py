@@ -22,10 +22,11 @@ from bandcalc.errors import DesignError
 from bandcalc.model.design import Design, DividerReference, FixedReference, OpenDrain
 from bandcalc.model.design_file import design_from_json, design_to_dict
 from bandcalc.model.front_end import DividerFrontEnd, LinearFrontEnd, ThermistorFrontEnd
+from bandcalc.model.input_filter import filter_pole
 from bandcalc.model.operating import Analysis, analyze
 from bandcalc.model.parts import part, resistors_of, tolerance_of
 from bandcalc.model.ratings import power_needed, rating_of, series_count, size_for
-from bandcalc.model.units import format_code, format_probability, format_si, format_value
+from bandcalc.model.units import format_code, format_interval, format_probability, format_si, format_value
 from bandcalc.spread.propagation import failure_places
 
 __all__ = [
@@ -125,6 +126,13 @@ def component_rows(a: Analysis) -> list[dict[str, str]]:
             "power": _power_cell(watts, volts, d, key),
             "voltage": _voltage_cell(volts, d, key),
         })
+    if d.filter is not None:
+        rows.append({
+            "designator": "Cflt", "position": "input filter, from the stage's input node to ground",
+            "key": "filter.capacitance", "value": format_si(d.filter.capacitance, "F"),
+            "series": "n/a", "tolerance": "not given", "power": "n/a",
+            "voltage": "not checked: rate it for the input's highest voltage",
+        })
     fe = d.front_end
     if isinstance(fe, ThermistorFrontEnd):
         pair = "B{:g}/{:g}".format(*fe.beta_pair) + ("" if fe.beta_temperatures else ", assumed")
@@ -175,6 +183,14 @@ def stage_in_words(d: Design) -> str:
                      f"{_v(out.low_drop)} above the negative rail when low, "
                      f"{format_si(out.resistance, 'Ohm')} output resistance.")
     parts += _front_end_words(d) + _load_words(d)
+    pole = filter_pole(d)
+    if pole is not None:
+        resistor = f"{_ohm(d.filter.resistance)} in series and " if d.filter.resistance > 0 else ""
+        capacitor = format_si(d.filter.capacitance, "F")
+        parts.append(f"An input filter ({resistor}{capacitor} from the stage's input to ground) has its "
+                     f"pole at {format_si(pole.pole_upper, 'Hz')} at the upper point and "
+                     f"{format_si(pole.pole_lower, 'Hz')} at the lower (the capacitor with the source, the "
+                     "filter's resistor and the stage's loading).")
     c = d.comparator
     own = f", hysteresis {_v(c.hysteresis)} built in" if c.hysteresis else ""
     between = (f", offset current {format_si(c.offset_current, 'A')} (+ pin less - pin)"
@@ -303,6 +319,25 @@ def _items(texts) -> list[str]:
     return [f"- {_line(t)}" for t in texts]
 
 
+def _check_rows(check) -> list[list[str]]:
+    """Rows of a false-edge prediction (bandcalc.signal_check.noise.FalseEdgeCheck)."""
+    v = lambda x: format_value(x, check.unit, 3)  # noqa: E731
+    source = check.source.noise
+    rows = [["Noise at the source", f"{v(source.rms)} RMS, flat to {format_si(source.bandwidth, 'Hz')} "
+                                    f"({check.source.source})"],
+            ["Noise at the stage", f"{v(check.noise.rms_at_stage)} RMS" + (
+                "" if check.pole is None else f" behind the filter's pole at {format_si(check.pole, 'Hz')}")],
+            ["Hum at the stage, peak-to-peak", v(check.hum.span())],
+            ["Parked at a point: false switching", "never expected" if check.parked_per_second == 0 else
+             f"about once every {format_interval(check.mean_time_between)} (Rice's formula)"]]
+    for name, extra, slope in (("upper", check.extra_upper, check.slope_upper),
+                               ("lower", check.extra_lower, check.slope_lower)):
+        if extra is not None:
+            rows.append([f"Extra edges per crossing of the {name} point",
+                         f"{extra:.3g} at {format_value(slope, check.unit + '/s', 3)}"])
+    return rows
+
+
 def _signal_section(run, unit: str) -> list[str]:
     """Table and findings of a signal run (bandcalc.signal_check.edges.SignalRun) in ``unit``."""
     t = lambda x: format_si(x, "s")  # noqa: E731
@@ -317,7 +352,33 @@ def _signal_section(run, unit: str) -> list[str]:
         ["Time the output is high", f"{100 * run.output_high_fraction:.1f} %"],
         ["Noise", f"{q(run.noise.rms)} RMS, about {q(run.noise.peak_to_peak)} peak-to-peak"],
     ]
+    if run.check is not None:  # the prediction: the disturbance as given or estimated, at the stage
+        rows += _check_rows(run.check)
     return _table(["Quantity", "Value"], rows) + [""] + _items(run.findings)
+
+
+def _settings_section(d: Design) -> list[str]:
+    """False edges predicted from the design's own signal settings (noise, hum, slope)."""
+    given = d.signal
+    if given is None or (not given.noise and not given.hum):
+        return []
+    from bandcalc.signal_check.disturbance import Hum, NoiseSpectrum
+    from bandcalc.signal_check.noise import Disturbance, false_edge_check
+    from bandcalc.signal_check.waveform import DEFAULT_NOISE_BANDWIDTH
+
+    pts, pole = analyze(d).points, filter_pole(d)
+    noise = NoiseSpectrum(given.noise or 0.0, given.noise_bandwidth or DEFAULT_NOISE_BANDWIDTH)
+    hum = Hum(given.hum or 0.0, given.hum_frequency, given.hum_harmonics)
+    check = false_edge_check(Disturbance(noise, hum, "the design's signal settings"), float(pts.upper),
+                             float(pts.lower), pole=None if pole is None else pole.pole,
+                             slope_upper=given.slope, slope_lower=given.slope,
+                             crossings_per_second=given.crossings_per_second or 0.0, unit=d.unit)
+    lines = _table(["Quantity", "Value"], _check_rows(check))
+    if given.false_edges_per_year is not None:
+        lines += ["", _line(f"Target: at most {given.false_edges_per_year:g} false edge(s) a year"
+                            + (f", delay within {format_si(given.delay_budget, 's')}." if given.delay_budget
+                               else "."))]
+    return lines + [""] + _items(check.simplifications)
 
 
 def _fit_section(result) -> list[str]:
@@ -406,6 +467,9 @@ def design_summary(design: Design, inputs: SummaryInputs | None = None, *,
         md += ["", "## Spread over tolerances and temperature", ""] + _spread_section(inputs.spread)
     if inputs.fit is not None:
         md += ["", "## Standard values fitted to the targets", ""] + _fit_section(inputs.fit)
+    settings = _settings_section(d)
+    if settings:
+        md += ["", "## Noise and false edges expected", ""] + settings
     if inputs.signal is not None:
         md += ["", "## Noise and delay", ""] + _signal_section(inputs.signal, d.unit)
     findings_extra = list(inputs.spread.notes) if inputs.spread is not None else []

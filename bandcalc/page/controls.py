@@ -12,6 +12,7 @@ import streamlit as st
 
 from bandcalc.model.design import LEG_KEYS, STAGES, Design, OpenDrain
 from bandcalc.model.front_end import BETA_PAIR, POSITIONS, THERMISTOR_RANGE, ThermistorFrontEnd
+from bandcalc.model.input_filter import filter_pole
 from bandcalc.model.parts import part, value_at, with_value
 from bandcalc.model.range_checks import INPUT_CURRENT_LIMIT
 from bandcalc.model.ratings import DEFAULT_SIZE, PACKAGES
@@ -20,17 +21,20 @@ from bandcalc.model.units import format_si
 from bandcalc.page import state
 from bandcalc.page.edit import (
     EXCITATION_KINDS,
+    FILTER_KINDS,
     FRONT_END_KINDS,
     OUTPUT_KINDS,
     STARTING_OHMS,
     THERMISTOR_MODELS,
     beta_temperature,
     excitation_kind,
+    filter_kind,
     front_end_kind,
     reference_kind,
     thermistor_model,
     with_beta_temperature,
     with_excitation,
+    with_filter,
     with_front_end,
     with_legs,
     with_load_value,
@@ -56,6 +60,7 @@ _FRONT_END_NAMES = {"none": "Nothing: the signal drives the stage", "divider": "
 _MODEL_NAMES = {"beta": "Beta", "steinhart_hart": "Steinhart-Hart"}
 _POSITION_NAMES = {"bottom": "To ground (input falls as it warms)",
                    "top": "From the excitation (input rises as it warms)"}
+_FILTER_NAMES = {"none": "None", "rc": "RC low-pass"}
 _EXCITATION_NAMES = {"positive": "Positive rail", "reference": "Fixed reference",
                      "volts": "A voltage of its own"}
 
@@ -145,6 +150,12 @@ def _comparator(design: Design) -> None:
     quantity_field("Input offset current", "comparator.offset_current", design, "A", optional=True,
                    blank="blank: 0", help="The + pin's current less the − pin's")
     quantity_field("Propagation delay", "comparator.delay", design, "s")
+    quantity_field("Delay stated at an overdrive of", "comparator.delay_overdrive", design, "V",
+                   optional=True, blank="blank: not stated", help="The data sheet's overdrive for that delay")
+    quantity_field("Slew rate (an op-amp as comparator)", "comparator.slew_rate", design, "V/s",
+                   optional=True, blank="blank: a comparator, not limited")
+    quantity_field("Saturation recovery", "comparator.recovery", design, "s", optional=True,
+                   blank="blank: none")
     quantity_field("Common-mode range, low end", "comparator.common_mode_low", design, "V",
                    optional=True, blank="blank: no limit given")
     quantity_field("Common-mode range, high end", "comparator.common_mode_high", design, "V",
@@ -188,6 +199,21 @@ def _source(design: Design) -> None:
                    blank="blank: the negative rail")
     quantity_field("Highest signal", "source.high", design, "V", optional=True,
                    blank="blank: the positive rail")
+
+
+def _filter(design: Design) -> None:
+    choice_control(st.radio, "Input filter", "filter.kind", filter_kind(design), with_filter,
+                   options=FILTER_KINDS, format_func=_FILTER_NAMES.get, horizontal=True,
+                   help="A resistor in series after the source, a capacitor from the stage's input to ground")
+    if design.filter is None:
+        return
+    quantity_field("Filter resistor (Rflt)", "filter.resistance", design, "Ohm",
+                   help="Adds to the source's resistance at DC: the switching points move with it")
+    quantity_field("Filter capacitor (Cflt)", "filter.capacitance", design, "F")
+    pole = filter_pole(design)
+    st.caption(f"Pole {format_si(pole.pole_upper, 'Hz')} at the upper point, "
+               f"{format_si(pole.pole_lower, 'Hz')} at the lower: the capacitor with everything that "
+               "drives it (source, filter resistor, the stage's loading).")
 
 
 def _unit_entered(key: str) -> None:
@@ -281,6 +307,7 @@ def render_controls(design: Design) -> None:
         ("load", "Output load and receiving logic", False, lambda: _load(design)),
         ("comparator", "Comparator", False, lambda: _comparator(design)),
         ("source", "Signal source", False, lambda: _source(design)),
+        ("filter", "Input filter", False, lambda: _filter(design)),
         ("front_end", "Front end: divider or sensor", False, lambda: _front_end(design, series)),
     )
     # Only open sections draw their controls: fewer widgets make each slider move faster, and

@@ -18,6 +18,7 @@ from bandcalc.model.design import (
     Design,
     DividerReference,
     FixedReference,
+    InputFilter,
     Load,
     OpenDrain,
     PushPull,
@@ -33,6 +34,7 @@ __all__ = [
     "DECADES_BELOW",
     "DECADES_ABOVE",
     "EXCITATION_KINDS",
+    "FILTER_KINDS",
     "FRONT_END_KINDS",
     "OUTPUT_KINDS",
     "REFERENCE_KINDS",
@@ -41,6 +43,7 @@ __all__ = [
     "THERMISTOR_MODELS",
     "beta_temperature",
     "excitation_kind",
+    "filter_kind",
     "front_end_kind",
     "in_series",
     "reference_kind",
@@ -48,6 +51,7 @@ __all__ = [
     "thermistor_model",
     "with_beta_temperature",
     "with_excitation",
+    "with_filter",
     "with_front_end",
     "with_legs",
     "with_load_value",
@@ -70,6 +74,9 @@ SLIDER_DIGITS = 4
 FRONT_END_KINDS = ("none", "divider", "thermistor", "linear")
 THERMISTOR_MODELS = ("beta", "steinhart_hart")
 EXCITATION_KINDS = ("positive", "reference", "volts")
+FILTER_KINDS = ("none", "rc")
+# An input filter switched on starts as 10 kOhm and 100 nF: a 1 ms time constant (our choice).
+STARTING_FILTER = InputFilter(10e3, 100e-9)
 
 
 def _mid_supply(design: Design) -> float:
@@ -154,6 +161,20 @@ def with_output(design: Design, kind: str) -> Design:
         return replace(design, output=PushPull(load_capacitance=cap))
     pullup = float(nearest("E12", min(10e3, max(1e3, design.resistors.feedback / 20))))
     return replace(design, output=OpenDrain(pullup=pullup, load_capacitance=cap))
+
+
+def filter_kind(design: Design) -> str:
+    """ "rc" where the design has an input filter, else "none"."""
+    return "none" if design.filter is None else "rc"
+
+
+def with_filter(design: Design, kind: str) -> Design:
+    """Add an input filter (:data:`STARTING_FILTER`) or take it away."""
+    if kind not in FILTER_KINDS:
+        raise DesignError(f"filter: {kind!r} is not a filter kind; allowed: {', '.join(FILTER_KINDS)}")
+    if kind == filter_kind(design):
+        return design
+    return replace(design, filter=STARTING_FILTER if kind == "rc" else None)
 
 
 def slider_options(series: str, ohms: float) -> tuple[float, ...]:

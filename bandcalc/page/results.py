@@ -17,10 +17,14 @@ from bandcalc.model.units import format_si, format_value
 from bandcalc.page.compute import analysis_of, guarded, schematic_of, transfer_figure_of
 from bandcalc.page.literal import literal
 
-__all__ = ["AXIS_KEY", "FIGURES", "figure_texts", "render_figures", "render_results", "render_views",
-           "watched_name"]
+__all__ = ["AXIS_KEY", "FIGURES", "FIGURE_WIDTH", "figure_texts", "render_figures", "render_results",
+           "render_views", "watched_name"]
 
 AXIS_KEY = "page.transfer.axis"
+# Each figure's width in pixels: room for its whole label ("Upper switching point" and its help
+# mark), four to a row beside the open sidebar in a window 1440 pixels wide; six columns sharing
+# the row cut that label short.  One wrapping row holds them: fewer elements for each rerun.
+FIGURE_WIDTH = 220
 
 # (label on the page, attribute of Analysis, what it means)
 FIGURES = (
@@ -70,13 +74,16 @@ def figure_texts(analysis: Analysis) -> list[tuple[str, str, str | None, str]]:
 
 
 def render_figures(analysis: Analysis) -> None:
-    """The six figures, then the cautions, the findings (each sentence holds its numbers) and,
-    quieter, the notes."""
-    texts = figure_texts(analysis)
-    for column, (label, value, stage, meaning) in zip(st.columns(len(texts)), texts, strict=True):
-        column.metric(label, value, help=meaning)
-        if stage:
-            column.caption(stage)
+    """The six figures side by side, wrapping into rows at :data:`FIGURE_WIDTH` pixels each, then the
+    cautions, the findings (each sentence holds its numbers) and, quieter, the notes."""
+    with st.container(horizontal=True, gap="medium"):
+        for label, value, stage, meaning in figure_texts(analysis):
+            if stage is None:
+                st.metric(label, value, help=meaning, width=FIGURE_WIDTH)
+                continue
+            with st.container(width=FIGURE_WIDTH, gap=None):
+                st.metric(label, value, help=meaning)
+                st.caption(stage)
     if analysis.design.front_end is not None:
         w, unit = analysis.points, literal(analysis.design.unit)
         st.caption(f"Switching points in the watched quantity ({unit}), through the front end; beneath "

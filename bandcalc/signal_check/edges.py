@@ -13,21 +13,38 @@ same times.
 
 Edge times are interpolated linearly between the two samples that straddle
 the switching point, then the comparator's propagation delay is added to every
-edge and the output rise time to rising output edges (open-drain pull-up).
+edge, and the output's time to reach the receiving input's threshold to rising
+and falling output edges (:mod:`bandcalc.signal_check.output_timing`).
+
+A design's run (:func:`run_design`) first passes the input through the design's
+input filter (:func:`bandcalc.signal_check.first_order.low_pass`, at the
+filter's pole), and predicts false edges from the noise's spectrum by Rice's
+formula (:func:`bandcalc.signal_check.noise.false_edge_check`) beside the
+edges the run counts.
 """
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
 from bandcalc.errors import BandcalcError
-from bandcalc.model.design import Design, OpenDrain
+from bandcalc.model.design import Design
+from bandcalc.model.input_filter import FilterPole, filter_pole
 from bandcalc.model.network import TwoPoints
 from bandcalc.model.points import design_points
 from bandcalc.model.validation import real
-from bandcalc.signal_check.noise import NoiseLevel, hysteresis_noise_finding, noise_level
+from bandcalc.signal_check.first_order import low_pass
+from bandcalc.signal_check.noise import (
+    Disturbance,
+    FalseEdgeCheck,
+    NoiseLevel,
+    disturbance_of,
+    false_edge_check,
+    slow_part,
+)
+from bandcalc.signal_check.output_timing import OutputTiming, output_timing
 from bandcalc.signal_check.waveform import Waveform
 
 __all__ = [
@@ -39,29 +56,12 @@ __all__ = [
     "input_edges",
     "missed_transitions",
     "run_points",
-    "output_rise_time",
-    "pullup_rise_time",
     "run_design",
+    "stage_input",
     "run_stage",
     "switch_states",
     "switching_edges",
 ]
-
-
-def pullup_rise_time(r_pullup: float, c_load: float) -> float:
-    """10-90 % rise time of an open-drain output, 2.2 x R x C, in s.
-
-    Parameters
-    ----------
-    r_pullup : float
-        Pull-up resistance, in ohm, above 0.
-    c_load : float
-        Load capacitance on the output, in F, at least 0.
-    """
-    # 10-90 % of an RC charge: RC ln(0.9 / 0.1) = 2.197 RC.
-    r = real("r_pullup", r_pullup, low=0.0, low_open=True, unit="ohm")
-    c = real("c_load", c_load, low=0.0, unit="F")
-    return 2.2 * r * c
 
 
 def _points(upper: float, lower: float) -> tuple[float, float]:
@@ -215,10 +215,10 @@ class Edges:
     direction: np.ndarray
     switch_times: np.ndarray
 
-    def times(self, inverting: bool, delay: float, rise_time: float) -> np.ndarray:
-        """Output edge times: switching instant + delay (+ rise time if rising)."""
+    def times(self, inverting: bool, delay: float, rise_time: float, fall_time: float = 0.0) -> np.ndarray:
+        """Output edge times: switching instant + delay + rise time (rising) or fall time (falling)."""
         rising = (self.direction > 0) != inverting
-        return self.switch_times + delay + np.where(rising, rise_time, 0.0)
+        return self.switch_times + delay + np.where(rising, rise_time, fall_time)
 
 
 def find_edges(t: np.ndarray, v: np.ndarray, upper: float, lower: float,
@@ -263,8 +263,9 @@ class SignalRun(TwoPoints):
         Switching points, in V.
     inverting : bool
         True when the output is low in the input-high state.
-    delay, rise_time : float
-        Propagation delay and rising-output rise time added to edges, in s.
+    delay, rise_time, fall_time : float
+        Propagation delay added to every edge, and the time the output takes to reach the
+        receiving threshold on rising / falling edges, in s.
     state : numpy.ndarray of bool
         Per sample, True in the input-high state.
     edge_times : numpy.ndarray
@@ -283,9 +284,14 @@ class SignalRun(TwoPoints):
     input_high_fraction : float
         Fraction of the record spent in the input-high state.
     noise : NoiseLevel
-        Noise RMS on the input and how it was obtained.
+        Random noise RMS on the input (hum apart) and how it was obtained.
     findings : tuple of str
-        Plain sentences: noise against hysteresis, extra and missed edges.
+        Plain sentences: extra and missed edges; from :func:`run_design` also the false edges
+        predicted, the hum and the output's timing.
+    check : FalseEdgeCheck or None
+        False edges predicted by Rice's formula (:func:`run_design` only).
+    pole : FilterPole or None
+        The design's input filter, through which ``wave`` has passed (:func:`run_design` only).
     """
 
     wave: Waveform
@@ -304,7 +310,9 @@ class SignalRun(TwoPoints):
     input_high_fraction: float
     noise: NoiseLevel
     findings: tuple[str, ...]
-
+    fall_time: float = 0.0
+    check: FalseEdgeCheck | None = None
+    pole: FilterPole | None = None
 
     @property
     def output_high(self) -> np.ndarray:
@@ -352,28 +360,30 @@ class SignalRun(TwoPoints):
 
 
 def run_stage(wave: Waveform, upper: float, lower: float, *, inverting: bool = False,
-              delay: float = 0.0, rise_time: float = 0.0,
-              noise_rms: float | None = None, unit: str = "V") -> SignalRun:
+              delay: float = 0.0, rise_time: float = 0.0, fall_time: float = 0.0,
+              noise: NoiseLevel | None = None, wanted: np.ndarray | None = None) -> SignalRun:
     """Run ``wave`` through a stage switching at ``upper`` and ``lower``.
 
     Parameters
     ----------
     wave : Waveform
-        Input samples.
+        Input samples (as they reach the stage).
     upper, lower : float
         Switching points, in V, ``upper >= lower``.
     inverting : bool
         Output low in the input-high state.
     delay : float
         Comparator propagation delay added to every edge, in s, at least 0.
-    rise_time : float
-        Added to rising output edges, in s, at least 0; for an open-drain
-        output use :func:`pullup_rise_time`, for push-pull leave 0.
-    noise_rms : float, optional
-        Known input noise RMS, in V; else measured or estimated, see
-        :func:`bandcalc.signal_check.noise.noise_level`.
-    unit : str
-        Unit of the input and the points ("V", or a front end's watched unit such as "C").
+    rise_time, fall_time : float
+        Added to rising / falling output edges, in s, at least 0: the time the output takes to
+        reach the receiving threshold (:func:`bandcalc.signal_check.output_timing.output_timing`).
+    noise : NoiseLevel, optional
+        The random noise on the input, where known; else measured from the spectrum
+        (:func:`bandcalc.signal_check.noise.disturbance_of`).
+    wanted : numpy.ndarray, optional
+        The noise-free signal whose centre crossings are the transitions wanted and whose delays
+        are measured (default ``wave.clean``); a design's run passes the signal ahead of its
+        input filter, so the filter's lag counts as delay.
 
     Returns
     -------
@@ -382,16 +392,19 @@ def run_stage(wave: Waveform, upper: float, lower: float, *, inverting: bool = F
     upper, lower = _points(upper, lower)
     delay = real("delay", delay, low=0.0, unit="s")
     rise_time = real("rise_time", rise_time, low=0.0, unit="s")
+    fall_time = real("fall_time", fall_time, low=0.0, unit="s")
     inverting = bool(inverting)
     noisy = input_edges(wave, upper, lower)
-    times = noisy.times(inverting, delay, rise_time)
-    noise = noise_level(wave, noise_rms)
-    findings = [hysteresis_noise_finding(upper - lower, noise, unit)]
+    times = noisy.times(inverting, delay, rise_time, fall_time)
+    noise = disturbance_of(wave).level if noise is None else noise
+    findings = []
     clean_edges = clean_crossings = missed = delays = None
     if wave.clean is not None:
         clean_switch = find_edges(wave.t, wave.clean, upper, lower).switch_times
         clean_edges = clean_switch.size
-        cross_t, cross_d = centre_crossings(wave, 0.5 * (upper + lower))
+        centre = 0.5 * (upper + lower)
+        ideal = find_edges(wave.t, wave.clean if wanted is None else wanted, centre, centre)
+        cross_t, cross_d = ideal.switch_times, ideal.direction
         clean_crossings = cross_t.size
         missed = missed_transitions(cross_t, clean_switch)
         delays = edge_delays(times, noisy.direction, cross_t, cross_d)
@@ -405,21 +418,14 @@ def run_stage(wave: Waveform, upper: float, lower: float, *, inverting: bool = F
                 "the noise-free signal: a switching point lies beyond the signal's swing.")
     return SignalRun(
         wave=wave, upper=upper, lower=lower, inverting=inverting, delay=delay,
-        rise_time=rise_time, state=_trace(wave.v.size, noisy.start_high, noisy.index),
+        rise_time=rise_time, fall_time=fall_time,
+        state=_trace(wave.v.size, noisy.start_high, noisy.index),
         edge_times=times, edge_directions=noisy.direction,
         clean_edge_count=clean_edges, clean_crossing_count=clean_crossings,
         missed_count=missed, edge_delays=delays,
         input_high_fraction=_high_fraction(wave.t, noisy.start_high, noisy.switch_times),
         noise=noise, findings=tuple(findings),
     )
-
-
-def output_rise_time(design: Design) -> float:
-    """10-90 % rise time (s) the design's output adds to rising edges: 2.2 R C for open-drain."""
-    out = design.output
-    if isinstance(out, OpenDrain) and out.load_capacitance > 0:
-        return pullup_rise_time(out.pullup, out.load_capacitance)
-    return 0.0
 
 
 def run_points(design: Design) -> tuple[float, float, bool]:
@@ -433,16 +439,44 @@ def run_points(design: Design) -> tuple[float, float, bool]:
     return float(pts.upper), float(pts.lower), design.inverting != (not pts.rises)
 
 
-def run_design(design: Design, wave: Waveform, *, noise_rms: float | None = None) -> SignalRun:
-    """Run ``wave`` through a design's switching points (see :func:`run_points`).
+def stage_input(design: Design, wave: Waveform) -> tuple[Waveform, FilterPole | None]:
+    """``wave`` as it reaches the stage: through the design's input filter at its pole (the mean
+    time constant of its two points, :class:`~bandcalc.model.input_filter.FilterPole`), noise-free
+    twin included; unchanged without a filter.  The filter starts settled at the noise-free
+    signal's first value, or a recording's mean over its first time constant (one noisy sample
+    would start it off by the whole noise)."""
+    pole = filter_pole(design)
+    if pole is None:
+        return wave, None
+    tau = pole.time_constant
+    if wave.clean is None:
+        first = float(wave.v[: max(1, int(np.searchsorted(wave.t, wave.t[0] + tau)))].mean())
+        return Waveform(wave.t, low_pass(wave.t, wave.v, tau, first)), pole
+    clean = low_pass(wave.t, wave.clean, tau)
+    return Waveform(wave.t, low_pass(wave.t, wave.v, tau, float(wave.clean[0])), clean), pole
 
-    The points come from the full stage model; the comparator's propagation delay and, for an
-    open-drain output, the pull-up rise time into the output's load capacitance are added.
+
+def run_design(design: Design, wave: Waveform, *, disturbance: Disturbance | None = None) -> SignalRun:
+    """Run ``wave`` (at the signal's source) through a design (points: :func:`run_points`).
+
+    The input passes the design's input filter (:func:`stage_input`); the comparator's delay and
+    the output's time to the receiving threshold are added
+    (:func:`bandcalc.signal_check.output_timing.output_timing`); false edges are predicted from
+    ``disturbance`` (the noise and hum at the source; default: read from the signal's spectrum)
+    by Rice's formula, with the signal's slope where it crosses each point.
     """
     upper, lower, inverting = run_points(design)
     if not upper > lower:
         raise BandcalcError("signal: the design has no hysteresis (upper point not above lower, or a "
                          "point the watched quantity cannot reach); fix the stage first")
-    return run_stage(wave, upper, lower, inverting=inverting, delay=design.comparator.delay,
-                     rise_time=output_rise_time(design), noise_rms=noise_rms,
-                     unit=design.unit)
+    disturbance = disturbance_of(wave) if disturbance is None else disturbance
+    staged, pole = stage_input(design, wave)
+    slow = slow_part(staged, disturbance)
+    passes = slow.crossings(0.5 * (upper + lower))[1] / wave.duration
+    check = false_edge_check(disturbance, upper, lower, pole=None if pole is None else pole.pole,
+                             slope_upper=slow.crossings(upper)[0], slope_lower=slow.crossings(lower)[0],
+                             crossings_per_second=passes, unit=design.unit)
+    timing: OutputTiming = output_timing(design, (float(slow.x.min()), float(slow.x.max())))
+    run = run_stage(staged, upper, lower, inverting=inverting, delay=timing.delay, rise_time=timing.rise,
+                    fall_time=timing.fall, noise=disturbance.level, wanted=wave.clean)
+    return replace(run, findings=run.findings + check.findings + timing.findings, check=check, pole=pole)

@@ -1,10 +1,14 @@
 """Panel: a synthetic or recorded signal run through the design's switching points.
 
 Shows the input, both points and the output with its edges over time, the edge count against the
-noise-free signal's (chatter), the delays, the time high, the noise finding, and the trade-off
-between hysteresis width and edges and delay.  With a front end the signal is the watched
-quantity itself (battery volts, degrees C, ...).  The run happens on a button press and is kept
-for the design (:mod:`bandcalc.page.runs`); only the latest run is kept, as it holds its waveform.
+noise-free signal's (chatter), the delays, the time high, the false edges predicted from the noise's
+spectrum (Rice's formula) with the model's simplifications, the trade-off between hysteresis width
+and edges and delay over several noise draws beside the prediction, and, for a false-edge target,
+the table of hysteresis and delay over filter time constants.  A recording's noise and hum are
+read from its spectrum, and a design can be made from it (:mod:`bandcalc.signal_check.from_recording`).
+With a front end the signal is the watched quantity itself (battery volts, degrees C, ...).  The run
+happens on a button press and is kept for the design (:mod:`bandcalc.page.runs`); only the latest run
+is kept, as it holds its waveform.
 """
 
 from __future__ import annotations
@@ -16,15 +20,25 @@ import streamlit as st
 from bandcalc.errors import BandcalcError
 from bandcalc.model.design import Design
 from bandcalc.model.front_end import front_end_of
-from bandcalc.model.units import format_si, format_value
+from bandcalc.model.signal_settings import SignalSettings
+from bandcalc.model.units import format_interval, format_si, format_value
 from bandcalc.outputs.plots import DISPLAY_POINTS, as_figure, signal_spec, tradeoff_spec
 from bandcalc.page import runs, state
 from bandcalc.page.compute import guarded
 from bandcalc.page.inputs import read_value
 from bandcalc.page.literal import literal
 from bandcalc.signal_check.edges import SignalRun, run_design, run_points
+from bandcalc.signal_check.from_recording import design_from_recording
+from bandcalc.signal_check.hysteresis_choice import FilterTable, filter_table_for
+from bandcalc.signal_check.noise import Disturbance, FalseEdgeCheck, disturbance_of, given_disturbance
 from bandcalc.signal_check.recording import read_waveform_csv
-from bandcalc.signal_check.waveform import HUM_FREQUENCIES, SHAPES, Waveform, synthesize
+from bandcalc.signal_check.waveform import (
+    DEFAULT_NOISE_BANDWIDTH,
+    HUM_FREQUENCIES,
+    SHAPES,
+    SyntheticSignal,
+    Waveform,
+)
 from bandcalc.signal_check.width_trade import Sweep, sweep_design
 
 TITLE = "Signal check"
@@ -43,18 +57,26 @@ SETTINGS = {
     "frequency": ("Frequency", "Hz", "50 Hz", None),
     "duration": ("Record length", "s", "100 ms", None),
     "rate": ("Sample rate", "Hz", "100 kHz", None),
-    "noise": ("Noise, RMS", "watched", "", "none"),
-    "hum": ("Mains hum, peak", "watched", "", "none"),
+    "noise": ("Noise, RMS", "watched", "", "the design's, else none"),
+    "noise_bandwidth": ("Noise bandwidth", "Hz", "",
+                        f"the design's, else {DEFAULT_NOISE_BANDWIDTH / 1e3:g} kHz"),
+    "hum": ("Mains hum, peak", "watched", "", "the design's, else none"),
+    "target": ("False edges a year, at most", "", "", "no table"),
+    "budget": ("Delay budget", "s", "", "none"),
 }
+_SYNTHETIC = ("offset", "amplitude", "frequency", "duration", "rate", "noise", "noise_bandwidth", "hum")
+_WHERE = {"centre": "Centre of the points", "upper": "Upper point", "lower": "Lower point"}
 
 
 @dataclass(frozen=True, eq=False)
 class SignalResult:
-    """One signal check: the run, the width sweep (None if not asked for) and what the signal was."""
+    """One signal check: the run, the width sweep (None if not asked for), what the signal was and
+    the table over filter time constants (None without a target)."""
 
     run: SignalRun
     sweep: Sweep | None
     described: str
+    table: FilterTable | None = None
 
 
 def _setting_changed(name: str, label: str, unit: str, optional: bool) -> None:
@@ -88,28 +110,49 @@ def _value(name: str, unit: str) -> float | None:
     return read_value(text, unit if kind == "watched" else kind, label) if text else None
 
 
-def _synthetic_settings(design: Design, unit: str) -> tuple:
+def _given(design: Design) -> SignalSettings:
+    return design.signal or SignalSettings()
+
+
+def _synthetic_settings(design: Design, unit: str) -> SyntheticSignal:
     upper, lower, _ = run_points(design)
+    given = _given(design)
     columns = st.columns(4)
     st.session_state.setdefault(_PREFIX + "shape", "sine")
     columns[0].selectbox("Shape", SHAPES, key=_PREFIX + "shape", format_func=_SHAPES.get)
-    for i, name in enumerate(("offset", "amplitude", "frequency", "duration", "rate", "noise", "hum")):
+    for i, name in enumerate(_SYNTHETIC):
         with columns[(i + 1) % 4]:
             _setting(name, unit)
-    st.session_state.setdefault(_PREFIX + "hum_frequency", 50)
-    columns[0].selectbox("Mains frequency (Hz)", HUM_FREQUENCIES, key=_PREFIX + "hum_frequency")
+    st.session_state.setdefault(_PREFIX + "hum_frequency", int(given.hum_frequency))
+    columns[1].selectbox("Mains frequency (Hz)", HUM_FREQUENCIES, key=_PREFIX + "hum_frequency")
     st.session_state.setdefault(_PREFIX + "seed", 1)
-    columns[1].number_input("Noise seed", 0, 2**31 - 1, key=_PREFIX + "seed",
-                            help="The same seed gives the same noise")
+    columns[2].number_input("Noise seed", 0, 2**31 - 1, key=_PREFIX + "seed",
+                            help="The same seed gives the same noise; the sweep runs this and the next four")
     offset, amplitude = _value("offset", unit), _value("amplitude", unit)
+    noise, bandwidth, hum = _value("noise", unit), _value("noise_bandwidth", unit), _value("hum", unit)
     v = lambda x: format_value(x, literal(unit))  # noqa: E731
     st.caption(f"Blank centre and amplitude follow the design: centre {v(0.5 * (upper + lower))}, "
-               f"amplitude {v(upper - lower)} (so the signal crosses both points).")
-    return (st.session_state[_PREFIX + "shape"], 0.5 * (upper + lower) if offset is None else offset,
-            upper - lower if amplitude is None else amplitude, _value("frequency", unit),
-            _value("duration", unit), _value("rate", unit), _value("noise", unit) or 0.0,
-            _value("hum", unit) or 0.0, float(st.session_state[_PREFIX + "hum_frequency"]),
-            int(st.session_state[_PREFIX + "seed"]))
+               f"amplitude {v(upper - lower)} (so the signal crosses both points). The noise is flat to its "
+               "bandwidth and nothing above; the record is sampled at least 10 x that bandwidth.")
+    return SyntheticSignal(
+        st.session_state[_PREFIX + "shape"], 0.5 * (upper + lower) if offset is None else offset,
+        upper - lower if amplitude is None else amplitude, _value("frequency", unit),
+        _value("duration", unit), _value("rate", unit),
+        noise_rms=(given.noise or 0.0) if noise is None else noise,
+        hum_amplitude=(given.hum or 0.0) if hum is None else hum,
+        hum_frequency=float(st.session_state[_PREFIX + "hum_frequency"]),
+        seed=int(st.session_state[_PREFIX + "seed"]),
+        noise_bandwidth=given.noise_bandwidth if bandwidth is None else bandwidth,
+        hum_harmonics=given.hum_harmonics)
+
+
+def _target_settings(unit: str) -> tuple[float | None, float | None]:
+    left, right = st.columns(2)
+    with left:
+        _setting("target", unit)
+    with right:
+        _setting("budget", unit)
+    return _value("target", unit), _value("budget", unit)
 
 
 def _described(wave: Waveform) -> str:
@@ -124,8 +167,16 @@ def _uploaded() -> None:
     keeps = f"The signal check keeps {kept[0]}." if kept else "No recorded signal is loaded."
     wave = state.read_upload(upload, lambda u: read_waveform_csv(u.getvalue()), keeps)
     if wave is not None:
-        st.session_state[_PREFIX + "recorded"] = (upload.name, upload.file_id, wave)
+        st.session_state[_PREFIX + "recorded"] = (upload.name, upload.file_id, wave, disturbance_of(wave))
         state.say("success", f"Read {upload.name}: {_described(wave)}.")
+
+
+def _disturbance_words(found: Disturbance, unit: str) -> str:
+    v = lambda x: format_value(x, unit, 3)  # noqa: E731
+    hum = found.hum
+    harmonics = "".join(f", {v(a)} at harmonic {k}" for k, a in hum.harmonics)
+    return (f"noise {v(found.noise.rms)} RMS, effective bandwidth {format_si(found.noise.bandwidth, 'Hz')}; "
+            f"hum {v(hum.amplitude)} at {hum.frequency:g} Hz{harmonics}")
 
 
 def _recorded_settings(unit: str) -> tuple | None:
@@ -137,25 +188,69 @@ def _recorded_settings(unit: str) -> tuple | None:
     if recorded is None:
         st.caption("No recorded signal loaded yet.")
         return None
-    name, file_id, wave = recorded
-    st.caption(f"Using {literal(name)}: {_described(wave)}.")
+    name, file_id, wave, found = recorded
+    st.caption(f"Using {literal(name)}: {_described(wave)}. From its spectrum: "
+               f"{literal(_disturbance_words(found, unit))}."
+               + "".join(f" {literal(n)}" for n in found.notes))
     return ("recorded", name, file_id)
 
 
+def _to_design(design: Design, unit: str) -> None:
+    """The recording to a design: where the points go, the target and budget, whether a filter may
+    be added; the design replaces the current one."""
+    name = st.session_state[_PREFIX + "recorded"][0]
+    with st.expander("Make a design from this recording", key=_PREFIX + "make", on_change="rerun"):
+        with st.form(_PREFIX + "make.form", border=False):
+            where = st.radio("Place", tuple(_WHERE), format_func=_WHERE.get, horizontal=True,
+                             key=_PREFIX + "make.where")
+            left, middle, right = st.columns(3)
+            level = left.text_input(f"At ({unit})", key=_PREFIX + "make.level")
+            target = middle.text_input("False edges a year, at most", "1", key=_PREFIX + "make.target")
+            budget = right.text_input("Delay budget (s)", key=_PREFIX + "make.budget",
+                                      placeholder="blank: none")
+            allow = st.checkbox("An input filter may be added", True, key=_PREFIX + "make.filter")
+            pressed = st.form_submit_button("Make the design", icon=":material/auto_fix_high:")
+        if not pressed:
+            st.caption("Reads the noise and hum, chooses the hysteresis (and a filter) for the target within "
+                       "the budget, fits standard values; the new design's notes explain each step.")
+            return
+        try:
+            where_value = {where: read_value(level, unit, _WHERE[where])}
+            target_value = read_value(target, "", "False edges a year")
+            budget_value = read_value(budget, "s", "Delay budget") if budget.strip() else None
+        except ValueError as exc:
+            st.error(f"{exc}. Nothing was changed.")
+            return
+        wave = st.session_state[_PREFIX + "recorded"][2]
+        with st.spinner("Choosing and fitting…"):
+            made = guarded("Design from the recording", design_from_recording, design, wave, **where_value,
+                           false_edges_per_year=target_value, delay_budget=budget_value, allow_filter=allow)
+        if made is not None:
+            state.apply_design(made.design, f"Made from {name}: the notes give each step.")
+
+
 def _run(design: Design, settings: tuple, sweep: bool) -> None:
+    source, target, budget = settings
     with st.spinner("Running the signal…"):
-        if settings[0] == "recorded":
-            wave: Waveform | None = st.session_state[_PREFIX + "recorded"][2]
-            described = f"recorded signal {settings[1]}"
+        if isinstance(source, SyntheticSignal):
+            wave: Waveform | None = guarded("Signal", source.make)
+            disturbance = given_disturbance(source)
+            described, signal = f"synthetic {source.shape} signal", source
         else:
-            wave = guarded("Signal", synthesize, *settings)
-            described = f"synthetic {settings[0]} signal"
+            wave, disturbance = st.session_state[_PREFIX + "recorded"][2:4]
+            described, signal = f"recorded signal {source[1]}", wave
         if wave is None:
             return
-        run = guarded("Signal check", run_design, design, wave)
-        widths = guarded("Width sweep", sweep_design, design, wave) if sweep and run is not None else None
-    if run is not None:
-        runs.remember("signal", design, (settings, sweep), SignalResult(run, widths, described))
+        run = guarded("Signal check", run_design, design, wave, disturbance=disturbance)
+        if run is None:
+            return
+        widths = guarded("Width sweep", sweep_design, design, signal,
+                         disturbance=run.check.source) if sweep else None
+        given = _given(design)
+        table = None if target is None else guarded(
+            "Hysteresis and filter", filter_table_for, run.check, target, budget, slope=given.slope,
+            crossings_per_second=given.crossings_per_second or 0.0)
+    runs.remember("signal", design, (settings, sweep), SignalResult(run, widths, described, table))
 
 
 def _figures(run: SignalRun, unit: str) -> None:
@@ -175,12 +270,41 @@ def _figures(run: SignalRun, unit: str) -> None:
     if clean is None:
         st.caption("A recorded signal has no noise-free version to compare with: chatter and delays are "
                    "not known (—).")
-    shown_unit = literal(unit)
-    st.caption(f"Noise {format_value(run.noise.rms, shown_unit, 3)} RMS, about "
-               f"{format_value(run.noise.peak_to_peak, shown_unit, 3)} peak-to-peak "
-               f"({literal(run.noise.source)}).")
     for line in run.findings:
         st.info(literal(line), icon=":material/info:")
+
+
+def _prediction(check: FalseEdgeCheck, unit: str) -> None:
+    """The false edges Rice's formula predicts, with the model's simplifications."""
+    v = lambda x: format_value(x, literal(unit), 3)  # noqa: E731
+    columns = st.columns(4)
+    columns[0].metric("Noise at the stage", f"{v(check.noise.rms_at_stage)} RMS",
+                      help="After the input filter, where there is one")
+    columns[1].metric("Parked: a false switching", "never" if check.parked_per_second == 0 else
+                      f"every {format_interval(check.mean_time_between)}",
+                      help="Input held at the upper point; noise and hum reaching the lower (Rice's formula)")
+    for column, name, extra in ((columns[2], "upper", check.extra_upper),
+                                (columns[3], "lower", check.extra_lower)):
+        column.metric(f"Extra edges per crossing, {name}", "—" if extra is None else f"{extra:.3g}",
+                      help="Expected from noise and hum as the signal passes that point at its slope")
+    st.caption("Model: " + literal(" ".join(check.simplifications)))
+
+
+def _table(table: FilterTable, unit: str) -> None:
+    st.markdown(f"**Hysteresis and filter for at most {table.target_per_year:g} false edge(s) a year** "
+                f"(slope {format_value(table.slope, literal(unit) + '/s', 3)})")
+    best = table.best_index
+    rows = [{"Time constant": format_si(tau, "s", 3),
+             "Pole": "none" if tau == 0 else format_si(pole, "Hz", 3),
+             "Noise at the stage": format_value(rms, unit, 3), "Hysteresis": format_value(h, unit, 4),
+             "Delay at the points": format_si(d, "s", 3),
+             "Note": "least delay" if i == best else ("" if ok else "over the budget")}
+            for i, (tau, pole, rms, h, d, ok) in enumerate(zip(
+                table.time_constants, table.poles, table.noise_rms, table.hysteresis, table.delays,
+                table.within_budget, strict=True))]
+    st.dataframe(rows, hide_index=True, key="signal.table")
+    st.caption("Delay: half the hysteresis over the slope, plus the filter's lag (a ramp through it lags by "
+               "its time constant); the comparator's own delay comes on top.")
 
 
 def _tradeoff(sweep: Sweep, run: SignalRun, unit: str) -> None:
@@ -194,20 +318,28 @@ def _tradeoff(sweep: Sweep, run: SignalRun, unit: str) -> None:
     else:
         v = lambda x: format_value(x, literal(unit), 3)  # noqa: E731
         s = lambda x: "not known" if x is None else format_si(x, "s", 3)  # noqa: E731  (no edge: no delay)
-        st.caption(f"Narrowest width with one clean edge per crossing: {v(sweep.best_width)}, mean delay "
-                   f"{s(sweep.best_mean_delay)}, largest {s(sweep.best_max_delay)}. "
-                   f"This design: {v(run.hysteresis)}.")
+        drawn = [w for w in sweep.run_best_widths if w is not None]
+        spread = f" Each draw alone: {v(min(drawn))} to {v(max(drawn))}." if drawn and sweep.runs > 1 else ""
+        predicted = sweep.predicted_best_width
+        st.caption(f"Narrowest width with one clean edge per crossing in all {sweep.runs} noise draw(s): "
+                   f"{v(sweep.best_width)}, mean delay {s(sweep.best_mean_delay)}, largest "
+                   f"{s(sweep.best_max_delay)}.{spread}"
+                   + ("" if predicted is None else f" Predicted (Rice's formula): {v(predicted)}.")
+                   + f" This design: {v(run.hysteresis)}.")
 
 
 def render(sheet) -> None:
-    """Signal settings, the run, and its figures, time plot and trade-off curve."""
+    """Signal settings, the run, its figures and prediction, time plot, trade-off curve and table."""
     design, unit = sheet.design, sheet.design.unit
     st.caption(f"Runs a signal in {front_end_of(design).quantity} ({literal(unit)}) through the design's "
-               "switching points and reports every output edge.")
+               "switching points and reports every output edge, and the false edges its noise and hum bring.")
     st.session_state.setdefault(_PREFIX + "source", "synthetic")
     source = st.radio("Signal", tuple(_SOURCES), key=_PREFIX + "source", format_func=_SOURCES.get,
                       horizontal=True, label_visibility="collapsed")
-    settings = _synthetic_settings(design, unit) if source == "synthetic" else _recorded_settings(unit)
+    signal = _synthetic_settings(design, unit) if source == "synthetic" else _recorded_settings(unit)
+    if source == "recorded" and signal is not None:
+        _to_design(design, unit)
+    settings = None if signal is None else (signal, *_target_settings(unit))
     st.session_state.setdefault(_PREFIX + "sweep", True)
     left, right = st.columns([3, 1], vertical_alignment="center")
     sweep = left.checkbox("Also sweep the hysteresis width (the trade-off curve)", key=_PREFIX + "sweep")
@@ -220,6 +352,8 @@ def render(sheet) -> None:
         return
     run = result.run
     _figures(run, unit)
+    if run.check is not None:
+        _prediction(run.check, unit)
     spec = signal_spec(run, (sheet.analysis.output_low, sheet.analysis.output_high), unit)
     st.plotly_chart(as_figure(spec, validate=False), key="signal.time", config={"displaylogo": False})
     if len(run.wave) > DISPLAY_POINTS:
@@ -227,4 +361,5 @@ def render(sheet) -> None:
                    f"samples; the edge markers are at the exact edge times.")
     if result.sweep is not None:
         _tradeoff(result.sweep, run, unit)
-
+    if result.table is not None:
+        _table(result.table, unit)

@@ -1,0 +1,186 @@
+"""Benchmark: bandcalc's page in a real browser against a bare page, side by side in one run.
+
+Run:  python benchmarks/bench_browser.py [rounds] [--elements N]
+
+Starts two servers the same way (``python -m streamlit run`` with the page's own settings, from
+this checkout, on two free ports on 127.0.0.1): bandcalc's design sheet (``app.py``) and a bare
+page with one slider and one Plotly chart (``benchmarks/bare_page.py``).  Debian's Chromium,
+driven by Playwright, then takes turns between the two pages, each round in alternating order:
+
+- first paint: from navigation to the first Plotly chart drawn with its traces, in a new tab of
+  a warm browser (the browser's time since the navigation started);
+- slider keypress: one ArrowRight on the sidebar's slider (bandcalc's feedback resistor, the bare
+  page's gain) to the chart drawn anew, each press a value not seen before (nothing cached).
+
+Prints the medians and their ratios (bandcalc / bare).  Goal: both ratios at most 1.2.  With
+``--elements N`` a third page joins the rounds: the bare page with N plain elements more (text
+boxes and captions that never change), whose ratio to the bare page is what Streamlit's own
+redrawing of N elements costs on this machine.  Needs /usr/bin/chromium and Playwright for
+Python; browsers are never downloaded.
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+import statistics
+import sys
+import time
+from contextlib import AbstractContextManager, ExitStack
+from dataclasses import dataclass, field
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parent.parent
+sys.path.insert(0, str(ROOT))  # this checkout's bandcalc, in this script and in both servers
+sys.path.insert(0, str(ROOT / "tests"))
+
+from serving import free_port, serving  # noqa: E402
+
+from bandcalc.cli.page_server import streamlit_arguments  # noqa: E402
+
+CHROMIUM = Path("/usr/bin/chromium")
+FLAGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
+         "--disable-background-networking", "--disable-component-update", "--disable-sync"]
+GOAL = 1.2
+WAIT_MS = 60_000
+VIEWPORT = {"width": 1440, "height": 900}
+# The first chart's drawing: every path and text of its SVG, to see when it is drawn anew.
+_CHART = """() => {
+  const plot = document.querySelector('.js-plotly-plot');
+  if (!plot || !plot.querySelector('.scatterlayer .trace')) return null;
+  return Array.from(plot.querySelectorAll('path, text'),
+                    e => e.getAttribute('d') || e.textContent).join('|');
+}"""
+_DRAWN = f"() => ({_CHART})() !== null ? performance.now() : false"
+_REDRAWN = f"""before => {{
+  const now = ({_CHART})();
+  return now !== null && now !== before ? performance.now() - window.__pressed : false;
+}}"""
+_MARK_PRESS = """() => document.addEventListener('keydown', () => { window.__pressed = performance.now(); },
+                                                 {capture: true})"""
+
+
+@dataclass(frozen=True)
+class Target:
+    """A page under test: its script, the name of its slider, its server's environment."""
+
+    name: str
+    script: str
+    slider: str
+    env: tuple[tuple[str, str], ...] = ()
+
+
+@dataclass
+class Timings:
+    first_paint: list[float] = field(default_factory=list)  # ms
+    keypress: list[float] = field(default_factory=list)  # ms
+
+
+OURS = Target("bandcalc", "app.py", "Feedback resistor")
+BARE = Target("bare page", "benchmarks/bare_page.py", "Gain")
+
+
+def padded(elements: int) -> Target:
+    """The bare page with ``elements`` plain elements more."""
+    return Target(f"bare page + {elements} elements", BARE.script, BARE.slider,
+                  (("BARE_PAGE_ELEMENTS", str(elements)),))
+
+
+def _served(target: Target) -> AbstractContextManager[str]:
+    """``python -m streamlit run`` of the target's script with the page's settings on a free port
+    (the tests' own server starter); its address."""
+    port = free_port()
+    return serving([sys.executable, "-m", "streamlit", *streamlit_arguments(target.script, port)], port, ROOT,
+                   {**os.environ, "PYTHONPATH": str(ROOT), **dict(target.env)})
+
+
+def _settle(page) -> None:
+    """Wait until the page's script run has ended and the chart is drawn."""
+    page.wait_for_function(_DRAWN, polling="raf", timeout=WAIT_MS)
+    page.wait_for_function("() => document.querySelector(\"[data-testid='stApp']\")"
+                           "?.getAttribute('data-test-script-state') === 'notRunning'", timeout=WAIT_MS)
+    time.sleep(0.3)
+
+
+def _first_paint(context, url: str) -> float:
+    """ms from navigation to the first chart drawn, in a new tab."""
+    page = context.new_page()
+    try:
+        page.goto(url, wait_until="commit")
+        return float(page.wait_for_function(_DRAWN, polling="raf", timeout=WAIT_MS).json_value())
+    finally:
+        _settle(page)
+        page.close()
+
+
+def _keypress(page, target: Target) -> float:
+    """ms from an ArrowRight on the slider to the chart drawn anew."""
+    _settle(page)
+    before = page.evaluate(_CHART)
+    page.get_by_role("slider", name=target.slider).focus()
+    page.keyboard.press("ArrowRight")
+    return float(page.wait_for_function(_REDRAWN, arg=before, polling="raf", timeout=WAIT_MS).json_value())
+
+
+def measure(targets: tuple[Target, ...], rounds: int) -> dict[str, Timings]:
+    """Both timings of each target, ``rounds`` times, the targets taking turns in an order that
+    turns round each round."""
+    from playwright.sync_api import sync_playwright
+
+    timings = {t.name: Timings() for t in targets}
+    with ExitStack() as stack:
+        urls = {t.name: stack.enter_context(_served(t)) for t in targets}
+        p = stack.enter_context(sync_playwright())
+        browser = p.chromium.launch(executable_path=str(CHROMIUM), args=FLAGS)
+        stack.callback(browser.close)
+        contexts, pages = {}, {}
+        for t in targets:  # a warm-up visit each: servers' first run, the browser's cache
+            contexts[t.name] = browser.new_context(viewport=VIEWPORT)
+            _first_paint(contexts[t.name], urls[t.name])
+            pages[t.name] = contexts[t.name].new_page()
+            pages[t.name].goto(urls[t.name])
+            pages[t.name].evaluate(_MARK_PRESS)
+            _keypress(pages[t.name], t)
+        for i in range(rounds):
+            order = targets if i % 2 == 0 else targets[::-1]
+            for t in order:
+                timings[t.name].first_paint.append(_first_paint(contexts[t.name], urls[t.name]))
+            for t in order:
+                timings[t.name].keypress.append(_keypress(pages[t.name], t))
+    return timings
+
+
+def _line(what: str, ours: list[float], bare: list[float], name: str = "bandcalc") -> float:
+    ratio = statistics.median(ours) / statistics.median(bare)
+    verdict = f"  {'met' if ratio <= GOAL else 'NOT met'}" if name == "bandcalc" else ""
+    print(f"  {what:<17}{name} median {statistics.median(ours):7.1f} ms (min {min(ours):6.1f})   "
+          f"bare page median {statistics.median(bare):7.1f} ms (min {min(bare):6.1f})   "
+          f"ratio {ratio:4.2f}{verdict}")
+    return ratio
+
+
+def main() -> None:
+    parser = argparse.ArgumentParser(description=__doc__.split("\n\n")[0])
+    parser.add_argument("rounds", nargs="?", type=int, default=15)
+    parser.add_argument("--elements", type=int, default=0, metavar="N",
+                        help="also measure the bare page with N plain elements more")
+    args = parser.parse_args()
+    if not CHROMIUM.exists():
+        raise SystemExit("bench_browser needs Debian's chromium at /usr/bin/chromium "
+                         "(apt-get install chromium)")
+    targets = (OURS, BARE, *((padded(args.elements),) if args.elements > 0 else ()))
+    timings = measure(targets, args.rounds)
+    ours, bare = timings[OURS.name], timings[BARE.name]
+    print(f"bandcalc page against a bare page (one slider, one Plotly chart), Chromium, {args.rounds} rounds "
+          f"interleaved, load average {os.getloadavg()[0]:.2f}; goal: ratio at most {GOAL}")
+    _line("first paint", ours.first_paint, bare.first_paint)
+    _line("slider keypress", ours.keypress, bare.keypress)
+    if args.elements > 0:
+        more = timings[targets[2].name]
+        print(f"Streamlit's own cost of {args.elements} more elements, unchanged, on the bare page:")
+        _line("first paint", more.first_paint, bare.first_paint, f"bare + {args.elements}")
+        _line("slider keypress", more.keypress, bare.keypress, f"bare + {args.elements}")
+
+
+if __name__ == "__main__":
+    main()
