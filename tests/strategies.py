@@ -16,6 +16,7 @@ from bandcalc.model.design import (
     Design,
     DividerReference,
     FixedReference,
+    InputFilter,
     Load,
     OpenDrain,
     PushPull,
@@ -25,8 +26,8 @@ from bandcalc.model.design import (
 )
 from bandcalc.model.front_end import DividerFrontEnd, LinearFrontEnd, ThermistorFrontEnd
 
-__all__ = ["designs", "designs_with_front_ends", "designs_with_loads", "front_ends", "hostile_design_files",
-           "ohms", "three_resistor_stages"]
+__all__ = ["designs", "designs_with_filters", "designs_with_front_ends", "designs_with_loads", "front_ends",
+           "hostile_design_files", "ohms", "three_resistor_stages"]
 
 # Resistances from 1 kOhm to 1 MOhm, rounded to four significant figures as a part value is written.
 ohms = st.floats(1e3, 1e6).map(lambda x: float(f"{x:.4g}"))
@@ -93,6 +94,16 @@ def designs_with_loads(draw):
     vn, vp = design.supply.negative, design.supply.positive
     load = Load(resistance=draw(st.floats(100.0, 1e6)), volts=draw(st.floats(vn - 5.0, vp + 5.0)))
     return Design(**{**design.__dict__, "load": load})
+
+
+@st.composite
+def designs_with_filters(draw):
+    """A stage from :func:`designs` or :func:`designs_with_front_ends` behind an RC input filter (0 Ohm
+    to 1 MOhm, 1 nF to 10 uF: time constants from nanoseconds to seconds)."""
+    design = draw(st.one_of(designs(), designs_with_front_ends()))
+    flt = InputFilter(resistance=draw(st.one_of(st.just(0.0), st.floats(10.0, 1e6))),
+                      capacitance=draw(st.floats(1e-9, 1e-5)))
+    return Design(**{**design.__dict__, "filter": flt})
 
 
 def three_resistor_stages():

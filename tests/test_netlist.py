@@ -18,16 +18,16 @@ import numpy as np
 import pytest
 from hypothesis import HealthCheck, assume, given, settings
 from hypothesis import strategies as st
-from strategies import designs, designs_with_front_ends, designs_with_loads
+from strategies import designs, designs_with_filters, designs_with_front_ends, designs_with_loads
 
 from bandcalc.errors import BandcalcError
-from bandcalc.model.design import Design, FixedReference, PushPull, Resistors, Source, Supply
+from bandcalc.model.design import Design, FixedReference, InputFilter, PushPull, Resistors, Source, Supply
 from bandcalc.model.design_file import design_from_json, design_to_json
 from bandcalc.model.front_end import DividerFrontEnd, LinearFrontEnd, ThermistorFrontEnd
 from bandcalc.model.operating import analyze
 from bandcalc.model.parts import part, resistors_of
 from bandcalc.model.points import input_range, volts_for
-from bandcalc.outputs.netlist import MAX_WAVE_SAMPLES, netlist
+from bandcalc.outputs.netlist import LAG_VOLTS, MAX_WAVE_SAMPLES, netlist
 from bandcalc.signal_check.edges import run_design, run_points
 from bandcalc.signal_check.waveform import synthesize
 
@@ -97,9 +97,10 @@ KINDS = [(stage, dual, output) for stage in ("non-inverting", "inverting") for d
 @pytest.mark.parametrize(("stage", "dual", "output"), KINDS)
 @settings(max_examples=4, deadline=None, suppress_health_check=[
     HealthCheck.too_slow, HealthCheck.filter_too_much, HealthCheck.function_scoped_fixture])
-@given(design=st.one_of(designs(), designs_with_loads(), designs_with_front_ends()))
+@given(design=st.one_of(designs(), designs_with_loads(), designs_with_front_ends(), designs_with_filters()))
 def test_random_designs_of_every_kind_agree_with_analyze(tmp_path, stage, dual, output, design):
-    # Each stage, supply and output kind, with any legs, a load or a front end of any kind.
+    # Each stage, supply and output kind, with any legs, a load, a front end of any kind or an input
+    # filter.
     assume((design.stage, design.supply.negative < 0, design.output.kind) == (stage, dual, output))
     assume(_inside(design))
     check_points(design, ngspice(netlist(design), tmp_path))
@@ -139,6 +140,39 @@ def test_steinhart_hart_thermistor_agrees(tmp_path, demo):
     text = netlist(design)
     assert "pow(" in text
     check_points(design, ngspice(text, tmp_path))
+
+
+@needs_ngspice
+@pytest.mark.parametrize(("ohms", "farads", "resistors"), [
+    (4.7e3, 100e-9, None),  # 0.47 ms: a usual filter
+    (340e3, 100e-9, Resistors(input=1e6, feedback=10e6)),  # 34 ms behind a 10 MOhm feedback
+    (0.0, 1e-6, None),  # the capacitor alone, behind the source's 100 Ohm
+])
+def test_an_input_filter_is_its_resistor_and_capacitor_and_agrees(demo, tmp_path, ohms, farads, resistors):
+    # The filter's resistor in series after the source's, its capacitor from the stage's input node to
+    # ground; at DC the capacitor carries nothing and the resistor moves the points as analyze says.
+    # The sweep is slow against the filter's time constant, so the capacitor's lag stays below a
+    # tenth of the sweep's step (with the 34 ms filter the run was once 22 million steps long).
+    sump = demo("sump_level_switch")
+    design = replace(sump, filter=InputFilter(ohms, farads), resistors=resistors or sump.resistors)
+    text = netlist(design)
+    lines = text.splitlines()
+    assert ("Rflt line in 340000" in lines) if ohms == 340e3 else True
+    assert f"Cflt {'in' if ohms else 'line'} 0 {farads:.12g}" in lines
+    assert sum(line.startswith("Rflt ") for line in lines) == (1 if ohms else 0)
+    check_points(design, ngspice(text, tmp_path))
+
+
+def test_the_sweep_is_slow_enough_for_every_capacitor_and_no_slower(demo):
+    # The capacitor lags the ramp by its time constant times the ramp's slope (first-order lag behind
+    # a ramp, common practice): that lag, with all the capacitance through all the resistance as the
+    # time constant, is LAG_VOLTS exactly where the capacitor sets the run's length.
+    sump = demo("sump_level_switch")
+    design = replace(sump, filter=InputFilter(340e3, 100e-9), resistors=Resistors(input=1e6, feedback=10e6))
+    half = float(re.search(r"^VIN src 0 PWL\(0 \S+ (\S+) ", netlist(design), re.M)[1])
+    ohms = 100 + 340e3 + 1e6 + 10e6 + 50  # source, filter, input, feedback, output
+    swing = 5.0  # the source's range, 0 to 5 V, at one volt per volt
+    assert 100e-9 * ohms * swing / half == pytest.approx(LAG_VOLTS, rel=1e-9)
 
 
 def _short_signal(design: Design):

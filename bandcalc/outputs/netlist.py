@@ -33,7 +33,8 @@ The benches
 * The sweep (default): a slow triangle on the input, from the low end of the range it reaches up
   to the high end and back, in a transient run.  The source at the output's edges gives the points.
   Each time step moves the stage's source by at most :data:`STEP_VOLTS`, so each point reads within
-  about half that; the triangle is slow against every time constant of the circuit.
+  about half that; the triangle is slow enough that a capacitor (the input filter's, the load's)
+  lags it by at most :data:`LAG_VOLTS`.
 * The signal: a sampled signal (the signal check's) as a ``PWL`` source, with one ``.meas`` line per
   output edge the signal check finds, for a transient comparison of edge times.
 
@@ -67,6 +68,7 @@ from bandcalc.signal_check.waveform import Waveform
 
 __all__ = [
     "BENCHES",
+    "LAG_VOLTS",
     "MAX_EDGE_MEASURES",
     "MAX_WAVE_SAMPLES",
     "SHORT_OHMS",
@@ -88,9 +90,10 @@ SHORT_OHMS = 1e-3
 STEP_VOLTS = 5e-4
 #: Time steps per direction of the sweep, least and most (ngspice runs the most in about a second).
 _STEPS = (2_000, 200_000)
-#: The sweep's half period is at least this many times the circuit's slowest time constant, so
-#: a capacitor lags the triangle by a ten-millionth of its swing.
-_SLOW = 1e7
+#: Most lag (V) of a capacitor's node behind the sweep, in the stage's source: a first-order lag
+#: behind a ramp of slope S is tau x S, so the sweep is made slow enough that the slowest time
+#: constant times its steepest slope stays below this, a tenth of :data:`STEP_VOLTS`.
+LAG_VOLTS = STEP_VOLTS / 10
 #: Most samples the signal bench writes.  ngspice's PWL source looks each time up from its first
 #: point, so its run grows with the square of the samples: 10,000 take some seconds.
 MAX_WAVE_SAMPLES = 20_000
@@ -387,15 +390,27 @@ def _slowest(d: Design) -> float:
     return farads * ohms
 
 
-def _steps(d: Design, low: float, high: float) -> int:
-    """Time steps per direction of the sweep, so that the stage's source moves at most STEP_VOLTS a step
-    (its steepest stretch found on a fine grid: a thermistor's curve is not straight)."""
+def _steepest(d: Design, low: float, high: float) -> float:
+    """The stage's source's steepest move over the whole range (V), as if its steepest stretch held
+    throughout: found on a fine grid, since a thermistor's curve is not straight."""
     x = np.linspace(low, high, 4097)
     with np.errstate(all="ignore"):
         moves = np.abs(np.diff(np.asarray(volts_for(d, x)[0], dtype=float)))
     moves = moves[np.isfinite(moves)]
-    largest = float(moves.max()) * (x.size - 1) if moves.size else 0.0
-    return int(min(_STEPS[1], max(_STEPS[0], math.ceil(largest / STEP_VOLTS))))
+    return float(moves.max()) * (x.size - 1) if moves.size else 0.0
+
+
+def _timing(d: Design, low: float, high: float) -> tuple[int, float]:
+    """Time steps per direction of the sweep and its half period (s).
+
+    The steps: the stage's source moves at most STEP_VOLTS a step.  The half period: long enough
+    that a capacitor lags the source by at most LAG_VOLTS (its time constant times the source's
+    steepest slope), and no longer; a longer run only makes the solver take more steps after each
+    edge, where it follows the capacitor's settling at the pace of its time constant.
+    """
+    swing = _steepest(d, low, high)
+    steps = int(min(_STEPS[1], max(_STEPS[0], math.ceil(swing / STEP_VOLTS))))
+    return steps, max(1.0, _slowest(d) * swing / LAG_VOLTS)
 
 
 def _edge_level(d: Design, a: Analysis) -> float:
@@ -434,8 +449,7 @@ def _measures(circuit: _Circuit, d: Design, mid: float) -> list[str]:
 
 def _sweep(d: Design, a: Analysis, circuit: _Circuit) -> list[str]:
     low, high = input_range(d)
-    steps = _steps(d, low, high)
-    half = max(1.0, _SLOW * _slowest(d))
+    steps, half = _timing(d, low, high)
     step = half / steps
     upper, lower, inverting = run_points(d)
     start_high = bool(low >= 0.5 * (upper + lower))  # the signal check's rule: at or above the centre
