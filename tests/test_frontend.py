@@ -432,17 +432,18 @@ def test_files_without_a_front_end_still_read_and_write_without_one(demo):
     assert d.unit == "V" and analyze(d).points.unit == "V"
 
 
-def test_a_thermistor_fed_from_a_zero_volt_reference_switches_at_no_temperature(demo):
+def test_a_thermistor_fed_from_a_zero_volt_reference_is_refused_when_built(demo):
     # Found by Hypothesis: with no excitation the divider's output never moves, so no temperature
-    # reaches either point (first principles); the answer is "none", not a division error.
+    # reaches either point (first principles).  The stage cannot be analysed over such a range, so
+    # the design is refused when it is built, naming the front end, not when it is first analysed.
     from dataclasses import replace
 
     from bandcalc.model.design import FixedReference, Source
 
     thermistor = ThermistorFrontEnd(fixed=1e3, r25=1e3, beta=2500.0, position="top", excitation="reference")
-    d = replace(demo(SUMP), reference=FixedReference(0.0), source=Source(), front_end=thermistor)
-    w = design_points(d)
-    assert np.isnan(float(w.upper)) and np.isnan(float(w.lower))
+    with pytest.raises(DesignError, match=r"front_end: its output is 0 V at both -55 and 150 C \(it hardly "
+                                          r"moves with the watched value\)"):
+        replace(demo(SUMP), reference=FixedReference(0.0), source=Source(), front_end=thermistor)
 
 
 # --- front ends no real part has: refused at load, naming the key the user wrote ------------------
@@ -494,6 +495,16 @@ def test_a_steep_curve_over_the_default_range_names_that_range():
     ({"kind": "divider", "top": "10k", "bottom": 1e300}, r"front_end\.bottom: must be from 1 mOhm to 1 TOhm"),
     ({"kind": "divider", "top": "10k", "bottom": "1k", "high": 1e308},
      r"front_end\.high: must be from -100 kV to 100 kV"),
+    # Below the bound as well as above it (a low of -1e308 V passed, to fail later as "source.low").
+    ({"kind": "divider", "top": "10k", "bottom": "1k", "low": -1e308},
+     r"front_end\.low: must be from -100 kV to 100 kV"),
+    # Ranges the stage cannot be analysed over are refused when the file is read, naming the key
+    # written, not when the analysis first needs them.
+    ({"kind": "divider", "top": "10k", "bottom": "1k", "high": 5e-324},
+     r"front_end: its output is 0 V at both 0 and 4\.94066e-324 V"),
+    ({"kind": "divider", "top": "10k", "bottom": "1k", "high": -1.0},
+     r"front_end\.high: -1 V is not above the low end of the range, 0 V \(what brings the front end's "
+     r"output to the negative rail\); give front_end\.low"),
 ])
 def test_other_front_ends_no_part_has_are_refused_naming_the_key(front_end, message):
     with pytest.raises(DesignError, match=message):

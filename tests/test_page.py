@@ -494,6 +494,22 @@ def test_notes_too_long_for_the_address_are_refused_at_once():
     assert not errors(again) and design_on(again) == SUMP
 
 
+def test_refused_notes_left_in_their_box_are_marked_not_in_the_design_on_every_run():
+    # Found by the page fuzz test: the refusal is said once; the same text entered again is no change
+    # to the box, so the page went quiet while the box held text the design did not have.
+    notes = prose(71_000)
+    at = page()
+    at.text_area(key="in.notes").input(notes).run()
+    for _ in range(2):
+        at.text_area(key="in.notes").input(notes).run()
+        (held,) = [w.value for w in at.warning if w.value.startswith("Not in the design: ")]
+        assert held.startswith("Not in the design: Notes (notes): too long for the page address")
+        assert held.endswith("The design keeps the notes it had.") and design_on(at) == SUMP
+    at.text_area(key="in.notes").input("Short again.").run()
+    assert design_on(at).notes == "Short again."
+    assert not [w for w in at.warning if w.value.startswith("Not in the design: ")]
+
+
 def test_a_design_file_too_long_for_the_address_is_refused_at_once():
     # Near the page's 1 MB upload cap: notes filling most of it.
     body = json.dumps(_sump_file(notes=prose(900_000)), indent=2).encode()

@@ -114,8 +114,8 @@ def _range_checked(low: float | None, high: float | None, bounds: tuple[float, f
     for key, value in (("low", low), ("high", high)):
         if value is not None:
             finite(value, f"front_end.{key}")
-            if bounds is not None and value > bounds[0]:  # at the lower bound: the caller's message
-                within(value, f"front_end.{key}", *bounds, unit)
+            if bounds is not None and (value > bounds[0] or unit != "C"):  # at absolute zero and
+                within(value, f"front_end.{key}", *bounds, unit)            # below: the caller's message
     if low is not None and high is not None and low >= high:
         raise DesignError(f"front_end: low ({low}) must be below high ({high})")
 
@@ -154,6 +154,9 @@ class _Base:
                               f"front end's own up to {format_value(self.series_ohms(), 'Ohm')} puts "
                               f"{format_value(total, 'Ohm')} ahead of the stage, where a part has at most "
                               f"{format_value(OHMS[1], 'Ohm')}")
+        from bandcalc.model.points import range_volts  # the points read the whole design
+
+        range_volts(design)  # a range the stage can be analysed over, refused now if not
 
 
 @dataclass(frozen=True)
@@ -418,10 +421,10 @@ class ThermistorFrontEnd(_Base):
                 THERMISTOR_RANGE[1] if self.high is None else self.high)
 
     def check_stage(self, design: Design) -> None:
-        super().check_stage(design)
         if self.excitation == "reference" and not isinstance(design.reference, FixedReference):
             raise DesignError('front_end.excitation: "reference" needs a fixed reference (reference.volts); '
                               "a divider reference would be loaded by the thermistor divider")
+        super().check_stage(design)  # last: its range check computes the divider's output
 
     @property
     def rises(self) -> bool:

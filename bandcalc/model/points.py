@@ -52,6 +52,7 @@ from bandcalc.model.network import (
     threshold,
 )
 from bandcalc.model.parts import parameters
+from bandcalc.model.units import format_value
 
 __all__ = [
     "DesignPoints",
@@ -61,6 +62,7 @@ __all__ = [
     "input_at",
     "input_range",
     "pin_margin",
+    "range_volts",
     "stage_design",
     "stage_targets",
     "volts_for",
@@ -255,14 +257,23 @@ def stage_design(design: Design, x: float | None = None) -> Design:
             raise DesignError("front_end: a thermistor's stage depends on the temperature; give x")
         x = 0.0
     _, ohms = volts_for(design, x)
-    ends = sorted(_range_volts(design, fe))
+    ends = sorted(range_volts(design))
     return replace(design, front_end=None, source=Source(resistance=float(ohms), low=ends[0], high=ends[1]))
 
 
-def _range_volts(design: Design, fe: FrontEnd) -> list[float]:
-    """The stage's source volts at the two ends of the watched range, refused by the front end's
-    own key where one cannot be computed (a thermistor's resistance overflowing a float)."""
+def range_volts(design: Design) -> list[float]:
+    """The stage's source volts at the two ends of the watched range (a design with a front end),
+    refused by the front end's own key where the range is not one the stage can be analysed over:
+    ends the wrong way round, an output that overflows a float or does not move between them."""
+    fe = design.front_end
     rng = input_range(design)
+    if not rng[0] < rng[1]:  # one end given, the other what maps to a rail
+        given, other = ("high", "low") if fe.high is not None else ("low", "high")
+        rail = "negative" if other == "low" else "positive"
+        raise DesignError(f"front_end.{given}: {format_value(getattr(fe, given), fe.unit)} is not "
+                          f"{'above' if given == 'high' else 'below'} the {other} end of the range, "
+                          f"{format_value(rng[0 if other == 'low' else 1], fe.unit)} (what brings the front "
+                          f"end's output to the {rail} rail); give front_end.{other}")
     with np.errstate(over="ignore", invalid="ignore"):
         volts = [float(v) for v in volts_for(design, np.array(rng))[0]]
     for key, x, v in zip(("low", "high"), rng, volts, strict=True):

@@ -17,6 +17,7 @@ from bandcalc.page import state
 from bandcalc.page.address import ADDRESS_MAX
 from bandcalc.page.edit import with_protective
 from bandcalc.page.inputs import choice_control
+from bandcalc.page.literal import literal
 
 __all__ = ["MAX_UPLOAD_MB", "file_name", "render_design_file"]
 
@@ -64,6 +65,20 @@ def _named(key: str, path: str, label: str) -> None:
                kept=f"the {path} it had; your text stays in the box")
 
 
+def _held_back(key: str, path: str, label: str, design: Design) -> None:
+    """Under a name or notes box whose text the design refused (kept in the box to be shortened or
+    copied), say so on every run while it differs: the refusal's own message is shown once, and
+    entering the same text again is no change to the box, so nothing else would."""
+    text = st.session_state[key]
+    if text == getattr(design, path):
+        return
+    try:
+        state.admit(with_value(design, path, text))
+    except ValueError as exc:
+        st.warning(literal(f"Not in the design: {state.explain(exc, label, path)} The design keeps the "
+                           f"{path} it had."))
+
+
 def render_design_file(design: Design) -> None:
     """Name and notes, demo chooser, open and save; draw inside the sidebar."""
     demos = demo_designs()
@@ -74,9 +89,11 @@ def render_design_file(design: Design) -> None:
     st.session_state.setdefault(name_key, design.name)
     st.session_state.setdefault(notes_key, design.notes)
     st.text_input("Design name", key=name_key, on_change=_named, args=(name_key, "name", "Design name"))
+    _held_back(name_key, "name", "Design name", design)
     st.text_area("Notes", key=notes_key, height=90, on_change=_named, args=(notes_key, "notes", "Notes"),
                  help=f"Kept with the design in the page address, which holds {ADDRESS_MAX:,} characters: "
                       "several pages of notes. Longer notes are refused; keep long text in a file")
+    _held_back(notes_key, "notes", "Notes", design)
     choice_control(st.checkbox, "Guards people or property", "protective", is_protective(design),
                    with_protective, help="A disconnect, cut-off, alarm or interlock: brings the usual "
                    "cautions. Ticked from the name and notes until you choose; your choice is saved in the "
