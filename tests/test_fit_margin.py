@@ -1,15 +1,22 @@
 """Fit for what the builds will do: the search over windows, the worst-case margin of every
 candidate against a plain corner enumeration, yield with its interval, tolerance grades and cost."""
 
+import itertools
+
 import numpy as np
+import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 from strategies import three_resistor_stages
 from test_fit import evaluator
 
 from bandcalc.fit import grid_search as search
-from bandcalc.model.design import Design, FixedReference, Resistors, Supply
+from bandcalc.fit.selection import apply_candidate, fit
+from bandcalc.model.design import Design, DividerReference, FixedReference, Resistors, Supply
+from bandcalc.model.design_file import design_from_dict
 from bandcalc.model.standard_values import series_values
+from bandcalc.model.tolerances import Limits, PerResistor, Tolerances
+from bandcalc.spread.propagation import worst_case
 
 # --- The search over windows ---------------------------------------------------------------------
 
@@ -45,3 +52,113 @@ def test_an_open_side_of_a_window_is_taken():
     found = search.search(evaluate, grid, 3, upper, lower, 4)
     every = search.exhaustive(evaluate, grid, 3, upper, lower, 4)
     assert np.array_equal(found.values, every.values)
+
+
+# --- The margin against exhaustive search with an independent worst case --------------------------
+#
+# The worst case below is written in the test: Millman's theorem for the + pin (V+ = sum(V_k / R_k) /
+# sum(1 / R_k)), an ideal comparator and an ideal push-pull output at the rails, and every corner of
+# the tolerance box listed with itertools.product.  It shares nothing with the package's network
+# solution, its factors or its worst-case code; with no temperature range every build is a corner.
+
+WINDOWS = {"upper": (2.9, 3.1), "lower": (1.9, 2.1)}
+
+
+def tolerances(windows, resistors=1.0, supply=2.0, **kwargs):
+    limits = Limits(**{q: tuple(w) for q, w in windows.items()})
+    return Tolerances(resistors=PerResistor(resistors), supply=supply, limits=limits, **kwargs)
+
+
+def inverting_stage():
+    return Design(stage="inverting", supply=Supply(5.0),
+                  resistors=Resistors(to_positive=10e3, to_ground=10e3, feedback=100e3),
+                  tolerances=tolerances(WINDOWS))
+
+
+def corner_margin(points, windows, tols, *nominal):
+    """The margin of every combination (arrays ``nominal``) over every corner of ``tols`` (fractions):
+    ``points(*values)`` gives (upper, lower) for one corner's values."""
+    least = {q: np.inf for q in windows}
+    greatest = {q: -np.inf for q in windows}
+    for signs in itertools.product((-1.0, 1.0), repeat=len(tols)):
+        values = [x * (1 + s * t) for x, s, t in zip(nominal, signs, tols, strict=True)]
+        for q, v in zip(("upper", "lower"), points(*values), strict=True):
+            least[q], greatest[q] = np.minimum(least[q], v), np.maximum(greatest[q], v)
+    return np.min([np.minimum(least[q] - lo, hi - greatest[q]) for q, (lo, hi) in windows.items()], axis=0)
+
+
+def every(grid, n):
+    return [a.ravel() for a in np.meshgrid(*([grid] * n), indexing="ij")]
+
+
+def assert_best_equals(r, margin, columns):
+    """The fit's candidates are the combinations of largest independent margin, best first."""
+    best = np.sort(margin)[::-1][: len(r.candidates)]
+    assert [c.margin for c in r.candidates] == pytest.approx(list(best), abs=1e-12)
+    for c in r.candidates:
+        row = np.all([np.isclose(col, c.resistors.get(key, c.value(key))) for key, col in columns.items()],
+                     axis=0)
+        assert margin[row] == pytest.approx([c.margin], abs=1e-12)
+
+
+def test_inverting_three_resistors_best_margin_equals_exhaustive_corners():
+    # Inverting stage, E12 from 1k to 100k, 1 % parts and a 2 % rail: 15,625 combinations, 16 corners.
+    r = fit(inverting_stage(), None, None, by="margin", series="E12", min_ohms=1e3, max_ohms=100e3, count=5)
+    assert r.stopped is None and r.by == "margin"
+    rp, rg, rf = every(series_values("E12", 1e3, 100e3), 3)
+
+    def points(p, g, f, vp):
+        total = 1 / p + 1 / g + 1 / f
+        # output high (the rail) at the upper point, low (0 V) at the lower
+        return (vp / p + vp / f) / total, (vp / p) / total
+
+    margin = corner_margin(points, WINDOWS, (0.01, 0.01, 0.01, 0.02), rp, rg, rf, 5.0)
+    assert_best_equals(r, margin, {"to_positive": rp, "to_ground": rg, "feedback": rf})
+    assert r.candidates[0].margin > 0
+    # The same worst case the spread command gives for the candidate put on the design.
+    for c in r.candidates[:2]:
+        wc = worst_case(apply_candidate(r.design, c))
+        spread_margin = min(wc.upper.min - 2.9, 3.1 - wc.upper.max, wc.lower.min - 1.9, 2.1 - wc.lower.max)
+        assert c.margin == pytest.approx(spread_margin, abs=1e-12)
+
+
+def test_non_inverting_divider_reference_best_margin_equals_exhaustive_corners():
+    # Input, feedback and the reference divider free (four values, E12 from 10k to 100k); the rail
+    # feeds the divider and the output's high level.
+    windows = {"upper": (2.9, 3.1), "lower": (2.3, 2.5)}
+    design = Design(stage="non-inverting", supply=Supply(5.0), reference=DividerReference(10e3, 10e3),
+                    resistors=Resistors(input=10e3, feedback=100e3), tolerances=tolerances(windows))
+    r = fit(design, None, None, by="margin", series="E12", min_ohms=10e3, max_ohms=100e3, count=4)
+    assert r.fitted == ("input", "feedback", "reference.top", "reference.bottom") and r.stopped is None
+    ri, rf, rt, rb = every(series_values("E12", 10e3, 100e3), 4)
+
+    def points(i, f, t, b, vp):
+        vref = vp * b / (t + b)
+        return vref * (1 + i / f), vref * (1 + i / f) - vp * i / f  # output low, then high (vp)
+
+    margin = corner_margin(points, windows, (0.01,) * 4 + (0.02,), ri, rf, rt, rb, 5.0)
+    assert_best_equals(r, margin, {"input": ri, "feedback": rf, "reference.top": rt, "reference.bottom": rb})
+
+
+def test_front_end_best_margin_equals_exhaustive_corners():
+    # A sense divider (240k / 62k, 1 %) from a battery ahead of a three-resistor stage on a fixed
+    # 2.5 V reference; windows in battery volts.  Thevenin: V = W Rb / (Rt + Rb) through Rt || Rb.
+    windows = {"upper": (12.4, 13.1), "lower": (11.3, 11.8)}
+    design = design_from_dict({
+        "format": 1, "stage": "non-inverting", "supply": {"positive": 5.0}, "reference": {"volts": 2.5},
+        "resistors": {"input": "10k", "feedback": "1M", "to_ground": "100k"},
+        "front_end": {"kind": "divider", "top": "240k", "bottom": "62k", "low": 0, "high": 16},
+        "tolerances": {"resistors": 1.0, "supply": 2.0,
+                       "limits": {"upper": [12.4, 13.1], "lower": [11.3, 11.8]}}})
+    r = fit(design, None, None, by="margin", series="E12", min_ohms=10e3, max_ohms=1e6, count=3)
+    assert r.fitted == ("input", "feedback", "to_ground") and r.stopped is None
+    ri, rf, rg = every(series_values("E12", 10e3, 1e6), 3)
+
+    def points(i, f, g, top, bottom, vp):
+        rs = top * bottom / (top + bottom) + i
+        total = 1 / rs + 1 / f + 1 / g
+        scale = rs * (top + bottom) / bottom
+        return 2.5 * total * scale, (2.5 * total - vp / f) * scale
+
+    margin = corner_margin(points, windows, (0.01,) * 5 + (0.02,), ri, rf, rg, 240e3, 62e3, 5.0)
+    assert_best_equals(r, margin, {"input": ri, "feedback": rf, "to_ground": rg})

@@ -79,7 +79,8 @@ def parse_grades(text: str, name: str = "--grades") -> Grades:
         grade, sep, cost = item.partition(":")
         percent = _number(grade, "grade", name)
         if not 0 < percent <= MAX_PERCENT:
-            raise GradeError(f"{name}: a grade must be above 0 and at most {MAX_PERCENT:g} %, got {grade.strip()!r}")
+            raise GradeError(f"{name}: a grade must be above 0 and at most {MAX_PERCENT:g} %, "
+                             f"got {grade.strip()!r}")
         if percent in percents:
             raise GradeError(f"{name}: grade {percent:g} % is given twice")
         if sep:

@@ -214,8 +214,8 @@ def best_by_margin(corners: CornerModel, evaluate: Evaluate, grid: np.ndarray, w
                 spent += len(rows) * len(probe)
                 rows = rows[~(bound < kth - ERROR_STEP)]  # NaN bound: a corner without a point, keep
             if spent + len(rows) * size > build_budget:
-                stopped = (f"the margins reached their limit of {build_budget:,} corner builds; the candidates "
-                           "are the best of those computed")
+                stopped = (f"the margins reached their limit of {build_budget:,} corner builds; the "
+                           "candidates are the best of those computed")
                 break
             if len(rows):
                 e = corners.extremes(values[rows], pct[rows])

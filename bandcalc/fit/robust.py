@@ -80,6 +80,11 @@ def _steps(x: np.ndarray) -> np.ndarray:
     return np.where(np.isnan(x), -np.inf, np.floor(x / ERROR_STEP))
 
 
+def _cost_key(cost: np.ndarray) -> np.ndarray:
+    """Costs for ranking, cheapest first; NaN (no grade will do, or none chosen) last."""
+    return np.where(np.isnan(cost), np.inf, np.round(cost, 9))
+
+
 def _graded(corners: CornerModel, found: MarginSearch, windows: Mapping, grades: Grades
             ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Each candidate's cheapest grades keeping the margin positive: percents (m, k), cost and margin
@@ -97,7 +102,8 @@ def _graded(corners: CornerModel, found: MarginSearch, windows: Mapping, grades:
     feasible = np.isfinite(cheapest)
     rows = np.arange(m)
     chosen = np.where(feasible[:, None], table[best], found.percents)
-    return chosen, np.where(feasible, cost[best], np.nan), np.where(feasible, margin[rows, best], found.margin)
+    margin = np.where(feasible, margin[rows, best], found.margin)
+    return chosen, np.where(feasible, cost[best], np.nan), margin
 
 
 def rank(by: str, corners: CornerModel, evaluate: Evaluate, grid: np.ndarray, windows: Mapping, count: int, *,
@@ -109,7 +115,7 @@ def rank(by: str, corners: CornerModel, evaluate: Evaluate, grid: np.ndarray, wi
     tolerance, the windows in its tolerances section) for the yield.
     """
     k = len(corners.params)
-    pool = count if by == "margin" and grades is None else max(2 * count, 10) if by == "yield" else max(4 * count, 20)
+    pool = max(2 * count, 10) if by == "yield" else count if grades is None else max(4 * count, 20)
     if grades is not None:
         per = len(grades.percents) ** k * len(corners.corners)
         if pool * per > BUILD_BUDGET:
@@ -117,15 +123,14 @@ def rank(by: str, corners: CornerModel, evaluate: Evaluate, grid: np.ndarray, wi
                               f"{len(grades.percents) ** k:,} choices per candidate, each with "
                               f"{len(corners.corners):,} corners of the tolerance box: too many to compare "
                               f"{pool} candidates within seconds; give fewer grades, or hold a value")
-    found = best_by_margin(corners, evaluate, grid, windows, pool, budget=budget, progress=progress, seeds=seeds,
-                           percent=None if grades is None else grades.tightest)
+    found = best_by_margin(corners, evaluate, grid, windows, pool, budget=budget, progress=progress,
+                           seeds=seeds, percent=None if grades is None else grades.tightest)
     notes: list[str] = []
     proven, why = found.proven, found.why_not
     cost = None
     if grades is not None and by == "margin":
         percents, cost, margin = _graded(corners, found, windows, grades)
-        order = np.lexsort((found.current, -_steps(margin), np.where(np.isnan(cost), np.inf, np.round(cost, 9))))
-        order = order[:count]
+        order = np.lexsort((found.current, -_steps(margin), _cost_key(cost)))[:count]
         notes.append(f"Grades are chosen for the {len(found.values)} candidates of largest margin with every "
                      f"fitted part at {grades.tightest:g} %, the tightest grade offered.")
         return Ranked(_take(found, order, margin, percents), cost[order], None, (), proven, why, tuple(notes))
@@ -162,9 +167,8 @@ def rank(by: str, corners: CornerModel, evaluate: Evaluate, grid: np.ndarray, wi
     if grades is not None:  # the margins of the grades chosen
         margin = margins(corners.extremes(found.values, percents), windows)
     fraction = np.array([math.nan if y is None else y.fraction for y in yields])
-    key_cost = np.where(np.isnan(cost_of), np.inf, np.round(cost_of, 9)) if grades is not None else np.zeros(len(yields))
-    order = np.lexsort((found.current, -_steps(margin), -np.where(np.isnan(fraction), -1.0, fraction), key_cost))
-    order = order[:count]
+    order = np.lexsort((found.current, -_steps(margin), -np.where(np.isnan(fraction), -1.0, fraction),
+                        _cost_key(cost_of)))[:count]
     ranked_yields = tuple(yields[i] for i in order)
     if grades is not None:
         notes.append(f"Grades are chosen for the {len(found.values)} candidates of largest margin with every "
@@ -172,5 +176,5 @@ def rank(by: str, corners: CornerModel, evaluate: Evaluate, grid: np.ndarray, wi
                      f"{100 * min_yield:g} %.")
     else:
         notes.append(f"Yields are drawn for the {len(found.values)} candidates of largest margin.")
-    return Ranked(_take(found, order, margin, percents), None if grades is None else cost_of[order], ranked_yields,
-                  not_told_apart(ranked_yields), proven, why, tuple(notes))
+    return Ranked(_take(found, order, margin, percents), None if grades is None else cost_of[order],
+                  ranked_yields, not_told_apart(ranked_yields), proven, why, tuple(notes))

@@ -27,7 +27,7 @@ import numpy as np
 
 from bandcalc.errors import BandcalcError
 from bandcalc.fit.exact import solve
-from bandcalc.fit.grades import Grades, GradeError
+from bandcalc.fit.grades import GradeError, Grades
 from bandcalc.fit.grid_search import BUDGET, Aim, Evaluate, Progress, search, search_size, window
 from bandcalc.fit.margin import CornerModel, MarginError
 from bandcalc.fit.robust import RANKINGS, YIELD_BUILDS, rank
@@ -43,8 +43,8 @@ from bandcalc.model.design import (
 from bandcalc.model.network import Points, signal_path, switching_points
 from bandcalc.model.parts import parameters, part, value_at, with_values
 from bandcalc.model.points import design_points, input_range, stage_design, stage_targets
-from bandcalc.model.tolerances import Limits, PerResistor, Tolerances
 from bandcalc.model.standard_values import SERIES, EseriesError, series_values
+from bandcalc.model.tolerances import Limits, PerResistor, Tolerances
 from bandcalc.model.units import UnitError, format_si, format_value, parse_resistance
 from bandcalc.spread.propagation import DEFAULT_SEED, Yield, simplifications
 
@@ -620,9 +620,10 @@ def _fit_for_builds(design: Design, windows: dict[str, tuple[float, float]], cou
 
     try:
         corners = CornerModel(base, params)
-        ranked = rank(by, corners, _watched_evaluator(base, params, 0.5 * sum(targets)), grid, windows, count,
-                      budget=settings["budget"], design_of=design_of, progress=settings["progress"], seeds=seeds,
-                      grades=grades, min_yield=min_yield)
+        evaluate = _watched_evaluator(base, params, 0.5 * sum(targets))
+        ranked = rank(by, corners, evaluate, grid, windows, count, budget=settings["budget"],
+                      design_of=design_of, progress=settings["progress"], seeds=seeds, grades=grades,
+                      min_yield=min_yield)
     except (MarginError, GradeError) as exc:
         raise FitError(str(exc)) from None
     found = ranked.found
@@ -646,8 +647,9 @@ def _fit_for_builds(design: Design, windows: dict[str, tuple[float, float]], cou
         stopped = (f"Not proven the best: {ranked.why_not}. For a proven ranking {_WHAT_HELPS}.")
     assumptions = list(simplifications(corners.model))
     if by == "yield":
-        assumptions.append(f"Yield: {YIELD_BUILDS:,} builds per candidate (seed {DEFAULT_SEED}, the same builds "
-                           "for every candidate), each over the whole temperature range; 95 % Wilson interval.")
+        assumptions.append(f"Yield: {YIELD_BUILDS:,} builds per candidate (seed {DEFAULT_SEED}, the same "
+                           "builds for every candidate), each over the whole temperature range; 95 % Wilson "
+                           "interval.")
     return replace(inner, candidates=tuple(candidates), notes=tuple(notes), problems=tuple(problems),
                    checked=inner.checked + found.checked, stopped=stopped, by=by, windows=dict(windows),
                    grades=grades, min_yield=min_yield if by == "yield" and grades is not None else None,
@@ -660,13 +662,15 @@ def _builds_problems(candidates: list[Candidate], by: str, grades: Grades | None
         return ["No candidate was found."]
     best = candidates[0]
     if grades is not None and best.cost is None:
-        need = "keeps every build inside the windows" if by == "margin" else f"gives a yield of {100 * min_yield:g} %"
+        need = ("keeps every build inside the windows" if by == "margin"
+                else f"gives a yield of {100 * min_yield:g} %")
         return [f"No grade offered (down to {grades.tightest:g} %) {need} for any candidate; the candidates "
                 "are shown at the tightest grade."]
     if by == "margin" and (best.margin is None or best.margin <= 0):
-        worst = "no finite margin" if best.margin is None else f"a margin of {format_value(best.margin, unit, 3)}"
-        return [f"No candidate keeps every build inside the windows: the best has {worst}. Widen the windows, "
-                "use tighter parts, or narrow the temperature range."]
+        worst = ("no finite margin" if best.margin is None
+                 else f"a margin of {format_value(best.margin, unit, 3)}")
+        return [f"No candidate keeps every build inside the windows: the best has {worst}. Widen the "
+                "windows, use tighter parts, or narrow the temperature range."]
     return []
 
 
