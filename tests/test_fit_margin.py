@@ -1,7 +1,10 @@
 """Fit for what the builds will do: the search over windows, the worst-case margin of every
 candidate against a plain corner enumeration, yield with its interval, tolerance grades and cost."""
 
+import dataclasses
 import itertools
+import json
+import re
 
 import numpy as np
 import pytest
@@ -10,13 +13,16 @@ from hypothesis import strategies as st
 from strategies import three_resistor_stages
 from test_fit import evaluator
 
+from bandcalc.cli.commands import main
 from bandcalc.fit import grid_search as search
-from bandcalc.fit.selection import apply_candidate, fit
+from bandcalc.fit.grades import DEFAULT_COSTS, GradeError, parse_grades
+from bandcalc.fit.robust import YIELD_BUILDS
+from bandcalc.fit.selection import FitError, apply_candidate, fit
 from bandcalc.model.design import Design, DividerReference, FixedReference, Resistors, Supply
-from bandcalc.model.design_file import design_from_dict
+from bandcalc.model.design_file import design_from_dict, design_to_dict
 from bandcalc.model.standard_values import series_values
 from bandcalc.model.tolerances import Limits, PerResistor, Tolerances
-from bandcalc.spread.propagation import worst_case
+from bandcalc.spread.propagation import monte_carlo, wilson_interval, worst_case
 
 # --- The search over windows ---------------------------------------------------------------------
 
@@ -162,3 +168,144 @@ def test_front_end_best_margin_equals_exhaustive_corners():
 
     margin = corner_margin(points, windows, (0.01,) * 5 + (0.02,), ri, rf, rg, 240e3, 62e3, 5.0)
     assert_best_equals(r, margin, {"input": ri, "feedback": rf, "to_ground": rg})
+
+
+# --- Yield, grades and the command line ------------------------------------------------------------
+
+def test_yield_is_the_spread_monte_carlo_of_the_candidate_and_overlaps_are_marked():
+    r = fit(inverting_stage(), None, None, by="yield", series="E12", min_ohms=1e3, max_ohms=100e3, count=3)
+    for c in r.candidates:
+        applied = apply_candidate(r.design, c)
+        mc = monte_carlo(applied, samples=YIELD_BUILDS, seed=1).build_yield
+        assert (c.build_yield.passed, c.build_yield.samples) == (mc.passed, YIELD_BUILDS)
+        assert (c.build_yield.low, c.build_yield.high) == wilson_interval(mc.passed, YIELD_BUILDS)
+    fractions = [c.build_yield.fraction for c in r.candidates]
+    assert fractions == sorted(fractions, reverse=True)
+    for i, c in enumerate(r.candidates, 1):
+        for j in c.not_told_apart:
+            other = r.candidates[j - 1].build_yield
+            assert c.build_yield.low <= other.high and other.low <= c.build_yield.high and j != i
+    assert any("Yield: 10,000 builds" in line for line in r.assumptions)
+    assert any(line.startswith("Distribution: normal") for line in r.assumptions)
+
+
+def test_grades_are_the_cheapest_keeping_the_margin_positive():
+    # Every grade choice of every listed candidate, with the independent corner margin.
+    grades = parse_grades("5,1,0.5,0.1")
+    r = fit(inverting_stage(), None, None, by="margin", series="E12", min_ohms=1e3, max_ohms=100e3, count=4,
+            grades=grades)
+
+    def points(p, g, f, vp):
+        total = 1 / p + 1 / g + 1 / f
+        return (vp / p + vp / f) / total, (vp / p) / total
+
+    costs = []
+    for c in r.candidates:
+        values = [np.array([c.resistors[k]]) for k in ("to_positive", "to_ground", "feedback")]
+        best = None
+        for choice in itertools.product(zip(grades.percents, grades.costs, strict=True), repeat=3):
+            tol = tuple(p / 100 for p, _ in choice) + (0.02,)
+            m = float(corner_margin(points, WINDOWS, tol, *values, 5.0)[0])
+            cost = sum(k for _, k in choice)
+            cheaper = best is None or cost < best[0] - 1e-9
+            if m > 0 and (cheaper or (abs(cost - best[0]) < 1e-9 and m > best[1])):
+                best = (cost, m, choice)
+        assert best is not None
+        assert c.cost == pytest.approx(best[0]) and c.margin == pytest.approx(best[1], abs=1e-12)
+        costs.append(c.cost)
+    assert costs == sorted(costs)
+    graded = apply_candidate(r.design, r.candidates[0])
+    assert dict(graded.tolerances.resistors.parts) == r.candidates[0].grades
+
+
+@pytest.mark.parametrize(("text", "message"), [
+    ("5,,1", "write grades in percent separated by commas"),
+    ("5,x", "grade 'x' is not a number"),
+    ("0.3", "no default cost for a 0.3 % grade"),
+    ("1:0", "the cost of 1 % must be above 0"),
+    ("5,5", "grade 5 % is given twice"),
+    ("60", "at most 50 %"),
+])
+def test_bad_grades_are_refused_naming_what_is_wrong(text, message):
+    with pytest.raises(GradeError, match=re.escape(message)):
+        parse_grades(text)
+
+
+def test_grades_with_costs_and_defaults():
+    g = parse_grades("0.1:4, 1:1, 5")
+    assert g.percents == (5.0, 1.0, 0.1) and g.costs == (DEFAULT_COSTS[5.0], 1.0, 4.0)
+
+
+def test_nominal_ranking_is_unchanged_and_refuses_grades():
+    design = inverting_stage()
+    r = fit(design, 3.0, 2.0, series="E12", min_ohms=1e3, max_ohms=100e3)
+    assert r.by == "nominal" and r.candidates[0].margin is None and r.windows is None
+    with pytest.raises(FitError, match="grades are chosen for the margin or yield ranking"):
+        fit(design, 3.0, 2.0, grades=parse_grades("1"))
+
+
+def test_a_missing_window_is_refused_naming_where_to_give_it():
+    design = dataclasses.replace(inverting_stage(), tolerances=tolerances({"upper": (2.9, 3.1)}))
+    with pytest.raises(FitError, match=r"lower: no window for the lower point; give one here or as "
+                                       r"tolerances.limits.lower"):
+        fit(design, None, None, by="margin")
+
+
+def test_too_many_corners_are_refused_at_once():
+    design = dataclasses.replace(inverting_stage(), tolerances=tolerances(
+        WINDOWS, offset=1e-3, bias_current=1e-9, temperature=(-40, 85), resistor_tempco=PerResistor(100),
+        offset_drift=1e-6, offset_current=1e-9))
+    small = fit(design, None, None, by="margin", series="E12", min_ohms=1e3, max_ohms=100e3, count=1)
+    assert small.candidates[0].margin is not None
+    with pytest.raises(FitError, match="give fewer grades"):
+        fit(design, None, None, by="margin", grades=parse_grades("10,5,2,1,0.5,0.25,0.1,0.05"), count=5)
+
+
+@pytest.fixture
+def design_file(tmp_path):
+    path = tmp_path / "inverting.json"
+    path.write_text(json.dumps({**design_to_dict(inverting_stage()), "name": "Inverting level check"}))
+    return str(path)
+
+
+def test_cli_margin_json_contract(capsys, design_file):
+    options = ["--series", "E12", "--max-ohms", "100k", "--json"]
+    assert main(["fit", design_file, "--by", "margin", *options]) == 0
+    out = json.loads(capsys.readouterr().out)
+    assert out["by"] == "margin" and out["windows"] == {"upper": [2.9, 3.1], "lower": [1.9, 2.1]}
+    first = out["candidates"][0]
+    assert first["resistors"] == {"feedback": 68e3, "to_positive": 33e3, "to_ground": 33e3}
+    assert first["margin"] == pytest.approx(0.0047904, abs=1e-7)
+    assert "grades" not in first
+    assert main(["fit", design_file, "--by", "margin", "--series", "E12", "--max-ohms", "100k", "--json",
+                 "--grades", "5,1,0.5,0.1"]) == 0
+    first = json.loads(capsys.readouterr().out)["candidates"][0]
+    assert set(first["grades"]) == {"feedback", "to_positive", "to_ground"} and first["cost"] > 0
+
+
+def test_cli_windows_and_a_point_on_the_command_line(capsys, design_file):
+    # A point is a window of zero width: its margin is minus the farthest any build strays from it.
+    assert main(["fit", design_file, "--by", "margin", "--upper", "2.95,3.05", "--lower", "2", "--series",
+                 "E12", "--max-ohms", "100k", "--json", "--count", "1"]) == 2
+    out = json.loads(capsys.readouterr().out)
+    assert out["windows"] == {"upper": [2.95, 3.05], "lower": [2.0, 2.0]}
+    assert out["candidates"][0]["margin"] < 0 and out["problems"]
+
+
+def test_cli_yield_table_says_what_is_not_told_apart(capsys, design_file):
+    assert main(["fit", design_file, "--by", "yield", "--series", "E12", "--max-ohms", "100k", "--count",
+                 "3"]) == 0
+    out = capsys.readouterr().out
+    assert "yield (95 %)" in out and "not told apart from" in out and "#2" in out
+    assert "Distribution: normal" in out
+
+
+@pytest.mark.parametrize(("options", "message"), [
+    (["--by", "margin", "--grades", "1,,2"], "--grades: write grades"),
+    (["--upper", "3,3.1", "--lower", "2"], "--upper: a window (LOWEST,HIGHEST) is for --by margin or yield"),
+    (["--lower", "2"], "--upper: required with --by nominal"),
+    (["--by", "margin", "--upper", "3.1,3"], "--upper: give a value or a window"),
+])
+def test_cli_bad_options_are_named(options, message, capsys, design_file):
+    assert main(["fit", design_file, *options]) == 2
+    assert message in capsys.readouterr().err
