@@ -22,6 +22,8 @@ from bandcalc.model.design import Design, DividerReference, FixedReference, Resi
 from bandcalc.model.design_file import design_from_dict, design_to_dict
 from bandcalc.model.standard_values import series_values
 from bandcalc.model.tolerances import Limits, PerResistor, Tolerances
+from bandcalc.model.units import format_value
+from bandcalc.outputs.summary import SummaryInputs, design_summary
 from bandcalc.spread.propagation import monte_carlo, wilson_interval, worst_case
 
 # --- The search over windows ---------------------------------------------------------------------
@@ -309,3 +311,16 @@ def test_cli_yield_table_says_what_is_not_told_apart(capsys, design_file):
 def test_cli_bad_options_are_named(options, message, capsys, design_file):
     assert main(["fit", design_file, *options]) == 2
     assert message in capsys.readouterr().err
+
+
+def test_the_summary_lists_margin_grades_and_cost():
+    r = fit(inverting_stage(), None, None, by="margin", series="E12", min_ohms=1e3, max_ohms=100e3, count=2,
+            grades=parse_grades("5,1,0.5,0.1"))
+    design = apply_candidate(r.design, r.candidates[0])
+    text = design_summary(design, SummaryInputs(fit=r))
+    assert "| Margin | Grades | Cost |" in text
+    first = r.candidates[0]
+    grades = " ".join(f"{first.grades[p]:g} %" for p in r.fitted)
+    assert f"| {format_value(first.margin, 'V', 3)} | {grades} |" in text
+    # the component table gives each part the grade chosen, as its tolerance
+    assert f"{first.grades['feedback']:g} % (given for this resistor)" in text

@@ -21,7 +21,7 @@ from bandcalc.cli.visible_text import visible_text
 from bandcalc.errors import BandcalcError
 from bandcalc.fit.grades import DEFAULT_GRADES, parse_grades
 from bandcalc.fit.robust import RANKINGS
-from bandcalc.fit.selection import MAX_COUNT, FitResult, fit, fit_to_dict
+from bandcalc.fit.selection import MAX_COUNT, FitResult, builds_columns, fit, fit_to_dict
 from bandcalc.model.design import Design
 from bandcalc.model.design_file import load_design
 from bandcalc.model.operating import Analysis, analysis_to_dict, analyze
@@ -498,37 +498,17 @@ def _cmd_spread(args: argparse.Namespace) -> int:
     return _print_results(*_for_each_file(args.files, work), as_json=args.json)
 
 
-def _builds_columns(r: FitResult, unit: str) -> tuple[list[str], list[list[str]]]:
-    """The columns of a fit ranked by what the builds do: margin, yield, grades and cost."""
-    if r.by == "nominal":
-        return [], [[] for _ in r.candidates]
-    head = ["margin"]
-    rows = [[format_value(c.margin, unit, 3) if c.margin is not None else "none"] for c in r.candidates]
-    if r.by == "yield":
-        head += ["yield (95 %)", "not told apart from"]
-        for row, c in zip(rows, r.candidates, strict=True):
-            y = c.build_yield
-            row += ["not run" if y is None else
-                    f"{100 * y.fraction:.2f} % ({100 * y.low:.2f} to {100 * y.high:.2f})",
-                    ", ".join(f"#{j}" for j in c.not_told_apart)]
-    if r.grades is not None:
-        head += ["grades", "cost"]
-        for row, c in zip(rows, r.candidates, strict=True):
-            row += [" ".join(f"{c.grades[p]:g}%" for p in r.fitted) if c.grades else "",
-                    "none will do" if c.cost is None else f"{c.cost:g}"]
-    return head, rows
-
-
 def _fit_table(path: str, r: FitResult, code: bool) -> str:
     unit = visible_text(r.design.unit)
     v = lambda x: format_value(x, unit, 4)  # noqa: E731
     ohms = lambda x: format_ohms(x, code)  # noqa: E731
 
-    extra_head, extra = _builds_columns(r, unit)
-    head = ["#", *r.fitted, "upper", "lower", "worst error", "current", *extra_head]
+    extra = builds_columns(r)
+    head = ["#", *r.fitted, "upper", "lower", "worst error", "current", *(h for h, _ in extra)]
     rows = [[str(i), *(ohms(c.value(p)) for p in r.fitted), v(c.upper), v(c.lower),
-             format_value(c.worst_error, unit, 3), format_si(c.network_current, "A"), *more]
-            for (i, c), more in zip(enumerate(r.candidates, 1), extra, strict=True)]
+             format_value(c.worst_error, unit, 3), format_si(c.network_current, "A"),
+             *(visible_text(cells[i - 1]) for _, cells in extra)]
+            for i, c in enumerate(r.candidates, 1)]
     widths = [max(len(row[j]) for row in [head, *rows]) for j in range(len(head))]
     lines = [_heading(r.design, path),
              f"  targets   upper {v(r.upper)}, lower {v(r.lower)}"]

@@ -54,6 +54,7 @@ __all__ = [
     "FitError",
     "FitResult",
     "apply_candidate",
+    "builds_columns",
     "candidate_to_dict",
     "fit",
     "fit_to_dict",
@@ -821,6 +822,25 @@ def candidate_to_dict(c: Candidate) -> dict:
         out["yield"] = None if y is None else {
             "fraction": y.fraction, "low": y.low, "high": y.high, "confidence": 0.95, "passed": y.passed,
             "samples": y.samples, "not_told_apart": list(c.not_told_apart)}
+    return out
+
+
+def builds_columns(r: FitResult) -> list[tuple[str, list[str]]]:
+    """The columns a fit ranked by what the builds do adds, as text (heading, one cell per candidate):
+    margin; yield with its 95 % interval and the ranks it is not told apart from; grades and cost."""
+    if r.by == "nominal":
+        return []
+    rows, unit = r.candidates, r.design.unit
+    out = [("margin", [format_value(c.margin, unit, 3) if c.margin is not None else "none" for c in rows])]
+    if r.by == "yield":
+        out.append(("yield (95 %)", ["not run" if (y := c.build_yield) is None else
+                                     f"{100 * y.fraction:.2f} % ({100 * y.low:.2f} to {100 * y.high:.2f})"
+                                     for c in rows]))
+        out.append(("not told apart from", [", ".join(f"#{j}" for j in c.not_told_apart) for c in rows]))
+    if r.grades is not None:
+        out.append(("grades", [" ".join(f"{c.grades[p]:g} %" for p in r.fitted) if c.grades else ""
+                               for c in rows]))
+        out.append(("cost", ["none will do" if c.cost is None else f"{c.cost:g}" for c in rows]))
     return out
 
 

@@ -28,7 +28,7 @@ import streamlit as st
 from bandcalc.errors import BandcalcError
 from bandcalc.fit.grades import DEFAULT_GRADES, parse_grades
 from bandcalc.fit.robust import RANKINGS
-from bandcalc.fit.selection import Candidate, FitResult, apply_candidate, fit
+from bandcalc.fit.selection import Candidate, FitResult, apply_candidate, builds_columns, fit
 from bandcalc.model.design import Design, DividerReference
 from bandcalc.model.design_file import design_from_json, design_to_json
 from bandcalc.model.front_end import front_end_of
@@ -287,16 +287,8 @@ def _table(r: FitResult, design: Design) -> dict[str, list[str]]:
         "Worst error": [format_value(c.worst_error, unit, 3) for c in rows],
         "Network current": [format_si(c.network_current, "A") for c in rows],
     })
-    if r.by != "nominal":
-        table["Margin"] = [format_value(c.margin, unit, 3) if c.margin is not None else "none" for c in rows]
-    if r.by == "yield":
-        table["Yield (95 %)"] = ["not run" if c.build_yield is None else
-                                 f"{100 * c.build_yield.fraction:.2f} % ({100 * c.build_yield.low:.2f} to "
-                                 f"{100 * c.build_yield.high:.2f})" for c in rows]
-        table["Not told apart from"] = [", ".join(str(j) for j in c.not_told_apart) for c in rows]
-    if r.grades is not None:
-        table["Grades"] = [" ".join(f"{c.grades[p]:g} %" for p in r.fitted) if c.grades else "" for c in rows]
-        table["Cost"] = ["none will do" if c.cost is None else f"{c.cost:g}" for c in rows]
+    table.update({heading.capitalize(): [literal(x.replace("#", "")) for x in cells]
+                  for heading, cells in builds_columns(r)})
     table["On the sliders"] = ["yes" if _in_use(design, c) else "" for c in rows]
     return table
 
