@@ -45,8 +45,8 @@ __all__ = ["BUILD_BUDGET", "CornerModel", "MarginError", "MarginSearch", "best_b
 BUILD_BUDGET = 3_000_000
 #: Candidates taken at first, at least, from the standard-value search; four times as many each round.
 _FIRST = 32
-#: Candidates computed in full at a time, in order of their bound.
-_BATCH = 64
+#: Most candidates taken from the standard-value search in one round.
+_MOST = 1 << 16
 
 
 class MarginError(BandcalcError):
@@ -189,6 +189,22 @@ def best_by_margin(corners: CornerModel, evaluate: Evaluate, grid: np.ndarray, w
         if progress is not None:
             progress(min(done, build_budget), build_budget)
 
+    memo: dict[bytes, tuple] = {}  # candidates computed in full: margin, extremes, worst corners
+    probes: list[int] = []  # corners that were worst for some candidate computed, latest last
+    stopped = None
+
+    def compute(values: np.ndarray, pct: np.ndarray) -> None:
+        """Candidates in full (every corner), into ``memo``; their worst corners become probes."""
+        nonlocal spent, probes
+        e = corners.extremes(values, pct)
+        spent += len(values) * size
+        m = margins(e, windows)
+        for j, row in enumerate(values):
+            memo[row.tobytes()] = (m[j], {q: (e[q][0][j], e[q][1][j]) for q in QUANTITIES})
+        worst = [int(c) for q in windows for c in np.concatenate([e[q][2], e[q][3]])]
+        probes = list(dict.fromkeys(probes + worst))[-16:]
+        note(spent)
+
     while True:
         found = search(evaluate, grid, k, windows["upper"], windows["lower"], want, budget=budget,
                        progress=progress, seeds=seeds)
@@ -196,57 +212,59 @@ def best_by_margin(corners: CornerModel, evaluate: Evaluate, grid: np.ndarray, w
         values = found.values
         nominal = -outside(found.upper, found.lower, windows["upper"], windows["lower"])
         pct = np.full_like(values, percent) if percent is not None else corners.percents(values)
-        margin = np.full(len(values), np.nan)
-        done = np.zeros(len(values), dtype=bool)
-        ext = {q: tuple(np.full(len(values), np.nan) for _ in range(2)) for q in QUANTITIES}
-        probes: list[int] = []
-        stopped = None
-        # In order of nominal margin (the search's order); computed in batches, each pruned by the
-        # corners that were worst so far.
-        for start in range(0, len(values), _BATCH):
-            rows = np.arange(start, min(len(values), start + _BATCH))
-            kth = _kth(margin[done], count)
-            if nominal[rows[0]] < kth - ERROR_STEP:
-                break  # sorted by nominal margin: none of the rest can rank in
-            if probes and math.isfinite(kth):
-                probe = corners.corners[sorted(set(probes))]
-                bound = margins(corners.extremes(values[rows], pct[rows], probe), windows)
-                spent += len(rows) * len(probe)
-                rows = rows[~(bound < kth - ERROR_STEP)]  # NaN bound: a corner without a point, keep
-            if spent + len(rows) * size > build_budget:
-                stopped = (f"the margins reached their limit of {build_budget:,} corner builds; the "
-                           "candidates are the best of those computed")
+        key = values.__getitem__  # a candidate's row; memo keys are its bytes
+        bound = nominal.copy()  # an upper bound of each margin; the margin itself once computed
+        done = np.array([key(i).tobytes() in memo for i in range(len(values))], dtype=bool)
+        bound[done] = [memo[key(i).tobytes()][0] for i in np.flatnonzero(done)]
+        bounded = 0  # probes already applied to every candidate
+        while stopped is None:
+            kth = _kth(bound[done], count)
+            open_ = np.flatnonzero(~done & ~(bound < kth - ERROR_STEP))  # NaN bound stays open
+            if not len(open_):
                 break
-            if len(rows):
-                e = corners.extremes(values[rows], pct[rows])
-                spent += len(rows) * size
-                for q in QUANTITIES:
-                    for i in range(2):
-                        ext[q][i][rows] = e[q][i]
-                margin[rows] = margins(e, windows)
-                done[rows] = True
-                for q in windows:
-                    probes += list(np.unique(np.concatenate([e[q][2], e[q][3]])))
-                probes = probes[-64:]
-            note(spent)
-        kth = _kth(margin[done], count)
+            if probes and math.isfinite(kth) and bounded < len(probes):
+                probe = np.array(probes[bounded:])
+                if spent + len(open_) * len(probe) > build_budget:
+                    stopped = "limit"
+                    break
+                b = margins(corners.extremes(values[open_], pct[open_], corners.corners[probe]), windows)
+                spent += len(open_) * len(probe)
+                bounded = len(probes)
+                bound[open_] = np.fmin(bound[open_], b)
+                continue
+            # the most promising first (a NaN bound: a corner without a point, computed too)
+            rows = open_[np.argsort(-np.nan_to_num(bound[open_], nan=np.inf), kind="stable")][:max(count, 8)]
+            if spent + len(rows) * size > build_budget:
+                stopped = "limit"
+                break
+            compute(values[rows], pct[rows])
+            bound[rows] = [memo[key(i).tobytes()][0] for i in rows]
+            done[rows] = True
+            bounded = min(bounded, len(probes))
+        kth = _kth(bound[done], count)
         rest = nominal[-1] if len(nominal) else -math.inf
         proven = found.proven and stopped is None and (len(values) >= total or rest < kth - ERROR_STEP)
-        if proven or not found.proven or stopped or want >= total or len(values) < want:
+        if proven or not found.proven or stopped or want >= min(total, _MOST) or len(values) < want:
             break
-        want = min(total, 4 * want)
+        want = min(total, _MOST, 4 * want)
     pick = np.flatnonzero(done)
+    margin = np.full(len(values), np.nan)
+    margin[pick] = [memo[key(i).tobytes()][0] for i in pick]
     order = pick[_order(margin[pick], found.current[pick])][:count]
     why = None
     if not proven:
-        why = stopped or ("the standard-value search reached its limit" if not found.proven else
-                          "every candidate taken could still be beaten by one not taken")
+        why = (f"the margins reached their limit of {build_budget:,} corner builds; the candidates are the "
+               "best of those computed") if stopped else (
+            "the standard-value search reached its limit" if not found.proven else
+            "every candidate taken could still be beaten by one not taken")
+    ext = {q: tuple(np.array([memo[key(i).tobytes()][1][q][side] for i in order]) for side in range(2))
+           for q in QUANTITIES}
     lacking = tuple(next((q for q in ("upper", "lower", "hysteresis") if q in windows and (
-        np.isnan(ext[q][0][i]) or np.isnan(ext[q][1][i]))), None) for i in order)
+        np.isnan(ext[q][0][j]) or np.isnan(ext[q][1][j]))), None) for j in range(len(order)))
     return MarginSearch(values=values[order], percents=pct[order], margin=margin[order],
                         upper=found.upper[order], lower=found.lower[order], current=found.current[order],
-                        extremes={q: (ext[q][0][order], ext[q][1][order]) for q in QUANTITIES},
-                        lacking=lacking, checked=checked, builds=spent, proven=proven, why_not=why)
+                        extremes=ext, lacking=lacking, checked=checked, builds=spent, proven=proven,
+                        why_not=why)
 
 
 def _kth(margin: np.ndarray, count: int) -> float:
