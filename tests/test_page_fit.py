@@ -6,6 +6,7 @@ checks against evaluating every combination, and whose model is checked against 
 on a button press, and puts a candidate on the sliders with one click.
 """
 
+
 import pytest
 import streamlit as st
 from page_helpers import SUMP, as_read, design_on, errors, figures, page

@@ -19,7 +19,9 @@ from bandcalc import __version__
 from bandcalc.cli.page_server import add_page_command
 from bandcalc.cli.visible_text import visible_text
 from bandcalc.errors import BandcalcError
-from bandcalc.fit.selection import MAX_COUNT, FitResult, fit, fit_to_dict
+from bandcalc.fit.grades import DEFAULT_GRADES, parse_grades
+from bandcalc.fit.robust import RANKINGS
+from bandcalc.fit.selection import MAX_COUNT, FitResult, builds_columns, fit, fit_to_dict
 from bandcalc.model.design import Design
 from bandcalc.model.design_file import load_design
 from bandcalc.model.operating import Analysis, analysis_to_dict, analyze
@@ -501,17 +503,27 @@ def _fit_table(path: str, r: FitResult, code: bool) -> str:
     v = lambda x: format_value(x, unit, 4)  # noqa: E731
     ohms = lambda x: format_ohms(x, code)  # noqa: E731
 
-    head = ["#", *r.fitted, "upper", "lower", "worst error", "current"]
+    extra = builds_columns(r)
+    head = ["#", *r.fitted, "upper", "lower", "worst error", "current", *(h for h, _ in extra)]
     rows = [[str(i), *(ohms(c.value(p)) for p in r.fitted), v(c.upper), v(c.lower),
-             format_value(c.worst_error, unit, 3), format_si(c.network_current, "A")]
+             format_value(c.worst_error, unit, 3), format_si(c.network_current, "A"),
+             *(visible_text(cells[i - 1]) for _, cells in extra)]
             for i, c in enumerate(r.candidates, 1)]
     widths = [max(len(row[j]) for row in [head, *rows]) for j in range(len(head))]
     lines = [_heading(r.design, path),
-             f"  targets   upper {v(r.upper)}, lower {v(r.lower)}",
+             f"  targets   upper {v(r.upper)}, lower {v(r.lower)}"]
+    if r.windows is not None:
+        shown = "; ".join(f"{q} {_span(w, v)}" for q, w in r.windows.items())
+        lines.append(f"  ranked    by {r.by}: windows {shown}")
+        if r.grades is not None:
+            offered = zip(r.grades.percents, r.grades.costs, strict=True)
+            lines.append(f"  grades    {', '.join(f'{p:g} % (cost {c:g})' for p, c in offered)}")
+    lines += [
              f"  fitting   {', '.join(r.fitted)} from {r.series}, {format_ohms(r.min_ohms, code)} to "
              f"{format_ohms(r.max_ohms, code)}"]
-    lines += _listed((("cannot meet the targets exactly", r.problems),
-                      ("not proven the best", (r.stopped,) if r.stopped else ()), ("notes", r.notes)))
+    lines += _listed((("cannot meet the targets exactly" if r.by == "nominal" else "problems", r.problems),
+                      ("not proven the best", (r.stopped,) if r.stopped else ()), ("notes", r.notes),
+                      ("the model assumes", r.assumptions)))
     lines += ["  " + "  ".join(cell.ljust(w) for cell, w in zip(row, widths, strict=True)).rstrip()
               for row in [head, *rows]]
     if r.exact is not None:
@@ -520,9 +532,43 @@ def _fit_table(path: str, r: FitResult, code: bool) -> str:
     return "\n".join(lines)
 
 
+def _span(w: tuple[float, float], v: Callable[[float], str]) -> str:
+    lo, hi = w
+    return f"{v(lo)} to {v(hi)}" if math.isfinite(lo) and math.isfinite(hi) else (
+        f"at least {v(lo)}" if math.isfinite(lo) else f"at most {v(hi)}")
+
+
 # fit's settings by the options that set them, so its messages name what the user typed.
 _FIT_OPTIONS = {"series": "--series", "min_ohms": "--min-ohms", "max_ohms": "--max-ohms", "count": "--count",
-                "fixed": "--hold "}
+                "fixed": "--hold ", "upper": "--upper", "lower": "--lower", "by": "--by",
+                "grades": "--grades", "min_yield": "--min-yield"}
+
+
+def _aim(text: str | None, unit: str, option: str, by: str) -> float | tuple[float, float] | None:
+    """A point (X), or with --by margin or yield a window (LOWEST,HIGHEST; a side may be empty)."""
+    if text is None:
+        if by == "nominal":
+            raise BandcalcError(f"{option}: required with --by nominal (the point wanted)")
+        return None
+    if "," not in text:
+        return parse_quantity(text, unit, option)
+    if by == "nominal":
+        raise BandcalcError(f"{option}: a window (LOWEST,HIGHEST) is for --by margin or yield; give the "
+                            f"point wanted, got {text!r}")
+    low, _, high = text.partition(",")
+    return tuple(parse_quantity(x, unit, option) if x.strip() else (math.inf if i else -math.inf)
+                 for i, x in enumerate((low, high)))
+
+
+def _percent(text: str) -> float:
+    """An argparse type: a percentage above 0 and at most 100 (--min-yield), as a fraction."""
+    try:
+        value = float(text.strip().removesuffix("%"))
+    except ValueError:
+        value = math.nan
+    if not 0 < value <= 100:
+        raise argparse.ArgumentTypeError(f"must be a percentage above 0 and at most 100, got {text!r}")
+    return value / 100
 
 
 def _count(most: int) -> Callable[[str], int]:
@@ -540,6 +586,7 @@ def _count(most: int) -> Callable[[str], int]:
 
 def _cmd_fit(args: argparse.Namespace) -> int:
     try:
+        grades = None if args.grades is None else parse_grades(args.grades)
         low_ohms = parse_resistance(args.min_ohms, "--min-ohms")
         high_ohms = parse_resistance(args.max_ohms, "--max-ohms")
         fixed = {}
@@ -554,10 +601,11 @@ def _cmd_fit(args: argparse.Namespace) -> int:
 
     def work(path: str, design: Design) -> FitResult:
         unit = design.unit  # "3.1V", "32C" read too
-        upper = parse_quantity(args.upper, unit, "--upper")
-        lower = parse_quantity(args.lower, unit, "--lower")
+        upper = _aim(args.upper, unit, "--upper", args.by)
+        lower = _aim(args.lower, unit, "--lower", args.by)
         return fit(design, upper, lower, series=args.series, min_ohms=low_ohms, max_ohms=high_ohms,
-                   count=args.count, fixed=fixed, add_leg=not args.no_extra_leg, names=_FIT_OPTIONS)
+                   count=args.count, fixed=fixed, add_leg=not args.no_extra_leg, names=_FIT_OPTIONS,
+                   by=args.by, grades=grades, min_yield=args.min_yield)
 
     results, status = _for_each_file([args.file], work)
     if not results:
@@ -583,9 +631,20 @@ def _parser() -> argparse.ArgumentParser:
     p = sub.add_parser("fit", help="standard resistor values that place the switching points you want")
     p.add_argument("file", metavar="FILE",
                    help="design file (JSON); its resistor values are only a starting point")
-    p.add_argument("--upper", required=True, metavar="X",
-                   help="wanted upper switching point: volts, or the watched quantity with a front end")
-    p.add_argument("--lower", required=True, metavar="X", help="wanted lower switching point (as --upper)")
+    p.add_argument("--upper", metavar="X",
+                   help="wanted upper switching point: volts, or the watched quantity with a front end; "
+                        "with --by margin or yield a window LOWEST,HIGHEST (default: the design's "
+                        "tolerances.limits)")
+    p.add_argument("--lower", metavar="X", help="wanted lower switching point (as --upper)")
+    p.add_argument("--by", choices=RANKINGS, default="nominal",
+                   help="rank by the nominal error (default), the worst-case margin over tolerances and "
+                        "temperature, or the per-build yield")
+    p.add_argument("--grades", metavar="G", default=None,
+                   help=f"tolerance grades in percent to choose from per fitted part, e.g. {DEFAULT_GRADES}, "
+                        "optionally with relative costs, 5:1,1:1.2,0.1:5 (defaults typical of the trade, "
+                        "from memory)")
+    p.add_argument("--min-yield", type=_percent, default=0.99, metavar="PERCENT",
+                   help="with --by yield --grades: the least yield a grade must give (default 99)")
     p.add_argument("--series", default="E24", help="IEC 60063 series, E3 to E192 (default E24)")
     p.add_argument("--min-ohms", default="1k", metavar="R", help="smallest value allowed (default 1k)")
     p.add_argument("--max-ohms", default="10M", metavar="R", help="largest value allowed (default 10M)")

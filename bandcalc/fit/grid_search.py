@@ -51,13 +51,16 @@ from bandcalc.errors import BandcalcError
 __all__ = [
     "BUDGET",
     "ERROR_STEP",
+    "Aim",
     "Curve",
     "Evaluate",
     "Found",
     "exhaustive",
     "ranking",
+    "outside",
     "search",
     "search_size",
+    "window",
 ]
 
 # Errors are compared in steps of 0.1 nV; within one step the lower current ranks first.
@@ -80,6 +83,23 @@ Evaluate = Callable[[np.ndarray], tuple[np.ndarray, np.ndarray, np.ndarray]]
 
 Progress = Callable[[int, int], None]
 """(combinations checked so far, budget); called before each step of a search; may raise to stop it."""
+
+Aim = float | tuple[float, float]
+"""Where a point should sit: a target, or a window (lowest, highest), one side possibly infinite."""
+
+
+def window(aim: Aim) -> tuple[float, float]:
+    """An aim as a window: a target ``x`` is the window (x, x)."""
+    if isinstance(aim, tuple):
+        return float(aim[0]), float(aim[1])
+    return float(aim), float(aim)
+
+
+def outside(u: np.ndarray, l: np.ndarray, upper: Aim, lower: Aim) -> np.ndarray:  # noqa: E741
+    """How far the points stand outside their windows (the larger of the two; negative: inside by
+    that much); for targets, the larger of the two errors."""
+    (ul, uh), (ll, lh) = window(upper), window(lower)
+    return np.maximum(np.maximum(ul - u, u - uh), np.maximum(ll - l, l - lh))
 
 
 @dataclass(frozen=True)
@@ -136,15 +156,19 @@ def ranking(worst: np.ndarray, current: np.ndarray) -> np.ndarray:
 class _Pool:
     """The best ``count`` points offered so far, plus any tied with the last of them."""
 
-    def __init__(self, grid: np.ndarray, k: int, upper: float, lower: float, count: int,
+    def __init__(self, grid: np.ndarray, k: int, upper: Aim, lower: Aim, count: int,
                  budget: _Budget) -> None:
-        self.grid, self.targets, self.count, self.budget = grid, (upper, lower), count, budget
+        self.grid, self.count, self.budget = grid, count, budget
+        self.aims, self.windows = (upper, lower), (window(upper), window(lower))
+        # Where the search aims each point first: its target, a window's middle or its finite edge.
+        self.targets = tuple(lo if not math.isfinite(hi) else hi if not math.isfinite(lo) else 0.5 * (lo + hi)
+                             for lo, hi in self.windows)
         self.values = np.empty((0, k))
         self.u = self.l = self.cur = np.empty(0)
         self.evaluations = 0
 
     def worst(self, u: np.ndarray, l: np.ndarray) -> np.ndarray:  # noqa: E741
-        return np.maximum(np.abs(u - self.targets[0]), np.abs(l - self.targets[1]))
+        return outside(u, l, *self.aims)
 
     def offer(self, values: np.ndarray, evaluate: Evaluate) -> tuple[np.ndarray, np.ndarray]:
         self.budget.spend(len(values))
@@ -183,7 +207,7 @@ def _combinations(grid: np.ndarray, k: int, start: int, stop: int) -> np.ndarray
     return np.stack([grid[i] for i in index], axis=1)
 
 
-def exhaustive(evaluate: Evaluate, grid: np.ndarray, k: int, upper: float, lower: float,
+def exhaustive(evaluate: Evaluate, grid: np.ndarray, k: int, upper: Aim, lower: Aim,
                count: int, budget: int | None = None, progress: Progress | None = None) -> Found:
     """Evaluate every combination with the model, in blocks; the reference the search must equal.
 
@@ -193,7 +217,7 @@ def exhaustive(evaluate: Evaluate, grid: np.ndarray, k: int, upper: float, lower
     return _exhaustive(evaluate, grid, k, upper, lower, count, _Budget(budget, progress))
 
 
-def _exhaustive(evaluate: Evaluate, grid: np.ndarray, k: int, upper: float, lower: float, count: int,
+def _exhaustive(evaluate: Evaluate, grid: np.ndarray, k: int, upper: Aim, lower: Aim, count: int,
                 budget: _Budget) -> Found:
     pool = _Pool(grid, k, upper, lower, count, budget)
     total = len(grid) ** k
@@ -351,8 +375,8 @@ class _Branching:
         """Whether some last value may bring both points within ``bound``, given the boxes' corners."""
         n = len(self.grid)
         gaps = []
-        for which, target in enumerate(self.pool.targets):
-            for theta, below in ((target + bound, True), (target - bound, False)):
+        for which, (low, high) in enumerate(self.pool.windows):
+            for theta, below in ((high + bound, True), (low - bound, False)):
                 ps, qs = zip(*(end[which].side(self.grid, theta, below) for end in ends), strict=True)
                 gaps.append((np.maximum.reduce(ps), np.minimum.reduce(qs)))
         ok = np.zeros(len(gaps[0][0]), dtype=bool)
@@ -368,6 +392,7 @@ class _Branching:
         where that was more than a quarter of the margin (the search then stops)."""
         grid, pool = self.grid, self.pool
         up, down = pool.targets
+        aims = pool.aims
         while len(lo):
             at_lo = self.curves(lo)
             # Tighten the bound first: evaluate the most promising predicted combinations.
@@ -375,11 +400,11 @@ class _Branching:
             j = np.minimum(at_lo[0].side(grid, up, below=False)[1], at_lo[0].side(grid, up, below=True)[1])
             guess = np.full(len(j), np.inf)
             for jj in (np.clip(j - 1, 0, len(grid) - 1), np.clip(j, 0, len(grid) - 1)):
-                w = np.maximum(np.abs(at_lo[0].at(grid[jj]) - up), np.abs(at_lo[1].at(grid[jj]) - down))
+                w = outside(at_lo[0].at(grid[jj]), at_lo[1].at(grid[jj]), *aims)
                 j, guess = np.where(w < guess, jj, j), np.minimum(w, guess)
             best = np.argsort(guess)[: pool.count]
             u, l = pool.offer(np.column_stack([grid[lo[best]], grid[j[best]]]), self.evaluate)  # noqa: E741
-            miss = float(np.max(np.abs(np.maximum(np.abs(u - up), np.abs(l - down)) - guess[best])))
+            miss = float(np.max(np.abs(outside(u, l, *aims) - guess[best])))
             if not miss <= margin / 4:
                 return miss
             bound = pool.bound() + margin
@@ -413,9 +438,9 @@ class _Branching:
 
     def _runs(self, index: np.ndarray, curves: tuple[Curve, Curve], bound: float) -> float:
         """Evaluate each combination's run of last values within bound; the largest miss of a prediction."""
-        (cu, cl), (up, down) = curves, self.pool.targets
-        fu, lu = cu.band(self.grid, up - bound, up + bound)
-        fl, ll = cl.band(self.grid, down - bound, down + bound)
+        (cu, cl), ((ul, uh), (ll_, lh)) = curves, self.pool.windows
+        fu, lu = cu.band(self.grid, ul - bound, uh + bound)
+        fl, ll = cl.band(self.grid, ll_ - bound, lh + bound)
         first, last = np.maximum(fu, fl), np.minimum(lu, ll)
         runs = np.maximum(last - first + 1, 0)
         if not runs.any():
@@ -428,7 +453,7 @@ class _Branching:
         return float(max(np.max(np.abs(u - cu.take(row).at(x))), np.max(np.abs(l - cl.take(row).at(x)))))
 
 
-def search(evaluate: Evaluate, grid: np.ndarray, k: int, upper: float, lower: float,
+def search(evaluate: Evaluate, grid: np.ndarray, k: int, upper: Aim, lower: Aim,
            count: int, budget: int = BUDGET, progress: Progress | None = None,
            seeds: np.ndarray | None = None) -> Found:
     """The best ``count`` combinations of k grid values, equal to :func:`exhaustive`.
@@ -441,8 +466,10 @@ def search(evaluate: Evaluate, grid: np.ndarray, k: int, upper: float, lower: fl
         Sorted standard values, ohms.
     k : int
         Resistors to choose.
-    upper, lower : float
-        Target switching points, volts.
+    upper, lower : float or (float, float)
+        Target switching points, volts; or windows (lowest, highest), one side possibly infinite,
+        where the ranking is by how far the points stand outside their windows (:func:`outside`:
+        negative inside, so the first combinations are the furthest inside).
     count : int
         Combinations to return, best first.
     budget : int
@@ -461,7 +488,8 @@ def search(evaluate: Evaluate, grid: np.ndarray, k: int, upper: float, lower: fl
     if k < 2 or n < 3 or n**k <= _DIRECT_LIMIT:
         return _exhaustive(evaluate, grid, k, upper, lower, count, spent)
     pool = _Pool(grid, k, upper, lower, count, spent)
-    margin = _MARGIN * max(1.0, abs(upper), abs(lower)) + ERROR_STEP
+    edges = [abs(x) for x in (*window(upper), *window(lower)) if math.isfinite(x)]
+    margin = _MARGIN * max(1.0, *edges) + ERROR_STEP
     # Start from every combination of as many leading resistors as stay few (sampling them all at
     # once is cheaper than bisecting them, and leaves fewer corners per box); bisect the rest.
     lead = 0

@@ -27,7 +27,10 @@ import numpy as np
 
 from bandcalc.errors import BandcalcError
 from bandcalc.fit.exact import solve
-from bandcalc.fit.grid_search import BUDGET, Evaluate, Progress, search, search_size
+from bandcalc.fit.grades import GradeError, Grades
+from bandcalc.fit.grid_search import BUDGET, Aim, Evaluate, Progress, search, search_size, window
+from bandcalc.fit.margin import CornerModel, MarginError
+from bandcalc.fit.robust import RANKINGS, YIELD_BUILDS, rank
 from bandcalc.model.design import (
     RESISTOR_KEYS,
     Design,
@@ -41,7 +44,9 @@ from bandcalc.model.network import Points, signal_path, switching_points
 from bandcalc.model.parts import parameters, part, value_at, with_values
 from bandcalc.model.points import design_points, input_range, stage_design, stage_targets
 from bandcalc.model.standard_values import SERIES, EseriesError, series_values
+from bandcalc.model.tolerances import Limits, PerResistor, Tolerances
 from bandcalc.model.units import UnitError, format_si, format_value, parse_resistance
+from bandcalc.spread.propagation import DEFAULT_SEED, Yield, simplifications
 
 __all__ = [
     "MAX_COUNT",
@@ -49,6 +54,7 @@ __all__ = [
     "FitError",
     "FitResult",
     "apply_candidate",
+    "builds_columns",
     "candidate_to_dict",
     "fit",
     "fit_to_dict",
@@ -86,6 +92,13 @@ class Candidate:
     worst_error: float
     network_current: float
     design: Design
+    # Ranked by what the builds do (:mod:`bandcalc.fit.robust`); None where not asked for.
+    margin: float | None = None  # worst-case margin, design's unit; None with ``margin_why``
+    margin_why: str | None = None
+    grades: dict[str, float] | None = None  # tolerance (percent) chosen per fitted position
+    cost: float | None = None  # relative cost of those grades; None where no grade will do
+    build_yield: Yield | None = None
+    not_told_apart: tuple[int, ...] = ()  # ranks whose yield intervals overlap this one's
 
     def value(self, position: str) -> float:
         """Ohms at a fitted position: a resistor key ("feedback") or "reference.top" / "reference.bottom"."""
@@ -110,6 +123,11 @@ class FitResult:
     problems: tuple[str, ...]  # why the targets cannot be met exactly, and what would help
     checked: int  # combinations the search checked (evaluated with the model or predicted)
     stopped: str | None  # None, or why the candidates are the best found, not proven the best
+    by: str = "nominal"  # the ranking: "nominal", "margin" or "yield"
+    windows: dict[str, tuple[float, float]] | None = None  # what margin and yield are measured against
+    grades: Grades | None = None  # grades offered, where the fit chose them
+    min_yield: float | None = None
+    assumptions: tuple[str, ...] = ()  # where the margin's and yield's model simplifies, in words
 
 
 def _ohms(value: float, digits: int = 3) -> str:
@@ -447,10 +465,11 @@ def _offset_gain(design: Design, params: list[str], values: np.ndarray) -> float
     return float(max(abs(np.diff(pts.upper)[0]), abs(np.diff(pts.lower)[0])) / 1e-3)
 
 
-def fit(design: Design, upper: float, lower: float, *, series: str = "E24", min_ohms: float = 1e3,
+def fit(design: Design, upper: Aim | None, lower: Aim | None, *, series: str = "E24", min_ohms: float = 1e3,
         max_ohms: float = 10e6, count: int = 5, fixed: Mapping[str, float | str] | None = None,
         add_leg: bool = True, names: Mapping[str, str] | None = None, budget: int = BUDGET,
-        progress: Progress | None = None) -> FitResult:
+        progress: Progress | None = None, by: str = "nominal", grades: Grades | None = None,
+        min_yield: float = 0.99) -> FitResult:
     """Standard resistor values that place the switching points at ``upper`` and ``lower``.
 
     Targets are in the design's unit: volts of the signal's open-circuit voltage or, for a design
@@ -460,8 +479,10 @@ def fit(design: Design, upper: float, lower: float, *, series: str = "E24", min_
     ----------
     design : Design
         The stage; its resistor values are only a starting point.
-    upper, lower : float
-        Target switching points, in the design's unit.
+    upper, lower : float, (float, float) or None
+        Target switching points, in the design's unit.  Ranked by margin or yield, each may be a
+        window (lowest, highest; one side may be infinite) or None: the design's window
+        (``tolerances.limits``); a target is a window of zero width.
     series : str
         IEC 60063 series the values come from ("E3" to "E192").
     min_ohms, max_ohms : float
@@ -484,13 +505,20 @@ def fit(design: Design, upper: float, lower: float, *, series: str = "E24", min_
         the budget returns the best it found, with ``stopped`` saying they are not proven best.
     progress : callable, optional
         ``progress(checked, budget)`` before each step of the search; it may raise to stop it.
+    by : "nominal", "margin" or "yield"
+        The ranking (see Returns and :mod:`bandcalc.fit.robust`).
+    grades : Grades, optional
+        Tolerance grades to choose from for each fitted part (margin and yield rankings): the
+        cheapest keeping the margin positive, or the yield at least ``min_yield`` (a fraction).
 
     Returns
     -------
     FitResult
-        Candidates ranked by the larger of the two errors, ties by the lower network current
-        (the larger, over both switching points, of the total current flowing into the + pin
-        from its legs, plus the current down a reference divider).
+        Candidates ranked by the larger of the two errors (``by="nominal"``), by the worst-case
+        margin over the tolerance box and temperature range (larger first), or by the per-build
+        yield; with grades by cost first.  Ties go to the lower network current (the larger, over
+        both switching points, of the total current flowing into the + pin from its legs, plus
+        the current down a reference divider).
 
     Raises
     ------
@@ -499,14 +527,152 @@ def fit(design: Design, upper: float, lower: float, *, series: str = "E24", min_
         to answer within seconds; the message says why and what would help.
     """
     named = {"series": "series", "min_ohms": "min_ohms", "max_ohms": "max_ohms", "count": "count",
-             "fixed": "fixed."} | dict(names or {})
+             "fixed": "fixed.", "upper": "upper", "lower": "lower", "by": "by", "grades": "grades",
+             "min_yield": "min_yield"} | dict(names or {})
     if not isinstance(count, int) or isinstance(count, bool) or not 1 <= count <= MAX_COUNT:
         raise FitError(f"{named['count']}: must be a whole number from 1 to {MAX_COUNT}, got {count!r}")
     if not isinstance(budget, int) or isinstance(budget, bool) or budget < 1:
         raise FitError(f"budget: must be a whole number of 1 or more, got {budget!r}")
     settings = dict(series=series, min_ohms=min_ohms, max_ohms=max_ohms, fixed=fixed, add_leg=add_leg,
                     named=named, budget=budget, progress=progress)
-    return _fit_through_input(design, upper, lower, count, settings)
+    if by not in RANKINGS:
+        raise FitError(f"{named['by']}: {by!r} is not a ranking; allowed: {', '.join(RANKINGS)}")
+    if by == "nominal":
+        if grades is not None:
+            raise FitError(f"{named['grades']}: grades are chosen for the margin or yield ranking; rank by "
+                           "margin or yield to choose them")
+        for key, value in (("upper", upper), ("lower", lower)):
+            if not _is_number(value):
+                raise FitError(f"{named[key]}: must be a number ({design.unit}), got {value!r}")
+        return _fit_through_input(design, upper, lower, count, settings)
+    if not (isinstance(min_yield, (int, float)) and not isinstance(min_yield, bool) and 0 < min_yield <= 1):
+        raise FitError(f"{named['min_yield']}: must be above 0 % and at most 100 %, got {min_yield!r}")
+    windows = _windows(design, {"upper": upper, "lower": lower}, named)
+    return _fit_for_builds(design, windows, count, settings, by, grades, min_yield)
+
+
+# --- Fit for what the builds do ----------------------------------------------------------------------
+
+def _windows(design: Design, given: Mapping[str, Aim | None], named: Mapping[str, str]
+             ) -> dict[str, tuple[float, float]]:
+    """The windows margin and yield are measured against: those given, else the design's own."""
+    out = dict(design.tolerances.limits.windows()) if design.tolerances is not None else {}
+    unit = design.unit
+    for key in ("upper", "lower"):
+        value = given[key]
+        if value is None:
+            if key not in out:
+                raise FitError(f"{named[key]}: no window for the {key} point; give one here or as "
+                               f"tolerances.limits.{key} in the design file")
+            continue
+        lo, hi = window(value) if isinstance(value, tuple) or _is_number(value) else (math.nan, math.nan)
+        if math.isnan(lo) or math.isnan(hi) or lo > hi or (math.isinf(lo) and math.isinf(hi)):
+            raise FitError(f"{named[key]}: give a value or a window lowest,highest ({unit}), the lowest "
+                           f"not above the highest, one side at most open; got {value!r}")
+        out[key] = (lo, hi)
+    return out
+
+
+def _aim(w: tuple[float, float]) -> float:
+    lo, hi = w
+    return hi if math.isinf(lo) else lo if math.isinf(hi) else 0.5 * (lo + hi)
+
+
+def _watched_evaluator(design: Design, params: list[str], middle: float) -> Evaluate:
+    """Nominal points in the design's unit (through any front end) and the stage's network current."""
+    stage = stage_design(design, middle)
+    base = parameters(stage)
+
+    def evaluate(values: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        cols = {k: values[:, j] for j, k in enumerate(params)}
+        pts = switching_points(stage, cols)
+        w = pts if stage is design else design_points(design, cols)
+        return w.upper, w.lower, _network_current(stage, {**base, **cols}, pts)
+
+    return evaluate
+
+
+def _with_tolerances(design: Design, windows: Mapping[str, tuple[float, float]],
+                     grades: Mapping[str, float] | None) -> Design:
+    """The design with the windows as its tolerances' limits and any grades as its parts' tolerances."""
+    tol = design.tolerances or Tolerances()
+    edge = lambda x: None if math.isinf(x) else x  # noqa: E731
+    limits = Limits(**{q: (edge(lo), edge(hi)) for q, (lo, hi) in windows.items()})
+    resistors = tol.resistors
+    if grades:
+        resistors = PerResistor(resistors.default, tuple({**dict(resistors.parts), **grades}.items()))
+    return replace(design, tolerances=replace(tol, limits=limits, resistors=resistors))
+
+
+def _fit_for_builds(design: Design, windows: dict[str, tuple[float, float]], count: int, settings: dict,
+                    by: str, grades: Grades | None, min_yield: float) -> FitResult:
+    """Which resistors move and where the search starts come from the nominal fit to the windows'
+    middles; the candidates from :func:`bandcalc.fit.robust.rank` over every combination."""
+    targets = _aim(windows["upper"]), _aim(windows["lower"])
+    inner = _fit_through_input(design, *targets, count, settings)
+    base, params = inner.design, [part(p).path for p in inner.fitted]
+    grid = _grid(settings["series"], settings["min_ohms"], settings["max_ohms"], settings["named"])
+    keys = [part(p).key for p in params]
+    seeds = np.array([[c.value(p) for p in inner.fitted] for c in inner.candidates]).reshape(-1, len(params))
+
+    def design_of(values: np.ndarray, percents: np.ndarray) -> Design:
+        d = with_values(base, dict(zip(params, (float(v) for v in values), strict=True)))
+        return _with_tolerances(d, windows, dict(zip(keys, (float(p) for p in percents), strict=True)))
+
+    try:
+        corners = CornerModel(base, params)
+        evaluate = _watched_evaluator(base, params, 0.5 * sum(targets))
+        ranked = rank(by, corners, evaluate, grid, windows, count, budget=settings["budget"],
+                      design_of=design_of, progress=settings["progress"], seeds=seeds, grades=grades,
+                      min_yield=min_yield)
+    except (MarginError, GradeError) as exc:
+        raise FitError(str(exc)) from None
+    found = ranked.found
+    candidates = []
+    for i, values in enumerate(found.values):
+        c = _candidate(base, params, values, targets, (found.upper[i], found.lower[i], found.current[i]))
+        m = float(found.margin[i])
+        lacking = found.lacking[i]
+        why = None if math.isfinite(m) else (
+            f"a corner of the tolerance box has no {lacking or 'switching'} point somewhere in the range")
+        cost = None if ranked.cost is None or math.isnan(ranked.cost[i]) else float(ranked.cost[i])
+        candidates.append(replace(
+            c, margin=m if math.isfinite(m) else None, margin_why=why,
+            grades=None if grades is None else dict(zip(keys, map(float, found.percents[i]), strict=True)),
+            cost=cost, build_yield=None if ranked.yields is None else ranked.yields[i],
+            not_told_apart=ranked.apart[i] if ranked.apart else ()))
+    notes = [*inner.notes, *(f"At the windows' middles: {p}" for p in inner.problems), *ranked.notes]
+    problems = _builds_problems(candidates, by, grades, min_yield, design.unit)
+    stopped = inner.stopped
+    if not ranked.proven:
+        stopped = (f"Not proven the best: {ranked.why_not}. For a proven ranking {_WHAT_HELPS}.")
+    assumptions = list(simplifications(corners.model))
+    if by == "yield":
+        assumptions.append(f"Yield: {YIELD_BUILDS:,} builds per candidate (seed {DEFAULT_SEED}, the same "
+                           "builds for every candidate), each over the whole temperature range; 95 % Wilson "
+                           "interval.")
+    return replace(inner, candidates=tuple(candidates), notes=tuple(notes), problems=tuple(problems),
+                   checked=inner.checked + found.checked, stopped=stopped, by=by, windows=dict(windows),
+                   grades=grades, min_yield=min_yield if by == "yield" and grades is not None else None,
+                   assumptions=tuple(assumptions))
+
+
+def _builds_problems(candidates: list[Candidate], by: str, grades: Grades | None, min_yield: float,
+                     unit: str) -> list[str]:
+    if not candidates:
+        return ["No candidate was found."]
+    best = candidates[0]
+    if grades is not None and best.cost is None:
+        need = ("keeps every build inside the windows" if by == "margin"
+                else f"gives a yield of {100 * min_yield:g} %")
+        return [f"No grade offered (down to {grades.tightest:g} %) {need} for any candidate; the candidates "
+                "are shown at the tightest grade."]
+    if by == "margin" and (best.margin is None or best.margin <= 0):
+        worst = ("no finite margin" if best.margin is None
+                 else f"a margin of {format_value(best.margin, unit, 3)}")
+        return [f"No candidate keeps every build inside the windows: the best has {worst}. Widen the "
+                "windows, use tighter parts, or narrow the temperature range."]
+    return []
 
 
 def _fit_stage(design: Design, upper: float, lower: float, count: int, *, series: str, min_ohms: float,
@@ -628,9 +794,16 @@ def _fit_through_input(design: Design, upper: float, lower: float, count: int, s
 
 
 def apply_candidate(design: Design, candidate: Candidate) -> Design:
-    """The design with a candidate's resistors (and fitted divider); everything else unchanged."""
-    return replace(design, resistors=Resistors(**candidate.resistors),
-                   reference=candidate.reference or design.reference)
+    """The design with a candidate's resistors (and fitted divider) and, where the fit chose them, its
+    grades as the tolerances of those parts; everything else unchanged."""
+    out = replace(design, resistors=Resistors(**candidate.resistors),
+                  reference=candidate.reference or design.reference)
+    if candidate.grades:
+        tol = out.tolerances or Tolerances()
+        parts = {**dict(tol.resistors.parts), **candidate.grades}
+        out = replace(out, tolerances=replace(tol, resistors=PerResistor(tol.resistors.default,
+                                                                         tuple(parts.items()))))
+    return out
 
 
 def candidate_to_dict(c: Candidate) -> dict:
@@ -640,6 +813,34 @@ def candidate_to_dict(c: Candidate) -> dict:
         out["reference"] = {"divider": {"top": c.reference.top, "bottom": c.reference.bottom}}
     out.update(upper=c.upper, lower=c.lower, error_upper=c.error_upper, error_lower=c.error_lower,
                worst_error=c.worst_error, network_current=c.network_current)
+    if c.margin is not None or c.margin_why is not None:
+        out.update(margin=c.margin, margin_why=c.margin_why)
+    if c.grades is not None:
+        out.update(grades=dict(c.grades), cost=c.cost)
+    if c.build_yield is not None or c.margin_why is not None or c.not_told_apart:
+        y = c.build_yield
+        out["yield"] = None if y is None else {
+            "fraction": y.fraction, "low": y.low, "high": y.high, "confidence": 0.95, "passed": y.passed,
+            "samples": y.samples, "not_told_apart": list(c.not_told_apart)}
+    return out
+
+
+def builds_columns(r: FitResult) -> list[tuple[str, list[str]]]:
+    """The columns a fit ranked by what the builds do adds, as text (heading, one cell per candidate):
+    margin; yield with its 95 % interval and the ranks it is not told apart from; grades and cost."""
+    if r.by == "nominal":
+        return []
+    rows, unit = r.candidates, r.design.unit
+    out = [("margin", [format_value(c.margin, unit, 3) if c.margin is not None else "none" for c in rows])]
+    if r.by == "yield":
+        out.append(("yield (95 %)", ["not run" if (y := c.build_yield) is None else
+                                     f"{100 * y.fraction:.2f} % ({100 * y.low:.2f} to {100 * y.high:.2f})"
+                                     for c in rows]))
+        out.append(("not told apart from", [", ".join(f"#{j}" for j in c.not_told_apart) for c in rows]))
+    if r.grades is not None:
+        out.append(("grades", [" ".join(f"{c.grades[p]:g} %" for p in r.fitted) if c.grades else ""
+                               for c in rows]))
+        out.append(("cost", ["none will do" if c.cost is None else f"{c.cost:g}" for c in rows]))
     return out
 
 
@@ -651,4 +852,9 @@ def fit_to_dict(r: FitResult) -> dict:
             "added_leg": r.added_leg, "candidates": [candidate_to_dict(c) for c in r.candidates],
             "exact": None if r.exact is None else candidate_to_dict(r.exact),
             "notes": list(r.notes), "problems": list(r.problems), "checked": r.checked,
-            "proven": r.stopped is None, "stopped": r.stopped}
+            "proven": r.stopped is None, "stopped": r.stopped, "by": r.by,
+            "windows": None if r.windows is None else
+            {q: [None if math.isinf(v) else v for v in w] for q, w in r.windows.items()},
+            "grades": None if r.grades is None else
+            [{"percent": p, "cost": c} for p, c in zip(r.grades.percents, r.grades.costs, strict=True)],
+            "min_yield": r.min_yield, "assumptions": list(r.assumptions)}

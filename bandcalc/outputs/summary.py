@@ -13,12 +13,14 @@ from __future__ import annotations
 
 import datetime as _dt
 import json
+import math
 import re
 from dataclasses import dataclass
 
 from bandcalc import __version__
 from bandcalc.cli.visible_text import visible_text
 from bandcalc.errors import DesignError
+from bandcalc.fit.selection import builds_columns
 from bandcalc.model.design import Design, DividerReference, FixedReference, OpenDrain
 from bandcalc.model.design_file import design_from_json, design_to_dict
 from bandcalc.model.front_end import DividerFrontEnd, LinearFrontEnd, ThermistorFrontEnd
@@ -389,16 +391,24 @@ def _fit_section(result) -> list[str]:
     lines = [_line(f"Targets: upper {q(result.upper)}, lower {q(result.lower)}; fitted "
                    f"{', '.join(result.fitted)} from {result.series}, {format_si(result.min_ohms, 'Ohm')} to "
                    f"{format_si(result.max_ohms, 'Ohm')}."), ""]
-    header = ["Rank", *result.fitted, "Upper", "Lower", "Worst error", "Network current"]
+    extra = builds_columns(result)
+    edge = lambda x: "open" if math.isinf(x) else q(x)  # noqa: E731
+    if result.windows is not None:
+        lines += [_line(f"Ranked by {result.by}, against the windows "
+                        + "; ".join(f"{k} {edge(lo)} to {edge(hi)}" for k, (lo, hi) in result.windows.items())
+                        + "; grades are each part's tolerance, percent."), ""]
+    header = ["Rank", *result.fitted, "Upper", "Lower", "Worst error", "Network current",
+              *(h.capitalize() for h, _ in extra)]
     rows = [[str(i), *(format_code(c.value(p)) for p in result.fitted), q(c.upper), q(c.lower),
-             format_value(c.worst_error, unit, 3), format_si(c.network_current, "A")]
+             format_value(c.worst_error, unit, 3), format_si(c.network_current, "A"),
+             *(cells[i - 1] for _, cells in extra)]
             for i, c in enumerate(result.candidates, 1)]
     lines += _table(header, rows)
     if result.exact is not None:
         exact = ", ".join(f"{p} {format_si(result.exact.value(p), 'Ohm', 4)}" for p in result.fitted)
         lines += ["", _line(f"Exact (continuous) solution: {exact}.")]
     stopped = (f"Not proven the best: {result.stopped}",) if result.stopped else ()
-    lines += [""] + _items((*stopped, *result.notes, *result.problems))
+    lines += [""] + _items((*stopped, *result.notes, *result.problems, *result.assumptions))
     return lines
 
 

@@ -26,7 +26,9 @@ from dataclasses import replace
 import streamlit as st
 
 from bandcalc.errors import BandcalcError
-from bandcalc.fit.selection import Candidate, FitResult, apply_candidate, fit
+from bandcalc.fit.grades import DEFAULT_GRADES, parse_grades
+from bandcalc.fit.robust import RANKINGS
+from bandcalc.fit.selection import Candidate, FitResult, apply_candidate, builds_columns, fit
 from bandcalc.model.design import Design, DividerReference
 from bandcalc.model.design_file import design_from_json, design_to_json
 from bandcalc.model.front_end import front_end_of
@@ -52,7 +54,9 @@ _SEARCHING = "page.fit.searching"  # set while a search runs; still set in the r
 _DONE = "page.fit.done"  # finished fits of this session: {(design JSON, settings...): FitResult}
 _DONE_KEPT = 16
 _LABELS = {"upper": "Upper point wanted", "lower": "Lower point wanted", "min_ohms": "Smallest resistor",
-           "max_ohms": "Largest resistor"}
+           "max_ohms": "Largest resistor", "grades": "Tolerance grades (%)"}
+_RANKED_BY = {"nominal": "Error from the points wanted", "margin": "Worst-case margin in the windows",
+              "yield": "Yield of builds in the windows"}
 
 
 def _holdable(design: Design) -> list[str]:
@@ -76,7 +80,7 @@ def _defaults(sheet) -> dict:
     upper, lower = _points(sheet)
     return {"basis": (sheet.design.name, sheet.design.unit), "upper": upper, "lower": lower,
             "series": st.session_state.get(SERIES_KEY, "E24"), "min_ohms": "1k", "max_ohms": "10M",
-            "count": 5, "hold": [], "add_leg": True}
+            "count": 5, "hold": [], "add_leg": True, "by": "nominal", "grades": ""}
 
 
 def _settings(sheet) -> dict:
@@ -125,6 +129,15 @@ def _form(sheet, kept: dict) -> bool:
         row[3].checkbox("May add a resistor to the + pin", key=_WIDGET + "add_leg",
                         help="Where the stage as drawn cannot place both points, a resistor from the + pin "
                              "to ground, a rail or the reference is added")
+        row = st.columns(4)
+        row[0].selectbox("Rank by", RANKINGS, key=_WIDGET + "by", format_func=_RANKED_BY.get,
+                         help="Margin and yield are measured against the design's windows "
+                              "(tolerances.limits, set in the spread tab) over its tolerances and "
+                              "temperature range")
+        row[1].text_input(_LABELS["grades"], key=_WIDGET + "grades", placeholder="the design's own",
+                          help=f"With margin or yield: grades to choose from per fitted part, such as "
+                               f"{DEFAULT_GRADES}, each with a relative cost if you like (5:1,1:1.2,0.1:5); "
+                               "default costs are typical of the trade, from memory")
         with st.container(horizontal=True):
             pressed = st.form_submit_button("Find values", type="primary")
             st.form_submit_button("Targets from the present points", on_click=_take_points,
@@ -162,7 +175,18 @@ def _read(design: Design, kept: dict) -> tuple[dict, list[str]]:
         wrong.append(f"{_LABELS['min_ohms']} ({format_code(args['min_ohms'], 4)}) must be below the "
                      f"{_LABELS['max_ohms'].lower()} ({format_code(args['max_ohms'], 4)})")
     args.update(series=kept["series"], count=int(kept["count"]), add_leg=bool(kept["add_leg"]),
-                fixed=tuple((k, float(value_at(design, part(k).path))) for k in kept["hold"]))
+                fixed=tuple((k, float(value_at(design, part(k).path))) for k in kept["hold"]),
+                by=kept["by"], grades=str(kept["grades"]).strip())
+    if args["grades"]:
+        try:
+            if args["by"] == "nominal":
+                raise BandcalcError(f"{_LABELS['grades']}: grades are chosen when ranking by margin or yield")
+            parse_grades(args["grades"], _LABELS["grades"])
+        except ValueError as exc:
+            wrong.append(str(exc))
+    if args["by"] != "nominal":  # measured against the design's windows
+        wrong = [line for line in wrong if not line.startswith((_LABELS["upper"], _LABELS["lower"]))]
+        args.update(upper=None, lower=None)
     return args, wrong
 
 
@@ -180,25 +204,30 @@ def _fit_of(design: Design, args: dict) -> FitResult | None:
 
     st.session_state[_SEARCHING] = True
     settings = {k: dict(v) if k == "fixed" else v for k, v in args.items() if k not in ("upper", "lower")}
+    settings["grades"] = parse_grades(args["grades"]) if args["grades"] else None
     result = guarded("Find values", fit, design, args["upper"], args["lower"], **settings, progress=progress)
     del st.session_state[_SEARCHING]  # reached only where the search was not interrupted
     slot.empty()
     return result
 
 
-def _holds_for(fitted: Design, design: Design) -> bool:
+def _holds_for(fitted: Design, design: Design, graded: bool = False) -> bool:
     """Whether a fit of ``fitted`` holds for ``design``: the two differ at most in resistor values
-    (a divider's included), name and notes, so each candidate applied gives the points listed."""
+    (a divider's included), name and notes, and where the fit chose grades in the resistors'
+    tolerances, so each candidate applied gives the figures listed."""
     ref = design.reference if isinstance(fitted.reference, DividerReference) and isinstance(
         design.reference, DividerReference) else fitted.reference
-    return replace(fitted, resistors=design.resistors, reference=ref, name=design.name,
-                   notes=design.notes) == design
+    tol = fitted.tolerances
+    if graded and tol is not None and design.tolerances is not None:
+        tol = replace(tol, resistors=design.tolerances.resistors)
+    return replace(fitted, resistors=design.resistors, reference=ref, name=design.name, notes=design.notes,
+                   tolerances=tol) == design
 
 
 def latest_fit(design: Design) -> FitResult | None:
     """The page's latest fit, if it holds for ``design`` (it differs at most in resistor values)."""
     kept = st.session_state.get(RESULT_KEY)
-    if kept is None or not _holds_for(design_from_json(kept[0]), design):
+    if kept is None or not _holds_for(design_from_json(kept[0]), design, kept[1].grades is not None):
         return None
     return kept[1]
 
@@ -257,13 +286,16 @@ def _table(r: FitResult, design: Design) -> dict[str, list[str]]:
         "Lower": [format_value(c.lower, unit, 4) for c in rows],
         "Worst error": [format_value(c.worst_error, unit, 3) for c in rows],
         "Network current": [format_si(c.network_current, "A") for c in rows],
-        "On the sliders": ["yes" if _in_use(design, c) else "" for c in rows],
     })
+    table.update({heading.capitalize(): [literal(x.replace("#", "")) for x in cells]
+                  for heading, cells in builds_columns(r)})
+    table["On the sliders"] = ["yes" if _in_use(design, c) else "" for c in rows]
     return table
 
 
 def _applied(r: FitResult, rank: int, c: Candidate, unit: str) -> str:
-    values = ", ".join(f"{part(p).label.lower()} {format_code(c.value(p), 3)}" for p in r.fitted)
+    values = ", ".join(f"{part(p).label.lower()} {format_code(c.value(p), 3)}"
+                       + (f" at {c.grades[p]:g} %" if c.grades else "") for p in r.fitted)
     return (f"Fit candidate {rank} applied: {values}; upper {format_value(c.upper, unit, 4)}, "
             f"lower {format_value(c.lower, unit, 4)}.")
 
@@ -275,7 +307,7 @@ def _results(sheet) -> None:
                    "the larger of the two errors, and Apply puts a set on the sliders.")
         return
     design, (fitted_json, r) = sheet.design, kept
-    if not _holds_for(design_from_json(fitted_json), design):
+    if not _holds_for(design_from_json(fitted_json), design, r.grades is not None):
         st.info("The stage has changed since the last search in more than resistor values; press Find "
                 "values to search for the design as it is now.")
         return
@@ -284,16 +316,22 @@ def _results(sheet) -> None:
     targets = f"upper {format_value(r.upper, unit, 4)}, lower {format_value(r.lower, unit, 4)}"
     span = f"{format_code(r.min_ohms, 4)} to {format_code(r.max_ohms, 4)}"
     st.markdown(f"**Found for** {targets}: {fitted} from {r.series}, {span}.")
+    if r.windows is not None:
+        edge = lambda x, open_: open_ if math.isinf(x) else format_value(x, unit, 4)  # noqa: E731
+        shown = "; ".join(f"{q} {edge(lo, 'open')} to {edge(hi, 'open')}"
+                          for q, (lo, hi) in r.windows.items())
+        st.markdown(f"**Ranked by** {_RANKED_BY[r.by].lower()}: {shown}.")
     if r.stopped:
         st.warning(r.stopped)
     for line in r.problems:
-        st.warning(literal(f"Cannot meet the targets exactly: {line}"))
+        st.warning(literal(line if r.by != "nominal" else f"Cannot meet the targets exactly: {line}"))
     if r.candidates:
         st.table(_table(r, design), hide_index=True)
         with st.container(horizontal=True):
             for rank, c in enumerate(r.candidates, 1):
                 if st.button(f"Apply {rank}", key=f"{_WIDGET}apply.{rank}",
-                             help="Put this candidate's values on the sliders"):
+                             help="Put this candidate's values (and any grades, as the parts' tolerances) "
+                                  "on the design"):
                     state.apply_design(apply_candidate(design, c), _applied(r, rank, c, design.unit))
     if r.exact is not None:
         exact = ", ".join(f"{part(p).label.lower()} {format_si(r.exact.value(p), 'Ohm', 4)}"
@@ -302,6 +340,8 @@ def _results(sheet) -> None:
                    f"lower {format_value(r.exact.lower, unit, 4)}).")
     for line in r.notes:
         st.info(literal(line))
+    for line in r.assumptions:
+        st.caption(literal(f"The model assumes: {line}"))
 
 
 def render(sheet) -> None:
