@@ -183,6 +183,9 @@ def test_spread_panel_edits_the_design_and_runs(server, browser):
     wait_for(lambda: design_in_address(address(page)).tolerances.supply == 3.0,
              "the tolerance in the address")
     settle(page)
+    with page.expect_download() as download:  # the sidebar's Save button follows the panel's edit
+        page.get_by_role("button", name="Save the design file").click()
+    assert design_from_json(Path(download.value.path()).read_text()).tolerances.supply == 3.0
     page.get_by_role("button", name="Run the spread").click()
     page.get_by_text("Yield", exact=True).wait_for(timeout=60_000)
     settle(page)

@@ -17,10 +17,10 @@ left it; an edit refused is tried again once the others are in (a negative rail 
 positive rail fits beside the new one), and only then reported.  Controls start again in
 :func:`begin_run`, after every callback of the run, so no callback finds another's value gone.
 
-A panel reruns on its own (a fragment) when its widgets change.  A panel control that edits the
-design passes ``controls=`` its own key prefix (``"in.tolerances."``), so that only the panel's
-controls start again: the widgets outside the panel are not redrawn in that rerun, and forgetting
-their state then would make Streamlit take them for changed on the next interaction.
+A panel reruns on its own (a fragment) when its widgets change, and where that changed the design,
+the whole page runs again (:mod:`bandcalc.page.panels`).  A panel control that edits the design
+passes ``controls=`` its own key prefix (``"in.tolerances."``), so that only the panel's controls
+start again: the design's other values did not move, and the widgets outside the panel keep theirs.
 
 The page takes only a design it can keep and show (:func:`admit`): one the page address can hold,
 so that a reload or a shared link brings it back, and that can be analysed.  Edits, opened files,

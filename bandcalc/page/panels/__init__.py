@@ -12,7 +12,9 @@ the panel's own settings) and guard them with :func:`bandcalc.page.compute.guard
 the design from a panel (say, apply a candidate), call
 :func:`bandcalc.page.state.apply_design` after a button press; a panel's own controls that edit
 the design (the spread panel's tolerances) use :func:`bandcalc.page.state.edit` in callbacks as
-the sidebar does, and the panel's rerun then shows their messages and writes the address.
+the sidebar does: a refused edit's message shows in the panel's own rerun, and an edit that
+changes the design reruns the whole page, so that everything outside the panel (the Save button's
+file, the live view, the address) shows it too.
 Results of long runs go to :mod:`bandcalc.page.runs`, where the summary finds them.
 
 A panel may also define ``run_requested(sheet)``: work a button of the panel asked for, run in the
@@ -31,7 +33,7 @@ import streamlit as st
 from bandcalc.model.design import Design
 from bandcalc.model.operating import Analysis
 from bandcalc.page import state
-from bandcalc.page.compute import analysis_of, guarded
+from bandcalc.page.compute import guarded
 from bandcalc.page.panels import currents, fit, signal_check, spread, summary
 
 __all__ = ["PANELS", "Sheet", "render_panels"]
@@ -50,17 +52,13 @@ class Sheet:
 
 @st.fragment
 def _panel(panel: ModuleType, sheet: Sheet) -> None:
-    design = state.begin_run()
-    if design is not sheet.design:
-        # A rerun of the panel alone gets the arguments of the last full run: after the panel's own
-        # controls changed the design, work from the design as it is now.
-        analysis = guarded("Analysis", analysis_of, design)
-        if analysis is None:
-            return
-        sheet = Sheet(design=design, analysis=analysis)
+    if state.begin_run() is not sheet.design:
+        # The panel's own controls changed the design (a tolerance): the page outside the panel
+        # shows it too (the Save button's file, the live view, the address), so the whole page runs
+        # again; its messages wait in the queue for the top of the page.
+        st.rerun(scope="app")
     state.show_messages()
     guarded(panel.TITLE, panel.render, sheet)
-    state.write_address(state.current_design())
 
 
 def render_panels(sheet: Sheet) -> None:
