@@ -324,3 +324,26 @@ def test_the_summary_lists_margin_grades_and_cost():
     assert f"| {format_value(first.margin, 'V', 3)} | {grades} |" in text
     # the component table gives each part the grade chosen, as its tolerance
     assert f"{first.grades['feedback']:g} % (given for this resistor)" in text
+
+
+@pytest.mark.parametrize("series", ["E12", "E24"])
+def test_a_leg_is_added_only_where_it_gains_margin(demo, series):
+    # Placing the sump's points exactly needs a third resistor (its reference is 2 mV off what two
+    # resistors need), but the windows do not: the leg stays only where the best candidate's margin
+    # is larger with it than with the stage as drawn, and a note gives the gain.  Over E12 the stage
+    # as drawn does as well and the leg is left out; over E24 it gains under a millivolt, said so.
+    sump = demo("sump_level_switch")
+    chosen = fit(sump, None, None, by="margin", series=series, count=3)
+    drawn = fit(sump, None, None, by="margin", series=series, count=3, add_leg=False)
+    with_leg = chosen.candidates[0].margin
+    without = drawn.candidates[0].margin
+    if chosen.added_leg is None:
+        assert [c.resistors for c in chosen.candidates] == [c.resistors for c in drawn.candidates]
+        assert any(n.startswith("The stage as drawn does as well for the builds as with the added resistor")
+                   for n in chosen.notes)
+    else:
+        assert with_leg > without
+        gain = format_value(with_leg - without, sump.unit, 3)
+        (note,) = [n for n in chosen.notes if n.startswith("Without the added resistor")]
+        assert f"the best margin is {format_value(without, sump.unit, 3)}: the resistor gains {gain}" in note
+    assert (series == "E12") == (chosen.added_leg is None)

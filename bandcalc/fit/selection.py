@@ -606,6 +606,40 @@ def _with_tolerances(design: Design, windows: Mapping[str, tuple[float, float]],
 
 def _fit_for_builds(design: Design, windows: dict[str, tuple[float, float]], count: int, settings: dict,
                     by: str, grades: Grades | None, min_yield: float) -> FitResult:
+    """The fit for what the builds do; where it adds a + pin leg, also without it.
+
+    Placing both points exactly may need a third resistor where the windows do not: the leg is
+    kept only where it gives the best candidate a larger margin than the stage as drawn, and a
+    note says by how much (a leg that moves a point by a millivolt or two against tens of
+    millivolts of spread is a part for nothing).
+    """
+    with_leg = _ranked_for_builds(design, windows, count, settings, by, grades, min_yield)
+    if with_leg.added_leg is None or not with_leg.candidates:
+        return with_leg
+    try:
+        drawn = _ranked_for_builds(design, windows, count, {**settings, "add_leg": False}, by, grades,
+                                   min_yield)
+    except FitError:
+        return with_leg
+    leg = f"the added resistor (resistors.{with_leg.added_leg})"
+    unit = design.unit
+    gain = _best_margin(with_leg) - _best_margin(drawn)
+    if not math.isfinite(gain) or gain <= 0:
+        note = (f"The stage as drawn does as well for the builds as with {leg}, which would only place the "
+                "points' nominal values exactly: the fit leaves it out.")
+        return replace(drawn, notes=(note, *(n for n in drawn.notes if not n.startswith("At the windows'"))))
+    note = (f"Without {leg} the best margin is {format_value(_best_margin(drawn), unit, 3)}: the resistor "
+            f"gains {format_value(gain, unit, 3)} of margin (fit with no extra leg to leave it out).")
+    return replace(with_leg, notes=(*with_leg.notes, note))
+
+
+def _best_margin(result: FitResult) -> float:
+    best = result.candidates[0].margin if result.candidates else None
+    return -math.inf if best is None else float(best)
+
+
+def _ranked_for_builds(design: Design, windows: dict[str, tuple[float, float]], count: int, settings: dict,
+                       by: str, grades: Grades | None, min_yield: float) -> FitResult:
     """Which resistors move and where the search starts come from the nominal fit to the windows'
     middles; the candidates from :func:`bandcalc.fit.robust.rank` over every combination."""
     targets = _aim(windows["upper"]), _aim(windows["lower"])
