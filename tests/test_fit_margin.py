@@ -15,7 +15,8 @@ from test_fit import evaluator
 
 from bandcalc.cli.commands import main
 from bandcalc.fit import grid_search as search
-from bandcalc.fit.grades import DEFAULT_COSTS, GradeError, parse_grades
+from bandcalc.fit.grades import DEFAULT_COSTS, GradeError, choices, parse_grades
+from bandcalc.fit.margin import CornerModel, margins
 from bandcalc.fit.robust import YIELD_BUILDS
 from bandcalc.fit.selection import FitError, apply_candidate, fit
 from bandcalc.model.design import Design, DividerReference, FixedReference, Resistors, Supply
@@ -259,8 +260,33 @@ def test_too_many_corners_are_refused_at_once():
         offset_drift=1e-6, offset_current=1e-9))
     small = fit(design, None, None, by="margin", series="E12", min_ohms=1e3, max_ohms=100e3, count=1)
     assert small.candidates[0].margin is not None
+    # Eight grades for three parts, 512 choices for each of 160 candidates (four times the count),
+    # each bounded over up to 64 corners, is more than the budget of corner builds.
     with pytest.raises(FitError, match="give fewer grades"):
-        fit(design, None, None, by="margin", grades=parse_grades("10,5,2,1,0.5,0.25,0.1,0.05"), count=5)
+        fit(design, None, None, by="margin", grades=parse_grades("10,5,2,1,0.5,0.25,0.1,0.05"), count=40)
+
+
+def test_grades_bounded_by_a_few_corners_are_those_every_corner_gives():
+    # Eight grades for three parts over a temperature range (2,048 corners, 512 choices each) were
+    # refused as too many to compute in full.  Each choice is now bounded from above over the corners
+    # worst at the tightest and loosest grades, and only those whose bound is positive are computed
+    # in full, cheapest first: the answer must be what computing every choice in full gives.
+    design = dataclasses.replace(inverting_stage(), tolerances=tolerances(
+        WINDOWS, offset=1e-3, bias_current=1e-9, temperature=(-40, 85), resistor_tempco=PerResistor(100),
+        offset_drift=1e-6, offset_current=1e-9))
+    grades = parse_grades("10,5,2,1,0.5,0.25,0.1,0.05")
+    r = fit(design, None, None, by="margin", grades=grades, count=3)
+    assert r.stopped is None and all(c.cost is not None for c in r.candidates)
+    keys = ["to_positive", "to_ground", "feedback"]
+    corners = CornerModel(r.design, [f"resistors.{k}" for k in keys])
+    table, cost = choices(grades, 3)
+    for c in r.candidates:
+        values = np.tile([c.resistors[k] for k in keys], (len(table), 1))
+        full = margins(corners.extremes(values, table), r.windows)
+        cheapest = cost[full > 0].min()
+        best = np.argmax(np.where((full > 0) & np.isclose(cost, cheapest), full, -np.inf))
+        assert c.cost == pytest.approx(cheapest) and c.margin == pytest.approx(full[best], abs=1e-12)
+        assert c.grades == dict(zip(keys, table[best], strict=True))
 
 
 @pytest.fixture

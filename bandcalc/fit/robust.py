@@ -29,7 +29,7 @@ from bandcalc.fit.margin import BUILD_BUDGET, CornerModel, MarginError, MarginSe
 from bandcalc.model.design import Design
 from bandcalc.spread.propagation import DEFAULT_SEED, Yield, build_yield
 
-__all__ = ["RANKINGS", "YIELD_BUILDS", "YIELD_RUNS", "Ranked", "not_told_apart", "rank"]
+__all__ = ["PROBES", "RANKINGS", "YIELD_BUILDS", "YIELD_RUNS", "Ranked", "not_told_apart", "rank"]
 
 #: The rankings a fit offers; "nominal" is the fit's own (:func:`bandcalc.fit.selection.fit`).
 RANKINGS = ("nominal", "margin", "yield")
@@ -85,25 +85,62 @@ def _cost_key(cost: np.ndarray) -> np.ndarray:
     return np.where(np.isnan(cost), np.inf, np.round(cost, 9))
 
 
+#: Corners a grade choice is first bounded with (see :func:`_graded`).
+PROBES = 64
+
+
+def _probe_corners(corners: CornerModel, values: np.ndarray, grades: Grades, windows: Mapping) -> np.ndarray:
+    """Corners that were worst for some candidate with every part at the tightest and at the
+    loosest grade (at most :data:`PROBES`, the most often worst first)."""
+    seen: dict[int, int] = {}
+    for percent in (min(grades.percents), max(grades.percents)):
+        e = corners.extremes(values, np.full_like(values, percent, dtype=float))
+        for q in windows:
+            for c in np.concatenate([e[q][2], e[q][3]]):
+                seen[int(c)] = seen.get(int(c), 0) + 1
+    return np.array(sorted(seen, key=lambda c: -seen[c])[:PROBES], dtype=np.intp)
+
+
 def _graded(corners: CornerModel, found: MarginSearch, windows: Mapping, grades: Grades
-            ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+            ) -> tuple[np.ndarray, np.ndarray, np.ndarray, bool]:
     """Each candidate's cheapest grades keeping the margin positive: percents (m, k), cost and margin
-    (NaN cost where even the tightest grades do not; those keep the tightest)."""
+    (NaN cost where even the tightest grades do not; those keep the tightest), and whether every
+    candidate was graded within the build budget.
+
+    Any corner is a build, so a choice's margin over a few corners bounds its margin from above: a
+    choice whose bound is not positive cannot do.  The corners worst at the tightest and the loosest
+    grade bound every choice; then, cheapest first, the choices whose bound is positive are
+    computed over every corner until one cost's choices hold one that does (among those, the largest
+    margin).  The same answer as computing every choice in full, mostly for one choice's corners.
+    """
     m, k = found.values.shape
     table, cost = choices(grades, k)
     a = len(table)
-    values = np.repeat(found.values, a, axis=0)
-    percents = np.tile(table, (m, 1))
-    margin = margins(corners.extremes(values, percents), windows).reshape(m, a)
-    ok = margin > 0
-    # the cheapest feasible cost, and among choices of that cost the largest margin
-    cheapest = np.where(ok, cost[None, :], np.inf).min(axis=1)
-    best = np.where(ok & (np.abs(cost[None, :] - cheapest[:, None]) < 1e-9), margin, -np.inf).argmax(axis=1)
-    feasible = np.isfinite(cheapest)
-    rows = np.arange(m)
-    chosen = np.where(feasible[:, None], table[best], found.percents)
-    margin = np.where(feasible, margin[rows, best], found.margin)
-    return chosen, np.where(feasible, cost[best], np.nan), margin
+    probes = _probe_corners(corners, found.values, grades, windows)
+    values, percents = np.repeat(found.values, a, axis=0), np.tile(table, (m, 1))
+    bound = margins(corners.extremes(values, percents, corners.corners[probes]), windows).reshape(m, a)
+    spent = (2 + a) * m * len(probes)
+    chosen, cost_of, margin = found.percents.copy(), np.full(m, np.nan), found.margin.copy()
+    complete = True
+    for i in range(m):
+        open_ = bound[i] > 0  # NaN (a corner without a point): cannot do
+        while open_.any():
+            cheapest = cost[open_].min()
+            group = np.flatnonzero(open_ & (np.abs(cost - cheapest) < 1e-9))
+            if spent + len(group) * len(corners.corners) > BUILD_BUDGET:
+                complete = False
+                break
+            rows = np.repeat(found.values[i:i + 1], len(group), axis=0)
+            full = margins(corners.extremes(rows, table[group]), windows)
+            spent += len(group) * len(corners.corners)
+            if (full > 0).any():
+                best = group[int(np.argmax(np.where(full > 0, full, -np.inf)))]
+                chosen[i], cost_of[i], margin[i] = table[best], cost[best], full[group == best][0]
+                break
+            open_[group] = False
+        if not complete:
+            break
+    return chosen, cost_of, margin, complete
 
 
 def rank(by: str, corners: CornerModel, evaluate: Evaluate, grid: np.ndarray, windows: Mapping, count: int, *,
@@ -116,23 +153,27 @@ def rank(by: str, corners: CornerModel, evaluate: Evaluate, grid: np.ndarray, wi
     """
     k = len(corners.params)
     pool = max(2 * count, 10) if by == "yield" else count if grades is None else max(4 * count, 20)
-    if grades is not None:
-        per = len(grades.percents) ** k * len(corners.corners)
+    if grades is not None:  # each choice is bounded over up to PROBES corners first (see _graded)
+        per = len(grades.percents) ** k * min(PROBES, len(corners.corners))
         if pool * per > BUILD_BUDGET:
             raise MarginError(f"{len(grades.percents)} grades for {k} fitted parts make "
-                              f"{len(grades.percents) ** k:,} choices per candidate, each with "
-                              f"{len(corners.corners):,} corners of the tolerance box: too many to compare "
-                              f"{pool} candidates within seconds; give fewer grades, or hold a value")
+                              f"{len(grades.percents) ** k:,} choices per candidate, each bounded over up to "
+                              f"{min(PROBES, len(corners.corners)):,} corners of the tolerance box: too "
+                              f"many to compare {pool} candidates within seconds; give fewer grades, or hold "
+                              "a value")
     found = best_by_margin(corners, evaluate, grid, windows, pool, budget=budget, progress=progress,
                            seeds=seeds, percent=None if grades is None else grades.tightest)
     notes: list[str] = []
     proven, why = found.proven, found.why_not
     cost = None
     if grades is not None and by == "margin":
-        percents, cost, margin = _graded(corners, found, windows, grades)
+        percents, cost, margin, complete = _graded(corners, found, windows, grades)
         order = np.lexsort((found.current, -_steps(margin), _cost_key(cost)))[:count]
         notes.append(f"Grades are chosen for the {len(found.values)} candidates of largest margin with every "
                      f"fitted part at {grades.tightest:g} %, the tightest grade offered.")
+        if not complete:
+            proven, why = False, (f"the grades reached the limit of {BUILD_BUDGET:,} corner builds before "
+                                  "every candidate was graded; those not graded show no cost")
         return Ranked(_take(found, order, margin, percents), cost[order], None, (), proven, why, tuple(notes))
     if by == "margin":
         return Ranked(found, None, None, (), proven, why, ())
