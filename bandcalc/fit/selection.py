@@ -573,6 +573,10 @@ def _windows(design: Design, given: Mapping[str, Aim | None], named: Mapping[str
     return out
 
 
+# What the nominal fit to the windows' middles could not do: notes of a fit for the builds.
+_AT_MIDDLES = "At the windows' middles: "
+
+
 def _aim(w: tuple[float, float]) -> float:
     lo, hi = w
     return hi if math.isinf(lo) else lo if math.isinf(hi) else 0.5 * (lo + hi)
@@ -595,13 +599,21 @@ def _watched_evaluator(design: Design, params: list[str], middle: float) -> Eval
 def _with_tolerances(design: Design, windows: Mapping[str, tuple[float, float]],
                      grades: Mapping[str, float] | None) -> Design:
     """The design with the windows as its tolerances' limits and any grades as its parts' tolerances."""
-    tol = design.tolerances or Tolerances()
+    graded = _with_grades(design, grades)
+    tol = graded.tolerances or Tolerances()
     edge = lambda x: None if math.isinf(x) else x  # noqa: E731
     limits = Limits(**{q: (edge(lo), edge(hi)) for q, (lo, hi) in windows.items()})
-    resistors = tol.resistors
-    if grades:
-        resistors = PerResistor(resistors.default, tuple({**dict(resistors.parts), **grades}.items()))
-    return replace(design, tolerances=replace(tol, limits=limits, resistors=resistors))
+    return replace(graded, tolerances=replace(tol, limits=limits))
+
+
+def _with_grades(design: Design, grades: Mapping[str, float] | None) -> Design:
+    """The design with ``grades`` (design-file key -> percent) as those parts' own tolerances."""
+    if not grades:
+        return design
+    tol = design.tolerances or Tolerances()
+    parts = {**dict(tol.resistors.parts), **grades}
+    return replace(design, tolerances=replace(tol, resistors=PerResistor(tol.resistors.default,
+                                                                         tuple(parts.items()))))
 
 
 def _fit_for_builds(design: Design, windows: dict[str, tuple[float, float]], count: int, settings: dict,
@@ -627,7 +639,7 @@ def _fit_for_builds(design: Design, windows: dict[str, tuple[float, float]], cou
     if not math.isfinite(gain) or gain <= 0:
         note = (f"The stage as drawn does as well for the builds as with {leg}, which would only place the "
                 "points' nominal values exactly: the fit leaves it out.")
-        return replace(drawn, notes=(note, *(n for n in drawn.notes if not n.startswith("At the windows'"))))
+        return replace(drawn, notes=(note, *(n for n in drawn.notes if not n.startswith(_AT_MIDDLES))))
     note = (f"Without {leg} the best margin is {format_value(_best_margin(drawn), unit, 3)}: the resistor "
             f"gains {format_value(gain, unit, 3)} of margin (fit with no extra leg to leave it out).")
     return replace(with_leg, notes=(*with_leg.notes, note))
@@ -675,7 +687,7 @@ def _ranked_for_builds(design: Design, windows: dict[str, tuple[float, float]], 
             grades=None if grades is None else dict(zip(keys, map(float, found.percents[i]), strict=True)),
             cost=cost, build_yield=None if ranked.yields is None else ranked.yields[i],
             not_told_apart=ranked.apart[i] if ranked.apart else ()))
-    notes = [*inner.notes, *(f"At the windows' middles: {p}" for p in inner.problems), *ranked.notes]
+    notes = [*inner.notes, *(_AT_MIDDLES + p for p in inner.problems), *ranked.notes]
     problems = _builds_problems(candidates, by, grades, min_yield, design.unit)
     stopped = inner.stopped
     if not ranked.proven:
@@ -830,14 +842,8 @@ def _fit_through_input(design: Design, upper: float, lower: float, count: int, s
 def apply_candidate(design: Design, candidate: Candidate) -> Design:
     """The design with a candidate's resistors (and fitted divider) and, where the fit chose them, its
     grades as the tolerances of those parts; everything else unchanged."""
-    out = replace(design, resistors=Resistors(**candidate.resistors),
-                  reference=candidate.reference or design.reference)
-    if candidate.grades:
-        tol = out.tolerances or Tolerances()
-        parts = {**dict(tol.resistors.parts), **candidate.grades}
-        out = replace(out, tolerances=replace(tol, resistors=PerResistor(tol.resistors.default,
-                                                                         tuple(parts.items()))))
-    return out
+    return _with_grades(replace(design, resistors=Resistors(**candidate.resistors),
+                                reference=candidate.reference or design.reference), candidate.grades)
 
 
 def candidate_to_dict(c: Candidate) -> dict:

@@ -114,8 +114,8 @@ def _range_checked(low: float | None, high: float | None, bounds: tuple[float, f
     for key, value in (("low", low), ("high", high)):
         if value is not None:
             finite(value, f"front_end.{key}")
-            if bounds is not None and (value > bounds[0] or unit != "C"):  # at absolute zero and
-                within(value, f"front_end.{key}", *bounds, unit)            # below: the caller's message
+            if bounds is not None:
+                within(value, f"front_end.{key}", *bounds, unit)
     if low is not None and high is not None and low >= high:
         raise DesignError(f"front_end: low ({low}) must be below high ({high})")
 
@@ -341,10 +341,11 @@ class ThermistorFrontEnd(_Base):
             _percent(getattr(self, key), f"front_end.{key}")
         if self.beta_temperatures is not None:
             self._check_beta_temperatures()
+        _range_checked(self.low, self.high)  # finite numbers first, then the bounds of a temperature
+        if self.low is not None and self.low <= -KELVIN_AT_0C:
+            raise DesignError(f"front_end.low: {self.low} C is not above absolute zero")
         _range_checked(self.low, self.high, CELSIUS, "C")
         low, high = self.temperatures()
-        if low <= -KELVIN_AT_0C:
-            raise DesignError(f"front_end.low: {low} C is not above absolute zero")
         if low >= high:
             raise DesignError(f"front_end: low ({low} C) must be below high ({high} C)")
         self._check_curve(low, high)
