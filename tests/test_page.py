@@ -53,7 +53,7 @@ def test_chart_holds_both_branches_points_and_band():
     at = page()
     spec = chart(at)
     a = analyze(SUMP)
-    rising, falling, points = spec["data"]
+    rising, falling, points, *_ = spec["data"]  # then the direction arrows
     assert (rising["name"], falling["name"]) == ("Rising input", "Falling input")
     assert points["x"] == pytest.approx([a.upper, a.lower])
     assert points["text"] == [f"Upper {format_si(a.upper, 'V', 4)}", f"Lower {format_si(a.lower, 'V', 4)}"]

@@ -69,28 +69,36 @@ def _view(curve: TransferCurve) -> tuple[float, float]:
     return max(lo, curve.lower - 1.5 * width), min(hi, curve.upper + 1.5 * width)
 
 
-def _arrow(tail: tuple[float, float], head: tuple[float, float], colour: str) -> dict:
-    return {"x": head[0], "y": head[1], "ax": tail[0], "ay": tail[1], "xref": "x", "yref": "y",
-            "axref": "x", "ayref": "y", "text": "", "showarrow": True, "arrowhead": 3, "arrowsize": 1.4,
-            "arrowwidth": 2, "arrowcolor": colour}
-
-
-def _direction_arrows(curve: TransferCurve) -> list[dict]:
-    """Arrows along each branch inside the band, and along each jump."""
+def _direction_traces(curve: TransferCurve) -> list[dict]:
+    """Arrows along each branch inside the band and along each jump: one trace per branch, each
+    arrow a short segment with an arrowhead marker at its head.  Drawn as traces, not as layout
+    annotations: a Plotly annotation with an arrow costs the browser several times more to redraw
+    on each slider move (measured: benchmarks/bench_browser.py)."""
     up, low, width = curve.upper, curve.lower, curve.hysteresis
     if not (math.isfinite(width) and width > 0):
         return []
     mid, step = low + 0.5 * width, 0.18 * width
     start, switched = curve.level_at("rising", mid), curve.level_at("falling", mid)
     (up_from, up_to), (low_from, low_to) = curve.at_upper, curve.at_lower
-    return [
-        _arrow((mid - step, start), (mid + step, start), PALETTE["rising"]),
-        _arrow((mid + step, switched), (mid - step, switched), PALETTE["falling"]),
-        _arrow((up, up_from + 0.15 * (up_to - up_from)), (up, up_from + 0.4 * (up_to - up_from)),
-               PALETTE["rising"]),
-        _arrow((low, low_from + 0.6 * (low_to - low_from)), (low, low_from + 0.85 * (low_to - low_from)),
-               PALETTE["falling"]),
-    ]
+    up_a, up_b = (up_from + f * (up_to - up_from) for f in (0.15, 0.4))
+    low_a, low_b = (low_from + f * (low_to - low_from) for f in (0.6, 0.85))
+    arrows = {
+        "rising": [((mid - step, start), (mid + step, start)), ((up, up_a), (up, up_b))],
+        "falling": [((mid + step, switched), (mid - step, switched)), ((low, low_a), (low, low_b))],
+    }
+    traces = []
+    for branch, segments in arrows.items():
+        x: list[float | None] = []
+        y: list[float | None] = []
+        for (tail_x, tail_y), (head_x, head_y) in segments:
+            x += [tail_x, head_x, None]
+            y += [tail_y, head_y, None]
+        traces.append({"type": "scatter", "x": x, "y": y, "name": f"Direction, {branch} input",
+                       "mode": "lines+markers", "showlegend": False, "hoverinfo": "skip",
+                       "line": {"color": PALETTE[branch], "width": 2},
+                       "marker": {"symbol": "arrow", "angleref": "previous", "color": PALETTE[branch],
+                                  "size": [0, 16, 0] * len(segments)}})
+    return traces
 
 
 def _x(curve: TransferCurve, value: float) -> str:
@@ -113,8 +121,10 @@ def _band(curve: TransferCurve) -> tuple[list[dict], list[dict]]:
 def transfer_spec(curve: TransferCurve, title: str | None = None, x_title: str | None = None) -> dict:
     """The transfer-curve figure as a plain Plotly specification (``{"data": [...], "layout": {...}}``).
 
-    Traces, in order: "Rising input", "Falling input", "Switching points"; the band is
-    ``layout.shapes[0]``, its label the first annotation, then four direction arrows.  The input
+    Traces, in order: "Rising input", "Falling input", "Switching points", then (where the band has
+    a width) the direction arrows "Direction, rising input" and "Direction, falling input", two
+    arrows each: along the branch inside the band and along its jump.  The band is
+    ``layout.shapes[0]``, its label the only annotation.  The input
     axis reads ``x_title`` (default "Input (V)", or "Watched quantity (unit)" for a watched curve).
     """
     unit = _text(curve.unit)
@@ -136,6 +146,7 @@ def transfer_spec(curve: TransferCurve, title: str | None = None, x_title: str |
          "line": {"color": PALETTE["falling"], "width": 2, "dash": "dash"},
          "hovertemplate": f"in %{{x:.4g}} {unit}<br>out %{{y:.4g}} V<extra>falling</extra>"},
         points,
+        *_direction_traces(curve),
     ]
     shapes, labels = _band(curve)
     layout = {
@@ -146,7 +157,7 @@ def transfer_spec(curve: TransferCurve, title: str | None = None, x_title: str |
                   "zeroline": False},
         "yaxis": {"title": {"text": "Output (V)"}, "gridcolor": PALETTE["grid"], "zeroline": False},
         "shapes": shapes,
-        "annotations": labels + _direction_arrows(curve),
+        "annotations": labels,
     }
     return {"data": data, "layout": layout}
 
