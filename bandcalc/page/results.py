@@ -132,7 +132,9 @@ def render_results(design: Design) -> Analysis | None:
     analysis = guarded("Analysis", analysis_of, design)
     if analysis is None:
         return None
-    render_figures(analysis)
+    figures = st.container()
     render_views(design)
+    with figures:
+        render_figures(analysis)
     return analysis
 

@@ -35,15 +35,15 @@ def main() -> None:
 
 def _sheet() -> None:
     design = state.begin_run()
+    st.title(literal(design.name) or "Comparator stage with hysteresis")
+    state.show_messages()
+    analysis = render_results(design)
     with st.sidebar:
         st.header("Design")
         render_design_file(design)
         st.header("Stage")
         render_controls(design)
         st.caption(f"bandcalc {__version__}")
-    st.title(literal(design.name) or "Comparator stage with hysteresis")
-    state.show_messages()
-    analysis = render_results(design)
     if analysis is not None:
         render_panels(Sheet(design=design, analysis=analysis))
     state.write_address(design)
