@@ -8,6 +8,7 @@ import json
 import random
 import re
 import zlib
+from collections import Counter
 from pathlib import Path
 
 import numpy as np
@@ -24,14 +25,74 @@ SUMP = load_demo("sump_level_switch")  # the page's default demo
 
 def page(query: dict | None = None, design=None, panel: str | None = None) -> AppTest:
     """The page after its first run, on ``design`` (through the address) or ``query``, with the
-    panel titled ``panel`` open."""
+    panel titled ``panel`` open.  Each run that reran only the parts following the design (a
+    slider's quick rerun, :mod:`bandcalc.page.follow`) is checked against a full run and then
+    completed by it (see :func:`following`)."""
     at = AppTest.from_file(APP, default_timeout=120)
+    at._run = following(at._run)
     at.query_params.update(query or {})
     if design is not None:
         at.query_params[PARAM] = design_to_address(design)
     if panel is not None:
         at.session_state["page.panel"] = panel
     return at.run()
+
+
+def _leaves(at: AppTest) -> list[bytes]:
+    """Every element on the page (not containers), as its message to the browser, in order."""
+    out: list[bytes] = []
+
+    def walk(node) -> None:
+        children = getattr(node, "children", None)
+        if isinstance(children, dict):
+            for child in children.values():
+                walk(child)
+        elif getattr(node, "proto", None) is not None:
+            proto = node.proto
+            if "set_value" in proto.DESCRIPTOR.fields_by_name:  # a widget: compare the value it shows
+                proto = type(proto)()
+                proto.CopyFrom(node.proto)
+                for name in ("value", "raw_value", "raw_values", "set_value"):
+                    if name in proto.DESCRIPTOR.fields_by_name:
+                        proto.ClearField(name)
+                proto = proto.SerializeToString(deterministic=True) + repr(node.value).encode()
+            else:
+                proto = proto.SerializeToString(deterministic=True)
+            out.append(proto)
+
+    walk(at.main)
+    walk(at.sidebar)
+    return out
+
+
+def following(run):
+    """AppTest's run, checking each quick rerun (only the parts of the page that follow the design,
+    after a slider) against the full run the browser would otherwise have had:
+
+    - each element the quick rerun drew is the same in the full run;
+    - each other element of the full run was on the page, the same, before the quick rerun (what
+      the browser keeps showing), so nothing on the page is left stale;
+
+    then the full run, whose tree the tests read.  A quick rerun draws no title: that tells it."""
+    before: list[bytes] = []
+
+    def checked(*args, **kwargs):
+        nonlocal before
+        at = run(*args, **kwargs)
+        if at.title or at.exception:
+            before = _leaves(at)
+            return at
+        quick = Counter(_leaves(at))
+        at = run()
+        full = Counter(_leaves(at))
+        drawn_wrong = quick - full
+        assert not drawn_wrong, f"a quick rerun drew {sum(drawn_wrong.values())} element(s) unlike a full run"
+        stale = (full - quick) - Counter(before)
+        assert not stale, f"a quick rerun left {sum(stale.values())} element(s) stale: {list(stale)[:3]}"
+        before = _leaves(at)
+        return at
+
+    return checked
 
 
 def figures(at: AppTest) -> dict[str, str]:

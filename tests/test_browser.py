@@ -129,6 +129,9 @@ def test_slider_by_keyboard_save_and_reload(server, browser, tmp_path):
     wait_for(lambda: f"Upper {moved[0]}" in chart_labels(page), "the chart to follow the slider")
     assert f"Upper {upper}" not in chart_labels(page)
     wait_for(lambda: feedback_in_address(address(page)) == 43e3, "the new design in the address")
+    # The slider's own box follows it (the control reruns with the parts that follow the design).
+    wait_for(lambda: page.get_by_label("Feedback resistor, exact value").input_value() == "43k",
+             "the exact-value box to follow the slider")
 
     # Save the design file and read it back.
     with page.expect_download() as download:
@@ -286,7 +289,8 @@ def test_a_reload_keeps_every_design_the_page_takes(server, browser, tmp_path):
     page.reload()
     page.wait_for_selector("[data-testid='stMetricValue']", timeout=60_000)
     wait_for(lambda: page.locator("h1").first.inner_text() == "Near the limit", "the design after a reload")
-    assert notes_box(page).input_value() == design.notes
+    # The sidebar is drawn after the live view: wait for its notes box too.
+    wait_for(lambda: notes_box(page).input_value() == design.notes, "the notes after a reload")
     assert page.get_by_text("demo design is shown instead").count() == 0
 
     # Notes too long for the address are refused at once, and a reload keeps the design before them.

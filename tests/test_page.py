@@ -10,6 +10,7 @@ import json
 import numpy as np
 import pytest
 from page_helpers import (
+    APP,
     SUMP,
     address_of,
     captions,
@@ -29,6 +30,7 @@ from bandcalc.model.operating import analyze
 from bandcalc.model.parts import with_value
 from bandcalc.model.units import format_si
 from bandcalc.page.address import PARAM, design_to_address
+from bandcalc.page.edit import with_filter
 from bandcalc.page.results import FIGURES
 
 FEEDBACK = "in.resistors.feedback"
@@ -86,6 +88,43 @@ def test_moving_a_resistor_slider_changes_figures_and_chart():
     assert after == pytest.approx([a.upper, a.lower]) and after != pytest.approx(before)
     assert at.text_input(key=f"{FEEDBACK}.text").value == "47k"  # the typed box follows the slider
     assert design_on(at).resistors.feedback == 47e3
+
+
+def test_a_slider_move_reruns_only_the_parts_that_follow_the_design():
+    # Without page()'s completing run: what the browser is sent after the move.  The live view, the
+    # Save button, the open panel and the slider's own control; not the title, the name and notes,
+    # nor the other controls (their values cannot have changed).
+    at = AppTest.from_file(APP, default_timeout=120).run()
+    controls = len(at.sidebar.text_input)
+    at.select_slider(key=f"{FEEDBACK}.slider").set_value(47e3).run()
+    assert not at.exception and not errors(at)
+    assert not at.title
+    assert figures(at) == expected(with_value(SUMP, "resistors.feedback", 47e3))
+    assert [b.label for b in at.get("download_button")][:1] == ["Save the design file"]
+    assert [t.key for t in at.sidebar.text_input] == [f"{FEEDBACK}.text"] and controls > 5
+    assert at.text_input(key=f"{FEEDBACK}.text").value == "47k"
+    assert at.query_params[PARAM] == design_to_address(with_value(SUMP, "resistors.feedback", 47e3))
+
+
+def test_the_filter_pole_follows_a_slider():
+    # The pole depends on the resistors that load the capacitor: it is one of the parts rerun after
+    # a slider, and page()'s check finds nothing stale against a full run.
+    at = page(design=with_filter(SUMP, "rc"))
+    at.session_state["page.section.filter"] = True
+    at.run()
+    pole = [c for c in captions(at) if c.startswith("Pole ")]
+    at.select_slider(key=f"{FEEDBACK}.slider").set_value(10e3).run()
+    assert not at.exception and not errors(at)
+    moved = [c for c in captions(at) if c.startswith("Pole ")]
+    assert len(moved) == 1 and moved != pole
+
+
+def test_a_refused_typed_resistor_reruns_the_whole_page_with_the_message():
+    at = AppTest.from_file(APP, default_timeout=120).run()
+    at.text_input(key=f"{FEEDBACK}.text").input("4k7k").run()
+    assert at.title  # the whole page, whose top says why
+    assert any("4k7k" in e for e in errors(at))
+    assert at.text_input(key=f"{FEEDBACK}.text").value == "39k"
 
 
 def test_typing_the_iec_code_sets_the_exact_value():

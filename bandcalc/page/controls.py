@@ -18,7 +18,7 @@ from bandcalc.model.range_checks import INPUT_CURRENT_LIMIT
 from bandcalc.model.ratings import DEFAULT_SIZE, PACKAGES
 from bandcalc.model.standard_values import SERIES
 from bandcalc.model.units import format_si
-from bandcalc.page import state
+from bandcalc.page import follow, state
 from bandcalc.page.edit import (
     EXCITATION_KINDS,
     FILTER_KINDS,
@@ -210,6 +210,15 @@ def _filter(design: Design) -> None:
     quantity_field("Filter resistor (Rflt)", "filter.resistance", design, "Ohm",
                    help="Adds to the source's resistance at DC: the switching points move with it")
     quantity_field("Filter capacitor (Cflt)", "filter.capacitance", design, "F")
+    _pole()
+
+
+@follow.part("filter-pole")
+def _pole() -> None:
+    """The input filter's pole, which moves with the resistors that load the capacitor."""
+    design = state.begin_run()
+    if design.filter is None:  # taken out since this section was drawn: the next full run drops it
+        return
     pole = filter_pole(design)
     st.caption(f"Pole {format_si(pole.pole_upper, 'Hz')} at the upper point, "
                f"{format_si(pole.pole_lower, 'Hz')} at the lower: the capacitor with everything that "

@@ -30,7 +30,7 @@ from bandcalc.model.units import (
     parse_quantity,
     parse_resistance,
 )
-from bandcalc.page import state
+from bandcalc.page import follow, state
 from bandcalc.page.edit import SLIDER_DIGITS, in_series, slider_options
 from bandcalc.page.literal import literal
 
@@ -93,9 +93,22 @@ def choice_control(widget: Callable[..., Any], label: str, key: str, current: An
     widget(label, key=key, on_change=_chosen, args=(key, change, label, controls, current), **kwargs)
 
 
+def _control_key(path: str) -> str:
+    return f"control.{path}"
+
+
+def _followed(went_in: bool, path: str) -> None:
+    """After an edit of the resistor at ``path`` (from its control, a fragment of its own): rerun
+    the control and the parts of the page that follow the design; or, if the edit was refused,
+    the whole page, at whose top the message says why."""
+    if went_in:
+        follow.rerun(state.current_design(), _control_key(path))
+    st.rerun()
+
+
 def _slid(path: str, label: str, key: str) -> None:
     ohms = float(st.session_state[key])
-    state.edit(lambda d: with_value(d, path, ohms), label, path)
+    _followed(state.edit(lambda d: with_value(d, path, ohms), label, path, controls=_own(path)), path)
 
 
 def _typed(path: str, label: str, key: str) -> None:
@@ -105,13 +118,27 @@ def _typed(path: str, label: str, key: str) -> None:
     except ValueError as exc:
         state.say("error", f"{exc}. The design keeps {shown(old, 'Ohm')}.")
         st.session_state[key] = shown(old, "Ohm")
-        return
-    state.edit(lambda d: with_value(d, path, ohms), label, path, kept=shown(old, "Ohm"),
-               restore=(key, shown(old, "Ohm")))
+        st.rerun()
+    _followed(state.edit(lambda d: with_value(d, path, ohms), label, path, kept=shown(old, "Ohm"),
+                         controls=_own(path), restore=(key, shown(old, "Ohm"))), path)
+
+
+def _own(path: str) -> str:
+    """The keys of the resistor control at ``path``: its slider and its box."""
+    return f"{state.INPUT_PREFIX}{path}."
 
 
 def resistor_control(label: str, path: str, design: Design, series: str, help: str | None = None) -> None:
-    """Slider over standard values plus a typed exact value, for the resistor at ``path``."""
+    """Slider over standard values plus a typed exact value, for the resistor at ``path``.
+
+    A fragment of its own: a move of the slider, or a value typed in the box, reruns just this
+    control and the parts of the page that follow the design (:mod:`bandcalc.page.follow`).
+    """
+    st.fragment(_resistor, key=_control_key(path))(label, path, series, help)
+
+
+def _resistor(label: str, path: str, series: str, help: str | None) -> None:
+    design = state.begin_run()  # the current design, also in this control's own rerun
     ohms = float(value_at(design, path))
     slider_key, text_key = f"{state.INPUT_PREFIX}{path}.slider", f"{state.INPUT_PREFIX}{path}.text"
     st.session_state.setdefault(slider_key, ohms)

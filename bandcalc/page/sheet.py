@@ -1,13 +1,21 @@
-"""The design sheet put together: sidebar controls, the live view, the panels, the address."""
+"""The design sheet put together: the live view, the sidebar controls, the panels, the address.
+
+The live view is drawn first, so that on each run its transfer curve leaves the server ahead of
+the sidebar; it is a part that follows the design (:mod:`bandcalc.page.follow`), rerun alone with
+the other such parts after a slider move.
+"""
 
 from __future__ import annotations
 
 import logging
+from collections.abc import Iterator
+from contextlib import contextmanager
 
 import streamlit as st
 
 from bandcalc import __version__
-from bandcalc.page import state
+from bandcalc.model.operating import Analysis
+from bandcalc.page import follow, state
 from bandcalc.page.controls import render_controls
 from bandcalc.page.literal import literal
 from bandcalc.page.panels import Sheet, render_panels
@@ -23,8 +31,15 @@ def main() -> None:
     """Draw the whole page for the current design; no error reaches the browser as a traceback."""
     st.set_page_config(page_title="bandcalc · comparator stage with hysteresis", layout="wide",
                        initial_sidebar_state="expanded")
-    try:
+    with _shielded():
         _sheet()
+
+
+@contextmanager
+def _shielded() -> Iterator[None]:
+    """A message instead of a traceback, for the whole page or a part rerun on its own."""
+    try:
+        yield
     except ValueError as exc:
         st.error(literal(str(exc)))
     except Exception:  # Streamlit's own stop/rerun signals are BaseExceptions and pass through
@@ -33,11 +48,23 @@ def main() -> None:
                  "the page address; reload the page, or open a demo design.")
 
 
+@follow.part("live")
+def _live() -> Analysis | None:
+    """The live view and the address; the analysis (``None`` if it failed, with a message shown)."""
+    with _shielded():
+        design = state.begin_run()
+        analysis = render_results(design)
+        state.write_address(design)
+        return analysis
+    return None
+
+
 def _sheet() -> None:
     design = state.begin_run()
+    follow.begin_page(design)
     st.title(literal(design.name) or "Comparator stage with hysteresis")
     state.show_messages()
-    analysis = render_results(design)
+    analysis = _live()
     with st.sidebar:
         st.header("Design")
         render_design_file(design)
@@ -46,4 +73,3 @@ def _sheet() -> None:
         st.caption(f"bandcalc {__version__}")
     if analysis is not None:
         render_panels(Sheet(design=design, analysis=analysis))
-    state.write_address(design)

@@ -13,7 +13,7 @@ from bandcalc.model.design import Design
 from bandcalc.model.design_file import design_from_json, design_to_json
 from bandcalc.model.operating import is_protective
 from bandcalc.model.parts import with_value
-from bandcalc.page import state
+from bandcalc.page import follow, state
 from bandcalc.page.address import ADDRESS_MAX
 from bandcalc.page.edit import with_protective
 from bandcalc.page.inputs import choice_control
@@ -65,10 +65,12 @@ def _named(key: str, path: str, label: str) -> None:
                kept=f"the {path} it had; your text stays in the box")
 
 
-def _held_back(key: str, path: str, label: str, design: Design) -> None:
+def _held_back(key: str, path: str, label: str) -> None:
     """Under a name or notes box whose text the design refused (kept in the box to be shortened or
     copied), say so on every run while it differs: the refusal's own message is shown once, and
-    entering the same text again is no change to the box, so nothing else would."""
+    entering the same text again is no change to the box, so nothing else would.  A part that
+    follows the design (:mod:`bandcalc.page.follow`): the message gives the design's size."""
+    design = state.begin_run()
     text = st.session_state[key]
     if text == getattr(design, path):
         return
@@ -77,6 +79,15 @@ def _held_back(key: str, path: str, label: str, design: Design) -> None:
     except ValueError as exc:
         st.warning(literal(f"Not in the design: {state.explain(exc, label, path)} The design keeps the "
                            f"{path} it had."))
+
+
+@follow.part("save")
+def _save() -> None:
+    """The Save button, holding the design file of the design as it is now."""
+    design = state.begin_run()
+    st.download_button("Save the design file", data=design_to_json(design), file_name=file_name(design),
+                       mime="application/json", on_click="ignore", icon=":material/download:",
+                       width="stretch")
 
 
 def render_design_file(design: Design) -> None:
@@ -89,17 +100,15 @@ def render_design_file(design: Design) -> None:
     st.session_state.setdefault(name_key, design.name)
     st.session_state.setdefault(notes_key, design.notes)
     st.text_input("Design name", key=name_key, on_change=_named, args=(name_key, "name", "Design name"))
-    _held_back(name_key, "name", "Design name", design)
+    follow.part("held-back.name")(_held_back)(name_key, "name", "Design name")
     st.text_area("Notes", key=notes_key, height=90, on_change=_named, args=(notes_key, "notes", "Notes"),
                  help=f"Kept with the design in the page address, which holds {ADDRESS_MAX:,} characters: "
                       "several pages of notes. Longer notes are refused; keep long text in a file")
-    _held_back(notes_key, "notes", "Notes", design)
+    follow.part("held-back.notes")(_held_back)(notes_key, "notes", "Notes")
     choice_control(st.checkbox, "Guards people or property", "protective", is_protective(design),
                    with_protective, help="A disconnect, cut-off, alarm or interlock: brings the usual "
                    "cautions. Ticked from the name and notes until you choose; your choice is saved in the "
                    "design file.")
-    st.download_button("Save the design file", data=design_to_json(design), file_name=file_name(design),
-                       mime="application/json", on_click="ignore", icon=":material/download:",
-                       width="stretch")
+    _save()
     st.file_uploader("Open a design file", type=["json"], key=_UPLOAD_KEY, on_change=_opened,
                      max_upload_size=MAX_UPLOAD_MB, help="A design file saved from this page (JSON)")

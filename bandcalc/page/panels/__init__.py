@@ -6,8 +6,10 @@ A panel is a module with
     def render(sheet: Sheet) -> None: ...
 
 listed in :data:`PANELS`.  Only the open tab's panel runs, inside its own ``st.fragment``: a
-widget inside a panel reruns just that panel, and a slider move in the sidebar does not run the
-closed panels at all.  Wrap expensive package calls in ``st.cache_data`` (keyed by the design and
+widget inside a panel reruns just that panel, and a slider move in the sidebar reruns it with the
+other parts that follow the design (:mod:`bandcalc.page.follow`), not the closed panels at all.
+A panel reads the design from the ``Sheet`` it is given, which is the current one in each of
+these reruns.  Wrap expensive package calls in ``st.cache_data`` (keyed by the design and
 the panel's own settings) and guard them with :func:`bandcalc.page.compute.guarded`.  To change
 the design from a panel (say, apply a candidate), call
 :func:`bandcalc.page.state.apply_design` after a button press; a panel's own controls that edit
@@ -32,8 +34,8 @@ import streamlit as st
 
 from bandcalc.model.design import Design
 from bandcalc.model.operating import Analysis
-from bandcalc.page import state
-from bandcalc.page.compute import guarded
+from bandcalc.page import follow, state
+from bandcalc.page.compute import analysis_of, guarded
 from bandcalc.page.panels import currents, fit, signal_check, spread, summary
 
 __all__ = ["PANELS", "Sheet", "render_panels"]
@@ -50,13 +52,19 @@ class Sheet:
     analysis: Analysis
 
 
-@st.fragment
+@follow.part("panel")
 def _panel(panel: ModuleType, sheet: Sheet) -> None:
-    if state.begin_run() is not sheet.design:
+    design = state.begin_run()
+    if design is not follow.drawn_design():
         # The panel's own controls changed the design (a tolerance): the page outside the panel
         # shows it too (the Save button's file, the live view, the address), so the whole page runs
         # again; its messages wait in the queue for the top of the page.
         st.rerun(scope="app")
+    if design is not sheet.design:  # rerun with the parts that follow the design, after a slider
+        analysis = guarded("Analysis", analysis_of, design)
+        if analysis is None:
+            return
+        sheet = Sheet(design=design, analysis=analysis)
     state.show_messages()
     guarded(panel.TITLE, panel.render, sheet)
 
