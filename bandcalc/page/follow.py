@@ -4,7 +4,8 @@ A resistor slider edits one value of the design.  Redrawing the whole page for i
 every control of the sidebar to the browser again, unchanged, and in the browser that costs more
 than the transfer curve itself (benchmarks/bench_browser.py).  So each part of the page that
 shows something of the design is a keyed fragment made with :func:`part` (the live view, the
-Save button's file, the open panel, the filter's pole), and a slider's callback, once its edit
+Save button's file, the open panel, the filter's pole, the warning under a name or notes box held
+back), and a slider's callback, once its edit
 has gone in, asks for :func:`rerun` of those parts and of its own control: the page shows the
 new design everywhere, and the ~40 controls that cannot have changed stay as they are.
 
@@ -21,7 +22,7 @@ from __future__ import annotations
 
 from collections.abc import Callable
 from functools import wraps
-from typing import Any, TypeVar
+from typing import Any, NoReturn, TypeVar
 
 import streamlit as st
 
@@ -62,9 +63,9 @@ def drawn_design() -> Design | None:
     return st.session_state.get(_DESIGN)
 
 
-def rerun(design: Design, *own: str) -> None:
+def rerun(design: Design, *own: str) -> NoReturn:
     """From a callback whose edit made ``design`` the page's design: rerun the parts of the page
     drawn in the last full run, and the fragments keyed ``own`` (the control itself), instead of
-    the whole page.  Does not return."""
+    the whole page."""
     st.session_state[_DESIGN] = design
     st.rerun([*st.session_state.get(_DRAWN, []), *own])

@@ -15,7 +15,7 @@ Each control is keyed by its design-file path (``in.<path>.slider``, ``in.<path>
 from __future__ import annotations
 
 from collections.abc import Callable
-from typing import Any
+from typing import Any, NoReturn
 
 import streamlit as st
 
@@ -97,7 +97,7 @@ def _control_key(path: str) -> str:
     return f"control.{path}"
 
 
-def _followed(went_in: bool, path: str) -> None:
+def _followed(went_in: bool, path: str) -> NoReturn:
     """After an edit of the resistor at ``path`` (from its control, a fragment of its own): rerun
     the control and the parts of the page that follow the design; or, if the edit was refused,
     the whole page, at whose top the message says why."""
