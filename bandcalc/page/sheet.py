@@ -1,8 +1,7 @@
-"""The design sheet put together: the live view, the sidebar controls, the panels, the address.
+"""The design sheet put together: sidebar controls, the live view, the panels, the address.
 
-The live view is drawn first, so that on each run its transfer curve leaves the server ahead of
-the sidebar; it is a part that follows the design (:mod:`bandcalc.page.follow`), rerun alone with
-the other such parts after a slider move.
+The live view is a part that follows the design (:mod:`bandcalc.page.follow`), rerun with the
+other such parts after a slider move instead of the whole page.
 """
 
 from __future__ import annotations
@@ -62,14 +61,18 @@ def _live() -> Analysis | None:
 def _sheet() -> None:
     design = state.begin_run()
     follow.begin_page(design)
-    st.title(literal(design.name) or "Comparator stage with hysteresis")
-    state.show_messages()
-    analysis = _live()
+    # The sidebar first.  Drawn after the live view, its controls came back blank in the browser
+    # after a panel's edit reran the page on a loaded machine (2 runs in 6; none in 12 with the
+    # sidebar first), and the next rerun sent the blanks back as edits (tests/test_browser.py: the
+    # spread panel's edit, then a slider).
     with st.sidebar:
         st.header("Design")
         render_design_file(design)
         st.header("Stage")
         render_controls(design)
         st.caption(f"bandcalc {__version__}")
+    st.title(literal(design.name) or "Comparator stage with hysteresis")
+    state.show_messages()
+    analysis = _live()
     if analysis is not None:
         render_panels(Sheet(design=design, analysis=analysis))
