@@ -31,7 +31,7 @@ from bandcalc.model.design import Design
 __all__ = ["begin_page", "drawn_design", "part", "rerun"]
 
 F = TypeVar("F", bound=Callable[..., Any])
-_DRAWN = "page.follow.drawn"  # keys of the parts drawn in the last full run, in page order
+_DRAWN = "page.follow.drawn"  # keys of the parts drawn in the last full run, in rerun order
 _DESIGN = "page.follow.design"  # the design the parts show (set by the full run and by rerun())
 
 
@@ -41,9 +41,10 @@ def begin_page(design: Design) -> None:
     st.session_state[_DESIGN] = design
 
 
-def part(key: str) -> Callable[[F], F]:
+def part(key: str, first: bool = False) -> Callable[[F], F]:
     """Make a function a part of the page that follows the design: a fragment keyed ``key``,
-    rerun by :func:`rerun` as long as it was drawn in the last full run."""
+    rerun by :func:`rerun` as long as it was drawn in the last full run; ``first`` parts rerun
+    ahead of the others (the live view: its curve is what the user watches while sliding)."""
     def wrap(fn: F) -> F:
         fragment = st.fragment(fn, key=key)
 
@@ -51,7 +52,7 @@ def part(key: str) -> Callable[[F], F]:
         def draw(*args: Any, **kwargs: Any) -> Any:
             drawn = st.session_state.setdefault(_DRAWN, [])
             if key not in drawn:
-                drawn.append(key)
+                drawn.insert(0 if first else len(drawn), key)
             return fragment(*args, **kwargs)
 
         return draw  # type: ignore[return-value]

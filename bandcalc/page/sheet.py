@@ -47,7 +47,7 @@ def _shielded() -> Iterator[None]:
                  "the page address; reload the page, or open a demo design.")
 
 
-@follow.part("live")
+@follow.part("live", first=True)
 def _live() -> Analysis | None:
     """The live view and the address; the analysis (``None`` if it failed, with a message shown)."""
     with _shielded():
