@@ -27,6 +27,7 @@ from typing import Any, NoReturn, TypeVar
 import streamlit as st
 
 from bandcalc.model.design import Design
+from bandcalc.page import state
 
 __all__ = ["begin_page", "drawn_design", "part", "rerun"]
 
@@ -64,9 +65,8 @@ def drawn_design() -> Design | None:
     return st.session_state.get(_DESIGN)
 
 
-def rerun(design: Design, *own: str) -> NoReturn:
-    """From a callback whose edit made ``design`` the page's design: rerun the parts of the page
-    drawn in the last full run, and the fragments keyed ``own`` (the control itself), instead of
-    the whole page."""
-    st.session_state[_DESIGN] = design
+def rerun(*own: str) -> NoReturn:
+    """From a callback whose edit went in: rerun the parts of the page drawn in the last full run,
+    and the fragments keyed ``own`` (the control itself), instead of the whole page."""
+    st.session_state[_DESIGN] = state.current_design()
     st.rerun([*st.session_state.get(_DRAWN, []), *own])

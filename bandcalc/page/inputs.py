@@ -102,7 +102,7 @@ def _followed(went_in: bool, path: str) -> NoReturn:
     the control and the parts of the page that follow the design; or, if the edit was refused,
     the whole page, at whose top the message says why."""
     if went_in:
-        follow.rerun(state.current_design(), _control_key(path))
+        follow.rerun(_control_key(path))
     st.rerun()
 
 
