@@ -13,10 +13,12 @@ driven by Playwright, then takes turns between the two pages, each round in alte
   page's gain) to the chart drawn anew, each press a value not seen before (nothing cached).
 
 Prints the medians and their ratios (bandcalc / bare).  Goal: both ratios at most 1.2.  With
-``--elements N`` a third page joins the rounds: the bare page with N plain elements more (text
-boxes and captions that never change), whose ratio to the bare page is what Streamlit's own
-redrawing of N elements costs on this machine.  Needs /usr/bin/chromium and Playwright for
-Python; browsers are never downloaded.
+``--elements N`` two more pages join the rounds: the bare page with N plain elements more (text
+boxes and captions that never change), rerun whole on each slider move, and the same page with
+its slider and chart in a fragment, so that a move reruns just them, as bandcalc's moves rerun
+only the parts that follow the design.  Their ratios to the bare page are what Streamlit's own
+drawing of N more elements costs on this machine, rerun and not rerun.  Needs /usr/bin/chromium
+and Playwright for Python; browsers are never downloaded.
 """
 
 from __future__ import annotations
@@ -80,10 +82,12 @@ OURS = Target("bandcalc", "app.py", "Feedback resistor")
 BARE = Target("bare page", "benchmarks/bare_page.py", "Gain")
 
 
-def padded(elements: int) -> Target:
-    """The bare page with ``elements`` plain elements more."""
-    return Target(f"bare page + {elements} elements", BARE.script, BARE.slider,
-                  (("BARE_PAGE_ELEMENTS", str(elements)),))
+def padded(elements: int, fragment: bool = False) -> Target:
+    """The bare page with ``elements`` plain elements more; with ``fragment``, its slider and chart
+    a fragment of their own."""
+    name = f"bare page + {elements} elements{', fragment' if fragment else ''}"
+    return Target(name, BARE.script, BARE.slider,
+                  (("BARE_PAGE_ELEMENTS", str(elements)), ("BARE_PAGE_FRAGMENT", "1" if fragment else "0")))
 
 
 def _served(target: Target) -> AbstractContextManager[str]:
@@ -163,23 +167,26 @@ def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.split("\n\n")[0])
     parser.add_argument("rounds", nargs="?", type=int, default=15)
     parser.add_argument("--elements", type=int, default=0, metavar="N",
-                        help="also measure the bare page with N plain elements more")
+                        help="also measure the bare page with N plain elements more, rerun and not rerun")
     args = parser.parse_args()
     if not CHROMIUM.exists():
         raise SystemExit("bench_browser needs Debian's chromium at /usr/bin/chromium "
                          "(apt-get install chromium)")
-    targets = (OURS, BARE, *((padded(args.elements),) if args.elements > 0 else ()))
+    more = {}
+    if args.elements > 0:
+        more = {padded(args.elements): "rerun with the slider",
+                padded(args.elements, fragment=True): "not rerun: slider and chart a fragment"}
+    targets = (OURS, BARE, *more)
     timings = measure(targets, args.rounds)
     ours, bare = timings[OURS.name], timings[BARE.name]
     print(f"bandcalc page against a bare page (one slider, one Plotly chart), Chromium, {args.rounds} rounds "
           f"interleaved, load average {os.getloadavg()[0]:.2f}; goal: ratio at most {GOAL}")
     _line("first paint", ours.first_paint, bare.first_paint)
     _line("slider keypress", ours.keypress, bare.keypress)
-    if args.elements > 0:
-        more = timings[targets[2].name]
-        print(f"Streamlit's own cost of {args.elements} more elements, unchanged, on the bare page:")
-        _line("first paint", more.first_paint, bare.first_paint, f"bare + {args.elements}")
-        _line("slider keypress", more.keypress, bare.keypress, f"bare + {args.elements}")
+    for target, what in more.items():
+        print(f"Streamlit's own cost of {args.elements} more elements, unchanged, on the bare page ({what}):")
+        _line("first paint", timings[target.name].first_paint, bare.first_paint, f"bare + {args.elements}")
+        _line("slider keypress", timings[target.name].keypress, bare.keypress, f"bare + {args.elements}")
 
 
 if __name__ == "__main__":
