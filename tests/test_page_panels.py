@@ -263,6 +263,13 @@ def test_bad_signal_settings_are_named_and_the_old_value_kept():
     assert not at.exception and "Output edges" not in figures(at)
 
 
+def test_signal_settings_are_labelled_with_their_units_and_a_count_without_one():
+    at = page(panel="Signal check")
+    labels = {key: at.text_input(key=f"page.signal.{key}").label for key in ("frequency", "offset", "target")}
+    assert labels == {"frequency": "Frequency (Hz)", "offset": "Centre of the signal (V)",
+                      "target": "False edges a year, at most"}  # not "at most ()"
+
+
 def recording(n: int = 30_000) -> bytes:
     """A noisy sine about the sump demo's centre, as a recorder writes it (header, comma-separated)."""
     t = np.arange(n) / 100e3

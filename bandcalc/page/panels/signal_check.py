@@ -100,7 +100,8 @@ def _setting(name: str, unit: str) -> None:
     unit = unit if kind == "watched" else kind
     key = _PREFIX + name
     st.session_state.setdefault(key, default)
-    st.text_input(f"{label} ({literal(unit)})", key=key, placeholder=f"blank: {blank}" if blank else None,
+    shown = f"{label} ({literal(unit)})" if unit else label  # a count has no unit to show
+    st.text_input(shown, key=key, placeholder=f"blank: {blank}" if blank else None,
                   on_change=_setting_changed, args=(name, label, unit, blank is not None))
 
 
