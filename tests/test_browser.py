@@ -345,3 +345,36 @@ def test_every_label_reads_in_full_at_1440_pixels(server, browser, demo):
         settle(page)
         assert cut_texts(page) == [], panel.TITLE
     page.close()
+
+
+# Hints in empty boxes ("blank: no limit given") cut short: a box clips its hint without an
+# ellipsis, so each hint is measured in the box's own font against the room inside the box.
+CUT_HINTS = """() => {
+  const ruler = document.createElement('canvas').getContext('2d');
+  const cut = [];
+  for (const box of document.querySelectorAll('[data-testid=stSidebar] input[placeholder], '
+                                              + '[data-testid=stSidebar] textarea[placeholder]')) {
+    if (box.value || box.getClientRects().length === 0) continue;
+    const style = getComputedStyle(box);
+    ruler.font = style.font;
+    const room = box.clientWidth - parseFloat(style.paddingLeft) - parseFloat(style.paddingRight);
+    if (ruler.measureText(box.placeholder).width > room + 0.5) cut.push(box.placeholder);
+  }
+  return cut;
+}"""
+
+
+@pytest.mark.parametrize("demo", ["greenhouse_fan_thermostat", "solar_battery_disconnect"])
+def test_every_hint_in_an_empty_sidebar_box_reads_in_full(server, browser, demo):
+    """With every sidebar section open, at 1440 pixels wide: the hint of each empty box (what a
+    blank means) fits the box; "blank: a comparator, not limited" was cut to "...not limitec"."""
+    page = browser.new_page(viewport={"width": 1440, "height": 900})
+    page.goto(f"{server}?{PARAM}={design_to_address(load_demo(demo))}")
+    page.wait_for_selector("[data-testid='stMetricValue']", timeout=60_000)
+    settle(page)
+    shut = "[data-testid=stSidebar] details:not([open]) > summary"
+    while page.locator(shut).count():
+        page.locator(shut).first.click()
+        settle(page)
+    assert page.evaluate(CUT_HINTS) == []
+    page.close()

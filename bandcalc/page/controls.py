@@ -153,7 +153,9 @@ def _comparator(design: Design) -> None:
     quantity_field("Delay stated at an overdrive of", "comparator.delay_overdrive", design, "V",
                    optional=True, blank="blank: not stated", help="The data sheet's overdrive for that delay")
     quantity_field("Slew rate (an op-amp as comparator)", "comparator.slew_rate", design, "V/s",
-                   optional=True, blank="blank: a comparator, not limited")
+                   optional=True, blank="blank: not limited",
+                   help="For an op-amp used as a comparator: its data sheet's slew rate. Blank for a "
+                        "comparator")
     quantity_field("Saturation recovery", "comparator.recovery", design, "s", optional=True,
                    blank="blank: none")
     quantity_field("Common-mode range, low end", "comparator.common_mode_low", design, "V",
