@@ -34,7 +34,7 @@ from bandcalc.page import follow, state
 from bandcalc.page.edit import SLIDER_DIGITS, in_series, slider_options
 from bandcalc.page.literal import literal
 
-__all__ = ["choice_control", "quantity_field", "read_value", "resistor_control", "shown",
+__all__ = ["choice_control", "quantity_field", "read_value", "resistor_control", "shown", "unit_label",
            "value_field"]
 
 
@@ -91,6 +91,12 @@ def choice_control(widget: Callable[..., Any], label: str, key: str, current: An
     key = state.INPUT_PREFIX + key
     st.session_state.setdefault(key, current)
     widget(label, key=key, on_change=_chosen, args=(key, change, label, controls, current), **kwargs)
+
+
+def unit_label(label: str, unit: str) -> str:
+    """A box's label with its unit in brackets, "Load resistance (Ω)"; a count, with no unit, none."""
+    symbol = "Ω" if unit == "Ohm" else literal(unit)
+    return f"{label} ({symbol})" if symbol else label
 
 
 def _control_key(path: str) -> str:
@@ -184,8 +190,7 @@ def value_field(label: str, key: str, design: Design, unit: str, get: Callable[[
     """
     key = f"{state.INPUT_PREFIX}{key}"
     st.session_state.setdefault(key, shown(get(design), unit))
-    symbol = "Ω" if unit == "Ohm" else literal(unit)
-    st.text_input(f"{label} ({symbol})" if symbol else label, key=key, placeholder=blank or None, help=help,
+    st.text_input(unit_label(label, unit), key=key, placeholder=blank or None, help=help,
                   on_change=_entered, args=(key, label, where, unit, optional, get, change, controls))
 
 

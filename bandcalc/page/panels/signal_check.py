@@ -25,7 +25,7 @@ from bandcalc.model.units import format_interval, format_si, format_value
 from bandcalc.outputs.plots import DISPLAY_POINTS, as_figure, signal_spec, tradeoff_spec
 from bandcalc.page import runs, state
 from bandcalc.page.compute import guarded
-from bandcalc.page.inputs import read_value
+from bandcalc.page.inputs import read_value, unit_label
 from bandcalc.page.literal import literal
 from bandcalc.signal_check.edges import SignalRun, run_design, run_points
 from bandcalc.signal_check.from_recording import design_from_recording
@@ -100,8 +100,7 @@ def _setting(name: str, unit: str) -> None:
     unit = unit if kind == "watched" else kind
     key = _PREFIX + name
     st.session_state.setdefault(key, default)
-    shown = f"{label} ({literal(unit)})" if unit else label  # a count has no unit to show
-    st.text_input(shown, key=key, placeholder=f"blank: {blank}" if blank else None,
+    st.text_input(unit_label(label, unit), key=key, placeholder=f"blank: {blank}" if blank else None,
                   on_change=_setting_changed, args=(name, label, unit, blank is not None))
 
 
