@@ -153,9 +153,13 @@ def transfer_spec(curve: TransferCurve, title: str | None = None, x_title: str |
         "title": {"text": _text(title or "")},
         "margin": {"l": 60, "r": 20, "t": 50 if title else 36, "b": 50}, "height": 420,
         "plot_bgcolor": "white", "legend": {"orientation": "h", "y": -0.2, "x": 0},
+        # Tick labels are never hidden for reaching past the chart (the margins hold them): Plotly's
+        # check measures every label, forcing a layout of the whole page, about 30 ms of a slider
+        # move's 240 in the browser (benchmarks/bench_browser.py, side by side).
         "xaxis": {"title": {"text": x_title}, "range": list(_view(curve)), "gridcolor": PALETTE["grid"],
-                  "zeroline": False},
-        "yaxis": {"title": {"text": "Output (V)"}, "gridcolor": PALETTE["grid"], "zeroline": False},
+                  "zeroline": False, "ticklabeloverflow": "allow"},
+        "yaxis": {"title": {"text": "Output (V)"}, "gridcolor": PALETTE["grid"], "zeroline": False,
+                  "ticklabeloverflow": "allow"},
         "shapes": shapes,
         "annotations": labels,
     }
