@@ -172,6 +172,40 @@ def test_slider_by_keyboard_save_and_reload(server, browser, tmp_path):
     page.close()
 
 
+# The transfer curve as drawn: every path and text of its chart.
+_DRAWING = """() => Array.from(document.querySelectorAll('.st-key-transfer .js-plotly-plot path, '
+                               + '.st-key-transfer .js-plotly-plot text'),
+                               e => e.getAttribute('d') || e.textContent).join('|')"""
+_QUICK = "label => document.querySelector('.st-key-transfer .js-plotly-plot')?.dataset.quickCurve === label"
+# The page's script holds the figures around this value of the feedback slider.
+_HELD = "label => window.bandcalcQuickCurve?.held?.at['st-key-in-resistors-feedback-slider'] === label"
+
+
+def test_the_curve_follows_a_slider_at_once_as_the_page_then_draws_it(server, browser):
+    """bandcalc.page.quick_curve: a key press on a resistor slider redraws the curve in the browser
+    from the figures sent ahead, and the page's own run then draws exactly the same."""
+    page = browser.new_page(viewport={"width": 1440, "height": 900})
+    page.goto(server)
+    page.wait_for_selector("[data-testid='stMetricValue']", timeout=60_000)
+    settle(page)
+    slider = page.get_by_role("slider", name="Feedback resistor")
+    for key, ohms, label, was in (("ArrowRight", 43e3, "43k", "39k"), ("ArrowLeft", 39e3, "39k", "43k")):
+        page.wait_for_function(_HELD, arg=was, timeout=20_000)
+        before = page.evaluate(_DRAWING)
+        slider.focus()
+        page.keyboard.press(key)
+        page.wait_for_function(_QUICK, arg=label, timeout=20_000)  # drawn by the page's script
+        quick = page.evaluate(_DRAWING)
+        assert quick != before
+        moved = analyze(with_value(SUMP, "resistors.feedback", ohms))
+        points = [format_si(moved.upper, "V", 4), format_si(moved.lower, "V", 4)]
+        wait_for(lambda points=points: metrics(page)[:2] == points, "the figures to follow the slider")
+        settle(page)
+        assert page.evaluate(_DRAWING) == quick
+        assert f"Upper {points[0]}" in chart_labels(page)
+    page.close()
+
+
 def test_spread_panel_edits_the_design_and_runs(server, browser):
     page = browser.new_page(viewport={"width": 1500, "height": 1400})
     page.goto(server)

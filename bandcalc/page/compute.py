@@ -22,7 +22,7 @@ from bandcalc.outputs.plots import as_figure, transfer_spec
 from bandcalc.outputs.schematic import stage_svg
 from bandcalc.page.literal import literal
 
-__all__ = ["analysis_of", "guarded", "netlist_of", "schematic_of", "transfer_figure_of"]
+__all__ = ["analysis_of", "guarded", "netlist_of", "schematic_of", "transfer_figure_of", "transfer_spec_of"]
 
 log = logging.getLogger("bandcalc.page")
 T = TypeVar("T")
@@ -50,7 +50,8 @@ def analysis_of(design: Design) -> Analysis:
 
 
 @st.cache_data(max_entries=256, show_spinner=False, hash_funcs=_BY_JSON)
-def _transfer_spec(design: Design, watched: bool, x_title: str | None) -> dict:
+def transfer_spec_of(design: Design, watched: bool = False, x_title: str | None = None) -> dict:
+    """The transfer curve's Plotly specification (against the watched quantity where ``watched``)."""
     return transfer_spec(transfer_curve(design, watched=watched), x_title=x_title)
 
 
@@ -58,7 +59,7 @@ def transfer_figure_of(design: Design, watched: bool = False, x_title: str | Non
     """The transfer-curve figure (against the watched quantity where ``watched``); its specification
     is checked against Plotly's schema in the tests, so the page skips that check (it would cost
     most of a slider move's time)."""
-    return as_figure(_transfer_spec(design, watched, x_title), validate=False)
+    return as_figure(transfer_spec_of(design, watched, x_title), validate=False)
 
 
 @st.cache_data(max_entries=256, show_spinner=False, hash_funcs=_BY_JSON)

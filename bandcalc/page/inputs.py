@@ -30,7 +30,7 @@ from bandcalc.model.units import (
     parse_quantity,
     parse_resistance,
 )
-from bandcalc.page import follow, state
+from bandcalc.page import follow, quick_curve, state
 from bandcalc.page.edit import SLIDER_DIGITS, in_series, slider_options
 from bandcalc.page.literal import literal
 
@@ -140,13 +140,18 @@ def resistor_control(label: str, path: str, design: Design, series: str, help: s
     A fragment of its own: a move of the slider, or a value typed in the box, reruns just this
     control and the parts of the page that follow the design (:mod:`bandcalc.page.follow`).
     """
+    quick_curve.watch(path, _slider_key(path), series)
     st.fragment(_resistor, key=_control_key(path))(label, path, series, help)
+
+
+def _slider_key(path: str) -> str:
+    return f"{state.INPUT_PREFIX}{path}.slider"
 
 
 def _resistor(label: str, path: str, series: str, help: str | None) -> None:
     design = state.begin_run()  # the current design, also in this control's own rerun
     ohms = float(value_at(design, path))
-    slider_key, text_key = f"{state.INPUT_PREFIX}{path}.slider", f"{state.INPUT_PREFIX}{path}.text"
+    slider_key, text_key = _slider_key(path), f"{state.INPUT_PREFIX}{path}.text"
     st.session_state.setdefault(slider_key, ohms)
     st.session_state.setdefault(text_key, shown(ohms, "Ohm"))
     st.select_slider(label, options=slider_options(series, ohms), key=slider_key, help=help,

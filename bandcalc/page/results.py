@@ -17,10 +17,11 @@ from bandcalc.model.units import format_si, format_value
 from bandcalc.page.compute import analysis_of, guarded, schematic_of, transfer_figure_of
 from bandcalc.page.literal import literal
 
-__all__ = ["AXIS_KEY", "FIGURES", "FIGURE_WIDTH", "figure_texts", "render_figures", "render_results",
-           "render_views", "watched_name"]
+__all__ = ["AXIS_KEY", "CHART_KEY", "FIGURES", "FIGURE_WIDTH", "axis_choice", "figure_texts",
+           "render_figures", "render_results", "render_views", "watched_name"]
 
 AXIS_KEY = "page.transfer.axis"
+CHART_KEY = "transfer"  # the live chart's key
 # Each figure's width in pixels: room for its whole label ("Upper switching point" and its help
 # mark), four to a row beside the open sidebar in a window 1440 pixels wide; six columns sharing
 # the row cut that label short.  One wrapping row holds them: fewer elements for each rerun.
@@ -102,15 +103,27 @@ def render_figures(analysis: Analysis) -> None:
             st.caption(f":material/info: {literal(f.message)}")
 
 
+def _axis_names(design: Design) -> dict[str, str]:
+    return {"watched": f"{watched_name(design)} ({design.unit})", "stage": "Stage input, open-circuit (V)"}
+
+
+def axis_choice(design: Design) -> tuple[bool, str | None]:
+    """The transfer curve's axis as last chosen: (against the watched quantity, axis title)."""
+    if design.front_end is None:
+        return False, None
+    choice = st.session_state.get(AXIS_KEY, "watched")
+    return choice == "watched", _axis_names(design)[choice]  # chart text: outputs/plots.py escapes it
+
+
 def _axis(design: Design) -> tuple[bool, str | None]:
     """With a front end, a choice of axis for the transfer curve: (watched, axis title)."""
     if design.front_end is None:
         return False, None
-    names = {"watched": f"{watched_name(design)} ({design.unit})", "stage": "Stage input, open-circuit (V)"}
+    names = _axis_names(design)
     st.session_state.setdefault(AXIS_KEY, "watched")
-    choice = st.radio("Plot against", tuple(names), key=AXIS_KEY, format_func=lambda k: literal(names[k]),
-                      horizontal=True, label_visibility="collapsed")
-    return choice == "watched", names[choice]  # chart text: outputs/plots.py escapes it for Plotly
+    st.radio("Plot against", tuple(names), key=AXIS_KEY, format_func=lambda k: literal(names[k]),
+             horizontal=True, label_visibility="collapsed")
+    return axis_choice(design)
 
 
 def render_views(design: Design) -> None:
@@ -120,7 +133,7 @@ def render_views(design: Design) -> None:
         watched, x_title = _axis(design)
         figure = guarded("Transfer curve", transfer_figure_of, design, watched, x_title)
         if figure is not None:
-            st.plotly_chart(figure, key="transfer", config={"displaylogo": False})
+            st.plotly_chart(figure, key=CHART_KEY, config={"displaylogo": False})
     with drawing:
         svg = guarded("Schematic", schematic_of, design)
         if svg is not None:

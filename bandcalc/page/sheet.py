@@ -14,11 +14,12 @@ import streamlit as st
 
 from bandcalc import __version__
 from bandcalc.model.operating import Analysis
-from bandcalc.page import follow, state
+from bandcalc.page import follow, quick_curve, state
+from bandcalc.page.compute import transfer_spec_of
 from bandcalc.page.controls import render_controls
 from bandcalc.page.literal import literal
 from bandcalc.page.panels import Sheet, render_panels
-from bandcalc.page.results import render_results
+from bandcalc.page.results import CHART_KEY, axis_choice, render_results
 from bandcalc.page.whole_design import render_design_file
 
 __all__ = ["main"]
@@ -58,9 +59,18 @@ def _live() -> Analysis | None:
     return None
 
 
+@follow.part("quick-curve")
+def _quick_curve() -> None:
+    """The live chart's figures near each slider's value, for the browser to draw at once."""
+    design = state.begin_run()
+    watched, x_title = axis_choice(design)
+    quick_curve.render(design, lambda d: transfer_spec_of(d, watched, x_title), CHART_KEY)
+
+
 def _sheet() -> None:
     design = state.begin_run()
     follow.begin_page(design)
+    quick_curve.begin_page()
     # The sidebar first.  Drawn after the live view, its controls came back blank in the browser
     # after a panel's edit reran the page on a loaded machine (2 runs in 6; none in 12 with the
     # sidebar first), and the next rerun sent the blanks back as edits (tests/test_browser.py: the
@@ -76,3 +86,4 @@ def _sheet() -> None:
     analysis = _live()
     if analysis is not None:
         render_panels(Sheet(design=design, analysis=analysis))
+        _quick_curve()
