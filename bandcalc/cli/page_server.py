@@ -33,6 +33,7 @@ PAGE_SETTINGS: dict[str, str | bool | int] = {
     "client.toolbarMode": "minimal",
     "global.showWarningOnDirectExecution": False,
     "runner.postScriptGC": False,
+    "server.fileWatcherType": "none",
 }
 _SCRIPT_PACKAGE, _SCRIPT = "bandcalc.page.entry", "run_sheet.py"
 _EXIT_REFUSED = 2
