@@ -31,7 +31,7 @@ from bandcalc.model.design import Design
 from bandcalc.model.design_file import design_from_json, design_to_json
 from bandcalc.model.operating import analyze
 from bandcalc.model.parts import with_value
-from bandcalc.model.units import format_si
+from bandcalc.model.units import format_code, format_si
 from bandcalc.outputs.netlist import netlist
 from bandcalc.outputs.summary import design_from_summary
 from bandcalc.page.address import ADDRESS_MAX, PARAM, address_to_design, design_to_address
@@ -203,6 +203,33 @@ def test_the_curve_follows_a_slider_at_once_as_the_page_then_draws_it(server, br
         settle(page)
         assert page.evaluate(_DRAWING) == quick
         assert f"Upper {points[0]}" in chart_labels(page)
+    page.close()
+
+
+def test_the_quick_curve_follows_the_axis_chosen(server, browser):
+    """With a front end the curve can be drawn against the stage's volts: the figures sent ahead
+    follow that choice, so the curve drawn at once is still the page's own."""
+    page = browser.new_page(viewport={"width": 1440, "height": 900})
+    page.goto(f"{server}?{PARAM}={design_to_address(load_demo('greenhouse_fan_thermostat'))}")
+    page.wait_for_selector("[data-testid='stMetricValue']", timeout=60_000)
+    settle(page)
+    page.get_by_text("Stage input, open-circuit (V)").click()
+    wait_for(lambda: "Stage input, open-circuit (V)" in chart_labels(page), "the curve in the stage's volts")
+    settle(page)
+    slider = page.get_by_role("slider", name="Feedback resistor")
+    page.wait_for_function(_HELD, arg=slider.get_attribute("aria-valuetext"), timeout=20_000)
+    time.sleep(0.5)  # any figures still on their way after the choice
+    before = page.evaluate(_DRAWING)
+    slider.focus()
+    page.keyboard.press("ArrowRight")
+    label = slider.get_attribute("aria-valuetext")
+    page.wait_for_function(_QUICK, arg=label, timeout=20_000)
+    quick = page.evaluate(_DRAWING)
+    assert quick != before and "Stage input, open-circuit (V)" in quick
+    wait_for(lambda: feedback_in_address(address(page)) is not None and
+             format_code(feedback_in_address(address(page)), 4) == label, "the move in the address")
+    settle(page)
+    assert page.evaluate(_DRAWING) == quick
     page.close()
 
 

@@ -14,6 +14,7 @@ from bandcalc.model.design import Design
 from bandcalc.model.front_end import ThermistorFrontEnd
 from bandcalc.model.operating import Analysis
 from bandcalc.model.units import format_si, format_value
+from bandcalc.page import follow
 from bandcalc.page.compute import analysis_of, guarded, schematic_of, transfer_figure_of
 from bandcalc.page.literal import literal
 
@@ -121,8 +122,10 @@ def _axis(design: Design) -> tuple[bool, str | None]:
         return False, None
     names = _axis_names(design)
     st.session_state.setdefault(AXIS_KEY, "watched")
+    # A choice reruns every part that follows the design, not just the live view: the quick curve's
+    # figures (bandcalc.page.quick_curve) are drawn against the axis chosen too.
     st.radio("Plot against", tuple(names), key=AXIS_KEY, format_func=lambda k: literal(names[k]),
-             horizontal=True, label_visibility="collapsed")
+             horizontal=True, label_visibility="collapsed", on_change=follow.rerun)
     return axis_choice(design)
 
 
