@@ -61,10 +61,11 @@ def _live() -> Analysis | None:
 
 @follow.part("quick-curve")
 def _quick_curve() -> None:
-    """The live chart's figures near each slider's value, for the browser to draw at once."""
+    """The live chart's figures near each slider's value, for the browser to draw at once: only for
+    values the page would take (``state.admit``, whose analysis is then cached for the move)."""
     design = state.begin_run()
     watched, x_title = axis_choice(design)
-    quick_curve.render(design, lambda d: transfer_spec_of(d, watched, x_title), CHART_KEY)
+    quick_curve.render(design, lambda d: transfer_spec_of(state.admit(d), watched, x_title), CHART_KEY)
 
 
 def _sheet() -> None:
