@@ -156,7 +156,7 @@ def render(design: Design, spec_of: Spec, chart_key: str) -> None:
         try:
             at[box_class(slider_key)] = format_code(float(value_at(design, path)), SLIDER_DIGITS)
             sliders[box_class(slider_key)] = figures_near(design, path, series, spec_of)
-        except ValueError:  # the design's own chart cannot be drawn: the live view says why
+        except ValueError:  # no slider for this value (its control says why)
             continue
         except Exception:  # a help for the eye, never a reason to break the page
             log.exception("the figures near the slider of %s failed", path)

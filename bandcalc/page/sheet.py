@@ -1,4 +1,5 @@
-"""The design sheet put together: sidebar controls, the live view, the panels, the address.
+"""The design sheet put together: sidebar controls, the live view, the panels, the address, and
+the figures the browser draws at once when a resistor slider moves (:mod:`bandcalc.page.quick_curve`).
 
 The live view is a part that follows the design (:mod:`bandcalc.page.follow`), rerun with the
 other such parts after a slider move instead of the whole page.
@@ -63,9 +64,10 @@ def _live() -> Analysis | None:
 def _quick_curve() -> None:
     """The live chart's figures near each slider's value, for the browser to draw at once: only for
     values the page would take (``state.admit``, whose analysis is then cached for the move)."""
-    design = state.begin_run()
-    watched, x_title = axis_choice(design)
-    quick_curve.render(design, lambda d: transfer_spec_of(state.admit(d), watched, x_title), CHART_KEY)
+    with _shielded():
+        design = state.begin_run()
+        watched, x_title = axis_choice(design)
+        quick_curve.render(design, lambda d: transfer_spec_of(state.admit(d), watched, x_title), CHART_KEY)
 
 
 def _sheet() -> None:
