@@ -172,10 +172,16 @@ def test_slider_by_keyboard_save_and_reload(server, browser, tmp_path):
     page.close()
 
 
-# The transfer curve as drawn: every path and text of its chart.
-_DRAWING = """() => Array.from(document.querySelectorAll('.st-key-transfer .js-plotly-plot path, '
-                               + '.st-key-transfer .js-plotly-plot text'),
-                               e => e.getAttribute('d') || e.textContent).join('|')"""
+# The transfer curve as drawn: each trace's points (as Plotly holds them, decoded), the band and
+# its label, the view, and every text of the chart; not its pixels, as Plotly may settle its
+# automatic margins a pixel apart.
+_DRAWING = """() => {
+  const chart = document.querySelector('.st-key-transfer .js-plotly-plot');
+  const traces = Array.from(chart._fullData, t => [t.name, Array.from(t.x ?? []), Array.from(t.y ?? [])]);
+  const texts = Array.from(chart.querySelectorAll('text'), e => e.textContent);
+  const l = chart.layout;
+  return JSON.stringify([traces, l.shapes, l.annotations, l.xaxis.range, texts]);
+}"""
 _QUICK = "label => document.querySelector('.st-key-transfer .js-plotly-plot')?.dataset.quickCurve === label"
 # The page's script holds the figures around this value of the feedback slider.
 _HELD = "label => window.bandcalcQuickCurve?.held?.at['st-key-in-resistors-feedback-slider'] === label"
