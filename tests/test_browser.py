@@ -187,6 +187,18 @@ _QUICK = "label => document.querySelector('.st-key-transfer .js-plotly-plot')?.d
 _HELD = "label => window.bandcalcQuickCurve?.held?.at['st-key-in-resistors-feedback-slider'] === label"
 
 
+def quick_press(page, key: str) -> tuple[str, str]:
+    """Once the page's script holds the figures around the feedback slider's value, press ``key`` on
+    that slider and wait for the script to draw the curve: (the drawing before, the drawing after)."""
+    slider = page.get_by_role("slider", name="Feedback resistor")
+    page.wait_for_function(_HELD, arg=slider.get_attribute("aria-valuetext"), timeout=20_000)
+    before = page.evaluate(_DRAWING)
+    slider.focus()
+    page.keyboard.press(key)
+    page.wait_for_function(_QUICK, arg=slider.get_attribute("aria-valuetext"), timeout=20_000)
+    return before, page.evaluate(_DRAWING)
+
+
 def test_the_curve_follows_a_slider_at_once_as_the_page_then_draws_it(server, browser):
     """bandcalc.page.quick_curve: a key press on a resistor slider redraws the curve in the browser
     from the figures sent ahead, and the page's own run then draws exactly the same."""
@@ -195,13 +207,9 @@ def test_the_curve_follows_a_slider_at_once_as_the_page_then_draws_it(server, br
     page.wait_for_selector("[data-testid='stMetricValue']", timeout=60_000)
     settle(page)
     slider = page.get_by_role("slider", name="Feedback resistor")
-    for key, ohms, label, was in (("ArrowRight", 43e3, "43k", "39k"), ("ArrowLeft", 39e3, "39k", "43k")):
-        page.wait_for_function(_HELD, arg=was, timeout=20_000)
-        before = page.evaluate(_DRAWING)
-        slider.focus()
-        page.keyboard.press(key)
-        page.wait_for_function(_QUICK, arg=label, timeout=20_000)  # drawn by the page's script
-        quick = page.evaluate(_DRAWING)
+    for key, ohms, label in (("ArrowRight", 43e3, "43k"), ("ArrowLeft", 39e3, "39k")):
+        before, quick = quick_press(page, key)  # drawn by the page's script
+        assert slider.get_attribute("aria-valuetext") == label
         assert quick != before
         moved = analyze(with_value(SUMP, "resistors.feedback", ohms))
         points = [format_si(moved.upper, "V", 4), format_si(moved.lower, "V", 4)]
@@ -222,15 +230,9 @@ def test_the_quick_curve_follows_the_axis_chosen(server, browser):
     page.get_by_text("Stage input, open-circuit (V)").click()
     wait_for(lambda: "Stage input, open-circuit (V)" in chart_labels(page), "the curve in the stage's volts")
     settle(page)
-    slider = page.get_by_role("slider", name="Feedback resistor")
-    page.wait_for_function(_HELD, arg=slider.get_attribute("aria-valuetext"), timeout=20_000)
     time.sleep(0.5)  # any figures still on their way after the choice
-    before = page.evaluate(_DRAWING)
-    slider.focus()
-    page.keyboard.press("ArrowRight")
-    label = slider.get_attribute("aria-valuetext")
-    page.wait_for_function(_QUICK, arg=label, timeout=20_000)
-    quick = page.evaluate(_DRAWING)
+    before, quick = quick_press(page, "ArrowRight")
+    label = page.get_by_role("slider", name="Feedback resistor").get_attribute("aria-valuetext")
     assert quick != before and "Stage input, open-circuit (V)" in quick
     wait_for(lambda: feedback_in_address(address(page)) is not None and
              format_code(feedback_in_address(address(page)), 4) == label, "the move in the address")
