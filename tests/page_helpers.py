@@ -17,10 +17,25 @@ from streamlit.testing.v1 import AppTest
 
 from bandcalc.demos import load_demo
 from bandcalc.page.address import PARAM, address_to_design, design_to_address
+from bandcalc.page.opening import OPENED
 
 ROOT = Path(__file__).parent.parent
 APP = str(ROOT / "app.py")
 SUMP = load_demo("sump_level_switch")  # the page's default demo
+
+
+def unopened() -> AppTest:
+    """The page as a new browser tab gets it, not yet run: its first run draws only the results, then
+    waits for the browser to report the curve drawn (:mod:`bandcalc.page.opening`)."""
+    return AppTest.from_file(APP, default_timeout=120)
+
+
+def opened() -> AppTest:
+    """The page, not yet run, whose first run draws it whole: AppTest has no browser to report the
+    curve drawn, so the session starts as if it had."""
+    at = unopened()
+    at.session_state[OPENED] = True
+    return at
 
 
 def page(query: dict | None = None, design=None, panel: str | None = None) -> AppTest:
@@ -28,7 +43,7 @@ def page(query: dict | None = None, design=None, panel: str | None = None) -> Ap
     panel titled ``panel`` open.  Each run that reran only the parts following the design (a
     slider's quick rerun, :mod:`bandcalc.page.follow`) is checked against a full run and then
     completed by it (see :func:`following`)."""
-    at = AppTest.from_file(APP, default_timeout=120)
+    at = opened()
     at._run = following(at._run)
     at.query_params.update(query or {})
     if design is not None:

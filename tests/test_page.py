@@ -10,7 +10,6 @@ import json
 import numpy as np
 import pytest
 from page_helpers import (
-    APP,
     SUMP,
     address_of,
     captions,
@@ -19,6 +18,7 @@ from page_helpers import (
     errors,
     figures,
     numbers,
+    opened,
     page,
     prose,
     stranded,
@@ -94,7 +94,7 @@ def test_a_slider_move_reruns_only_the_parts_that_follow_the_design():
     # Without page()'s completing run: what the browser is sent after the move.  The live view, the
     # Save button, the open panel and the slider's own control; not the title, the name and notes,
     # nor the other controls (their values cannot have changed).
-    at = AppTest.from_file(APP, default_timeout=120).run()
+    at = opened().run()
     controls = len(at.sidebar.text_input)
     at.select_slider(key=f"{FEEDBACK}.slider").set_value(47e3).run()
     assert not at.exception and not errors(at)
@@ -120,7 +120,7 @@ def test_the_filter_pole_follows_a_slider():
 
 
 def test_a_refused_typed_resistor_reruns_the_whole_page_with_the_message():
-    at = AppTest.from_file(APP, default_timeout=120).run()
+    at = opened().run()
     at.text_input(key=f"{FEEDBACK}.text").input("4k7k").run()
     assert at.title  # the whole page, whose top says why
     assert any("4k7k" in e for e in errors(at))

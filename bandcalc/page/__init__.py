@@ -15,6 +15,9 @@ Importing this package imports nothing; its modules import Streamlit where they 
 - ``literal``: text from users (names, units, file names) shown as text, never as Markdown
 - ``runs``: results of the runs started by a button, kept per design and settings
 - ``panels``: one module per panel below the live view; add yours to ``panels.PANELS``
+- ``follow``: the parts of the page that follow the design, rerun alone after a slider
+- ``quick_curve``: the transfer curve redrawn in the browser the moment a resistor slider moves
+- ``opening``: a new tab's page in two runs, the results first
 - ``sheet``: puts the page together; ``app.py`` calls :func:`sheet.main`
 - ``entry``: the script ``bandcalc page`` gives Streamlit to run (it calls :func:`sheet.main`)
 """

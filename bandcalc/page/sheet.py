@@ -1,6 +1,9 @@
 """The design sheet put together: sidebar controls, the live view, the panels, the address, and
 the figures the browser draws at once when a resistor slider moves (:mod:`bandcalc.page.quick_curve`).
 
+A session's first run draws only the top of the page and the live view; the rest follows in a run
+of its own once the browser has drawn the curve (:mod:`bandcalc.page.opening`).
+
 The live view is a part that follows the design (:mod:`bandcalc.page.follow`), rerun with the
 other such parts after a slider move instead of the whole page.
 """
@@ -14,9 +17,10 @@ from contextlib import contextmanager
 import streamlit as st
 
 from bandcalc import __version__
+from bandcalc.model.design import Design
 from bandcalc.model.operating import Analysis
-from bandcalc.page import follow, quick_curve, state
-from bandcalc.page.compute import transfer_spec_of
+from bandcalc.page import follow, opening, quick_curve, state
+from bandcalc.page.compute import analysis_of, transfer_spec_of
 from bandcalc.page.controls import render_controls
 from bandcalc.page.literal import literal
 from bandcalc.page.panels import Sheet, render_panels
@@ -74,6 +78,9 @@ def _sheet() -> None:
     design = state.begin_run()
     follow.begin_page(design)
     quick_curve.begin_page()
+    if opening.results_first(lambda: _curve_drawable(design)):
+        _results_first(design)
+        return
     # The sidebar first.  Drawn after the live view, its controls came back blank in the browser
     # after a panel's edit reran the page on a loaded machine (2 runs in 6; none in 12 with the
     # sidebar first), and the next rerun sent the blanks back as edits (tests/test_browser.py: the
@@ -84,9 +91,34 @@ def _sheet() -> None:
         st.header("Stage")
         render_controls(design)
         st.caption(f"bandcalc {__version__}")
-    st.title(literal(design.name) or "Comparator stage with hysteresis")
-    state.show_messages()
+    _top(design)
     analysis = _live()
     if analysis is not None:
         render_panels(Sheet(design=design, analysis=analysis))
         _quick_curve()
+
+
+def _curve_drawable(design: Design) -> bool:
+    """Whether the live view will draw the transfer curve (both calls are cached for it)."""
+    try:
+        analysis_of(design)
+        transfer_spec_of(design, *axis_choice(design))
+    except Exception:  # the live view says why, with the controls beside it to mend the design
+        return False
+    return True
+
+
+def _results_first(design: Design) -> None:
+    """A session's first run: the top of the page and the live view, with the script that asks for
+    the rest once the curve is drawn (:mod:`bandcalc.page.opening`)."""
+    with st.sidebar:
+        st.header("Design")  # where the whole page's sidebar starts: it stays as the rest comes in
+    _top(design, keep_messages=True)  # shown again, in the same place, by the run that follows
+    _live()
+    opening.ask_for_the_rest(quick_curve.box_class(CHART_KEY))
+
+
+def _top(design: Design, keep_messages: bool = False) -> None:
+    """The page's title and the messages queued for its top."""
+    st.title(literal(design.name) or "Comparator stage with hysteresis")
+    state.show_messages(keep=keep_messages)

@@ -84,9 +84,11 @@ def take_messages() -> list[tuple[str, str]]:
     return st.session_state.pop(_MESSAGES, [])
 
 
-def show_messages() -> None:
-    """Show the queued messages here, emptying the queue (the page's top; a panel's own rerun)."""
-    for kind, text in take_messages():
+def show_messages(keep: bool = False) -> None:
+    """Show the queued messages here, emptying the queue (the page's top; a panel's own rerun); with
+    ``keep``, leave them queued for the next run to show again (a run that draws only the page's top,
+    :mod:`bandcalc.page.opening`)."""
+    for kind, text in (st.session_state.get(_MESSAGES, []) if keep else take_messages()):
         getattr(st, kind)(literal(text))
 
 
