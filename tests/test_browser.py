@@ -25,6 +25,7 @@ import pytest
 from page_helpers import prose
 from serving import free_port, serving
 
+from bandcalc import __version__
 from bandcalc.demos import load_demo
 from bandcalc.errors import DesignError
 from bandcalc.model.design import Design
@@ -109,10 +110,19 @@ def settle(page) -> None:
     wait_for(lambda: app.get_attribute("data-test-script-state") == "notRunning", "the page to settle")
 
 
+def drawn_whole(page) -> None:
+    """Wait until the page just opened or reloaded is drawn whole and settled: its results come
+    first, then its controls and panels in a run of their own (bandcalc.page.opening), the sidebar's
+    last line, the version, among them."""
+    page.wait_for_selector("[data-testid='stMetricValue']", timeout=60_000)
+    page.get_by_text(f"bandcalc {__version__}", exact=True).wait_for(timeout=60_000)
+    settle(page)
+
+
 def test_slider_by_keyboard_save_and_reload(server, browser, tmp_path):
     page = browser.new_page(viewport={"width": 1500, "height": 1000})
     page.goto(server)
-    page.wait_for_selector("[data-testid='stMetricValue']", timeout=60_000)
+    drawn_whole(page)
     before = analyze(SUMP)
     upper = format_si(before.upper, "V", 4)
     wait_for(lambda: metrics(page)[:2] == [upper, format_si(before.lower, "V", 4)], "the demo's figures")
@@ -166,7 +176,7 @@ def test_slider_by_keyboard_save_and_reload(server, browser, tmp_path):
 
     # Reload: the address brings back the same design.
     page.reload()
-    page.wait_for_selector("[data-testid='stMetricValue']", timeout=60_000)
+    drawn_whole(page)
     wait_for(lambda: metrics(page)[:2] == moved, "the same figures after a reload")
     assert page.get_by_role("slider", name="Feedback resistor").get_attribute("aria-valuetext") == "43k"
     page.close()
@@ -182,6 +192,35 @@ _DRAWING = """() => {
   const l = chart.layout;
   return JSON.stringify([traces, l.shapes, l.annotations, l.xaxis.range, texts]);
 }"""
+# Set before the page loads: how many sliders the sidebar holds the moment the curve's first line
+# is drawn (null until then).
+_WATCH_OPENING = """(() => {
+  window.__slidersAtCurve = null;
+  new MutationObserver((records, watcher) => {
+    if (document.querySelector('.st-key-transfer .js-plotly-plot .scatterlayer .trace')) {
+      window.__slidersAtCurve = document.querySelectorAll('[data-testid=stSidebar] input[type=range]').length;
+      watcher.disconnect();
+    }
+  }).observe(document, {subtree: true, childList: true});
+})()"""
+
+
+def test_a_new_tab_draws_the_curve_first_then_the_controls_by_themselves(server, browser):
+    """bandcalc.page.opening: the curve is drawn before any control, then the browser's report brings
+    the whole page with no action from the user."""
+    context = browser.new_context(viewport={"width": 1440, "height": 900})
+    context.add_init_script(_WATCH_OPENING)
+    page = context.new_page()
+    page.goto(server)
+    drawn_whole(page)
+    assert page.evaluate("window.__slidersAtCurve") == 0
+    assert page.get_by_role("slider", name="Feedback resistor").get_attribute("aria-valuetext") == "39k"
+    assert page.get_by_role("tab", name="Spread").count() == 1
+    a = analyze(SUMP)
+    assert metrics(page)[:2] == [format_si(a.upper, "V", 4), format_si(a.lower, "V", 4)]
+    context.close()
+
+
 _QUICK = "label => document.querySelector('.st-key-transfer .js-plotly-plot')?.dataset.quickCurve === label"
 # The page's script holds the figures around this value of the feedback slider.
 _HELD = "label => window.bandcalcQuickCurve?.held?.at['st-key-in-resistors-feedback-slider'] === label"
@@ -204,8 +243,7 @@ def test_the_curve_follows_a_slider_at_once_as_the_page_then_draws_it(server, br
     from the figures sent ahead, and the page's own run then draws exactly the same."""
     page = browser.new_page(viewport={"width": 1440, "height": 900})
     page.goto(server)
-    page.wait_for_selector("[data-testid='stMetricValue']", timeout=60_000)
-    settle(page)
+    drawn_whole(page)
     slider = page.get_by_role("slider", name="Feedback resistor")
     for key, ohms, label in (("ArrowRight", 43e3, "43k"), ("ArrowLeft", 39e3, "39k")):
         before, quick = quick_press(page, key)  # drawn by the page's script
@@ -225,8 +263,7 @@ def test_the_quick_curve_follows_the_axis_chosen(server, browser):
     follow that choice, so the curve drawn at once is still the page's own."""
     page = browser.new_page(viewport={"width": 1440, "height": 900})
     page.goto(f"{server}?{PARAM}={design_to_address(load_demo('greenhouse_fan_thermostat'))}")
-    page.wait_for_selector("[data-testid='stMetricValue']", timeout=60_000)
-    settle(page)
+    drawn_whole(page)
     page.get_by_text("Stage input, open-circuit (V)").click()
     wait_for(lambda: "Stage input, open-circuit (V)" in chart_labels(page), "the curve in the stage's volts")
     settle(page)
@@ -244,7 +281,7 @@ def test_the_quick_curve_follows_the_axis_chosen(server, browser):
 def test_spread_panel_edits_the_design_and_runs(server, browser):
     page = browser.new_page(viewport={"width": 1500, "height": 1400})
     page.goto(server)
-    page.wait_for_selector("[data-testid='stMetricValue']", timeout=60_000)
+    drawn_whole(page)
     page.get_by_role("tab", name="Spread").click()
     settle(page)
     supply = page.get_by_role("textbox", name="Each supply rail (%)")
@@ -278,7 +315,7 @@ def test_a_long_fit_shows_progress_and_stops_on_stop(server, browser):
     design = with_value(with_value(SUMP, "resistors.to_ground", 100e3), "resistors.to_positive", 100e3)
     page = browser.new_page(viewport={"width": 1500, "height": 1400})
     page.goto(f"{server}?{urlencode({PARAM: design_to_address(design)})}")
-    page.wait_for_selector("[data-testid='stMetricValue']", timeout=60_000)
+    drawn_whole(page)
     page.get_by_role("tab", name="Fit to target points").click()
     settle(page)
     for label, text in (("Upper point wanted (V)", "3"), ("Lower point wanted (V)", "2"),
@@ -337,7 +374,7 @@ def notes_box(page):
 def test_a_reload_keeps_every_design_the_page_takes(server, browser, tmp_path):
     page = browser.new_page(viewport={"width": 1500, "height": 1000})
     page.goto(server)
-    page.wait_for_selector("[data-testid='stMetricValue']", timeout=60_000)
+    drawn_whole(page)
 
     # Notes typed in the box come back after a reload.
     typed = prose(6_000, seed=1)
@@ -345,7 +382,7 @@ def test_a_reload_keeps_every_design_the_page_takes(server, browser, tmp_path):
     notes_box(page).press("Control+Enter")
     wait_for(lambda: design_in_address(address(page)).notes == typed, "the notes in the address")
     page.reload()
-    page.wait_for_selector("[data-testid='stMetricValue']", timeout=60_000)
+    drawn_whole(page)
     wait_for(lambda: notes_box(page).input_value() == typed, "the notes after a reload")
 
     # A design file as long as the address takes: opened, then reloaded, it is all there.
@@ -356,7 +393,7 @@ def test_a_reload_keeps_every_design_the_page_takes(server, browser, tmp_path):
     wait_for(lambda: design_in_address(address(page)) == design, "the opened design in the address")
     assert len(parse_qs(urlsplit(address(page)).query)[PARAM][0]) > ADDRESS_MAX - 200
     page.reload()
-    page.wait_for_selector("[data-testid='stMetricValue']", timeout=60_000)
+    drawn_whole(page)
     wait_for(lambda: page.locator("h1").first.inner_text() == "Near the limit", "the design after a reload")
     # The title and the notes box may arrive in separate updates: wait for both.
     wait_for(lambda: notes_box(page).input_value() == design.notes, "the notes after a reload")
@@ -369,7 +406,7 @@ def test_a_reload_keeps_every_design_the_page_takes(server, browser, tmp_path):
     settle(page)
     assert design_in_address(address(page)) == design
     page.reload()
-    page.wait_for_selector("[data-testid='stMetricValue']", timeout=60_000)
+    drawn_whole(page)
     wait_for(lambda: notes_box(page).input_value() == design.notes, "the design's own notes after a reload")
     assert page.get_by_text("too long").count() == 0
     page.close()
@@ -406,8 +443,7 @@ def test_every_label_reads_in_full_at_1440_pixels(server, browser, demo):
     figure or tab name is cut short, in the live view and in every panel."""
     page = browser.new_page(viewport={"width": 1440, "height": 900})
     page.goto(f"{server}?{PARAM}={design_to_address(load_demo(demo))}")
-    page.wait_for_selector("[data-testid='stMetricValue']", timeout=60_000)
-    settle(page)
+    drawn_whole(page)
     assert cut_texts(page) == []
     for panel in PANELS:
         page.get_by_role("tab", name=panel.TITLE).click()
@@ -439,8 +475,7 @@ def test_every_hint_in_an_empty_sidebar_box_reads_in_full(server, browser, demo)
     blank means) fits the box; "blank: a comparator, not limited" was cut to "...not limitec"."""
     page = browser.new_page(viewport={"width": 1440, "height": 900})
     page.goto(f"{server}?{PARAM}={design_to_address(load_demo(demo))}")
-    page.wait_for_selector("[data-testid='stMetricValue']", timeout=60_000)
-    settle(page)
+    drawn_whole(page)
     shut = "[data-testid=stSidebar] details:not([open]) > summary"
     while page.locator(shut).count():
         page.locator(shut).first.click()
