@@ -78,11 +78,10 @@ export default function (component) {
   quick.held = JSON.parse(component.data);
   if (!quick.watcher) {
     quick.watcher = new MutationObserver((records) => {
-      for (const r of records) {
-        const t = r.target;
-        const moved = r.oldValue !== t.getAttribute("aria-valuetext");
-        if (moved && t instanceof HTMLInputElement && t.type === "range") redraw(t);
-      }
+      // A move comes as several records for one slider (its raw value, then its label): draw once.
+      const moved = new Set(records.filter((r) => r.oldValue !== r.target.getAttribute("aria-valuetext"))
+                                   .map((r) => r.target));
+      for (const t of moved) if (t instanceof HTMLInputElement && t.type === "range") redraw(t);
     });
     quick.watcher.observe(document.body, { subtree: true, attributes: true, attributeOldValue: true,
                                            attributeFilter: ["aria-valuetext"] });
