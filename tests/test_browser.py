@@ -113,9 +113,11 @@ def settle(page) -> None:
 def drawn_whole(page) -> None:
     """Wait until the page just opened or reloaded is drawn whole and settled: its results come
     first, then its controls and panels in a run of their own (bandcalc.page.opening), the sidebar's
-    last line, the version, among them."""
+    last line, the version, among them, and every element's code loaded."""
     page.wait_for_selector("[data-testid='stMetricValue']", timeout=60_000)
     page.get_by_text(f"bandcalc {__version__}", exact=True).wait_for(timeout=60_000)
+    # Streamlit shows an element whose code is still loading (the sliders, at first) as a placeholder.
+    page.wait_for_function("() => !document.querySelector(\"[data-testid='stSkeleton']\")", timeout=60_000)
     settle(page)
 
 
@@ -221,21 +223,34 @@ def test_a_new_tab_draws_the_curve_first_then_the_controls_by_themselves(server,
     context.close()
 
 
-_QUICK = "label => document.querySelector('.st-key-transfer .js-plotly-plot')?.dataset.quickCurve === label"
+# The drawing at the moment the page's script marks the chart with the value it drew: the page's own
+# run may replace the chart a tenth of a second later, sooner than a test polling afterwards looks.
+_RECORD_QUICK = f"""() => {{
+  window.__quickDrawn = null;
+  window.__quickWatcher?.disconnect();
+  window.__quickWatcher = new MutationObserver(() => {{
+    const label = document.querySelector('.st-key-transfer .js-plotly-plot')?.dataset.quickCurve;
+    if (label !== undefined) window.__quickDrawn = {{label, drawing: ({_DRAWING})()}};
+  }});
+  window.__quickWatcher.observe(document.body,
+                                {{subtree: true, attributes: true, attributeFilter: ['data-quick-curve']}});
+}}"""
+_QUICK = "label => window.__quickDrawn?.label === label"
 # The page's script holds the figures around this value of the feedback slider.
 _HELD = "label => window.bandcalcQuickCurve?.held?.at['st-key-in-resistors-feedback-slider'] === label"
 
 
 def quick_press(page, key: str) -> tuple[str, str]:
     """Once the page's script holds the figures around the feedback slider's value, press ``key`` on
-    that slider and wait for the script to draw the curve: (the drawing before, the drawing after)."""
+    that slider and wait for the script to draw the curve: (the drawing before, the script's drawing)."""
     slider = page.get_by_role("slider", name="Feedback resistor")
     page.wait_for_function(_HELD, arg=slider.get_attribute("aria-valuetext"), timeout=20_000)
     before = page.evaluate(_DRAWING)
+    page.evaluate(_RECORD_QUICK)
     slider.focus()
     page.keyboard.press(key)
     page.wait_for_function(_QUICK, arg=slider.get_attribute("aria-valuetext"), timeout=20_000)
-    return before, page.evaluate(_DRAWING)
+    return before, page.evaluate("window.__quickDrawn.drawing")
 
 
 def test_the_curve_follows_a_slider_at_once_as_the_page_then_draws_it(server, browser):
