@@ -11,7 +11,8 @@ driven by Playwright, then takes turns between the two pages, each round in alte
   a warm browser (the browser's time since the navigation started).  bandcalc draws its results
   first and the controls and panels in a second run (bandcalc.page.opening); so that the rest
   stays in view, the same navigation is also timed to bandcalc's page drawn whole ("whole page
-  opened": its last element, the quick curve's figures, in the page), against the bare page's
+  opened": its last element, the quick curve's figures, in the page and no element still shown as
+  a placeholder while its code loads), against the bare page's
   first paint;
 - slider keypress: one ArrowRight on the sidebar's slider (bandcalc's feedback resistor, the bare
   page's gain) to the chart drawn anew, each press a value not seen before (nothing cached).
@@ -60,6 +61,8 @@ _CHART = """() => {
   return Array.from(plot.querySelectorAll('path, text'),
                     e => e.getAttribute('d') || e.textContent).join('|');
 }"""
+# Streamlit draws an element whose code is still loading (a slider, at first) as a grey placeholder.
+_SKELETON = "[data-testid='stSkeleton']"
 _DRAWN = f"() => ({_CHART})() !== null ? performance.now() : false"
 _REDRAWN = f"""before => {{
   const now = ({_CHART})();
@@ -118,7 +121,8 @@ def _whole(target: Target) -> str:
     """A function for the page: the time once the page is drawn whole, else false."""
     if target.whole is None:
         return _DRAWN
-    return f"() => document.querySelector({target.whole!r}) && ({_DRAWN})()"
+    return (f"() => document.querySelector({target.whole!r}) && !document.querySelector({_SKELETON!r})"
+            f" && ({_DRAWN})()")
 
 
 def _settle(page, target: Target) -> None:
