@@ -5,6 +5,7 @@ tests/test_browser.py."""
 import json
 
 from page_helpers import SUMP, charts, design_on, errors, figures, opened, stranded, unopened
+from streamlit.components.v2.bidi_component.main import _make_trigger_id
 from streamlit.proto.WidgetStates_pb2 import WidgetState
 
 from bandcalc.model.operating import analyze
@@ -20,8 +21,13 @@ def expected(design) -> dict[str, str]:
     return {label: format_si(getattr(a, attr), "V", 4) for label, attr, _ in FIGURES}
 
 
+def asking(at) -> list:
+    """The page's script that asks for the rest of the page, if drawn (a list of one or none)."""
+    return [e for e in at.get("bidi_component") if e.proto.component_name == "bandcalc.opening"]
+
+
 def opening_script(at):
-    (element,) = [e for e in at.get("bidi_component") if e.proto.component_name == "bandcalc.opening"]
+    (element,) = asking(at)
     return element
 
 
@@ -31,16 +37,10 @@ def report_drawn(at):
     own trigger widget, ``<id>__events`` in Streamlit's naming), with the other widgets' values."""
     element = opening_script(at)
     states = at._tree.get_widget_states()
-    state = WidgetState(id=_trigger_id(element.proto.id),
+    state = WidgetState(id=_make_trigger_id(element.proto.id, "events"),
                         json_trigger_value=json.dumps([{"event": "drawn", "value": True}]))
     states.widgets.append(state)
     return at._run(states)
-
-
-def _trigger_id(base: str) -> str:
-    from streamlit.components.v2.bidi_component.main import _make_trigger_id
-
-    return _make_trigger_id(base, "events")
 
 
 def test_a_new_tab_gets_the_results_first_then_the_whole_page_once_the_curve_is_drawn():
@@ -60,8 +60,7 @@ def test_a_new_tab_gets_the_results_first_then_the_whole_page_once_the_curve_is_
     assert not at.exception and not errors(at)
     assert stranded(at) == []
     assert figures(at) == expected(SUMP) and at.title[0].value == "Sump level switch"
-    asking = [e for e in at.get("bidi_component") if e.proto.component_name == "bandcalc.opening"]
-    assert at.tabs and not asking
+    assert at.tabs and not asking(at)
     # Every run after it draws the whole page.
     at.run()
     assert stranded(at) == [] and at.session_state[OPENED] is True
@@ -90,7 +89,7 @@ def test_without_a_curve_to_draw_the_page_opens_whole_at_once(monkeypatch):
     assert not at.exception
     assert any("Transfer curve: no curve for this design" in e for e in errors(at))
     assert at.select_slider and at.sidebar.text_input and at.tabs
-    assert not [e for e in at.get("bidi_component") if e.proto.component_name == "bandcalc.opening"]
+    assert not asking(at)
     assert design_on(at) == SUMP
 
 
