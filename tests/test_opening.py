@@ -51,7 +51,7 @@ def test_a_new_tab_gets_the_results_first_then_the_whole_page_once_the_curve_is_
     assert [trace["name"] for trace in charts(at)[0]["data"]][:2] == ["Rising input", "Falling input"]
     assert at.get("image")  # the schematic
     # No controls yet, nor panels; the sidebar's first line is in place.
-    assert [h.value for h in at.sidebar.header] == ["Design"]
+    assert [h.value for h in at.sidebar.header] == ["Stage"]
     assert not at.sidebar.text_input and not at.select_slider and not at.tabs
     assert json.loads(json.loads(opening_script(at).proto.json))["chart"] == "st-key-transfer"
     assert at.query_params[PARAM]  # the address already holds the design

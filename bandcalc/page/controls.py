@@ -311,8 +311,8 @@ def render_controls(design: Design) -> None:
     series = st.selectbox("Standard series for the sliders", tuple(SERIES), key=SERIES_KEY,
                           help="IEC 60063; a typed value outside the series is kept exactly")
     sections: tuple[tuple[str, str, bool, Callable[[], None]], ...] = (
-        ("stage", "Stage and supply", True, lambda: _stage_and_supply(design)),
         ("resistors", "Resistors", True, lambda: _resistors(design, series)),
+        ("stage", "Stage and supply", True, lambda: _stage_and_supply(design)),
         ("reference", "Reference", True, lambda: _reference(design, series)),
         ("output", "Output stage", False, lambda: _output(design, series)),
         ("load", "Output load and receiving logic", False, lambda: _load(design)),

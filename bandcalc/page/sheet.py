@@ -85,11 +85,13 @@ def _sheet() -> None:
     # after a panel's edit reran the page on a loaded machine (2 runs in 6; none in 12 with the
     # sidebar first), and the next rerun sent the blanks back as edits (tests/test_browser.py: the
     # spread panel's edit, then a slider).
+    # The stage's controls lead, the resistor sliders first: at 1440x900 the design-file block
+    # above them pushed every slider below the fold.
     with st.sidebar:
-        st.header("Design")
-        render_design_file(design)
         st.header("Stage")
         render_controls(design)
+        st.header("Design")
+        render_design_file(design)
         st.caption(f"bandcalc {__version__}")
     _top(design)
     analysis = _live()
@@ -112,7 +114,7 @@ def _results_first(design: Design) -> None:
     """A session's first run: the top of the page and the live view, with the script that asks for
     the rest once the curve is drawn (:mod:`bandcalc.page.opening`)."""
     with st.sidebar:
-        st.header("Design")  # where the whole page's sidebar starts: it stays as the rest comes in
+        st.header("Stage")  # where the whole page's sidebar starts: it stays as the rest comes in
     _top(design, keep_messages=True)  # shown again, in the same place, by the run that follows
     _live()
     opening.ask_for_the_rest(quick_curve.box_class(CHART_KEY))
