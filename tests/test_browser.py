@@ -209,7 +209,7 @@ _WATCH_OPENING = """(() => {
 
 def test_a_new_tab_draws_the_curve_first_then_the_controls_by_themselves(server, browser):
     """bandcalc.page.opening: the curve is drawn before any control, then the browser's report brings
-    the whole page with no action from the user."""
+    the whole page with no action from the user, resistor sliders in view at 1440x900."""
     context = browser.new_context(viewport={"width": 1440, "height": 900})
     context.add_init_script(_WATCH_OPENING)
     page = context.new_page()
@@ -217,6 +217,10 @@ def test_a_new_tab_draws_the_curve_first_then_the_controls_by_themselves(server,
     drawn_whole(page)
     assert page.evaluate("window.__slidersAtCurve") == 0
     assert page.get_by_role("slider", name="Feedback resistor").get_attribute("aria-valuetext") == "39k"
+    # Both resistor sliders at hand, above the sidebar's fold, with no scrolling.
+    for name in ("Feedback resistor", "Input resistor"):
+        box = page.get_by_role("slider", name=name).bounding_box()
+        assert box is not None and box["y"] + box["height"] < 900, (name, box)
     assert page.get_by_role("tab", name="Spread").count() == 1
     a = analyze(SUMP)
     assert metrics(page)[:2] == [format_si(a.upper, "V", 4), format_si(a.lower, "V", 4)]
