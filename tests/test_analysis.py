@@ -61,7 +61,7 @@ def test_open_drain_high_level_reached_is_below_pullup_volts():
                resistors=Resistors(to_positive=100e3, to_ground=100e3, feedback=100e3))
     a = analyze(d)
     assert a.output_high < 5.0
-    assert any(f.startswith("Weak pull-up: 47 kOhm") for f in a.warnings)
+    assert any(f.startswith("Weak pull-up: 47 kΩ") for f in a.warnings)
 
 
 def test_strong_pullup_gives_no_weak_pullup_finding():
@@ -110,7 +110,7 @@ def test_no_hysteresis_when_output_levels_coincide():
 
 def test_high_values_invite_leakage():
     d = Design(stage="inverting", supply=Supply(5.0), resistors=Resistors(to_ground=10e3, feedback=4.7e6))
-    assert any(f.startswith("High value: feedback is 4.7 MOhm") for f in analyze(d).warnings)
+    assert any(f.startswith("High value: feedback is 4.7 MΩ") for f in analyze(d).warnings)
 
 
 def test_caution_on_hazardous_voltage():
@@ -208,7 +208,7 @@ def test_clamp_current_over_the_limit_asks_for_series_resistance_by_hand():
     high, low = sorted(_of(d, "input_beyond_rail"), key=lambda f: f.values["rail"] != "positive")
     assert high.values["clamp_current"] == pytest.approx(7 / 11e3)
     assert high.values["added_resistance"] == pytest.approx(3e3)
-    assert f"over the {format_si(0.5e-3, 'A')} limit" in high.message and "3 kOhm more" in high.message
+    assert f"over the {format_si(0.5e-3, 'A')} limit" in high.message and "3 kΩ more" in high.message
     assert low.values["rail"] == "negative" and low.values["clamp_current"] == pytest.approx(3 / 11e3)
 
 

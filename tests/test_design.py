@@ -166,9 +166,9 @@ def test_null_for_an_optional_value_leaves_it_out():
 # rails and sensed voltages within +/-100 kV, bias currents well under an ampere, delays under a
 # second, loads under a millifarad).  1e23 is 1e3 with a slip of the finger.
 @pytest.mark.parametrize(("key", "value", "message"), [
-    ("resistors.feedback", 1e23, "resistors.feedback: must be from 1 mOhm to 1 TOhm, got 1e+23"),
-    ("resistors.feedback", 1e308, "resistors.feedback: must be from 1 mOhm to 1 TOhm"),
-    ("resistors.input", 1e-9, "resistors.input: must be from 1 mOhm to 1 TOhm"),
+    ("resistors.feedback", 1e23, "resistors.feedback: must be from 1 mΩ to 1 TΩ, got 1e+23"),
+    ("resistors.feedback", 1e308, "resistors.feedback: must be from 1 mΩ to 1 TΩ"),
+    ("resistors.input", 1e-9, "resistors.input: must be from 1 mΩ to 1 TΩ"),
     ("supply.positive", 1e308, "supply.positive: must be from -100 kV to 100 kV"),
     ("supply.positive", "1e6", "supply.positive: must be from -100 kV to 100 kV"),
     ("reference.volts", -2e5, "reference.volts: must be from -100 kV to 100 kV"),
@@ -176,8 +176,8 @@ def test_null_for_an_optional_value_leaves_it_out():
     ("comparator.bias_current", 5.0, "comparator.bias_current: must be from -1 A to 1 A"),
     ("comparator.delay", 1e9, "comparator.delay: must be from 0 s to 1 s"),
     ("output.load_capacitance", 1.0, "output.load_capacitance: must be from 0 F to 1 mF"),
-    ("output.resistance", 1e20, "output.resistance: must be from 0 Ohm to 1 TOhm"),
-    ("source.resistance", 1e300, "source.resistance: must be from 0 Ohm to 1 TOhm"),
+    ("output.resistance", 1e20, "output.resistance: must be from 0 Ω to 1 TΩ"),
+    ("source.resistance", 1e300, "source.resistance: must be from 0 Ω to 1 TΩ"),
     # Op-amps slew from some mV/us to some kV/us and recover in micro- to milliseconds (common
     # practice); data sheets state delays at overdrives of millivolts to some hundred millivolts.
     ("comparator.slew_rate", 1e15, "comparator.slew_rate: must be from 1 V/s to 1e+12 V/s, got 1e+15"),

@@ -273,10 +273,10 @@ def test_impossible_targets_are_refused_plainly(upper, lower, message, demo):
 @pytest.mark.parametrize(("stem", "upper", "lower", "message"), [
     # The greenhouse thermistor watches -10 C to 50 C, the solar divider 0 V to 16 V of battery.
     ("greenhouse_fan_thermostat", 300.0, 200.0,
-     r"the upper point 300 C is above the highest value the front end watches \(50 C\); a rising "
+     r"the upper point 300 °C is above the highest value the front end watches \(50 °C\); a rising "
      r"input would never reach it \(set front_end\.high if it goes higher\)"),
     ("greenhouse_fan_thermostat", 30.0, -30.0,
-     r"the lower point -30 C is below the lowest value the front end watches \(-10 C\); a falling "
+     r"the lower point -30 °C is below the lowest value the front end watches \(-10 °C\); a falling "
      r"input would never reach it \(set front_end\.low if it goes lower\)"),
     ("solar_battery_disconnect", 30.0, 20.0, r"above the highest value the front end watches \(16 V\)"),
 ])
@@ -315,7 +315,7 @@ def test_reference_beyond_the_rail():
 @pytest.mark.parametrize(("kwargs", "message"), [
     ({"series": "E25"}, "series: unknown series 'E25'; allowed: E3, E6"),
     ({"min_ohms": 0}, "min_ohms: must be a positive number of ohms"),
-    ({"min_ohms": 1e6, "max_ohms": 1e3}, r"min_ohms \(1 MOhm\) must be below max_ohms \(1 kOhm\)"),
+    ({"min_ohms": 1e6, "max_ohms": 1e3}, r"min_ohms \(1 MΩ\) must be below max_ohms \(1 kΩ\)"),
     ({"min_ohms": 1.01e3, "max_ohms": 1.05e3, "series": "E6"}, "no E6 value lies between"),
     ({"count": 0}, "count: must be a whole number from 1 to 100, got 0"),
     ({"fixed": {"pullup": 1e3}}, "fixed.pullup: not a resistor of this design; allowed: input, feedback"),
@@ -331,7 +331,7 @@ def test_bad_settings_name_the_setting(kwargs, message, demo):
 
 @pytest.mark.parametrize(("options", "message"), [
     (["--series", "E25"], "--series: unknown series 'E25'; allowed: E3"),
-    (["--min-ohms", "1M", "--max-ohms", "1k"], r"--min-ohms \(1 MOhm\) must be below --max-ohms \(1 kOhm\)"),
+    (["--min-ohms", "1M", "--max-ohms", "1k"], r"--min-ohms \(1 MΩ\) must be below --max-ohms \(1 kΩ\)"),
     (["--min-ohms", "1.01k", "--max-ohms", "1.05k", "--series", "E6"], "--series: no E6 value lies between"),
     (["--hold", "pullup=1k"], "--hold pullup: not a resistor of this design; allowed: input, feedback"),
     (["--hold", "feedback=-1k"], "--hold feedback: must be greater than zero"),
@@ -373,7 +373,7 @@ def test_cli_table_and_code(capsys, demo, demo_path):
     assert main(["fit", sump, "--upper", repr(a.upper), "--lower", repr(a.lower), "--hold", "feedback=39k",
                  "--code"]) == 0
     out = capsys.readouterr().out.splitlines()
-    assert "Held as given: feedback 39 kOhm." in out[4]
+    assert "Held as given: feedback 39 kΩ." in out[4]
     assert out[5].split() == ["#", "input", "upper", "lower", "worst", "error", "current"]
     assert out[6].split()[:2] == ["1", "10k"]  # first candidate, in the IEC 60062 code
 

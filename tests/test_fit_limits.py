@@ -101,7 +101,7 @@ def test_refusal_comes_before_any_search_and_says_what_would_help(no_search):
     # 97 E24 values from 1 kOhm to 10 MOhm; every combination of four of the five is 97**4.
     assert message.startswith("too many combinations to search: 5 free values (input, feedback, "
                               "to_positive, to_negative and to_ground), each one of 97 E24 values from "
-                              "1 kOhm to 10 MOhm")
+                              "1 kΩ to 10 MΩ")
     assert f"about {97 ** 4:,} combinations" in message
     assert f"its limit of {grid_search.BUDGET:,}" in message
     # Within ten times the limit: E12's 49 values over the range (49**4 = 5,764,801), or one value

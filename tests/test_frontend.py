@@ -263,7 +263,7 @@ def test_greenhouse_reads_in_celsius_with_the_direction_turned(demo):
     assert a.lower == pytest.approx(5 * r / (r + 10e3), abs=1e-9)
     # The fan (output high) comes on as the temperature rises through the upper watched point.
     assert a.rising_output == "high"
-    heating = "Self-heating: at its switching points the thermistor dissipates up to 622 µW (at 27.94 C)"
+    heating = "Self-heating: at its switching points the thermistor dissipates up to 622 µW (at 27.94 °C)"
     assert any(f.startswith(heating) for f in a.warnings)
 
 
@@ -330,7 +330,7 @@ def test_unreached_point_is_null_in_json():
 
 @pytest.mark.parametrize(("change", "named"), [
     # 5.15 K: the Beta model's resistance overflows a float (exp(3950 (1/5.15 - 1/298.15)), by hand).
-    ({"low": -268.0}, "front_end.low: at -268 C the thermistor's resistance would be more than"),
+    ({"low": -268.0}, "front_end.low: at -268 °C the thermistor's resistance would be more than"),
     # A Beta of 1.3e7 K is no part's; it would overflow already at -10 C, the greenhouse's lowest.
     ({"beta": 1.3e7}, "front_end.beta: must be from 100 K to 20000 K"),
     ({"beta": 1.3e7, "low": None}, "front_end.beta: must be from 100 K to 20000 K"),
@@ -403,8 +403,8 @@ BAD = [
     ({**THERM, "excitation": "rail"}, "front_end.excitation: 'rail' is not allowed; give \"positive\""),
     ({**THERM, "excitation": "reference"}, 'front_end.excitation: "reference" needs a fixed reference'),
     ({**THERM, "beta_tolerance": 120}, "front_end.beta_tolerance: a percentage from 0 to below 100"),
-    ({**THERM, "low": -300}, "front_end.low: -300.0 C is not above absolute zero"),
-    ({**THERM, "high": -60}, "front_end: low (-55.0 C) must be below high (-60.0 C)"),
+    ({**THERM, "low": -300}, "front_end.low: -300.0 °C is not above absolute zero"),
+    ({**THERM, "high": -60}, "front_end: low (-55.0 °C) must be below high (-60.0 °C)"),
     ({**THERM, "dissipation_constant": 0}, "front_end.dissipation_constant: must be greater than zero"),
     ({"kind": "linear", "volts_per_unit": 0, "unit": "kPa"}, "front_end.volts_per_unit: must not be zero"),
     ({"kind": "linear", "volts_per_unit": 0.1}, "front_end.unit: missing"),
@@ -441,7 +441,7 @@ def test_a_thermistor_fed_from_a_zero_volt_reference_is_refused_when_built(demo)
     from bandcalc.model.design import FixedReference, Source
 
     thermistor = ThermistorFrontEnd(fixed=1e3, r25=1e3, beta=2500.0, position="top", excitation="reference")
-    with pytest.raises(DesignError, match=r"front_end: its output is 0 V at both -55 and 150 C \(it hardly "
+    with pytest.raises(DesignError, match=r"front_end: its output is 0 V at both -55 and 150 °C \(it hardly "
                                           r"moves with the watched value\)"):
         replace(demo(SUMP), reference=FixedReference(0.0), source=Source(), front_end=thermistor)
 
@@ -464,11 +464,11 @@ def test_steinhart_hart_typos_are_refused_naming_the_coefficients(coefficients):
 
 @pytest.mark.parametrize(("change", "message"), [
     # Near absolute zero the Beta model's resistance passes any float (exp(3950 / 5 K)).
-    ({"low": -268}, r"front_end\.low: at -268 C the thermistor's resistance would be"),
-    ({"high": 1e6}, r"front_end\.high: must be from -273\.15 C to 500 C"),
+    ({"low": -268}, r"front_end\.low: at -268 °C the thermistor's resistance would be"),
+    ({"high": 1e6}, r"front_end\.high: must be from -273\.15 °C to 500 °C"),
     # NTC parts have Betas of a few thousand kelvin (common practice).
     ({"beta": 1.3e7}, r"front_end\.beta: must be from 100 K to 20000 K, got 1\.3e\+07"),
-    ({"fixed": 1e23}, r"front_end\.fixed: must be from 1 mOhm to 1 TOhm"),
+    ({"fixed": 1e23}, r"front_end\.fixed: must be from 1 mΩ to 1 TΩ"),
     ({"excitation": 1e308}, r"front_end\.excitation: must be from 0 V to 100 kV"),
     ({"dissipation_constant": 1e9}, r"front_end\.dissipation_constant: must be from"),
 ])
@@ -479,7 +479,7 @@ def test_thermistor_values_no_part_has_are_refused_naming_the_key_written(change
 
 def test_a_steep_curve_over_the_default_range_names_that_range():
     # R25 1 TOhm is allowed, but at -55 C (the default low end) a Beta of 4000 K takes it past 1 TOhm.
-    with pytest.raises(DesignError, match=r"front_end: over the default watched range -55 C to 150 C"):
+    with pytest.raises(DesignError, match=r"front_end: over the default watched range -55 °C to 150 °C"):
         design_from_dict(_with_front_end({"kind": "thermistor", "r25": 1e12, "beta": 4000, "fixed": "10k"}))
 
 
@@ -492,7 +492,7 @@ def test_a_steep_curve_over_the_default_range_names_that_range():
     ({"kind": "linear", "volts_per_unit": 0.01, "unit": "kPa", "offset": 1e6},
      r"front_end\.offset: must be from -100 kV to 100 kV"),
     ({"kind": "linear", "volts_per_unit": 0.01, "unit": "k\ud800"}, r"front_end\.unit: .*lone surrogate"),
-    ({"kind": "divider", "top": "10k", "bottom": 1e300}, r"front_end\.bottom: must be from 1 mOhm to 1 TOhm"),
+    ({"kind": "divider", "top": "10k", "bottom": 1e300}, r"front_end\.bottom: must be from 1 mΩ to 1 TΩ"),
     ({"kind": "divider", "top": "10k", "bottom": "1k", "high": 1e308},
      r"front_end\.high: must be from -100 kV to 100 kV"),
     # Below the bound as well as above it (a low of -1e308 V passed, to fail later as "source.low").

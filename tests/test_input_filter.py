@@ -108,7 +108,7 @@ def test_the_filter_section_reads_writes_and_names_its_keys(demo):
         ({"resistance": "10k", "capacitance": 0}, "filter.capacitance: must be greater than zero"),
         ({"resistance": -1, "capacitance": "1u"}, "filter.resistance: must be zero or more"),
         # Bounds as every part's (common practice): resistors to a teraohm, capacitors to a millifarad.
-        ({"resistance": 1e15, "capacitance": "1u"}, "filter.resistance: must be from 0 Ohm to 1 TOhm"),
+        ({"resistance": 1e15, "capacitance": "1u"}, "filter.resistance: must be from 0 Ω to 1 TΩ"),
         ({"resistance": "10k", "capacitance": 1.0}, "filter.capacitance: must be from 0 F to 1 mF, got 1"),
         ({"resistance": "10k", "capacitance": "1u", "pole": 5}, "filter.pole: unknown key"),
         ({"resistance": "10k", "capacitance": "1 uV"}, "filter.capacitance: cannot read"),

@@ -279,7 +279,7 @@ def test_typed_value_errors_name_the_field():
     with pytest.raises(UnitError, match=r"Beta \(front_end.beta\): cannot read 'warm'; write a number in K"):
         read_value("warm", "K", "Beta (front_end.beta)")
     assert shown(3950.0, "K") == "3950 K" and shown(1.5e-3, "W/K") == "1.5 mW/K"
-    assert shown(8.775468e-8, "") == "8.775468e-08" and shown(25.0, "C") == "25 C"
+    assert shown(8.775468e-8, "") == "8.775468e-08" and shown(25.0, "C") == "25 °C"
 
 
 def test_data_sheet_limits_and_networks_edit_the_design_section(demo):

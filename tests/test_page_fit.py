@@ -151,9 +151,9 @@ def test_the_search_runs_only_on_the_button(monkeypatch):
 def test_a_front_end_design_takes_targets_and_shows_candidates_in_its_unit():
     at = fit_tab({PARAM: design_to_address(GREENHOUSE)})
     a = analyze(GREENHOUSE)
-    assert at.text_input(key="fit.upper").value == format_value(float(a.points.upper), "C", 5) == "31.914 C"
-    assert at.text_input(key="fit.lower").value == format_value(float(a.points.lower), "C", 5) == "27.94 C"
-    assert at.text_input(key="fit.upper").label == "Upper point wanted (C)"
+    assert at.text_input(key="fit.upper").value == format_value(float(a.points.upper), "C", 5) == "31.914 °C"
+    assert at.text_input(key="fit.lower").value == format_value(float(a.points.lower), "C", 5) == "27.94 °C"
+    assert at.text_input(key="fit.upper").label == "Upper point wanted (°C)"
     find(at, "32", "28 °C")
     assert not errors(at)
     result = fit(GREENHOUSE, 32.0, 28.0)
@@ -161,7 +161,7 @@ def test_a_front_end_design_takes_targets_and_shows_candidates_in_its_unit():
     names = {"feedback": "Feedback", "to_positive": "To + rail", "to_ground": "To ground"}
     want = as_shown(result, "C", names)
     assert {k: shown[k] for k in want} == want
-    assert all(v.endswith(" C") for v in shown["Upper"] + shown["Lower"] + shown["Worst error"])
+    assert all(v.endswith(" °C") for v in shown["Upper"] + shown["Lower"] + shown["Worst error"])
     at.button(key="fit.apply.2").click().run()
     applied = apply_candidate(GREENHOUSE, result.candidates[1])
     assert design_on(at) == applied
@@ -211,7 +211,7 @@ def test_held_resistors_keep_their_values():
     assert set(candidates_shown(at)) >= {"Input", "To + rail"}
     result = fit(SUMP, 3.1, 1.9, fixed={"feedback": 39e3})
     assert candidates_shown(at)["Upper"] == [format_value(c.upper, "V", 4) for c in result.candidates]
-    assert "Held as given: feedback 39 kOhm." in [i.value for i in at.info]
+    assert "Held as given: feedback 39 kΩ." in [i.value for i in at.info]
 
 
 def test_targets_out_of_reach_without_an_added_leg_are_explained():
@@ -236,7 +236,7 @@ def test_settings_stay_across_tabs_and_restart_for_another_design():
     button(at, "Targets from the present points").click().run()
     assert at.text_input(key="fit.upper").value == "3.1362 V"
     at.selectbox(key="page.demo").set_value("greenhouse_fan_thermostat").run()  # another design
-    assert at.text_input(key="fit.upper").value == "31.914 C"
+    assert at.text_input(key="fit.upper").value == "31.914 °C"
 
 
 def test_results_for_a_changed_stage_are_not_offered():

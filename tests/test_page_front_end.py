@@ -64,7 +64,7 @@ def test_the_transfer_curve_plots_against_the_watched_quantity_or_the_stage():
     at = page(design=GREENHOUSE)
     a = analyze(GREENHOUSE)
     spec = chart(at)
-    assert spec["layout"]["xaxis"]["title"]["text"] == "Temperature (C)"
+    assert spec["layout"]["xaxis"]["title"]["text"] == "Temperature (°C)"
     points = spec["data"][2]
     assert points["x"] == pytest.approx([float(a.points.upper), float(a.points.lower)])
     assert points["text"] == [f"Upper {format_value(float(a.points.upper), 'C', 4)}",
@@ -124,7 +124,7 @@ def test_a_thermistor_from_the_sidebar():
     fe = design_on(at).front_end
     assert fe.beta is None and fe.steinhart_hart[2] == 8.775468e-8
     assert f"NTC {format_code(fe.nominal_r25)}, S-H" in svg_of(at) and "3.3 V" in svg_of(at)
-    assert figures(at)["Upper switching point"].endswith(" C")
+    assert figures(at)["Upper switching point"].endswith(" °C")
     assert not at.exception
 
 

@@ -99,7 +99,9 @@ def _unit(widget) -> str:
     if widget.key.endswith(".text"):
         return "Ohm"
     found = re.search(r"\(([^()]*)\)$", widget.label)
-    return "" if found is None else "Ohm" if found.group(1) == "Ω" else found.group(1)
+    if found is None:
+        return ""
+    return {"Ω": "Ohm", "°C": "C"}.get(found.group(1), found.group(1))  # the ASCII names inside
 
 
 def _read(text: str, unit: str) -> float | None | str:

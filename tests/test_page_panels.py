@@ -124,7 +124,7 @@ def test_long_runs_report_progress(monkeypatch):
     at = run_spread(SUMP, samples=100_000)
     assert not at.exception
     assert calls[-1] == (100_000, 100_000) and len(calls) == 7  # blocks of 16,384 (propagation.CHUNK)
-    assert any(m.value.startswith("**Monte Carlo**: 100,000 builds, each over 0 to 50 C, seed 1")
+    assert any(m.value.startswith("**Monte Carlo**: 100,000 builds, each over 0 to 50 °C, seed 1")
                for m in at.markdown)
 
 
@@ -235,7 +235,7 @@ def test_synthetic_signal_check_matches_the_package(design, noise):
     rising = trace(time, "Rising edges")
     assert np.array_equal(numbers(rising["x"]), run.edge_times[run.output_rising])  # exact edge times
     assert trace(time, "Upper point")["y"] == pytest.approx([upper, upper])
-    assert time["layout"]["yaxis"]["title"]["text"] == f"Input ({'V' if design.front_end is None else 'C'})"
+    assert time["layout"]["yaxis"]["title"]["text"] == f"Input ({'V' if design.front_end is None else '°C'})"
     trade = chart(at, "Output edges")
     assert np.array_equal(numbers(trace(trade, "Output edges")["y"]), sweep.edge_counts)
     marks = {s["name"]: s for s in trade["layout"]["shapes"]}

@@ -169,7 +169,7 @@ def test_spread_section_and_columns(demo):
     y = mc.build_yield
     assert (f"Yield against the limits, per build over the range: {100 * y.fraction:.3f} % of builds"
             in text)
-    assert "each build is checked over the whole range, 0 to 50 C" in text
+    assert "each build is checked over the whole range, 0 to 50 °C" in text
     f = y.failure
     assert (f"Failure probability: {format_probability(f.probability)} (95 % interval "
             f"{format_probability(f.low)} to {format_probability(f.high)}); {f.method}.") in text
@@ -207,7 +207,7 @@ def test_fit_section(demo):
     r = fit(d, 32.0, 28.0, count=3)
     text = design_summary(d, type("Inputs", (), {"spread": None, "signal": None, "fit": r})())
     assert "## Standard values fitted to the targets" in text
-    assert "Targets: upper 32 C, lower 28 C" in text
+    assert "Targets: upper 32 °C, lower 28 °C" in text
     best = r.candidates[0]
     assert f"| 1 | {format_code(best.resistors['feedback'])} |" in text
     assert sum(1 for line in text.splitlines() if line.startswith("| 3 |")) == 1
@@ -224,8 +224,8 @@ def test_the_filter_and_the_signal_settings_are_in_the_summary(demo):
                                       false_edges_per_year=1.0))
     text = design_summary(d)
     assert "| Cflt | input filter, from the stage's input node to ground | 1 µF |" in text
-    assert "| Rflt | in series with the signal, ahead of the filter capacitor | 4.7 kOhm (4k7) |" in text
-    assert "An input filter (4.7 kOhm (4k7) in series and 1 µF from the stage's input to ground) has its " \
+    assert "| Rflt | in series with the signal, ahead of the filter capacitor | 4.7 kΩ (4k7) |" in text
+    assert "An input filter (4.7 kΩ (4k7) in series and 1 µF from the stage's input to ground) has its " \
            "pole at" in text
     assert "## Noise and false edges expected" in text
     assert "Parked at a point: false switching | about once every" in text
@@ -255,7 +255,7 @@ def test_the_load_and_the_receiving_logic_are_described():
                load=Load(resistance=10e3, volts=0.0, logic_low_max=0.8, logic_high_min=3.5))
     text = design_summary(d)
     stage = text.split("## The stage")[1].split("##")[0]
-    assert "drives a load of 10 kOhm (10k) to 0 V" in stage and "reads below 800 mV as low" in stage
+    assert "drives a load of 10 kΩ (10k) to 0 V" in stage and "reads below 800 mV as low" in stage
     assert "Logic levels: the output's high level falls to" in text
     assert "- Note: Power-up: the input can rest between" in text
 

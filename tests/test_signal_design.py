@@ -64,7 +64,7 @@ def test_front_end_design_runs_in_the_watched_quantity(capsys, demo, demo_path):
     run = run_design(d, wave)
     assert (run.upper, run.lower) == pytest.approx((float(a.points.upper), float(a.points.lower)))
     assert not run.inverting
-    assert " C " in run.findings[0] and " V " not in run.findings[0]
+    assert " °C " in run.findings[0] and " V " not in run.findings[0]
     assert main(["signal", demo_path("greenhouse_fan_thermostat"), "--json", "--frequency", "0.01",
                  "--duration", "200", "--rate", "50"]) == 0
     assert json.loads(capsys.readouterr().out)["unit"] == "C"
@@ -186,4 +186,4 @@ def test_signal_options_are_named_as_typed(options, message, capsys, demo_path):
 def test_signal_options_of_a_front_end_design_are_in_its_unit(capsys, demo_path):
     # The greenhouse signal runs in degrees C, so its noise does too.
     assert main(["signal", demo_path("greenhouse_fan_thermostat"), "--noise", "-1"]) == 2
-    assert "--noise must be at least 0 C, got -1" in capsys.readouterr().err
+    assert "--noise must be at least 0 °C, got -1" in capsys.readouterr().err

@@ -667,7 +667,7 @@ def test_where_builds_fail_names_the_window_and_the_temperature():
                                                 / (stats.norm.sf(3 * excess / (60 * 2e-4))
                                                    + stats.norm.sf(3 * excess / (65 * 2e-4))), abs=0.05)
     words = " ".join(failure_places(s))
-    assert "Upper point above 3.16 V" in words and "at 85 C" in words and "at -40 C" in words
+    assert "Upper point above 3.16 V" in words and "at 85 °C" in words and "at -40 °C" in words
 
 
 def test_json_is_strict_where_a_figure_does_not_exist(demo):

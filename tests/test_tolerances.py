@@ -99,9 +99,9 @@ def test_files_without_the_section_still_load_and_round_trip():
     ({"resistor_tempco": {"feedback": 6000}},
      "tolerances.resistor_tempco.feedback: must be from 0 to 5000 ppm/K, got 6000.0"),
     ({"temperature": [-40, 85], "resistor_tempco": 4000},
-     "tolerances.resistor_tempco: 4000 ppm/K over -40 to 85 C moves a resistor by up to 26 %"),
+     "tolerances.resistor_tempco: 4000 ppm/K over -40 to 85 °C moves a resistor by up to 26 %"),
     ({"temperature": [-40, 85], "reference_drift": 5000},
-     "tolerances.reference_drift: 5000 ppm/K over -40 to 85 C moves the reference by up to 62.5 %"),
+     "tolerances.reference_drift: 5000 ppm/K over -40 to 85 °C moves the reference by up to 62.5 %"),
     ({"resistor_networks": {"RN1": {"resistors": ["input"], "tempco": 25}}},
      "tolerances.resistor_networks.RN1.resistors: give two or more resistors"),
     ({"resistor_networks": {"RN1": {"resistors": ["input", "feedbak"], "tempco": 25}}},
@@ -182,12 +182,13 @@ def test_series_tolerance_agrees_with_the_eseries_package(ohms):
      r"tolerances\.resistor_tempco\.feedback: must be from 0 to 5000 ppm/K"),
     # 5000 ppm/K x 225 K (from 25 C down to -200 C) = 112.5 %: the resistor would go to -12.5 %.
     ({"temperature": [-200, 125], "resistor_tempco": {"default": 50, "feedback": 5000}},
-     r"tolerances\.resistor_tempco\.feedback: 5000 ppm/K over -200 to 125 C moves a resistor by up to 112 %"),
+     r"tolerances\.resistor_tempco\.feedback: 5000 ppm/K over -200 to 125 °C moves a resistor by up to "
+     r"112 %"),
     ({"temperature": [-40, 400], "reference_drift": 9000},
      r"tolerances\.reference_drift: must be from 0 to 5000 ppm/K"),
     # Box method: 1000 ppm/K x 440 K = 44 % either way of the reference.
     ({"temperature": [-40, 400], "reference_drift": 1000},
-     r"tolerances\.reference_drift: 1000 ppm/K over -40 to 400 C moves the reference by up to 44 %"),
+     r"tolerances\.reference_drift: 1000 ppm/K over -40 to 400 °C moves the reference by up to 44 %"),
     ({"bias_current": 1e3}, r"tolerances\.bias_current: must be from 0 to 1 A"),
     ({"offset": 1e300}, r"tolerances\.offset: must be from 0 to 100000 V"),
     ({"offset_drift": 1e300}, r"tolerances\.offset_drift: must be from 0 to 1 V/K"),

@@ -396,8 +396,8 @@ def _spread_table(path: str, s: Spread) -> str:
     lines += [wrap(visible_text(f"{_short(f.name)} {f.format(f.low)} to {f.format(f.high)} ({f.origin})"))
               for f in s.factors] or ["    nothing: every part is exact"]
     span = s.tolerances.temperature
-    lines.append("  temperature: " + ("25 C only (no range given)" if span is None else
-                                      f"{span[0]:g} to {span[1]:g} C; each build must hold at every "
+    lines.append("  temperature: " + ("25 °C only (no range given)" if span is None else
+                                      f"{span[0]:g} to {span[1]:g} °C; each build must hold at every "
                                       "temperature of the range"))
     rows = [("nominal", wc.nominal), ("worst-case min", {q: getattr(wc, q).min for q in QUANTITIES}),
             ("worst-case max", {q: getattr(wc, q).max for q in QUANTITIES}),
@@ -407,7 +407,7 @@ def _spread_table(path: str, s: Spread) -> str:
             ("99.865 % of builds", {q: mc.highest[q].percentiles[99.865] for q in QUANTITIES})]
     spread_kind = {"normal": "normal, tolerance = 3 sigma", "screened": "normal cut at the tolerance",
                    "uniform": "uniform within the tolerance"}[s.tolerances.distribution]
-    middle = "" if span is None else (f"; mean and std at {mc.middle:g} C, percentiles of each build's "
+    middle = "" if span is None else (f"; mean and std at {mc.middle:g} °C, percentiles of each build's "
                                       "extremes")
     lines.append(f"  Monte Carlo: {mc.samples:,} builds, {spread_kind}, seed {mc.seed}{middle}")
     lines.append(f"  {'':<18} {'upper':>12} {'lower':>12} {'hysteresis':>12}")

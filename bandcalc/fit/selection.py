@@ -45,7 +45,7 @@ from bandcalc.model.parts import parameters, part, value_at, with_values
 from bandcalc.model.points import design_points, input_range, stage_design, stage_targets
 from bandcalc.model.standard_values import SERIES, EseriesError, series_values
 from bandcalc.model.tolerances import Limits, PerResistor, Tolerances
-from bandcalc.model.units import UnitError, format_si, format_value, parse_resistance
+from bandcalc.model.units import UnitError, format_si, format_value, parse_resistance, symbol
 from bandcalc.spread.propagation import DEFAULT_SEED, Yield, simplifications
 
 __all__ = [
@@ -243,7 +243,7 @@ def _check_order(upper: float, lower: float, unit: str) -> None:
     """Targets in the design's unit: two numbers, the upper above the lower."""
     for key, value in (("upper", upper), ("lower", lower)):
         if not _is_number(value):
-            raise FitError(f"{key}: must be a number ({unit}), got {value!r}")
+            raise FitError(f"{key}: must be a number ({symbol(unit)}), got {value!r}")
     if upper <= lower:
         raise FitError(f"the upper point ({format_value(upper, unit, 4)}) must be above the lower point "
                        f"({format_value(lower, unit, 4)}): a rising input switches the stage at the upper "
@@ -543,7 +543,7 @@ def fit(design: Design, upper: Aim | None, lower: Aim | None, *, series: str = "
                            "margin or yield to choose them")
         for key, value in (("upper", upper), ("lower", lower)):
             if not _is_number(value):
-                raise FitError(f"{named[key]}: must be a number ({design.unit}), got {value!r}")
+                raise FitError(f"{named[key]}: must be a number ({symbol(design.unit)}), got {value!r}")
         return _fit_through_input(design, upper, lower, count, settings)
     if not (isinstance(min_yield, (int, float)) and not isinstance(min_yield, bool) and 0 < min_yield <= 1):
         raise FitError(f"{named['min_yield']}: must be above 0 % and at most 100 %, got {min_yield!r}")
@@ -567,8 +567,8 @@ def _windows(design: Design, given: Mapping[str, Aim | None], named: Mapping[str
             continue
         lo, hi = window(value) if isinstance(value, tuple) or _is_number(value) else (math.nan, math.nan)
         if math.isnan(lo) or math.isnan(hi) or lo > hi or (math.isinf(lo) and math.isinf(hi)):
-            raise FitError(f"{named[key]}: give a value or a window lowest,highest ({unit}), the lowest "
-                           f"not above the highest, one side at most open; got {value!r}")
+            raise FitError(f"{named[key]}: give a value or a window lowest,highest ({symbol(unit)}), the "
+                           f"lowest not above the highest, one side at most open; got {value!r}")
         out[key] = (lo, hi)
     return out
 

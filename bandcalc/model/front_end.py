@@ -343,11 +343,11 @@ class ThermistorFrontEnd(_Base):
             self._check_beta_temperatures()
         _range_checked(self.low, self.high)  # finite numbers first, then the bounds of a temperature
         if self.low is not None and self.low <= -KELVIN_AT_0C:
-            raise DesignError(f"front_end.low: {self.low} C is not above absolute zero")
+            raise DesignError(f"front_end.low: {self.low} °C is not above absolute zero")
         _range_checked(self.low, self.high, CELSIUS, "C")
         low, high = self.temperatures()
         if low >= high:
-            raise DesignError(f"front_end: low ({low} C) must be below high ({high} C)")
+            raise DesignError(f"front_end: low ({low} °C) must be below high ({high} °C)")
         self._check_curve(low, high)
 
     def _check_curve(self, low: float, high: float) -> None:
@@ -368,31 +368,31 @@ class ThermistorFrontEnd(_Base):
         allowed = lambda: f"a part has {format_value(OHMS[0], 'Ohm')} to {format_value(OHMS[1], 'Ohm')}"  # noqa: E731
         if self.steinhart_hart is not None:
             if not OHMS[0] <= at25 <= OHMS[1]:  # NaN fails too
-                raise DesignError(f"front_end.steinhart_hart: these coefficients give {_ohms(at25)} at 25 C, "
-                                  f"where {allowed()}; check each exponent (a 10 kOhm part has A about 1e-3, "
-                                  "B about 2e-4, C about 1e-7)")
+                raise DesignError(f"front_end.steinhart_hart: these coefficients give {_ohms(at25)} at "
+                                  f"25 °C, where {allowed()}; check each exponent (a 10 kΩ part has A about "
+                                  "1e-3, B about 2e-4, C about 1e-7)")
             if bad.any() or not (np.diff(curve) < 0).all():
-                where = (f"{_ohms(curve[bad][0])} at {celsius[bad][0]:g} C, where {allowed()}" if bad.any()
+                where = (f"{_ohms(curve[bad][0])} at {celsius[bad][0]:g} °C, where {allowed()}" if bad.any()
                          else "a resistance that does not fall as the temperature rises")
-                raise DesignError(f"front_end.steinhart_hart: over the watched range {low:g} C to {high:g} C "
-                                  f"these coefficients give {where}; check the coefficients, or "
+                raise DesignError(f"front_end.steinhart_hart: over the watched range {low:g} °C to "
+                                  f"{high:g} °C these coefficients give {where}; check the coefficients, or "
                                   "front_end.low / front_end.high")
             if not BETA[0] <= beta <= BETA[1]:  # NaN fails too
-                raise DesignError(f"front_end.steinhart_hart: these coefficients give a Beta (25 C to 50 C) "
-                                  f"of {beta:.3g} K, where NTC parts have {BETA[0]:g} K to {BETA[1]:g} K; "
-                                  "check each exponent")
+                raise DesignError("front_end.steinhart_hart: these coefficients give a Beta (25 °C to "
+                                  f"50 °C) of {beta:.3g} K, where NTC parts have {BETA[0]:g} K to "
+                                  f"{BETA[1]:g} K; check each exponent")
             return
         if not bad.any():
             return
         at = float(celsius[bad][0])
         end = "low" if at == low else "high"
         if getattr(self, end) is not None:
-            raise DesignError(f"front_end.{end}: at {at:g} C the thermistor's resistance would be "
+            raise DesignError(f"front_end.{end}: at {at:g} °C the thermistor's resistance would be "
                               f"{_ohms(curve[bad][0])}, where {allowed()}; "
                               f"narrow the watched range or check r25 and beta")
-        raise DesignError(f"front_end: over the default watched range {THERMISTOR_RANGE[0]:g} C to "
-                          f"{THERMISTOR_RANGE[1]:g} C the thermistor's resistance would reach "
-                          f"{_ohms(curve[bad][0])} (at {at:g} C), where {allowed()}; give front_end.low / "
+        raise DesignError(f"front_end: over the default watched range {THERMISTOR_RANGE[0]:g} °C to "
+                          f"{THERMISTOR_RANGE[1]:g} °C the thermistor's resistance would reach "
+                          f"{_ohms(curve[bad][0])} (at {at:g} °C), where {allowed()}; give front_end.low / "
                           "front_end.high, or check r25 and beta")
 
     def _check_beta_temperatures(self) -> None:
@@ -405,7 +405,7 @@ class ThermistorFrontEnd(_Base):
         for value in pair:
             finite(value, where)
             if value <= -KELVIN_AT_0C:
-                raise DesignError(f"{where}: {value} C is not above absolute zero")
+                raise DesignError(f"{where}: {value} °C is not above absolute zero")
             within(value, where, *CELSIUS, "C")
         if pair[0] >= pair[1]:
             raise DesignError(f"{where}: the first temperature must be below the second, got {list(pair)}")
@@ -497,8 +497,8 @@ class ThermistorFrontEnd(_Base):
 def _ohms(x: float) -> str:
     """A resistance for a message about an implausible one (no SI prefix: it may be 1e-30)."""
     if math.isfinite(x):
-        return f"{x:.3g} Ohm"
-    return "more than 1e308 Ohm" if x > 0 else "no resistance at all (the formula has no answer)"
+        return f"{x:.3g} Ω"
+    return "more than 1e308 Ω" if x > 0 else "no resistance at all (the formula has no answer)"
 
 
 FrontEnd = DividerFrontEnd | ThermistorFrontEnd | LinearFrontEnd

@@ -203,7 +203,7 @@ def _findings(design: Design, a: Analysis) -> list[Finding]:
     for key, ohms in resistors_of(a.design).items():
         if ohms > LEAKAGE_OHMS:
             out.append(Finding("high_value", (
-                f"High value: {key} is {format_si(ohms, 'Ohm')}, above 1 MOhm; board leakage and bias "
+                f"High value: {key} is {format_si(ohms, 'Ohm')}, above 1 MΩ; board leakage and bias "
                 f"current start to move the switching points (clean, coated boards help)."),
                 {"part": key, "ohms": ohms}))
     return out

@@ -52,7 +52,7 @@ from bandcalc.model.network import (
     threshold,
 )
 from bandcalc.model.parts import parameters
-from bandcalc.model.units import format_value
+from bandcalc.model.units import format_value, symbol
 
 __all__ = [
     "DesignPoints",
@@ -282,11 +282,13 @@ def range_volts(design: Design) -> list[float]:
             where = (f"front_end.{key}" if given else
                      f"the default {'lowest' if key == 'low' else 'highest'} value; set front_end.{key} "
                      "to the range the design needs")
-            raise DesignError(f"front_end: at {x:g} {fe.unit} ({where}) the front end's output cannot be "
-                              "computed (it overflows); narrow the range or check the front end's values")
+            raise DesignError(f"front_end: at {x:g} {symbol(fe.unit)} ({where}) the front end's output "
+                              "cannot be computed (it overflows); narrow the range or check the front "
+                              "end's values")
     if volts[0] == volts[1]:
         raise DesignError(f"front_end: its output is {volts[0]:.6g} V at both {rng[0]:g} and {rng[1]:g} "
-                          f"{fe.unit} (it hardly moves with the watched value); check the front end's values")
+                          f"{symbol(fe.unit)} (it hardly moves with the watched value); check the front "
+                          "end's values")
     return volts
 
 

@@ -337,7 +337,7 @@ class Tolerances:
         of at most :data:`MAX_PERCENT` does at 25 C.
         """
         low, high = self.temperature  # type: ignore[misc]
-        span, reach = f"{low:g} to {high:g} C", max(abs(low - NOMINAL_CELSIUS), abs(high - NOMINAL_CELSIUS))
+        span, reach = f"{low:g} to {high:g} °C", max(abs(low - NOMINAL_CELSIUS), abs(high - NOMINAL_CELSIUS))
         bounds = [(key, v) for key, v in self.resistor_tempco.named("tolerances.resistor_tempco") if v]
         bounds += [(f"tolerances.resistor_networks.{n.name}", n.tempco + 0.5 * n.tracking)
                    for n in self.resistor_networks]

@@ -16,6 +16,7 @@ __all__ = [
     "MICRO",
     "PREFIXED_UNITS",
     "SI_UNITS",
+    "SYMBOLS",
     "UnitError",
     "format_code",
     "format_interval",
@@ -26,6 +27,7 @@ __all__ = [
     "format_volts",
     "parse_quantity",
     "parse_resistance",
+    "symbol",
 ]
 
 # Prefixes as powers of ten, applied to the decimal text so "100n" is exactly 1e-7.
@@ -38,7 +40,7 @@ _CODE_LETTER = {"R": 0, "r": 0, "K": 3, "k": 3, "M": 6, "G": 9, "T": 12}
 _OHM_UNITS = ("ohms", "ohm", "Ohms", "Ohm", "OHM", "Ω", "Ω")
 
 _NUMBER = r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?"
-_SI_RE = re.compile(rf"^\s*(?P<num>{_NUMBER})\s*(?P<prefix>meg|[pnuµμmkKMG]?)\s*(?P<unit>[A-Za-zΩΩ]*)\s*$")
+_SI_RE = re.compile(rf"^\s*(?P<num>{_NUMBER})\s*(?P<prefix>meg|[pnuµμmkKMG]?)\s*(?P<unit>°?[A-Za-zΩΩ]*)\s*$")
 _CODE_RE = re.compile(r"^\s*(?P<int>\d*)(?P<letter>[RrKkMGT])(?P<frac>\d*)\s*(?P<unit>[A-Za-zΩΩ]*)\s*$")
 
 _RES_HINT = "write ohms as a number, with an SI prefix (4.7k, 2.2M) or in the IEC 60062 code (4k7, 2R2, 1M5)"
@@ -88,7 +90,7 @@ def parse_quantity(value: float | int | str, unit: str = "", what: str = "value"
                 raise
             raise UnitError(f"{what}: expected a number, got {shown(value)}") from None
     m = _SI_RE.match(value)
-    if m and (m["unit"] in ("", unit) or (unit and m["unit"].lower() == unit.lower())):
+    if m and (m["unit"] in ("", unit, symbol(unit)) or (unit and m["unit"].lower() == unit.lower())):
         return _check_number(_scaled(m["num"], _PREFIX[m["prefix"]]), what)
     if m and m["prefix"] == "" and m["unit"] and m["unit"][0] in _PREFIX and m["unit"][1:] in ("", unit):
         return _check_number(_scaled(m["num"], _PREFIX[m["unit"][0]]), what)
@@ -126,7 +128,16 @@ def _is_ohm_unit(unit: str) -> bool:
 
 #: The prefix micro as people read it (SI Brochure, 9th edition, Table 7): the MICRO SIGN U+00B5.
 MICRO = "\u00b5"
-_MICROS = (MICRO, "u")
+#: The units bandcalc names in ASCII inside, as people read them: the ohm "Ω" and the degree Celsius
+#: "°C" (SI Brochure, 9th edition, Table 4).  Text a program reads keeps the ASCII names.
+SYMBOLS = {"Ohm": "\u03a9", "C": "\u00b0C"}
+
+
+def symbol(unit: str) -> str:
+    """A unit as people read it: "Ohm" as "Ω", "C" as "°C" (and "C/s" as "°C/s"), any other as it is."""
+    head, per, tail = unit.partition("/")
+    return SYMBOLS.get(head, head) + per + tail
+
 
 _SI_STEPS = ((12, "T"), (9, "G"), (6, "M"), (3, "k"), (0, ""), (-3, "m"), (-6, MICRO),
              (-9, "n"), (-12, "p"))
@@ -159,17 +170,16 @@ def _beyond(value: float, unit: str, digits: int, span: tuple[float, float]) -> 
     return None
 
 
-def format_si(value: float, unit: str, digits: int = 3, *, micro: str = MICRO) -> str:
-    """Format a value with an SI prefix and `digits` significant figures: "4.7 kOhm", "50 mV".
+def format_si(value: float, unit: str, digits: int = 3, *, plain: bool = False) -> str:
+    """Format a value with an SI prefix and `digits` significant figures: "4.7 kΩ", "50 mV".
 
-    Micro is written "µ" ("1.2 µA"), or with ``micro="u"`` in plain ASCII ("1.2 uA") for text
-    only a program reads; :func:`parse_quantity` reads either.  Trailing zeros are dropped; zero
-    prints as "0 V"; NaN prints as "n/a" and infinities as "+inf V"; magnitudes beyond the
-    prefixes pico to tera in E notation ("1e-300 V").
+    Micro is written "µ" ("1.2 µA") and the unit by its symbol (:func:`symbol`); with ``plain``,
+    in ASCII ("1.2 uA", "4.7 kOhm") for text only a program reads.  :func:`parse_quantity` reads
+    either.  Trailing zeros are dropped; zero prints as "0 V"; NaN prints as "n/a" and infinities
+    as "+inf V"; magnitudes beyond the prefixes pico to tera in E notation ("1e-300 V").
     """
-    if micro not in _MICROS:
-        raise UnitError(f"micro: write {MICRO!r} or 'u', got {micro!r}")
     value = float(value)
+    unit = unit if plain else symbol(unit)
     special = _beyond(value, unit, digits, _PREFIXED_SPAN)
     if special is not None:
         return special
@@ -179,7 +189,7 @@ def format_si(value: float, unit: str, digits: int = 3, *, micro: str = MICRO) -
     exponent, prefix = next(((e, p) for e, p in _SI_STEPS if mag >= 10.0**e), _SI_STEPS[-1])
     scaled = _round(mag / 10.0**exponent, digits)
     sign = "-" if value < 0 else ""
-    prefix = micro if prefix == MICRO else prefix
+    prefix = "u" if plain and prefix == MICRO else prefix
     return f"{sign}{_plain(scaled, digits)} {prefix}{unit}".rstrip()
 
 
@@ -191,18 +201,20 @@ def format_volts(volts: float) -> str:
 #: SI units that the parser reads after a prefix ("100 nA").
 SI_UNITS = ("V", "A", "Ohm", "s", "F", "W", "Hz")
 #: Units written with an SI prefix ("10 mV", "1.5 mW/K"); any other unit (K, C, kPa, %) prints as
-#: a plain figure ("3950 K", "32.01 C").
+#: a plain figure ("3950 K", "32.01 °C").
 PREFIXED_UNITS = (*SI_UNITS, "W/K", "V/K", "V/s")
 
 
-def format_value(value: float, unit: str, digits: int = 4) -> str:
-    """A value for people: prefixed in :data:`PREFIXED_UNITS` ("2.95 V"), else plain ("3950 K").
+def format_value(value: float, unit: str, digits: int = 4, *, plain: bool = False) -> str:
+    """A value for people: prefixed in :data:`PREFIXED_UNITS` ("2.95 V"), else plain ("3950 K",
+    "32.01 °C"); with ``plain``, in ASCII for text a program reads ("32.01 C").
 
     NaN prints as "n/a"; magnitudes a plain figure cannot show well in E notation ("2.5e+300 kPa").
     """
     value = float(value)
     if unit in PREFIXED_UNITS:
-        return format_si(value, unit, digits)
+        return format_si(value, unit, digits, plain=plain)
+    unit = unit if plain else symbol(unit)
     special = _beyond(value, unit, digits, _PLAIN_SPAN)
     if special is not None:
         return special
@@ -222,7 +234,7 @@ def format_code(ohms: float, digits: int = 3) -> str:
 
 
 def format_ohms(ohms: float, code: bool = False, digits: int = 3) -> str:
-    """A resistance the trade's way: "4.7 kOhm", or with ``code`` the IEC 60062 code "4k7"."""
+    """A resistance the trade's way: "4.7 kΩ", or with ``code`` the IEC 60062 code "4k7"."""
     return format_code(ohms, digits) if code else format_si(ohms, "Ohm", digits)
 
 

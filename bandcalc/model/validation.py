@@ -20,7 +20,7 @@ from numbers import Integral, Real
 from typing import Any
 
 from bandcalc.errors import BandcalcError, DesignError, shown
-from bandcalc.model.units import SI_UNITS, format_si
+from bandcalc.model.units import SI_UNITS, format_si, symbol
 
 __all__ = [
     "AMOUNT",
@@ -114,12 +114,12 @@ def within(value: float, key: str, low: float, high: float, unit: str) -> None:
     finite(value, key)
     if not low <= value <= high:
         raise DesignError(f"{key}: must be from {_bound(low, unit)} to {_bound(high, unit)}, "
-                          f"got {value:g}{unit and ' ' + unit}")
+                          f"got {value:g}{unit and ' ' + symbol(unit)}")
 
 
 def _bound(x: float, unit: str) -> str:
-    """A bound as a message states it: "1 mOhm", "100 kV"; "20000 K", "-273.15 C" without a prefix."""
-    return format_si(x, unit) if unit in SI_UNITS else f"{x:g} {unit}".strip()
+    """A bound as a message states it: "1 mΩ", "100 kV"; "20000 K", "-273.15 °C" without a prefix."""
+    return format_si(x, unit) if unit in SI_UNITS else f"{x:g} {symbol(unit)}".strip()
 
 
 def resistance(value: float, key: str, *, zero: bool = False) -> None:
@@ -169,7 +169,7 @@ def section(data: Any, key: str, allowed: tuple[str, ...], required: tuple[str, 
 
 def _describe(low: float | None, high: float | None, low_open: bool, high_open: bool,
               unit: str) -> str:
-    u = f" {unit}" if unit else ""
+    u = f" {symbol(unit)}" if unit else ""
     if low is not None and high is not None:
         left = "above" if low_open else "at least"
         right = "below" if high_open else "at most"

@@ -117,11 +117,16 @@ def _comment(text: str) -> str:
 
 
 def _v(volts: float) -> str:
-    return format_si(volts, "V", 5, micro="u")
+    return format_si(volts, "V", 5, plain=True)
 
 
 def _unit(design: Design) -> str:
     return visible_text(" ".join(design.unit.split()))
+
+
+def _w(value: float, unit: str) -> str:
+    """A value of the watched quantity in a comment, in ASCII ("31.8105 C")."""
+    return format_value(value, unit, 6, plain=True)
 
 
 def _r(key: str, a: str, b: str, ohms: float, tag: str = "") -> str:
@@ -363,7 +368,7 @@ def _header(d: Design, a: Analysis) -> list[str]:
     if d.front_end is not None:
         w, unit = a.points, _unit(d)
         lines += ["* bandcalc's points in the watched quantity:",
-                  f"*   upper {format_value(w.upper, unit, 6)}, lower {format_value(w.lower, unit, 6)}"]
+                  f"*   upper {_w(w.upper, unit)}, lower {_w(w.lower, unit)}"]
     own = d.comparator.hysteresis
     lines.append(_comment(("The comparator model has the part's own hysteresis as the design gives it, "
                            f"{_n(own)} V, beside the network's" if own else
@@ -371,7 +376,7 @@ def _header(d: Design, a: Analysis) -> list[str]:
                            "network, as in bandcalc's model)")
                           + "; it has no propagation delay, slew limit or recovery time."))
     if d.comparator.delay > 0:
-        delay = format_si(d.comparator.delay, "s", 3, micro="u")
+        delay = format_si(d.comparator.delay, "s", 3, plain=True)
         lines.append(_comment(f"Add the part's delay ({delay}) to edge times, as the signal check does."))
     return lines + [_comment(f"Caution: {text}") for text in a.cautions]
 
@@ -457,10 +462,9 @@ def _sweep(d: Design, a: Analysis, circuit: _Circuit) -> list[str]:
     what = "the signal" if d.front_end is None else f"the watched quantity ({unit})"
     mid = _edge_level(d, a)
     return [
-        _comment(f"Bench: a slow triangle on {what}, from {format_value(low, unit, 6)} up to "
-                 f"{format_value(high, unit, 6)} and back, in {2 * steps} time steps. Each moves the "
-                 f"stage's source by at most {format_si(STEP_VOLTS, 'V', 3, micro='u')}, so each point reads "
-                 "within about half that."),
+        _comment(f"Bench: a slow triangle on {what}, from {_w(low, unit)} up to {_w(high, unit)} and "
+                 f"back, in {2 * steps} time steps. Each moves the stage's source by at most "
+                 f"{format_si(STEP_VOLTS, 'V', 3, plain=True)}, so each point reads within about half that."),
         f"VIN {circuit.driven} 0 PWL(0 {_n(low)} {_n(half)} {_n(high)} {_n(2 * half)} {_n(low)})",
         _start(a, start_high != inverting),
         f".tran {_n(step)} {_n(2 * half)} 0 {_n(step)}",
@@ -491,7 +495,7 @@ def _signal(d: Design, a: Analysis, circuit: _Circuit, wave: Waveform) -> list[s
     count = f"{run.edge_count}{f'; the first {shown} are measured' if shown < run.edge_count else ''}"
     unit = _unit(d)
     lines = [_comment(f"Bench: the signal check's signal in {unit}, {len(wave):,} samples over "
-                      f"{format_si(wave.duration, 's', 4, micro='u')}, as a PWL source; time 0 is its first "
+                      f"{format_si(wave.duration, 's', 4, plain=True)}, as a PWL source; time 0 is its first "
                       f"sample, at {_n(wave.t[0])} s of the signal."),
              f"VIN {circuit.driven} 0 PWL(", *_pwl(times, wave.v),
              _start(a, bool(run.output_high[0])),

@@ -17,7 +17,7 @@ import numpy as np
 import plotly.graph_objects as go
 
 from bandcalc.model.transfer import TransferCurve
-from bandcalc.model.units import format_value
+from bandcalc.model.units import format_value, symbol
 from bandcalc.signal_check.edges import SignalRun
 from bandcalc.signal_check.width_trade import Sweep
 from bandcalc.spread.propagation import Sensitivity, Summary
@@ -127,7 +127,7 @@ def transfer_spec(curve: TransferCurve, title: str | None = None, x_title: str |
     ``layout.shapes[0]``, its label the only annotation.  The input
     axis reads ``x_title`` (default "Input (V)", or "Watched quantity (unit)" for a watched curve).
     """
-    unit = _text(curve.unit)
+    unit = _text(symbol(curve.unit))
     x_title = _text(x_title) if x_title else f"{'Watched quantity' if curve.watched else 'Input'} ({unit})"
     heights = [0.5 * sum(curve.at_upper), 0.5 * sum(curve.at_lower)]
     points = {"type": "scatter", "x": [curve.upper, curve.lower], "y": heights, "name": "Switching points",
@@ -212,7 +212,7 @@ def histogram_spec(summary: Summary, title: str, unit: str, *, window: tuple[flo
     meet (named "Window", open sides drawn to the edge of the view), the nominal value and the worst
     case's least and greatest value (named "Nominal", "Worst case, least", "Worst case, greatest").
     """
-    title, unit = _text(title), _text(unit)
+    title, unit = _text(title), _text(symbol(unit))
     shown = [(summary, "Builds", PALETTE["rising"])] if greatest is None else \
         [(summary, "Least over the range", PALETTE["point"]), (greatest, "Greatest over the range",
                                                                 PALETTE["falling"])]
@@ -297,7 +297,7 @@ def signal_spec(run: SignalRun, output_levels: tuple[float, float], unit: str,
     ``output_levels`` is (low, high), volts.
     """
     t, v = run.wave.t, run.wave.v
-    unit = _text(unit)
+    unit = _text(symbol(unit))
     index = display_index(v, max_points)
     span = [float(t[0]), float(t[-1])]
     line = {"type": "scattergl" if index.size > 5000 else "scatter", "mode": "lines"}
@@ -322,10 +322,10 @@ def signal_spec(run: SignalRun, output_levels: tuple[float, float], unit: str,
                              [after[-1] if times.size else (high if start_high else low)]])
     data.append({"type": "scatter", "mode": "lines", "x": step_x, "y": step_y, "name": "Output",
                  "yaxis": "y2", "line": {"color": PALETTE["band_edge"], "width": 2}})
-    for name, mask, symbol in (("Rising edges", rising, "triangle-up"), ("Falling edges", ~rising,
-                                                                        "triangle-down")):
+    for name, mask, shape in (("Rising edges", rising, "triangle-up"), ("Falling edges", ~rising,
+                                                                       "triangle-down")):
         data.append({"type": "scatter", "mode": "markers", "x": times[mask], "y": after[mask], "name": name,
-                     "yaxis": "y2", "marker": {"symbol": symbol, "size": 9, "color": PALETTE["point"]},
+                     "yaxis": "y2", "marker": {"symbol": shape, "size": 9, "color": PALETTE["point"]},
                      "hovertemplate": "edge at %{x:.6~s}s<extra></extra>"})
     layout = {"height": 460, "plot_bgcolor": "white", "margin": {"l": 60, "r": 20, "t": 20, "b": 50},
               "legend": {"orientation": "h", "y": -0.16, "x": 0},
@@ -345,7 +345,7 @@ def tradeoff_spec(sweep: Sweep, unit: str, width: float | None = None) -> dict:
     ("Narrowest clean width", where there is one), the prediction's ("Predicted", where there is
     one) and the design's own ``width``.
     """
-    w, unit = sweep.widths, _text(unit)
+    w, unit = sweep.widths, _text(symbol(unit))
     data = []
     if sweep.runs > 1:
         for name, values in (("Fewest", sweep.run_edge_counts.min(axis=0)),

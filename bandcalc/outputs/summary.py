@@ -28,7 +28,14 @@ from bandcalc.model.input_filter import filter_pole
 from bandcalc.model.operating import Analysis, analyze
 from bandcalc.model.parts import part, resistors_of, tolerance_of
 from bandcalc.model.ratings import power_needed, rating_of, series_count, size_for
-from bandcalc.model.units import format_code, format_interval, format_probability, format_si, format_value
+from bandcalc.model.units import (
+    format_code,
+    format_interval,
+    format_probability,
+    format_si,
+    format_value,
+    symbol,
+)
 from bandcalc.spread.propagation import failure_places
 
 __all__ = [
@@ -144,7 +151,7 @@ def component_rows(a: Analysis) -> list[dict[str, str]]:
                f"Beta {fe.beta_tolerance:g} %" if fe.beta_tolerance is not None else ""]
         rows.append({
             "designator": "TH1", "position": f"NTC thermistor, {fe.position} of its divider",
-            "key": "front_end.thermistor", "value": f"{format_si(fe.nominal_r25, 'Ohm')} at 25 C, {model}",
+            "key": "front_end.thermistor", "value": f"{format_si(fe.nominal_r25, 'Ohm')} at 25 °C, {model}",
             "series": "n/a", "tolerance": ", ".join(t for t in tol if t) or "not given",
             "power": "see the self-heating finding" if any(f.kind == "self_heating" for f in a.findings)
             else "negligible self-heating",
@@ -233,7 +240,7 @@ def _front_end_words(d: Design) -> list[str]:
                     f"span within +/-{fe.span_tolerance:g} %" if fe.span_tolerance else ""]
         stated = " and ".join(a for a in accuracy if a)
         return [f"Ahead of the stage, a linear sensor gives {_v(fe.offset)} + "
-                f"{_v(fe.volts_per_unit)} per {fe.unit} behind {format_si(fe.resistance, 'Ohm')}"
+                f"{_v(fe.volts_per_unit)} per {symbol(fe.unit)} behind {format_si(fe.resistance, 'Ohm')}"
                 + (f", {stated}." if stated else ".")]
     return []
 
@@ -284,9 +291,9 @@ def _spread_section(spread) -> list[str]:
     lines = [_line(f"Worst case over {wc.method} ({wc.evaluated:,} evaluations); "
                    f"Monte Carlo over {mc.samples:,} builds, {kind}, seed {mc.seed}."), ""]
     span = spread.tolerances.temperature
-    lines += [_line("Temperature: " + ("none given, so every build is taken at 25 C." if span is None else
+    lines += [_line("Temperature: " + ("none given, so every build is taken at 25 °C." if span is None else
                                        f"each build is checked over the whole range, {span[0]:g} to "
-                                       f"{span[1]:g} C; it passes only if it keeps every window at every "
+                                       f"{span[1]:g} °C; it passes only if it keeps every window at every "
                                        "temperature of it.")), ""]
     varied = ", ".join(f"{f.name} ({f.origin})" for f in spread.factors) or "nothing: every part exact"
     lines += [_line(f"Varied: {varied}."), ""]

@@ -17,7 +17,7 @@ from bandcalc.model.parts import part, value_at, with_value
 from bandcalc.model.range_checks import INPUT_CURRENT_LIMIT
 from bandcalc.model.ratings import DEFAULT_SIZE, PACKAGES
 from bandcalc.model.standard_values import SERIES
-from bandcalc.model.units import format_si
+from bandcalc.model.units import format_si, symbol
 from bandcalc.page import follow, state
 from bandcalc.page.edit import (
     EXCITATION_KINDS,
@@ -243,7 +243,7 @@ def _thermistor(design: Design, fe: ThermistorFrontEnd, series: str) -> None:
     choice_control(st.radio, "Thermistor described by", "front_end.model", thermistor_model(design),
             with_thermistor_model, options=THERMISTOR_MODELS, format_func=_MODEL_NAMES.get, horizontal=True)
     if fe.steinhart_hart is None:
-        quantity_field("Resistance at 25 C", "front_end.r25", design, "Ohm")
+        quantity_field("Resistance at 25 °C", "front_end.r25", design, "Ohm")
         quantity_field("Beta", "front_end.beta", design, "K", help="R = R25 exp(B (1/T − 1/298.15 K))")
         quantity_field("Beta tolerance", "front_end.beta_tolerance", design, "%", optional=True,
                        blank="blank: exact")
@@ -252,14 +252,14 @@ def _thermistor(design: Design, fe: ThermistorFrontEnd, series: str) -> None:
                         lambda d, i=i: beta_temperature(d, i),
                         lambda d, v, i=i: with_beta_temperature(d, i, v),
                         where="front_end.beta_temperatures", optional=True,
-                        blank=f"blank: {BETA_PAIR[i]:g} C (B{BETA_PAIR[0]:g}/{BETA_PAIR[1]:g} assumed)",
+                        blank=f"blank: {BETA_PAIR[i]:g} °C (B{BETA_PAIR[0]:g}/{BETA_PAIR[1]:g} assumed)",
                         help="The two temperatures the data sheet's Beta was measured between "
                              "(B25/50, B25/85)")
     else:
         for i, name in enumerate("ABC"):
             quantity_field(f"Coefficient {name}", f"front_end.steinhart_hart[{i}]", design, "",
                            help="1/T = A + B ln R + C (ln R)³, T in kelvin, R in ohms")
-    quantity_field("Resistance tolerance at 25 C", "front_end.r25_tolerance", design, "%", optional=True,
+    quantity_field("Resistance tolerance at 25 °C", "front_end.r25_tolerance", design, "%", optional=True,
                    blank="blank: exact")
     resistor_control("Fixed resistor", "front_end.fixed", design, series,
                      help="The other half of the thermistor's divider")
@@ -272,7 +272,7 @@ def _thermistor(design: Design, fe: ThermistorFrontEnd, series: str) -> None:
         quantity_field("Excitation voltage", "front_end.excitation", design, "V")
     quantity_field("Dissipation constant", "front_end.dissipation_constant", design, "W/K",
                    help="Self-heating: the part's own figure from its data sheet (1.5 mW/K if not given)")
-    _watched_range(design, "C", *(f"{t:g} C" for t in THERMISTOR_RANGE))
+    _watched_range(design, "C", *(f"{t:g} °C" for t in THERMISTOR_RANGE))
 
 
 def _front_end(design: Design, series: str) -> None:
@@ -295,8 +295,8 @@ def _front_end(design: Design, series: str) -> None:
         st.session_state.setdefault(key, fe.unit)
         st.text_input("Watched unit", key=key, on_change=_unit_entered, args=(key,),
                       help="The sensor's quantity: C, kPa, %RH, ...")
-        quantity_field(f"Output per {literal(fe.unit)}", "front_end.volts_per_unit", design, "V")
-        quantity_field(f"Output at 0 {literal(fe.unit)}", "front_end.offset", design, "V")
+        quantity_field(f"Output per {literal(symbol(fe.unit))}", "front_end.volts_per_unit", design, "V")
+        quantity_field(f"Output at 0 {literal(symbol(fe.unit))}", "front_end.offset", design, "V")
         quantity_field("Sensor output resistance", "front_end.resistance", design, "Ohm")
         quantity_field("Offset accuracy, ±", "front_end.offset_tolerance", design, "V", optional=True,
                        blank="blank: exact", help="The sensor's offset error, as its data sheet states it")

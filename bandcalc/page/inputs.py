@@ -29,6 +29,7 @@ from bandcalc.model.units import (
     format_value,
     parse_quantity,
     parse_resistance,
+    symbol,
 )
 from bandcalc.page import follow, quick_curve, state
 from bandcalc.page.edit import SLIDER_DIGITS, in_series, slider_options
@@ -71,7 +72,8 @@ def read_value(text: str, unit: str, what: str) -> float:
     try:
         return parse_quantity(body, "", what)
     except UnitError:
-        raise UnitError(f"{what}: cannot read {text!r}; write a number{f' in {unit}' if unit else ''}, "
+        in_unit = f" in {symbol(unit)}" if unit else ""
+        raise UnitError(f"{what}: cannot read {text!r}; write a number{in_unit}, "
                         f"optionally with an SI prefix (e.g. 2.5, 50m, 1.5k)") from None
 
 
@@ -95,8 +97,8 @@ def choice_control(widget: Callable[..., Any], label: str, key: str, current: An
 
 def unit_label(label: str, unit: str) -> str:
     """A box's label with its unit in brackets, "Load resistance (Ω)"; a count, with no unit, none."""
-    symbol = "Ω" if unit == "Ohm" else literal(unit)
-    return f"{label} ({symbol})" if symbol else label
+    shown_unit = literal(symbol(unit))
+    return f"{label} ({shown_unit})" if shown_unit else label
 
 
 def _control_key(path: str) -> str:

@@ -21,7 +21,7 @@ _OTHERS = {
     "temperature": "Temperature",
     "reference.drift": "Reference drift",
     "comparator.offset_drift": "Offset drift",
-    "front_end.r25": "Thermistor, resistance at 25 C",
+    "front_end.r25": "Thermistor, resistance at 25 °C",
     "front_end.beta": "Thermistor, Beta",
 }
 

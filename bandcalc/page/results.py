@@ -13,7 +13,7 @@ import streamlit as st
 from bandcalc.model.design import Design
 from bandcalc.model.front_end import ThermistorFrontEnd
 from bandcalc.model.operating import Analysis
-from bandcalc.model.units import format_si, format_value
+from bandcalc.model.units import format_si, format_value, symbol
 from bandcalc.page import follow
 from bandcalc.page.compute import analysis_of, guarded, schematic_of, transfer_figure_of
 from bandcalc.page.literal import literal
@@ -88,8 +88,8 @@ def render_figures(analysis: Analysis) -> None:
                 st.caption(stage)
     if analysis.design.front_end is not None:
         w, unit = analysis.points, literal(analysis.design.unit)
-        st.caption(f"Switching points in the watched quantity ({unit}), through the front end; beneath "
-                   f"each, the stage's input in volts. The output turns {analysis.rising_output} "
+        st.caption(f"Switching points in the watched quantity ({symbol(unit)}), through the front end; "
+                   f"beneath each, the stage's input in volts. The output turns {analysis.rising_output} "
                    f"as the watched quantity rises through {format_value(float(w.upper), unit, 4)}.")
     for line in analysis.cautions:
         st.error(literal(line), icon=":material/warning:")
@@ -105,7 +105,8 @@ def render_figures(analysis: Analysis) -> None:
 
 
 def _axis_names(design: Design) -> dict[str, str]:
-    return {"watched": f"{watched_name(design)} ({design.unit})", "stage": "Stage input, open-circuit (V)"}
+    return {"watched": f"{watched_name(design)} ({symbol(design.unit)})",
+            "stage": "Stage input, open-circuit (V)"}
 
 
 def axis_choice(design: Design) -> tuple[bool, str | None]:

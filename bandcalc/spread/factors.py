@@ -270,7 +270,7 @@ class VariedModel:
         if tol is None:
             tol = Tolerances()
             self.notes.append("No tolerances section: resistors at the usual tolerance of their series, "
-                              "every other part exact, at 25 C.")
+                              "every other part exact, at 25 °C.")
         self.tolerances = tol
         build = _Builder(design, tol)
         build.resistors()

@@ -610,12 +610,12 @@ def simplifications(model: VariedModel, failure: FailureProbability | None = Non
            "levels, built-in hysteresis) are read as a tolerance about their middle. Factors are independent "
            "of each other, except the resistors of one network."]
     if model.temperature is None:
-        out.append("Temperature: none given, so every build is taken at 25 C.")
+        out.append("Temperature: none given, so every build is taken at 25 °C.")
     else:
         low, high = model.temperature
         out.append(
-            f"Temperature: every build is checked over the whole range, {low:g} to {high:g} C. A resistor is "
-            "R25 (1 + alpha (T - 25 C)), each alpha its own within its bound (in a network the network's "
+            f"Temperature: every build is checked over the whole range, {low:g} to {high:g} °C. A resistor "
+            "is R25 (1 + alpha (T - 25 °C)), each alpha its own within its bound (in a network the network's "
             "common one plus the member's share within the tracking); the offset is linear in T. The "
             "reference is taken by the box method, V25 +/- drift x V25 x (high - low), with no shape "
             "assumed: both edges of the box at every temperature, which bounds any curve within it. Bias and "
@@ -634,11 +634,11 @@ def _where_in_range(place: FailurePlace) -> str:
         return ""
     edges, counts = place.temperatures
     low, high = place.at_ends
-    parts = [f"{n:,} at {t:g} C" for n, t in ((high, edges[-1]), (low, edges[0])) if n]
+    parts = [f"{n:,} at {t:g} °C" for n, t in ((high, edges[-1]), (low, edges[0])) if n]
     inside = place.builds - low - high
     if inside:
         i = int(np.argmax(counts))
-        parts.append(f"{inside:,} inside the range (most between {edges[i]:.3g} and {edges[i + 1]:.3g} C)")
+        parts.append(f"{inside:,} inside the range (most between {edges[i]:.3g} and {edges[i + 1]:.3g} °C)")
     return ": " + ", ".join(parts)
 
 
@@ -655,7 +655,7 @@ def failure_places(s: Spread) -> list[str]:
                    f"({format_probability(p.builds / y.samples)}){_where_in_range(p)}.")
     if not out and y.failure is not None and y.failure.points:
         f = y.failure.points[0]
-        at = "" if f.temperature is None else f" at {f.temperature:g} C"
+        at = "" if f.temperature is None else f" at {f.temperature:g} °C"
         out.append(f"No sampled build failed. The most probable failure: the {_NAMES[f.quantity]} "
                    f"{f.side} {v(f.limit)}{at}, {f.beta:.2f} standard deviations out.")
     return out
@@ -666,7 +666,7 @@ def corner_words(factors: Sequence[Factor], corner: Mapping[str, float],
     """A corner of :class:`Extreme` in words: each factor (``name`` of its path) at its value in its
     own unit, and the temperature; "" for none."""
     by_name = {f.name: f for f in factors}
-    return ", ".join(f"{name(k)} {by_name[k].format(x) if k in by_name else f'{x:g} C'}"
+    return ", ".join(f"{name(k)} {by_name[k].format(x) if k in by_name else f'{x:g} °C'}"
                      for k, x in corner.items())
 
 

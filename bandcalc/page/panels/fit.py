@@ -34,7 +34,7 @@ from bandcalc.model.design_file import design_from_json, design_to_json
 from bandcalc.model.front_end import front_end_of
 from bandcalc.model.parts import part, resistors_of, value_at
 from bandcalc.model.standard_values import SERIES
-from bandcalc.model.units import format_code, format_si, format_value, parse_resistance
+from bandcalc.model.units import format_code, format_si, format_value, parse_resistance, symbol
 from bandcalc.page import state
 from bandcalc.page.compute import guarded
 from bandcalc.page.controls import SERIES_KEY
@@ -106,12 +106,12 @@ def _take_points(upper: str, lower: str) -> None:
 def _form(sheet, kept: dict) -> bool:
     """The settings; returns whether "Find values" was pressed."""
     design, unit = sheet.design, literal(sheet.design.unit)
-    what = f"{front_end_of(design).quantity}, {unit}"
+    what = f"{front_end_of(design).quantity}, {symbol(unit)}"
     with st.form("fit.form", border=False):
         row = st.columns(4)
-        row[0].text_input(f"{_LABELS['upper']} ({unit})", key=_WIDGET + "upper",
+        row[0].text_input(f"{_LABELS['upper']} ({symbol(unit)})", key=_WIDGET + "upper",
                           help=f"Where a rising input should switch; {what}")
-        row[1].text_input(f"{_LABELS['lower']} ({unit})", key=_WIDGET + "lower",
+        row[1].text_input(f"{_LABELS['lower']} ({symbol(unit)})", key=_WIDGET + "lower",
                           help=f"Where a falling input should switch back; {what}")
         row[2].selectbox("Standard series", tuple(SERIES), key=_WIDGET + "series",
                          help="IEC 60063 series every fitted value comes from")
@@ -156,7 +156,7 @@ def _read(design: Design, kept: dict) -> tuple[dict, list[str]]:
         text = str(kept[field]).strip()
         try:
             if not text:
-                raise BandcalcError(f"{_LABELS[field]}: needs a value in {unit}")
+                raise BandcalcError(f"{_LABELS[field]}: needs a value in {symbol(unit)}")
             args[field] = read_value(text, unit, _LABELS[field])  # as the page writes it: "313.62 kPa"
         except ValueError as exc:
             wrong.append(str(exc))

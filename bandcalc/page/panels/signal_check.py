@@ -21,7 +21,7 @@ from bandcalc.errors import BandcalcError
 from bandcalc.model.design import Design
 from bandcalc.model.front_end import front_end_of
 from bandcalc.model.signal_settings import SignalSettings
-from bandcalc.model.units import format_interval, format_si, format_value
+from bandcalc.model.units import format_interval, format_si, format_value, symbol
 from bandcalc.outputs.plots import DISPLAY_POINTS, as_figure, signal_spec, tradeoff_spec
 from bandcalc.page import runs, state
 from bandcalc.page.compute import guarded
@@ -183,7 +183,7 @@ def _recorded_settings(unit: str) -> tuple | None:
     st.file_uploader("Recorded signal: time (s) and value columns", type=["csv", "txt", "tsv"],
                      key=_PREFIX + "upload", on_change=_uploaded, max_upload_size=MAX_CSV_MB,
                      help=f"Header optional; comma, semicolon or tab; decimal point or comma; values in "
-                          f"{literal(unit)}; up to {MAX_CSV_MB} MB")
+                          f"{literal(symbol(unit))}; up to {MAX_CSV_MB} MB")
     recorded = st.session_state.get(_PREFIX + "recorded")
     if recorded is None:
         st.caption("No recorded signal loaded yet.")
@@ -204,7 +204,7 @@ def _to_design(design: Design, unit: str) -> None:
             where = st.radio("Place", tuple(_WHERE), format_func=_WHERE.get, horizontal=True,
                              key=_PREFIX + "make.where")
             left, middle, right = st.columns(3)
-            level = left.text_input(f"At ({unit})", key=_PREFIX + "make.level")
+            level = left.text_input(f"At ({symbol(unit)})", key=_PREFIX + "make.level")
             target = middle.text_input("False edges a year, at most", "1", key=_PREFIX + "make.target")
             budget = right.text_input("Delay budget (s)", key=_PREFIX + "make.budget",
                                       placeholder="blank: none")
@@ -331,8 +331,9 @@ def _tradeoff(sweep: Sweep, run: SignalRun, unit: str) -> None:
 def render(sheet) -> None:
     """Signal settings, the run, its figures and prediction, time plot, trade-off curve and table."""
     design, unit = sheet.design, sheet.design.unit
-    st.caption(f"Runs a signal in {front_end_of(design).quantity} ({literal(unit)}) through the design's "
-               "switching points and reports every output edge, and the false edges its noise and hum bring.")
+    st.caption(f"Runs a signal in {front_end_of(design).quantity} ({literal(symbol(unit))}) through the "
+               "design's switching points and reports every output edge, and the false edges its noise and "
+               "hum bring.")
     st.session_state.setdefault(_PREFIX + "source", "synthetic")
     source = st.radio("Signal", tuple(_SOURCES), key=_PREFIX + "source", format_func=_SOURCES.get,
                       horizontal=True, label_visibility="collapsed")

@@ -14,7 +14,7 @@ import streamlit as st
 from bandcalc.model.design import Design
 from bandcalc.model.front_end import front_end_of
 from bandcalc.model.tolerances import DISTRIBUTIONS
-from bandcalc.model.units import format_probability, format_si, format_value
+from bandcalc.model.units import format_probability, format_si, format_value, symbol
 from bandcalc.outputs.plots import as_figure, histogram_spec, sensitivity_spec
 from bandcalc.outputs.summary import escape_text
 from bandcalc.page import runs, state
@@ -114,13 +114,13 @@ def _tolerance_inputs(design: Design, unit: str) -> None:
             value_field(label, f"tolerances.temperature.{end}", design, "C",
                         lambda d, e=end: temperature_end(d, e),
                         lambda d, v, e=end: with_temperature_end(d, e, v), where="tolerances.temperature",
-                        optional=True, blank="blank: 25 C", controls=_CONTROLS,
+                        optional=True, blank="blank: 25 °C", controls=_CONTROLS,
                         help="The operating range: every build must meet the windows at every temperature "
                              "of it")
     choice_control(st.radio, "Monte Carlo reads a tolerance as", "tolerances.distribution",
                    tolerances_of(design).distribution, lambda d, v: with_tolerance(d, "distribution", v),
                    options=DISTRIBUTIONS, format_func=_DISTRIBUTIONS.get, horizontal=True, controls=_CONTROLS)
-    st.markdown(f"**Windows a build must meet** ({literal(unit)}; a blank side is open)")
+    st.markdown(f"**Windows a build must meet** ({literal(symbol(unit))}; a blank side is open)")
     for column, quantity in zip(st.columns(3), WINDOW_KEYS, strict=True):
         with column:
             for end, side in (("low", "lowest"), ("high", "highest")):
@@ -241,7 +241,7 @@ def _run(design: Design, samples: int, seed: int) -> None:
 def _worst_case(s: Spread, v) -> None:
     wc = s.worst_case
     span = s.tolerances.temperature
-    over = "" if span is None else f" and the whole range, {span[0]:g} to {span[1]:g} C"
+    over = "" if span is None else f" and the whole range, {span[0]:g} to {span[1]:g} °C"
     st.markdown(f"**Worst case** over the whole tolerance box{over}")
     st.table({
         "Quantity": list(_QUANTITIES.values()),
@@ -256,12 +256,12 @@ def _worst_case(s: Spread, v) -> None:
 
         rows = [(factor_name(f.name), f"{at(f, f.low)} to {at(f, f.high)}", f.name, f) for f in s.factors]
         if span is not None and (s.worst_case.upper.min_corner.get("temperature") is not None):
-            rows.append(("Temperature of the extreme", f"{span[0]:g} to {span[1]:g} C", "temperature", None))
+            rows.append(("Temperature of the extreme", f"{span[0]:g} to {span[1]:g} °C", "temperature", None))
         table: dict[str, list[str]] = {"Varied quantity": [r[0] for r in rows], "Range": [r[1] for r in rows]}
         for q, name in _QUANTITIES.items():
             e = getattr(wc, q)
             for label, corner in ((f"{name}, least", e.min_corner), (f"{name}, greatest", e.max_corner)):
-                table[label] = [(f"{corner[key]:.4g} C" if f is None else at(f, corner[key]))
+                table[label] = [(f"{corner[key]:.4g} °C" if f is None else at(f, corner[key]))
                                 if key in corner else "" for _, _, key, f in rows]
         st.table(table, hide_index=True)
         if s.design.reference is not None and any(f.name == "reference.drift" for f in s.factors):
@@ -297,7 +297,7 @@ def _yield(s: Spread) -> None:
 def _monte_carlo(s: Spread, v) -> None:
     mc = s.monte_carlo
     span = s.tolerances.temperature
-    over = "" if span is None else f", each over {span[0]:g} to {span[1]:g} C"
+    over = "" if span is None else f", each over {span[0]:g} to {span[1]:g} °C"
     st.markdown(f"**Monte Carlo**: {mc.samples:,} builds{over}, seed {mc.seed}, tolerances read as "
                 f"{s.tolerances.distribution}")
     _yield(s)
@@ -310,7 +310,7 @@ def _monte_carlo(s: Spread, v) -> None:
                                .percentiles[p]) for q in _QUANTITIES]
     st.table(table, hide_index=True)
     if ranged:
-        st.caption(f"Mean and standard deviation at {mc.middle:g} C; the percentiles below the median are "
+        st.caption(f"Mean and standard deviation at {mc.middle:g} °C; the percentiles below the median are "
                    "of each build's least value over the range, those above of its greatest.")
     windows = {} if mc.build_yield is None else mc.build_yield.windows
     for column, (q, name) in zip(st.columns(3), _QUANTITIES.items(), strict=True):
@@ -331,7 +331,7 @@ def _sensitivity(s: Spread) -> None:
     figure = as_figure(sensitivity_spec(s.sensitivity, labels), validate=False)
     st.plotly_chart(figure, key="spread.sensitivity", config={"displaylogo": False})
     st.caption("Each varied quantity's first-order share of each point's variance; a coefficient's share is "
-               "that of coefficient × (T − 25 C), the temperature taken evenly over the range.")
+               "that of coefficient × (T − 25 °C), the temperature taken evenly over the range.")
 
 
 def _results(s: Spread) -> None:
@@ -356,7 +356,7 @@ def render(sheet) -> None:
     st.caption("How far the switching points move over part tolerances and the operating temperature "
                "range, and how often a build misses its windows. The tolerances belong to the design: they "
                "are saved with it and kept in the page address. Figures are in "
-               f"{front_end_of(design).quantity} ({literal(unit)}).")
+               f"{front_end_of(design).quantity} ({literal(symbol(unit))}).")
     _tolerance_inputs(design, unit)
     _data_sheet_limits(design)
     _per_resistor(design)
