@@ -58,12 +58,13 @@ def results_first(curve: Callable[[], bool]) -> bool:
     """Whether this run draws only the results: a session's first, where ``curve()`` says the live
     view will draw the curve.  Any other run draws the whole page, and so does every run after it."""
     if st.session_state.get(OPENED) or not curve():
-        st.session_state[OPENED] = True
+        _open()
         return False
     return True
 
 
 def _open() -> None:
+    """From here on, every run of this session draws the whole page."""
     st.session_state[OPENED] = True
 
 

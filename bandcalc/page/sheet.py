@@ -31,6 +31,8 @@ __all__ = ["main"]
 
 log = logging.getLogger("bandcalc.page")
 
+_SIDEBAR_TOP = "Stage"  # the sidebar's first heading, drawn by the results-first run too
+
 
 def main() -> None:
     """Draw the whole page for the current design; no error reaches the browser as a traceback."""
@@ -88,7 +90,7 @@ def _sheet() -> None:
     # The stage's controls lead, the resistor sliders first: at 1440x900 the design-file block
     # above them pushed every slider below the fold.
     with st.sidebar:
-        st.header("Stage")
+        st.header(_SIDEBAR_TOP)
         render_controls(design)
         st.header("Design")
         render_design_file(design)
@@ -114,7 +116,7 @@ def _results_first(design: Design) -> None:
     """A session's first run: the top of the page and the live view, with the script that asks for
     the rest once the curve is drawn (:mod:`bandcalc.page.opening`)."""
     with st.sidebar:
-        st.header("Stage")  # where the whole page's sidebar starts: it stays as the rest comes in
+        st.header(_SIDEBAR_TOP)  # it stays in place as the rest of the sidebar comes in
     _top(design, keep_messages=True)  # shown again, in the same place, by the run that follows
     _live()
     opening.ask_for_the_rest(quick_curve.box_class(CHART_KEY))
